@@ -1,0 +1,156 @@
+package solve
+
+import (
+	"context"
+
+	"semiflow/numerics/linop"
+	"semiflow/numerics/memguard"
+)
+
+// Method names a factorisation chosen by NewShifted.
+type Method int
+
+const (
+	Auto        Method = iota // choose from the structure
+	BandMethod                // banded LU
+	SparseMethod              // sparse LU with a fill-reducing ordering
+	DenseMethod               // dense LU
+)
+
+func (m Method) String() string {
+	switch m {
+	case BandMethod:
+		return "band"
+	case SparseMethod:
+		return "sparse"
+	case DenseMethod:
+		return "dense"
+	}
+	return "auto"
+}
+
+// NewShifted factors zI − A for a square operator A and returns a solver
+// for (zI − A) x = b. It chooses from A's structure: banded LU when A has a
+// sparse form with a narrow band (1-D grid operators), sparse LU with a
+// nested-dissection ordering for Kronecker sums and other sparse operators,
+// and dense complex LU otherwise (refused by the memory guard when too
+// large). A singular shift returns an error wrapping ErrSingular that names
+// z. NewShifted panics with ErrShape if A is not square.
+func NewShifted(a linop.Operator, z complex128) (ShiftedSolver, error) {
+	return NewShiftedMethod(context.Background(), a, z, Auto)
+}
+
+// NewShiftedMethod is NewShifted with an explicit method (Auto to choose)
+// and a context that interrupts long factorisations (the context's error is
+// returned).
+func NewShiftedMethod(ctx context.Context, a linop.Operator, z complex128, m Method) (ShiftedSolver, error) {
+	n, c := a.Dims()
+	if n != c {
+		panic(ErrShape)
+	}
+	if m == Auto {
+		m = Choose(a)
+	}
+	switch m {
+	case BandMethod, SparseMethod:
+		csr, err := linop.ToCSR(a)
+		if err != nil {
+			return nil, err
+		}
+		if m == BandMethod {
+			return NewZBandShifted(csr, z)
+		}
+		return newSparse(ctx, a, csr, z)
+	}
+	d, err := linop.ToDense(a)
+	if err != nil {
+		return nil, err
+	}
+	if err := ctx.Err(); err != nil {
+		return nil, err
+	}
+	return NewZDenseShifted(n, flat(d.RawMatrix().Data, d.RawMatrix().Stride, n), z)
+}
+
+func flat(data []float64, stride, n int) []float64 {
+	if stride == n {
+		return data
+	}
+	out := make([]float64, 0, n*n)
+	for i := 0; i < n; i++ {
+		out = append(out, data[i*stride:i*stride+n]...)
+	}
+	return out
+}
+
+// Choose returns the method NewShifted uses for a: BandMethod when A has a
+// sparse form whose band storage is at most 8 times its number of entries
+// plus n (a band matrix, or nearly one), SparseMethod for other operators
+// with a sparse form, DenseMethod otherwise.
+func Choose(a linop.Operator) Method {
+	if _, ok := a.(*linop.Dense); ok {
+		return DenseMethod
+	}
+	csr, err := linop.ToCSR(a)
+	if err != nil {
+		return DenseMethod
+	}
+	kl, ku := csr.Bandwidth()
+	n := csr.Rows
+	if BandLD(kl, ku)*n <= 8*(csr.NNZ()+n) {
+		return BandMethod
+	}
+	return SparseMethod
+}
+
+// NewZBandShifted factors zI − A in band storage for a square sparse A,
+// with the bandwidths of A. The memory guard refuses band storage too large
+// for the machine. It panics with ErrShape if A is not square.
+func NewZBandShifted(a *linop.CSR, z complex128) (*ZBand, error) {
+	if a.Rows != a.Cols {
+		panic(ErrShape)
+	}
+	n := a.Rows
+	kl, ku := a.Bandwidth()
+	ld := BandLD(kl, ku)
+	if err := memguard.Check(n*ld, memguard.ComplexBytes, "complex band storage"); err != nil {
+		return nil, err
+	}
+	ab := make([]complex128, n*ld)
+	kv := kl + ku
+	for i := 0; i < n; i++ {
+		for p := a.RowPtr[i]; p < a.RowPtr[i+1]; p++ {
+			j := a.ColIdx[p]
+			ab[j*ld+kv+i-j] -= complex(a.Val[p], 0)
+		}
+		ab[i*ld+kv] += z
+	}
+	f, err := FactorBand(n, kl, ku, ab)
+	return f, withShift(err, z)
+}
+
+// NewBandShifted factors the real matrix sI − A in band storage for a
+// square sparse A and real s (as implicit time steps need). It panics with
+// ErrShape if A is not square.
+func NewBandShifted(a *linop.CSR, s float64) (*Band, error) {
+	if a.Rows != a.Cols {
+		panic(ErrShape)
+	}
+	n := a.Rows
+	kl, ku := a.Bandwidth()
+	ld := BandLD(kl, ku)
+	if err := memguard.Check(n*ld, memguard.RealBytes, "band storage"); err != nil {
+		return nil, err
+	}
+	ab := make([]float64, n*ld)
+	kv := kl + ku
+	for i := 0; i < n; i++ {
+		for p := a.RowPtr[i]; p < a.RowPtr[i+1]; p++ {
+			j := a.ColIdx[p]
+			ab[j*ld+kv+i-j] -= a.Val[p]
+		}
+		ab[i*ld+kv] += s
+	}
+	f, err := FactorBand(n, kl, ku, ab)
+	return f, withShift(err, complex(s, 0))
+}

@@ -1,0 +1,151 @@
+package solve
+
+import (
+	"math"
+	"math/cmplx"
+
+	"semiflow/numerics/memguard"
+)
+
+// ZDense is the LU factorisation P A = L U of a dense complex n×n matrix
+// with partial pivoting (row interchanges), stored row-major.
+type ZDense struct {
+	n   int
+	lu  []complex128
+	piv []int
+}
+
+// FactorZDense factors the row-major n×n matrix a (a[i*n+j] = A_ij), which it
+// overwrites with the factors. It returns an error wrapping ErrSingular if a
+// pivot is negligible (|u_jj| ≤ n·ε·max|a_ij|). FactorZDense panics with
+// ErrShape if len(a) != n².
+func FactorZDense(n int, a []complex128) (*ZDense, error) {
+	if len(a) != n*n {
+		panic(ErrShape)
+	}
+	f := &ZDense{n: n, lu: a, piv: make([]int, n)}
+	var amax float64
+	for _, v := range a {
+		amax = math.Max(amax, abs1(v))
+	}
+	tol := pivotTol * float64(n) * amax
+	for k := 0; k < n; k++ {
+		p, pv := k, abs1(a[k*n+k])
+		for i := k + 1; i < n; i++ {
+			if v := abs1(a[i*n+k]); v > pv {
+				p, pv = i, v
+			}
+		}
+		f.piv[k] = p
+		if pv <= tol || pv == 0 {
+			return nil, &SingularError{Pivot: k, N: n, Method: "dense"}
+		}
+		if p != k {
+			rk, rp := a[k*n:(k+1)*n], a[p*n:(p+1)*n]
+			for j := range rk {
+				rk[j], rp[j] = rp[j], rk[j]
+			}
+		}
+		inv := 1 / a[k*n+k]
+		rowk := a[k*n+k+1 : (k+1)*n]
+		for i := k + 1; i < n; i++ {
+			l := a[i*n+k] * inv
+			a[i*n+k] = l
+			if l == 0 {
+				continue
+			}
+			rowi := a[i*n+k+1 : (i+1)*n]
+			for j, u := range rowk {
+				rowi[j] -= l * u
+			}
+		}
+	}
+	return f, nil
+}
+
+// NewZDenseShifted factors zI − A for the row-major real n×n matrix a
+// (not modified). The memory guard refuses an n×n complex matrix too large
+// for the machine. NewZDenseShifted panics with ErrShape if len(a) != n².
+func NewZDenseShifted(n int, a []float64, z complex128) (*ZDense, error) {
+	if len(a) != n*n {
+		panic(ErrShape)
+	}
+	if err := memguard.DenseComplex(n, n); err != nil {
+		return nil, err
+	}
+	m := make([]complex128, n*n)
+	for i, v := range a {
+		m[i] = complex(-v, 0)
+	}
+	for i := 0; i < n; i++ {
+		m[i*n+i] += z
+	}
+	f, err := FactorZDense(n, m)
+	return f, withShift(err, z)
+}
+
+// Len returns n.
+func (f *ZDense) Len() int { return f.n }
+
+// Solve sets dst = A⁻¹ b (dst and b may be the same slice). It panics with
+// ErrShape on a length mismatch.
+func (f *ZDense) Solve(dst, b []complex128) error {
+	n := f.n
+	if len(dst) != n || len(b) != n {
+		panic(ErrShape)
+	}
+	copy(dst, b)
+	for k := 0; k < n; k++ {
+		if p := f.piv[k]; p != k {
+			dst[k], dst[p] = dst[p], dst[k]
+		}
+	}
+	for i := 0; i < n; i++ {
+		s := dst[i]
+		for j, l := range f.lu[i*n : i*n+i] {
+			s -= l * dst[j]
+		}
+		dst[i] = s
+	}
+	for i := n - 1; i >= 0; i-- {
+		s := dst[i]
+		row := f.lu[i*n : (i+1)*n]
+		for j := i + 1; j < n; j++ {
+			s -= row[j] * dst[j]
+		}
+		dst[i] = s / row[i]
+	}
+	return nil
+}
+
+// SolveH sets dst = A⁻ᴴ b (dst and b may be the same slice). It panics with
+// ErrShape on a length mismatch.
+func (f *ZDense) SolveH(dst, b []complex128) error {
+	n := f.n
+	if len(dst) != n || len(b) != n {
+		panic(ErrShape)
+	}
+	copy(dst, b)
+	// Aᴴ = Uᴴ Lᴴ P: solve Uᴴ y = b (forward, column-oriented on rows of U).
+	for i := 0; i < n; i++ {
+		row := f.lu[i*n : (i+1)*n]
+		dst[i] /= cmplx.Conj(row[i])
+		yi := dst[i]
+		for j := i + 1; j < n; j++ {
+			dst[j] -= cmplx.Conj(row[j]) * yi
+		}
+	}
+	// Lᴴ w = y (backward).
+	for i := n - 1; i >= 0; i-- {
+		yi := dst[i]
+		for j, l := range f.lu[i*n : i*n+i] {
+			dst[j] -= cmplx.Conj(l) * yi
+		}
+	}
+	for k := n - 1; k >= 0; k-- {
+		if p := f.piv[k]; p != k {
+			dst[k], dst[p] = dst[p], dst[k]
+		}
+	}
+	return nil
+}
