@@ -11,10 +11,10 @@ import (
 type Method int
 
 const (
-	Auto        Method = iota // choose from the structure
-	BandMethod                // banded LU
-	SparseMethod              // sparse LU with a fill-reducing ordering
-	DenseMethod               // dense LU
+	Auto         Method = iota // choose from the structure
+	BandMethod                 // banded LU
+	SparseMethod               // sparse LU with a fill-reducing ordering
+	DenseMethod                // dense LU
 )
 
 func (m Method) String() string {
