@@ -1,0 +1,89 @@
+package spectra
+
+import (
+	"gonum.org/v1/gonum/mat"
+
+	"semiflow/numerics/linop"
+)
+
+// denser is implemented by operators that can produce their dense matrix.
+type denser interface {
+	ToDense() (*mat.Dense, error)
+}
+
+// maxDense is the largest dimension the dense methods accept: an n×n
+// complex Schur form and its unitary factor take 32n² bytes.
+const maxDense = 8000
+
+// toDense returns A as a new n×n dense matrix. It panics with ErrShape if A
+// is not square and returns an error if n exceeds maxDense.
+func toDense(a linop.Operator) (*mat.Dense, error) {
+	r, c := a.Dims()
+	if r != c {
+		panic(ErrShape)
+	}
+	if r > maxDense {
+		return nil, numErr("dense method refused for n = %d > %d; use the sparse (Arnoldi) methods", r, maxDense)
+	}
+	if d, ok := a.(denser); ok {
+		m, err := d.ToDense()
+		if err == nil {
+			return m, nil
+		}
+	}
+	m := mat.NewDense(max(r, 1), max(r, 1), nil)
+	if r == 0 {
+		return &mat.Dense{}, nil
+	}
+	x := make([]float64, r)
+	col := make([]float64, r)
+	for j := 0; j < r; j++ {
+		x[j] = 1
+		a.Apply(col, x)
+		x[j] = 0
+		m.SetCol(j, col)
+	}
+	return m, nil
+}
+
+// weightFactor is the part of a weighted inner product ⟨x, y⟩_W = xᵀWy,
+// W = RᵀR, that the weighted analyses need. linop's weights satisfy it.
+type weightFactor interface {
+	Len() int
+	// Factor sets dst = R x (or Rᵀ x if trans).
+	Factor(dst, x []float64, trans bool)
+	// FactorSolve sets dst = R⁻¹ x (or R⁻ᵀ x if trans).
+	FactorSolve(dst, x []float64, trans bool)
+}
+
+// Weight is a weighted inner product ⟨x, y⟩_W = xᵀ W y with W = RᵀR
+// symmetric positive definite. The W-norm of A is the Euclidean norm of
+// R A R⁻¹, so every weighted analysis transforms A to R A R⁻¹ first.
+// linop.DiagWeight and linop.SPDWeight implement it.
+type Weight = weightFactor
+
+// weighted returns R A R⁻¹ as a dense matrix, or A itself if w is nil.
+// It panics with ErrShape if w.Len() differs from the dimension of A.
+func weighted(a *mat.Dense, w Weight) *mat.Dense {
+	if w == nil {
+		return a
+	}
+	n, _ := a.Dims()
+	if w.Len() != n {
+		panic(ErrShape)
+	}
+	// B = R A R⁻¹: first C = A R⁻¹ column by column, then B = R C.
+	c := mat.NewDense(n, n, nil)
+	e := make([]float64, n)
+	col := make([]float64, n)
+	acol := make([]float64, n)
+	for j := 0; j < n; j++ {
+		e[j] = 1
+		w.FactorSolve(col, e, false)
+		e[j] = 0
+		mat.NewVecDense(n, acol).MulVec(a, mat.NewVecDense(n, col))
+		w.Factor(col, acol, false)
+		c.SetCol(j, col)
+	}
+	return c
+}

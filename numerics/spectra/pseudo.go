@@ -1,0 +1,187 @@
+package spectra
+
+import (
+	"context"
+	"fmt"
+	"runtime"
+	"sync"
+	"sync/atomic"
+
+	"semiflow/numerics/linop"
+)
+
+// Region is the rectangle [Re0, Re1] × [Im0, Im1] of the complex plane,
+// sampled at NRe × NIm equally spaced points (both ends included).
+type Region struct {
+	Re0, Re1, Im0, Im1 float64
+	NRe, NIm           int
+}
+
+func (r Region) check() {
+	if r.NRe < 2 || r.NIm < 2 || !(r.Re1 > r.Re0) || !(r.Im1 > r.Im0) {
+		panic(ErrOption)
+	}
+}
+
+// Points returns the grid coordinates.
+func (r Region) Points() (re, im []float64) {
+	return linspace(r.Re0, r.Re1, r.NRe), linspace(r.Im0, r.Im1, r.NIm)
+}
+
+func linspace(a, b float64, n int) []float64 {
+	x := make([]float64, n)
+	for i := range x {
+		x[i] = a + (b-a)*float64(i)/float64(n-1)
+	}
+	if n > 1 {
+		x[n-1] = b
+	}
+	return x
+}
+
+// GridOptions controls grid computations. The zero value is usable.
+type GridOptions struct {
+	// Levels are the ε values at which contour lines are drawn.
+	Levels []float64
+	// Tol is the relative tolerance of each σ_min; 0 means 1e-6.
+	Tol float64
+	// MaxIter bounds the inverse Lanczos steps per point; 0 means 100.
+	MaxIter int
+	// Workers is the number of goroutines; 0 means GOMAXPROCS.
+	Workers int
+	// Progress, if not nil, is called with the number of grid columns
+	// done and the total, from one goroutine at a time.
+	Progress func(done, total int)
+}
+
+func (o *GridOptions) defaults() GridOptions {
+	var g GridOptions
+	if o != nil {
+		g = *o
+	}
+	if g.Tol == 0 {
+		g.Tol = 1e-6
+	}
+	if g.Tol < 0 || g.MaxIter < 0 {
+		panic(ErrOption)
+	}
+	if g.MaxIter == 0 {
+		g.MaxIter = 100
+	}
+	if g.Workers <= 0 {
+		g.Workers = runtime.GOMAXPROCS(0)
+	}
+	for _, e := range g.Levels {
+		if !(e > 0) {
+			panic(ErrOption)
+		}
+	}
+	return g
+}
+
+// Pseudospectra holds σ_min(zI − A) on a grid and the boundaries of the
+// ε-pseudospectra σ_ε(A) = {z : σ_min(zI − A) ≤ ε} = {z : ‖(zI − A)⁻¹‖ ≥ 1/ε}.
+type Pseudospectra struct {
+	Re, Im []float64 // grid coordinates
+	// Sigma[i*len(Im)+j] = σ_min(zI − A) at z = Re[i] + i·Im[j].
+	Sigma       []float64
+	Contours    []Contour    // one per level, in the order given
+	Eigenvalues []complex128 // eigenvalues of A (dense) or Ritz values (Krylov)
+	MaxIter     int          // largest number of iterations used at a point
+	Unconverged int          // points where the iteration hit MaxIter
+	Method      string
+	Accuracy    string
+}
+
+// At returns σ_min at grid point (i, j).
+func (p *Pseudospectra) At(i, j int) float64 { return p.Sigma[i*len(p.Im)+j] }
+
+// Pseudo computes σ_min(zI − A) on the region's grid for a dense A and the
+// contour lines at opt.Levels. See Schur.Pseudo for the method. It panics
+// with ErrShape if A is not square and with ErrOption for an invalid
+// region or options.
+func Pseudo(ctx context.Context, a linop.Operator, r Region, opt *GridOptions) (*Pseudospectra, error) {
+	r.check()
+	s, err := NewSchur(a)
+	if err != nil {
+		return nil, err
+	}
+	return s.Pseudo(ctx, r, opt)
+}
+
+// Pseudo computes σ_min(zI − A) = σ_min(zI − T) on the grid, using the
+// unitary invariance of singular values: at each point, inverse Lanczos on
+// ((zI − T)ᴴ(zI − T))⁻¹ with two triangular solves per step, O(n²) per step
+// instead of the O(n³) SVD (Trefethen, Acta Numerica 1999; Wright &
+// Trefethen, SIAM J. Sci. Comput. 2001). Grid columns are shared among
+// workers; along a column each point starts from the previous point's
+// singular vector. No balancing is applied.
+func (s *Schur) Pseudo(ctx context.Context, r Region, opt *GridOptions) (*Pseudospectra, error) {
+	r.check()
+	o := opt.defaults()
+	re, im := r.Points()
+	p := &Pseudospectra{Re: re, Im: im, Sigma: make([]float64, len(re)*len(im)), Eigenvalues: s.Eigenvalues()}
+	var next, done atomic.Int64
+	var mu sync.Mutex
+	var wg sync.WaitGroup
+	maxIt := make([]int, o.Workers)
+	unconv := make([]int, o.Workers)
+	for w := 0; w < o.Workers; w++ {
+		wg.Add(1)
+		go func(w int) {
+			defer wg.Done()
+			ts := newTriSigma(s.T, s.N, o.Tol, o.MaxIter)
+			for {
+				i := int(next.Add(1) - 1)
+				if i >= len(re) || ctx.Err() != nil {
+					return
+				}
+				for j := range im {
+					res := ts.eval(complex(re[i], im[j]), j > 0, false)
+					p.Sigma[i*len(im)+j] = res.sigma
+					maxIt[w] = max(maxIt[w], res.its)
+					if !res.conv {
+						unconv[w]++
+					}
+				}
+				d := int(done.Add(1))
+				if o.Progress != nil {
+					mu.Lock()
+					o.Progress(d, len(re))
+					mu.Unlock()
+				}
+			}
+		}(w)
+	}
+	wg.Wait()
+	if err := ctx.Err(); err != nil {
+		return nil, err
+	}
+	for w := range maxIt {
+		p.MaxIter = max(p.MaxIter, maxIt[w])
+		p.Unconverged += unconv[w]
+	}
+	p.Contours = contours(re, im, p.Sigma, o.Levels)
+	p.Method = fmt.Sprintf("complex Schur form (no balancing), then inverse Lanczos on ((zI−T)ᴴ(zI−T))⁻¹ at each of %d×%d points, %d workers", len(re), len(im), o.Workers)
+	p.Accuracy = fmt.Sprintf("σ_min relative error ≲ %.1e where converged (Ritz residual test); %d of %d points unconverged after %d steps; contours by linear interpolation of log σ between grid points", o.Tol/2, p.Unconverged, len(p.Sigma), o.MaxIter)
+	return p, nil
+}
+
+// sigmaMin returns σ_min(zI − A) with the right and left singular vectors
+// (v, u) of zI − T, to a relative tolerance tol.
+func (s *Schur) sigmaMin(z complex128, tol float64) (float64, []complex128, []complex128) {
+	ts := newTriSigma(s.T, s.N, tol, 300)
+	res := ts.eval(z, false, true)
+	u := leftVector(s.T, s.N, z, res.v, res.sigma)
+	return res.sigma, res.v, u
+}
+
+// SigmaMin returns σ_min(zI − A) = 1/‖(zI − A)⁻¹‖₂ to relative accuracy
+// about tol/2 (tol ≤ 0 means 1e-10).
+func (s *Schur) SigmaMin(z complex128, tol float64) float64 {
+	if tol <= 0 {
+		tol = 1e-10
+	}
+	ts := newTriSigma(s.T, s.N, tol, 300)
+	return ts.eval(z, false, false).sigma
+}

@@ -1,0 +1,212 @@
+package spectra
+
+import (
+	"math"
+	"math/cmplx"
+
+	"gonum.org/v1/gonum/lapack"
+	"gonum.org/v1/gonum/lapack/gonum"
+	"gonum.org/v1/gonum/mat"
+
+	"semiflow/numerics/linop"
+)
+
+// Schur is a complex Schur factorisation A = Z T Zᴴ of a real square
+// matrix: T is upper triangular with the eigenvalues of A on its diagonal
+// and Z is unitary. Both are stored row-major, T[i*N+j] = T_ij.
+//
+// It is computed without balancing (a diagonal similarity would change
+// norms, and with them pseudospectra and resolvent norms): real Hessenberg
+// reduction and the real Schur form by LAPACK's Dgehrd, Dorghr and Dhseqr
+// (gonum), then each standardised 2×2 block [a b; c a] with bc < 0 is
+// triangularised by the unitary rotation G = [x₁ −x̄₂; x₂ x̄₁] whose first
+// column x is the unit eigenvector of the block for λ = a + i√(−bc).
+type Schur struct {
+	N int
+	T []complex128
+	Z []complex128
+}
+
+// NewSchur computes the complex Schur form of A. It panics with ErrShape
+// if A is not square, and returns an error if the QR algorithm does not
+// converge or A has non-finite entries.
+func NewSchur(a linop.Operator) (*Schur, error) {
+	m, err := toDense(a)
+	if err != nil {
+		return nil, err
+	}
+	return schurOf(m)
+}
+
+func schurOf(m *mat.Dense) (*Schur, error) {
+	n, _ := m.Dims()
+	s := &Schur{N: n}
+	if n == 0 {
+		return s, nil
+	}
+	if n == 1 {
+		v := m.At(0, 0)
+		if math.IsNaN(v) || math.IsInf(v, 0) {
+			return nil, numErr("matrix entry (0,0) is %v", v)
+		}
+		s.T, s.Z = []complex128{complex(v, 0)}, []complex128{1}
+		return s, nil
+	}
+	h := make([]float64, n*n)
+	for i := 0; i < n; i++ {
+		for j := 0; j < n; j++ {
+			v := m.At(i, j)
+			if math.IsNaN(v) || math.IsInf(v, 0) {
+				return nil, numErr("matrix entry (%d,%d) is %v", i, j, v)
+			}
+			h[i*n+j] = v
+		}
+	}
+	var impl gonum.Implementation
+	tau := make([]float64, n-1)
+	work := make([]float64, 1)
+	impl.Dgehrd(n, 0, n-1, h, n, tau, work, -1)
+	work = make([]float64, int(work[0]))
+	impl.Dgehrd(n, 0, n-1, h, n, tau, work, len(work))
+	q := make([]float64, n*n)
+	copy(q, h)
+	work = work[:1]
+	impl.Dorghr(n, 0, n-1, q, n, tau, work, -1)
+	if int(work[0]) > cap(work) {
+		work = make([]float64, int(work[0]))
+	}
+	work = work[:cap(work)]
+	impl.Dorghr(n, 0, n-1, q, n, tau, work, len(work))
+	for i := 2; i < n; i++ {
+		for j := 0; j < i-1; j++ {
+			h[i*n+j] = 0
+		}
+	}
+	wr := make([]float64, n)
+	wi := make([]float64, n)
+	work = work[:1]
+	impl.Dhseqr(lapack.EigenvaluesAndSchur, lapack.SchurOrig, n, 0, n-1, h, n, wr, wi, q, n, work, -1)
+	if int(work[0]) > cap(work) {
+		work = make([]float64, int(work[0]))
+	}
+	work = work[:cap(work)]
+	if unconv := impl.Dhseqr(lapack.EigenvaluesAndSchur, lapack.SchurOrig, n, 0, n-1, h, n, wr, wi, q, n, work, len(work)); unconv > 0 {
+		return nil, numErr("Schur QR algorithm did not converge (%d eigenvalues unconverged)", unconv)
+	}
+	t := make([]complex128, n*n)
+	z := make([]complex128, n*n)
+	for i := range h {
+		t[i] = complex(h[i], 0)
+		z[i] = complex(q[i], 0)
+	}
+	for k := 0; k < n-1; k++ {
+		if h[(k+1)*n+k] == 0 {
+			continue
+		}
+		// Standardised 2×2 block [a b; c d] with eigenvalues wr ± i wi.
+		a, b := h[k*n+k], h[k*n+k+1]
+		lam := complex(wr[k], math.Abs(wi[k]))
+		x1, x2 := complex(b, 0), lam-complex(a, 0)
+		nx := math.Hypot(cmplx.Abs(x1), cmplx.Abs(x2))
+		x1, x2 = x1/complex(nx, 0), x2/complex(nx, 0)
+		// T ← Gᴴ T on rows k, k+1 (columns ≥ k).
+		for j := k; j < n; j++ {
+			tk, tk1 := t[k*n+j], t[(k+1)*n+j]
+			t[k*n+j] = cmplx.Conj(x1)*tk + cmplx.Conj(x2)*tk1
+			t[(k+1)*n+j] = -x2*tk + x1*tk1
+		}
+		// T ← T G on columns k, k+1 (rows ≤ k+1), Z ← Z G.
+		for i := 0; i <= k+1; i++ {
+			tk, tk1 := t[i*n+k], t[i*n+k+1]
+			t[i*n+k] = tk*x1 + tk1*x2
+			t[i*n+k+1] = -tk*cmplx.Conj(x2) + tk1*cmplx.Conj(x1)
+		}
+		for i := 0; i < n; i++ {
+			zk, zk1 := z[i*n+k], z[i*n+k+1]
+			z[i*n+k] = zk*x1 + zk1*x2
+			z[i*n+k+1] = -zk*cmplx.Conj(x2) + zk1*cmplx.Conj(x1)
+		}
+		t[(k+1)*n+k] = 0
+		k++
+	}
+	s.T, s.Z = t, z
+	return s, nil
+}
+
+// Eigenvalues returns the diagonal of T, the eigenvalues of A.
+func (s *Schur) Eigenvalues() []complex128 {
+	ev := make([]complex128, s.N)
+	for i := range ev {
+		ev[i] = s.T[i*s.N+i]
+	}
+	return ev
+}
+
+// solveShifted sets x = (zI − A)⁻¹ b = Z (zI − T)⁻¹ Zᴴ b. It returns an
+// error if zI − T has a zero on its diagonal. It panics with ErrShape on a
+// length mismatch.
+func (s *Schur) solveShifted(x, b []complex128, z complex128) error {
+	n := s.N
+	if len(x) != n || len(b) != n {
+		panic(ErrShape)
+	}
+	y := make([]complex128, n)
+	for i := 0; i < n; i++ { // y = Zᴴ b
+		var acc complex128
+		for k := 0; k < n; k++ {
+			acc += cmplx.Conj(s.Z[k*n+i]) * b[k]
+		}
+		y[i] = acc
+	}
+	w := make([]complex128, n)
+	if !backSolve(s.T, n, z, w, y) {
+		return numErr("zI − A is singular at z = %v", z)
+	}
+	for i := 0; i < n; i++ {
+		var acc complex128
+		for k := 0; k < n; k++ {
+			acc += s.Z[i*n+k] * w[k]
+		}
+		x[i] = acc
+	}
+	return nil
+}
+
+// backSolve sets w = (zI − T)⁻¹ y for upper-triangular T, returning false
+// if a diagonal entry z − T_ii is zero.
+func backSolve(t []complex128, n int, z complex128, w, y []complex128) bool {
+	for i := n - 1; i >= 0; i-- {
+		acc := y[i]
+		row := t[i*n+i+1 : i*n+n]
+		ws := w[i+1 : n]
+		for j, tij := range row {
+			acc += tij * ws[j]
+		}
+		d := z - t[i*n+i]
+		if d == 0 {
+			return false
+		}
+		w[i] = acc / d
+	}
+	return true
+}
+
+// forwardSolveH sets y = (zI − T)⁻ᴴ q for upper-triangular T (so (zI − T)ᴴ
+// is lower triangular), overwriting q. It returns false on a zero pivot.
+func forwardSolveH(t []complex128, n int, z complex128, y, q []complex128) bool {
+	for j := 0; j < n; j++ {
+		d := cmplx.Conj(z - t[j*n+j])
+		if d == 0 {
+			return false
+		}
+		yj := q[j] / d
+		y[j] = yj
+		row := t[j*n+j+1 : j*n+n]
+		qs := q[j+1 : n]
+		for i, tji := range row {
+			// q_i −= conj(−T_ji) y_j
+			qs[i] += cmplx.Conj(tji) * yj
+		}
+	}
+	return true
+}

@@ -1,0 +1,221 @@
+package spectra
+
+import (
+	"math"
+	"math/cmplx"
+
+	"gonum.org/v1/gonum/mat"
+)
+
+// triSigma computes σ_min(zI − T) for a fixed upper-triangular T by inverse
+// Lanczos: the Lanczos process on the Hermitian positive definite
+// B = ((zI − T)ᴴ(zI − T))⁻¹, each step costing one solve with (zI − T)ᴴ
+// and one with zI − T (O(n²)), with full reorthogonalisation. The largest
+// Ritz value θ of B gives σ_min = θ^{-1/2} (Trefethen, Acta Numerica 1999;
+// Lanczos convergence from below, so θ^{-1/2} ≥ σ_min until converged).
+// It stops when the Ritz residual β_j|s_j| is at most tol·θ, which bounds
+// the relative error of θ by tol and of σ_min by about tol/2.
+type triSigma struct {
+	t       []complex128
+	n       int
+	tol     float64
+	maxIter int
+
+	q     [][]complex128 // Lanczos basis
+	w, y  []complex128
+	start []complex128 // warm start (previous right singular vector)
+	alpha []float64
+	beta  []float64
+}
+
+func newTriSigma(t []complex128, n int, tol float64, maxIter int) *triSigma {
+	ts := &triSigma{t: t, n: n, tol: tol, maxIter: maxIter}
+	ts.w = make([]complex128, n)
+	ts.y = make([]complex128, n)
+	ts.start = make([]complex128, n)
+	// A fixed pseudo-random start (linear congruential), reproducible and
+	// with no special relation to T.
+	seed := uint64(12345)
+	for i := range ts.start {
+		seed = seed*6364136223846793005 + 1442695040888963407
+		re := float64(seed>>11)/float64(1<<53) - 0.5
+		seed = seed*6364136223846793005 + 1442695040888963407
+		im := float64(seed>>11)/float64(1<<53) - 0.5
+		ts.start[i] = complex(re, im)
+	}
+	return ts
+}
+
+// sigmaResult is σ_min(zI − T) with the right singular vector v (unit) and
+// the number of Lanczos steps; v is nil unless requested.
+type sigmaResult struct {
+	sigma float64
+	v     []complex128
+	its   int
+	conv  bool
+}
+
+// eval computes σ_min(zI − T). If warm, the previous right singular vector
+// is used as the start vector. If wantVec, the right singular vector is
+// returned (and kept for the next warm start in any case).
+func (ts *triSigma) eval(z complex128, warm, wantVec bool) sigmaResult {
+	n := ts.n
+	if n == 0 {
+		return sigmaResult{sigma: math.Inf(1), conv: true}
+	}
+	for i := 0; i < n; i++ {
+		if z == ts.t[i*n+i] {
+			v := make([]complex128, n)
+			v[i] = 1 // not the singular vector in general, but σ_min = 0 exactly
+			return sigmaResult{sigma: 0, v: v, conv: true}
+		}
+	}
+	maxIter := min(ts.maxIter, n)
+	for len(ts.q) < maxIter {
+		ts.q = append(ts.q, make([]complex128, n))
+	}
+	q0 := ts.q[0]
+	copy(q0, ts.start)
+	if !warm {
+		newStart := newTriSigma(nil, n, 0, 0).start
+		copy(q0, newStart)
+	}
+	scal(q0, 1/cnorm(q0))
+	ts.alpha = ts.alpha[:0]
+	ts.beta = ts.beta[:0]
+	var theta float64
+	var s []float64
+	conv := false
+	j := 0
+	for ; j < maxIter; j++ {
+		qj := ts.q[j]
+		copy(ts.w, qj)
+		forwardSolveH(ts.t, n, z, ts.y, ts.w)
+		backSolve(ts.t, n, z, ts.w, ts.y)
+		w := ts.w
+		a := real(cdot(qj, w))
+		ts.alpha = append(ts.alpha, a)
+		// Full reorthogonalisation (twice is enough; Giraud et al. 2005).
+		for pass := 0; pass < 2; pass++ {
+			for k := 0; k <= j; k++ {
+				c := cdot(ts.q[k], w)
+				caxpy(w, -c, ts.q[k])
+			}
+		}
+		b := cnorm(w)
+		theta, s = tridiagTop(ts.alpha, ts.beta)
+		if math.IsInf(theta, 0) || math.IsNaN(theta) {
+			break
+		}
+		res := b * math.Abs(s[j])
+		if res <= ts.tol*theta || b <= 1e-14*theta {
+			conv = true
+			j++
+			break
+		}
+		if j+1 < maxIter {
+			ts.beta = append(ts.beta, b)
+			copy(ts.q[j+1], w)
+			scal(ts.q[j+1], 1/b)
+		}
+	}
+	if j > maxIter {
+		j = maxIter
+	}
+	r := sigmaResult{sigma: 1 / math.Sqrt(theta), its: j, conv: conv}
+	if math.IsInf(theta, 1) || math.IsNaN(theta) {
+		r.sigma = 0
+	}
+	// v = Q s, also stored as the next warm start.
+	v := ts.start
+	for i := range v {
+		v[i] = 0
+	}
+	for k := 0; k < len(s); k++ {
+		caxpy(v, complex(s[k], 0), ts.q[k])
+	}
+	if nv := cnorm(v); nv > 0 {
+		scal(v, 1/nv)
+	} else {
+		v[0] = 1
+	}
+	if wantVec {
+		r.v = append([]complex128(nil), v...)
+	}
+	return r
+}
+
+// tridiagTop returns the largest eigenvalue of the symmetric tridiagonal
+// matrix with diagonal a and off-diagonal b, and its unit eigenvector.
+func tridiagTop(a, b []float64) (float64, []float64) {
+	k := len(a)
+	if k == 1 {
+		return a[0], []float64{1}
+	}
+	sym := mat.NewSymDense(k, nil)
+	for i := 0; i < k; i++ {
+		sym.SetSym(i, i, a[i])
+		if i+1 < k {
+			sym.SetSym(i, i+1, b[i])
+		}
+	}
+	var es mat.EigenSym
+	if !es.Factorize(sym, true) {
+		return math.NaN(), make([]float64, k)
+	}
+	vals := es.Values(nil)
+	var vecs mat.Dense
+	es.VectorsTo(&vecs)
+	top := k - 1 // ascending order
+	s := make([]float64, k)
+	for i := range s {
+		s[i] = vecs.At(i, top)
+	}
+	return vals[top], s
+}
+
+// leftVector returns u = (zI − T) v / σ, the left singular vector that goes
+// with the right singular vector v of zI − T (upper-triangular T).
+func leftVector(t []complex128, n int, z complex128, v []complex128, sigma float64) []complex128 {
+	u := make([]complex128, n)
+	for i := 0; i < n; i++ {
+		acc := z * v[i]
+		row := t[i*n+i : i*n+n]
+		for j, tij := range row {
+			acc -= tij * v[i+j]
+		}
+		u[i] = acc
+	}
+	if sigma > 0 {
+		scal(u, 1/cnorm(u))
+	}
+	return u
+}
+
+func cdot(x, y []complex128) complex128 { // xᴴ y
+	var s complex128
+	for i, xi := range x {
+		s += cmplx.Conj(xi) * y[i]
+	}
+	return s
+}
+
+func cnorm(x []complex128) float64 {
+	var s float64
+	for _, xi := range x {
+		s += real(xi)*real(xi) + imag(xi)*imag(xi)
+	}
+	return math.Sqrt(s)
+}
+
+func caxpy(y []complex128, a complex128, x []complex128) {
+	for i, xi := range x {
+		y[i] += a * xi
+	}
+}
+
+func scal(x []complex128, a float64) {
+	for i := range x {
+		x[i] *= complex(a, 0)
+	}
+}
