@@ -1,0 +1,316 @@
+// Package grid provides 1-D and 2-D grids and the finite-difference and
+// Chebyshev spectral differentiation operators on them.
+//
+// A 1-D Interval [a, b] with n points carries a boundary condition at each
+// end: Dirichlet u = 0, Neumann u' = 0, Robin αu + βu' = 0 (u' = du/dx, the
+// same at both ends) or periodic. The unknowns of a grid function are:
+//
+//   - non-periodic: the points x_j = a + j h, h = (b−a)/(n−1), j = 0..n−1,
+//     except Dirichlet end points (where u = 0 is known);
+//   - periodic: x_j = a + j h, h = (b−a)/n, j = 0..n−1 (x = b is x = a).
+//
+// Derivatives of order 2 and 4 are banded CSR matrices acting on the
+// unknowns, with boundary closures of the same order. 2-D tensor-product
+// grids index their unknowns k = ix*ny + iy (see package linop).
+package grid
+
+import (
+	"errors"
+	"fmt"
+	"math"
+
+	"semiflow/numerics/linop"
+)
+
+// Kind is the type of boundary condition at one end of an interval.
+type Kind int
+
+const (
+	Dirichlet Kind = iota // u = 0
+	Neumann               // u' = 0
+	Robin                 // αu + βu' = 0
+	Periodic              // u(a) = u(b), both ends
+)
+
+func (k Kind) String() string {
+	switch k {
+	case Dirichlet:
+		return "Dirichlet"
+	case Neumann:
+		return "Neumann"
+	case Robin:
+		return "Robin"
+	case Periodic:
+		return "periodic"
+	}
+	return fmt.Sprintf("Kind(%d)", int(k))
+}
+
+// End is the boundary condition at one end. Alpha and Beta are used by
+// Robin only: αu + βu' = 0 with u' = du/dx.
+type End struct {
+	Kind        Kind
+	Alpha, Beta float64
+}
+
+// Convenience values for the conditions without parameters.
+var (
+	DirichletEnd = End{Kind: Dirichlet}
+	NeumannEnd   = End{Kind: Neumann}
+	PeriodicEnd  = End{Kind: Periodic}
+)
+
+// RobinEnd returns the condition αu + βu' = 0.
+func RobinEnd(alpha, beta float64) End { return End{Kind: Robin, Alpha: alpha, Beta: beta} }
+
+// ErrGrid is matched (errors.Is) by every grid construction error.
+var ErrGrid = errors.New("grid: invalid grid")
+
+// normal reduces a Robin end with β = 0 to Dirichlet and one with α = 0 to
+// Neumann.
+func (e End) normal() (End, error) {
+	if e.Kind != Robin {
+		if e.Kind < Dirichlet || e.Kind > Periodic {
+			return e, fmt.Errorf("%w: unknown boundary kind %d", ErrGrid, int(e.Kind))
+		}
+		return e, nil
+	}
+	if math.IsNaN(e.Alpha) || math.IsNaN(e.Beta) || math.IsInf(e.Alpha, 0) || math.IsInf(e.Beta, 0) {
+		return e, fmt.Errorf("%w: Robin coefficients α = %g, β = %g", ErrGrid, e.Alpha, e.Beta)
+	}
+	switch {
+	case e.Alpha == 0 && e.Beta == 0:
+		return e, fmt.Errorf("%w: Robin condition with α = β = 0", ErrGrid)
+	case e.Beta == 0:
+		return DirichletEnd, nil
+	case e.Alpha == 0:
+		return NeumannEnd, nil
+	}
+	return e, nil
+}
+
+// ratio returns α/β, so that u' = −(α/β) u at the end.
+func (e End) ratio() float64 {
+	if e.Kind == Robin {
+		return e.Alpha / e.Beta
+	}
+	return 0
+}
+
+// Interval is a uniform 1-D grid on [A, B] with boundary conditions.
+type Interval struct {
+	A, B        float64
+	N           int     // number of grid points (see the package comment)
+	H           float64 // spacing
+	Left, Right End
+	first, last int // point indices of the first and last unknown
+}
+
+// NewInterval returns the grid of n points on [a, b]. It returns an error
+// wrapping ErrGrid if a ≥ b, n < 3 (n < 2 when periodic, counting unknowns
+// after Dirichlet ends must be at least 1), only one end is periodic, or a
+// Robin condition has α = β = 0.
+func NewInterval(a, b float64, n int, left, right End) (*Interval, error) {
+	if !(a < b) || math.IsInf(a, 0) || math.IsInf(b, 0) {
+		return nil, fmt.Errorf("%w: interval [%g, %g]", ErrGrid, a, b)
+	}
+	l, err := left.normal()
+	if err != nil {
+		return nil, err
+	}
+	r, err := right.normal()
+	if err != nil {
+		return nil, err
+	}
+	if (l.Kind == Periodic) != (r.Kind == Periodic) {
+		return nil, fmt.Errorf("%w: periodic at one end only (%v, %v)", ErrGrid, l.Kind, r.Kind)
+	}
+	g := &Interval{A: a, B: b, N: n, Left: l, Right: r}
+	if l.Kind == Periodic {
+		if n < 2 {
+			return nil, fmt.Errorf("%w: periodic grid with %d points", ErrGrid, n)
+		}
+		g.H = (b - a) / float64(n)
+		g.first, g.last = 0, n-1
+		return g, nil
+	}
+	if n < 3 {
+		return nil, fmt.Errorf("%w: %d points (at least 3)", ErrGrid, n)
+	}
+	g.H = (b - a) / float64(n-1)
+	g.first, g.last = 0, n-1
+	if l.Kind == Dirichlet {
+		g.first = 1
+	}
+	if r.Kind == Dirichlet {
+		g.last = n - 2
+	}
+	return g, nil
+}
+
+// Periodic reports whether the grid is periodic.
+func (g *Interval) Periodic() bool { return g.Left.Kind == Periodic }
+
+// Size returns the number of unknowns.
+func (g *Interval) Size() int { return g.last - g.first + 1 }
+
+// Points returns all n grid points x_j = a + j h.
+func (g *Interval) Points() []float64 {
+	x := make([]float64, g.N)
+	for j := range x {
+		x[j] = g.A + float64(j)*g.H
+	}
+	if !g.Periodic() {
+		x[g.N-1] = g.B
+	}
+	return x
+}
+
+// X returns the coordinates of the unknowns (length Size()).
+func (g *Interval) X() []float64 { return g.Points()[g.first : g.last+1] }
+
+// Unknowns returns the point index of each unknown.
+func (g *Interval) Unknowns() []int {
+	idx := make([]int, g.Size())
+	for k := range idx {
+		idx[k] = g.first + k
+	}
+	return idx
+}
+
+// Embed returns the values at all n points of the grid function whose
+// unknowns are u, with the Dirichlet end values 0. It panics with
+// linop.ErrShape if len(u) != Size().
+func (g *Interval) Embed(u []float64) []float64 {
+	if len(u) != g.Size() {
+		panic(linop.ErrShape)
+	}
+	full := make([]float64, g.N)
+	copy(full[g.first:], u)
+	return full
+}
+
+// QuadWeights returns trapezoidal quadrature weights on the unknowns:
+// Σ w_k u_k v_k ≈ ∫ u v dx for grid functions satisfying the boundary
+// conditions (h at interior and periodic points, h/2 at Neumann and Robin
+// end points). The second-order D2 with Neumann or Robin ends is symmetric
+// in this weight (see linop.NewDiagWeight).
+func (g *Interval) QuadWeights() []float64 {
+	w := make([]float64, g.Size())
+	for k := range w {
+		w[k] = g.H
+	}
+	if !g.Periodic() {
+		if g.first == 0 {
+			w[0] = g.H / 2
+		}
+		if g.last == g.N-1 {
+			w[len(w)-1] = g.H / 2
+		}
+	}
+	return w
+}
+
+// D1 returns the first-derivative matrix of the given order (2 or 4) on the
+// unknowns: central differences inside, one-sided differences of the same
+// order where the central stencil would leave the grid, and at a Neumann
+// or Robin end point the value the condition prescribes, u' = −(α/β) u.
+// It returns an error wrapping ErrGrid for another order or a grid too
+// small for the stencils.
+func (g *Interval) D1(order int) (*linop.CSR, error) { return g.diff(1, order) }
+
+// D2 returns the second-derivative matrix of the given order (2 or 4) on
+// the unknowns: central differences inside ((1, −2, 1)/h² and
+// (−1, 16, −30, 16, −1)/(12h²)), one-sided 6-point differences next to the
+// ends for order 4, and at a Neumann or Robin end point the Hermite formula
+// that uses u' = −(α/β) u there (for order 2 this is the ghost-point row
+// (2u₁ − 2u₀ − 2h u'₀)/h²). It returns an error wrapping ErrGrid for
+// another order or a grid too small for the stencils.
+func (g *Interval) D2(order int) (*linop.CSR, error) { return g.diff(2, order) }
+
+func (g *Interval) diff(m, order int) (*linop.CSR, error) {
+	if order != 2 && order != 4 {
+		return nil, fmt.Errorf("%w: finite-difference order %d (2 or 4)", ErrGrid, order)
+	}
+	half := order / 2 // central stencil reaches ±half (m = 1, 2)
+	n := g.N
+	var is, js []int
+	var vs []float64
+	scale := math.Pow(g.H, -float64(m))
+	if g.Periodic() {
+		if n < 2*half+1 {
+			return nil, fmt.Errorf("%w: periodic grid of %d points for order %d", ErrGrid, n, order)
+		}
+		w := Weights(offsets(-half, half, 0), m, false)
+		for i := 0; i < n; i++ {
+			for k, wk := range w {
+				if wk != 0 {
+					is, js, vs = append(is, i), append(js, ((i+k-half)%n+n)%n), append(vs, wk*scale)
+				}
+			}
+		}
+		return linop.NewCSRFromTriplets(n, n, is, js, vs), nil
+	}
+	// One-sided windows: width order+m points (exact to degree order+m−1).
+	width := order + m
+	if n < width+1 {
+		return nil, fmt.Errorf("%w: %d points for a derivative of order %d (at least %d)", ErrGrid, n, order, width+1)
+	}
+	add := func(row, point int, v float64) {
+		if point < g.first || point > g.last {
+			return // a Dirichlet end value, zero
+		}
+		is, js, vs = append(is, row-g.first), append(js, point-g.first), append(vs, v)
+	}
+	for i := g.first; i <= g.last; i++ {
+		atEnd := i == 0 || i == n-1
+		switch {
+		case atEnd:
+			e, sign := g.Left, 1
+			if i == n-1 {
+				e, sign = g.Right, -1
+			}
+			r := e.ratio() // u' = −r u at the end
+			if m == 1 {
+				add(i, i, -r)
+				continue
+			}
+			// Hermite closure: points i, i±1, …, i±(order/2·… ) plus the slope.
+			np := 2
+			if order == 4 {
+				np = 5
+			}
+			off := make([]float64, np)
+			for k := range off {
+				off[k] = float64(sign * k)
+			}
+			w := Weights(off, m, true)
+			c := w[np]
+			for k := 0; k < np; k++ {
+				v := w[k]
+				if k == 0 {
+					v += c * g.H * (-r) // c · h u'(x_i), u'(x_i) = −r u_i
+				}
+				add(i, i+sign*k, v*scale)
+			}
+		case i-half >= 0 && i+half <= n-1:
+			w := Weights(offsets(i-half, i+half, i), m, false)
+			for k, wk := range w {
+				if wk != 0 {
+					add(i, i-half+k, wk*scale)
+				}
+			}
+		default:
+			lo := 0
+			if i+half > n-1 {
+				lo = n - width
+			}
+			w := Weights(offsets(lo, lo+width-1, i), m, false)
+			for k, wk := range w {
+				add(i, lo+k, wk*scale)
+			}
+		}
+	}
+	s := g.Size()
+	return linop.NewCSRFromTriplets(s, s, is, js, vs), nil
+}
