@@ -252,7 +252,7 @@ func TestObservedOrder(t *testing.T) {
 	}
 }
 
-// globalError solves (D2 − I) v = u'' − u for the exact u and returns
+// globalError solves (D2 − I) v = u” − u for the exact u and returns
 // max |v − u|: the error of the discrete solution of a boundary-value
 // problem whose solution u satisfies the grid's boundary conditions.
 func globalError(t *testing.T, d2 *linop.CSR, x []float64, f func(float64) (float64, float64, float64)) float64 {
@@ -276,7 +276,7 @@ func globalError(t *testing.T, d2 *linop.CSR, x []float64, f func(float64) (floa
 	return e
 }
 
-// The fourth-order Dirichlet D2 approximates −(kπ)² (closed form: −u'' =
+// The fourth-order Dirichlet D2 approximates −(kπ)² (closed form: −u” =
 // λu, u(0) = u(1) = 0 has eigenvalues (kπ)²) and has real negative spectrum.
 func TestFourthOrderDirichletSpectrum(t *testing.T) {
 	var errs [2]float64
