@@ -44,7 +44,7 @@ type segment struct{ a, b int } // edge keys
 func marchingSquares(re, im []float64, g []float64) []Polyline {
 	nx, ny := len(re), len(im)
 	at := func(i, j int) float64 { return g[i*ny+j] }
-	hkey := func(i, j int) int { return 2 * (i*ny + j) }   // (i,j)–(i+1,j)
+	hkey := func(i, j int) int { return 2 * (i*ny + j) } // (i,j)–(i+1,j)
 	vkey := func(i, j int) int { return 2*(i*ny+j) + 1 } // (i,j)–(i,j+1)
 	point := func(key int) (float64, float64) {
 		k := key / 2
