@@ -1,0 +1,180 @@
+package solve
+
+import (
+	"context"
+	"errors"
+	"math/rand/v2"
+	"testing"
+
+	"semiflow/numerics/linop"
+)
+
+func isPerm(p []int, n int) bool {
+	if len(p) != n {
+		return false
+	}
+	seen := make([]bool, n)
+	for _, v := range p {
+		if v < 0 || v >= n || seen[v] {
+			return false
+		}
+		seen[v] = true
+	}
+	return true
+}
+
+// 1-D second differences (Dirichlet tridiag(1,−2,1)/h², periodic, and a
+// fourth-order one with one-sided closures reaching offset 4) built here
+// so that this package's tests do not depend on package grid.
+func secondDiff(n int, periodic, fourth bool) *linop.CSR {
+	var is, js []int
+	var vs []float64
+	add := func(i, j int, v float64) { is, js, vs = append(is, i), append(js, j), append(vs, v) }
+	for i := 0; i < n; i++ {
+		switch {
+		case fourth && !periodic && (i < 2 || i > n-3):
+			// Rows of the form used near ends: a 6-point one-sided stencil.
+			w := []float64{10, -15, -4, 14, -6, 1}
+			for k, wk := range w {
+				j := k
+				if i > n-3 {
+					j = n - 1 - k
+				}
+				add(i, j, wk/12)
+			}
+		case fourth:
+			for k, wk := range []float64{-1, 16, -30, 16, -1} {
+				j := i + k - 2
+				if periodic {
+					j = (j + n) % n
+				} else if j < 0 || j >= n {
+					continue
+				}
+				add(i, j, wk/12)
+			}
+		default:
+			add(i, i, -2)
+			for _, j := range []int{i - 1, i + 1} {
+				if periodic {
+					j = (j + n) % n
+				} else if j < 0 || j >= n {
+					continue
+				}
+				add(i, j, 1)
+			}
+		}
+	}
+	return linop.NewCSRFromTriplets(n, n, is, js, vs)
+}
+
+func TestSparseKronSum(t *testing.T) {
+	for _, c := range []struct {
+		nx, ny   int
+		px, py   bool
+		f4x, f4y bool
+	}{
+		{17, 13, false, false, false, false},
+		{30, 30, false, false, true, true},
+		{24, 20, true, false, false, false},
+		{20, 24, false, true, false, true},
+		{16, 16, true, true, true, true},
+		{5, 40, false, false, false, false},
+		{3, 3, false, false, false, false},
+	} {
+		x := secondDiff(c.nx, c.px, c.f4x)
+		y := secondDiff(c.ny, c.py, c.f4y)
+		// An advection term makes the operator non-symmetric.
+		k := linop.NewKronSum(x, &linop.Sum{Terms: []linop.Operator{y, &linop.Scaled{Alpha: 0.3, A: shiftOp(c.ny)}}})
+		q := kronOrder(k)
+		if !isPerm(q, c.nx*c.ny) {
+			t.Fatalf("%v: nested dissection order is not a permutation", c)
+		}
+		for _, z := range []complex128{0.5 + 2i, -0.1} {
+			s, err := NewSparseShifted(context.Background(), k, z)
+			if err != nil {
+				t.Fatal(err)
+			}
+			checkSolver(t, "sparse kron", k, z, s)
+		}
+	}
+}
+
+func TestChoose(t *testing.T) {
+	big := linop.NewKronSum(secondDiff(100, false, false), secondDiff(100, false, false))
+	if m := Choose(big); m != SparseMethod {
+		t.Errorf("100×100 grid: Choose = %v, want sparse", m)
+	}
+	if m := Choose(secondDiff(1000, false, true)); m != BandMethod {
+		t.Errorf("1-D operator: Choose = %v, want band", m)
+	}
+	if m := Choose(secondDiff(1000, true, false)); m != SparseMethod {
+		t.Errorf("periodic 1-D operator: Choose = %v, want sparse", m)
+	}
+}
+
+func shiftOp(n int) *linop.CSR {
+	var is, js []int
+	var vs []float64
+	for i := 0; i+1 < n; i++ {
+		is, js, vs = append(is, i), append(js, i+1), append(vs, 1)
+	}
+	return linop.NewCSRFromTriplets(n, n, is, js, vs)
+}
+
+func TestSparseRandom(t *testing.T) {
+	rng := rand.New(rand.NewPCG(9, 10))
+	for _, n := range []int{1, 10, 200} {
+		var is, js []int
+		var vs []float64
+		for k := 0; k < 4*n; k++ {
+			is, js, vs = append(is, rng.IntN(n)), append(js, rng.IntN(n)), append(vs, rng.NormFloat64())
+		}
+		for i := 0; i < n; i++ {
+			is, js, vs = append(is, i), append(js, i), append(vs, 0.2*rng.NormFloat64())
+		}
+		a := linop.NewCSRFromTriplets(n, n, is, js, vs)
+		if !isPerm(RCM(a), n) {
+			t.Fatalf("n=%d: RCM is not a permutation", n)
+		}
+		for _, z := range []complex128{1 + 1i, 3} {
+			s, err := NewSparseShifted(context.Background(), a, z)
+			if err != nil {
+				t.Fatal(err)
+			}
+			checkSolver(t, "sparse random", a, z, s)
+		}
+	}
+}
+
+// Fill of the factors of the 5-point Laplacian on a k×k grid under each
+// order. Theory (George 1973): nested dissection gives O(n log n) fill
+// against O(n^{3/2}) for banded orders, so ND must beat RCM at this size.
+func TestSparseFill(t *testing.T) {
+	k := 64
+	lap := linop.NewKronSum(secondDiff(k, false, false), secondDiff(k, false, false))
+	csr, _ := lap.ToCSR()
+	m := shiftedCSC(csr, 1)
+	fill := map[string]int{}
+	for name, q := range map[string][]int{"nested dissection": kronOrder(lap), "RCM": RCM(csr), "natural": nil} {
+		f, err := FactorSparse(context.Background(), m, q)
+		if err != nil {
+			t.Fatal(err)
+		}
+		l, u := f.NNZ()
+		fill[name] = l + u
+		t.Logf("%s: nnz(L)+nnz(U) = %d (%.1f × nnz(A) = %d)", name, l+u, float64(l+u)/float64(csr.NNZ()), csr.NNZ())
+	}
+	if fill["nested dissection"] >= fill["RCM"] {
+		t.Errorf("nested dissection fill %d not below RCM fill %d", fill["nested dissection"], fill["RCM"])
+	}
+}
+
+func TestSparseCancel(t *testing.T) {
+	k := 40
+	lap := linop.NewKronSum(secondDiff(k, false, false), secondDiff(k, false, false))
+	ctx, cancel := context.WithCancel(context.Background())
+	cancel()
+	if _, err := NewSparseShifted(ctx, lap, 1); !errors.Is(err, context.Canceled) {
+		t.Errorf("cancelled factorisation returned %v", err)
+	}
+}
