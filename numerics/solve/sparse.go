@@ -130,7 +130,7 @@ func factorSparseCSC(ctx context.Context, m *CSC, q []int) (*SparseLU, error) {
 	}
 	x := make([]complex128, n)
 	xi := make([]int, 2*n) // reach output and DFS stack
-	mark := make([]int, n)  // visited stamp: mark[i] == k+1 in step k
+	mark := make([]int, n) // visited stamp: mark[i] == k+1 in step k
 	pstack := make([]int, n)
 	limit := memguard.Limit()
 	for k := 0; k < n; k++ {
