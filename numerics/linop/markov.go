@@ -1,0 +1,117 @@
+package linop
+
+import (
+	"errors"
+	"fmt"
+	"math"
+
+	"gonum.org/v1/gonum/mat"
+	"semiflow/numerics/memguard"
+)
+
+// ErrGenerator is matched (errors.Is) by every rate-matrix validation error.
+var ErrGenerator = errors.New("linop: not the generator of a Markov chain")
+
+// Transition is a jump of a continuous-time Markov chain from state From to
+// state To (0-based) at the given rate.
+type Transition struct {
+	From, To int
+	Rate     float64
+}
+
+// RateMatrix returns the generator Q of the chain on n states with the given
+// transitions: Q_ij = Σ rates i→j for i ≠ j and Q_ii = −Σ_{j≠i} Q_ij, so
+// that every row sums to zero. Distributions evolve by p' = p Q, i.e. by
+// the operator Qᵀ on column vectors (Adjoint{A: Q}); expected values of a
+// function f of the state by u' = Q u. RateMatrix returns an error wrapping
+// ErrGenerator, naming the offending transition, for a state outside
+// [0, n), a transition from a state to itself, or a rate that is negative,
+// infinite or NaN.
+func RateMatrix(n int, ts []Transition) (*CSR, error) {
+	if n < 1 {
+		return nil, fmt.Errorf("%w: %d states", ErrGenerator, n)
+	}
+	is := make([]int, 0, 2*len(ts))
+	js := make([]int, 0, 2*len(ts))
+	vs := make([]float64, 0, 2*len(ts))
+	for k, t := range ts {
+		switch {
+		case t.From < 0 || t.From >= n || t.To < 0 || t.To >= n:
+			return nil, fmt.Errorf("%w: transition %d (%d → %d) names a state outside 0..%d", ErrGenerator, k, t.From, t.To, n-1)
+		case t.From == t.To:
+			return nil, fmt.Errorf("%w: transition %d goes from state %d to itself", ErrGenerator, k, t.From)
+		case !(t.Rate >= 0) || math.IsInf(t.Rate, 0):
+			return nil, fmt.Errorf("%w: transition %d (%d → %d) has rate %g; rates must be finite and non-negative", ErrGenerator, k, t.From, t.To, t.Rate)
+		}
+		is, js, vs = append(is, t.From, t.From), append(js, t.To, t.From), append(vs, t.Rate, -t.Rate)
+	}
+	for i := 0; i < n; i++ { // every state has a (possibly zero) diagonal entry
+		is, js, vs = append(is, i), append(js, i), append(vs, 0)
+	}
+	return NewCSRFromTriplets(n, n, is, js, vs), nil
+}
+
+// CheckGenerator reports whether q is the generator of a continuous-time
+// Markov chain: square, off-diagonal entries non-negative, and each row sum
+// |Σ_j q_ij| ≤ tol · max(1, Σ_j |q_ij|). The error wraps ErrGenerator and
+// names the first offending row and entry.
+func CheckGenerator(q *CSR, tol float64) error {
+	if q.Rows != q.Cols {
+		return fmt.Errorf("%w: %d×%d matrix is not square", ErrGenerator, q.Rows, q.Cols)
+	}
+	for i := 0; i < q.Rows; i++ {
+		var sum, abs float64
+		for p := q.RowPtr[i]; p < q.RowPtr[i+1]; p++ {
+			j, v := q.ColIdx[p], q.Val[p]
+			if math.IsNaN(v) || math.IsInf(v, 0) {
+				return fmt.Errorf("%w: entry (%d, %d) is %g", ErrGenerator, i, j, v)
+			}
+			if j != i && v < 0 {
+				return fmt.Errorf("%w: negative rate %g from state %d to state %d (off-diagonal entry (%d, %d))", ErrGenerator, v, i, j, i, j)
+			}
+			sum += v
+			abs += math.Abs(v)
+		}
+		if math.Abs(sum) > tol*math.Max(1, abs) {
+			return fmt.Errorf("%w: row %d sums to %g, not 0 (tolerance %g)", ErrGenerator, i, sum, tol*math.Max(1, abs))
+		}
+	}
+	return nil
+}
+
+// Stationary returns a probability vector π with π Q = 0 and Σ π_i = 1 for
+// a generator Q (checked by CheckGenerator with tolerance 1e-12), by a dense
+// solve of Qᵀ π = 0 with the last equation replaced by Σ π_i = 1. It
+// returns an error if the chain has no unique stationary distribution
+// (several closed classes make the system singular) or the dense matrix is
+// refused by the memory guard.
+func Stationary(q *CSR) ([]float64, error) {
+	if err := CheckGenerator(q, 1e-12); err != nil {
+		return nil, err
+	}
+	n := q.Rows
+	if err := memguard.DenseReal(n, n); err != nil {
+		return nil, err
+	}
+	a := mat.NewDense(n, n, nil)
+	for i := 0; i < n; i++ {
+		for p := q.RowPtr[i]; p < q.RowPtr[i+1]; p++ {
+			a.Set(q.ColIdx[p], i, a.At(q.ColIdx[p], i)+q.Val[p])
+		}
+	}
+	for j := 0; j < n; j++ {
+		a.Set(n-1, j, 1)
+	}
+	b := mat.NewVecDense(n, nil)
+	b.SetVec(n-1, 1)
+	var lu mat.LU
+	lu.Factorize(a)
+	if c := lu.Cond(); c > 1e14 || math.IsInf(c, 0) {
+		return nil, fmt.Errorf("%w: no unique stationary distribution (condition number %.3g; the chain has more than one closed class)", ErrGenerator, c)
+	}
+	var x mat.VecDense
+	if err := lu.SolveVecTo(&x, false, b); err != nil {
+		return nil, fmt.Errorf("%w: no unique stationary distribution: %v", ErrGenerator, err)
+	}
+	return x.RawVector().Data, nil
+}
