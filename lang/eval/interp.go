@@ -1,0 +1,458 @@
+// Package eval evaluates parsed Semiflow statements against an environment
+// of session variables and a table of builtins.
+//
+// Evaluation is bounded: user-function calls nest at most Limits.MaxDepth
+// deep, vectors and matrices hold at most Limits.MaxElements entries, an
+// optional work budget (Limits.MaxSteps) stops runaway computations, and the
+// context passed to Exec is checked regularly (every node, element loop and
+// call), so cancelling it stops evaluation within a fraction of a second.
+package eval
+
+import (
+	"context"
+	"fmt"
+	"math"
+	"sort"
+
+	"semiflow/lang/syntax"
+	"semiflow/lang/value"
+)
+
+// Output receives what a statement emits while it runs (print, show, ...).
+type Output interface {
+	Stream(name, text string)
+	Display(data, metadata map[string]any, displayID string, update bool)
+	Clear(wait bool)
+	Page(data map[string]any)
+}
+
+// Builtins is the table of predefined names.
+type Builtins interface {
+	Lookup(name string) (value.Value, bool)
+	Names() []string
+}
+
+// Limits bound the work of one evaluation.
+type Limits struct {
+	MaxDepth    int   // nesting of user-function calls
+	MaxElements int   // entries of one vector or matrix
+	MaxSteps    int64 // work units (nodes, elements, calls); 0 means no limit
+}
+
+// DefaultLimits are the limits of a session.
+var DefaultLimits = Limits{MaxDepth: 500, MaxElements: 1 << 24}
+
+// Interp evaluates statements. Globals holds the session variables; it is
+// changed only by statements that complete without error.
+type Interp struct {
+	Globals  map[string]value.Value
+	Builtins Builtins
+	Out      Output
+	Limits   Limits
+	// DisplayIDs records the display ids shown so far, so that showing
+	// one again updates it.
+	DisplayIDs map[string]bool
+
+	// State of the current Exec.
+	ctx       context.Context
+	steps     int64
+	nextCheck int64
+	depth     int
+}
+
+// New returns an interpreter over globals (created if nil).
+func New(globals map[string]value.Value, builtins Builtins, out Output) *Interp {
+	if globals == nil {
+		globals = map[string]value.Value{}
+	}
+	return &Interp{Globals: globals, Builtins: builtins, Out: out, Limits: DefaultLimits}
+}
+
+// Steps is the work done so far (see Limits.MaxSteps).
+func (in *Interp) Steps() int64 { return in.steps }
+
+// scope is where an expression is evaluated: its file (for positions) and,
+// inside a user function, the parameters.
+type scope struct {
+	file   *syntax.File
+	locals map[string]value.Value
+}
+
+// Exec runs one statement of file. For an expression statement it returns
+// the value; for assignments and definitions it returns nil. The statement
+// either completes (and its assignment takes effect) or returns an *Error
+// and changes nothing.
+func (in *Interp) Exec(ctx context.Context, file *syntax.File, st syntax.Stmt) (v value.Value, err error) {
+	in.ctx = ctx
+	in.depth = 0
+	sc := &scope{file: file}
+	if err := in.tick(sc, st, 1); err != nil {
+		return nil, err
+	}
+	switch s := st.(type) {
+	case *syntax.ExprStmt:
+		v, err := in.eval(sc, s.X)
+		if err != nil {
+			return nil, err
+		}
+		return value.Force(v)
+	case *syntax.AssignStmt:
+		v, err := in.eval(sc, s.Value)
+		if err != nil {
+			return nil, err
+		}
+		if v == value.None {
+			return nil, in.errorf(sc, s.Value, "ValueError", "%s has no value to assign", exprText(file, s.Value))
+		}
+		in.Globals[s.Name.Name] = v
+		return nil, nil
+	case *syntax.FuncDef:
+		c := &Closure{Def: s, File: file}
+		for _, p := range s.Params {
+			prm := value.Param{Name: p.Name.Name}
+			if p.Default != nil {
+				d, err := in.eval(sc, p.Default)
+				if err != nil {
+					return nil, err
+				}
+				prm.Default = d
+			}
+			c.params = append(c.params, prm)
+		}
+		in.Globals[s.Name.Name] = c
+		return nil, nil
+	}
+	return nil, &Error{Name: "SyntaxError", Msg: "statement did not parse", File: file, Pos: st.Pos(), End: st.End()}
+}
+
+func exprText(f *syntax.File, n syntax.Node) string {
+	a, b := int(n.Pos()), int(n.End())
+	if a < 0 || b > len(f.Src) || a > b {
+		return "expression"
+	}
+	return f.Src[a:b]
+}
+
+// errorf returns an *Error of class name at node n.
+func (in *Interp) errorf(sc *scope, n syntax.Node, name, format string, args ...any) *Error {
+	return &Error{Name: name, Msg: fmt.Sprintf(format, args...), File: sc.file, Pos: n.Pos(), End: n.End()}
+}
+
+// wrap gives err the position of n unless it already has one.
+func (in *Interp) wrap(sc *scope, n syntax.Node, err error) error {
+	switch e := err.(type) {
+	case nil:
+		return nil
+	case *Error:
+		return e
+	case *value.Error:
+		return &Error{Name: e.Name, Msg: e.Msg, File: sc.file, Pos: n.Pos(), End: n.End()}
+	}
+	return &Error{Name: "Error", Msg: err.Error(), File: sc.file, Pos: n.Pos(), End: n.End()}
+}
+
+// tick charges n units of work and checks the budget and the context.
+func (in *Interp) tick(sc *scope, at syntax.Node, n int) error {
+	in.steps += int64(n)
+	if in.Limits.MaxSteps > 0 && in.steps > in.Limits.MaxSteps {
+		return in.errorf(sc, at, "LimitError", "evaluation exceeded the work limit of %d steps", in.Limits.MaxSteps)
+	}
+	if in.steps >= in.nextCheck {
+		in.nextCheck = in.steps + 1024
+		if in.ctx != nil && in.ctx.Err() != nil {
+			return in.errorf(sc, at, "Interrupted", "interrupted")
+		}
+	}
+	return nil
+}
+
+// checkSize refuses a vector or matrix of n entries above the limit.
+func (in *Interp) checkSize(n float64, what string) error {
+	if n > float64(in.Limits.MaxElements) || math.IsNaN(n) {
+		return value.ValueErrorf("%s would have %s entries, more than the limit of %d", what, value.FormatNum(n), in.Limits.MaxElements)
+	}
+	return nil
+}
+
+func (in *Interp) eval(sc *scope, x syntax.Expr) (value.Value, error) {
+	if err := in.tick(sc, x, 1); err != nil {
+		return nil, err
+	}
+	switch e := x.(type) {
+	case *syntax.NumberLit:
+		if e.Imag {
+			return value.Complex(complex(0, e.Value)), nil
+		}
+		return value.Num(e.Value), nil
+	case *syntax.StringLit:
+		return value.Str(e.Value), nil
+	case *syntax.Ident:
+		return in.lookup(sc, e, "name")
+	case *syntax.ParenExpr:
+		return in.eval(sc, e.X)
+	case *syntax.VectorLit:
+		return in.evalVector(sc, e)
+	case *syntax.MatrixLit:
+		return in.evalMatrix(sc, e)
+	case *syntax.UnaryExpr:
+		return in.evalUnary(sc, e)
+	case *syntax.BinaryExpr:
+		return in.evalBinary(sc, e)
+	case *syntax.RangeExpr:
+		return in.evalRange(sc, e)
+	case *syntax.CallExpr:
+		return in.evalCall(sc, e)
+	case *syntax.IndexExpr:
+		return in.evalIndex(sc, e)
+	}
+	return nil, in.errorf(sc, x, "SyntaxError", "expression did not parse")
+}
+
+// evalValue evaluates x and forces a lazy result.
+func (in *Interp) evalValue(sc *scope, x syntax.Expr) (value.Value, error) {
+	v, err := in.eval(sc, x)
+	if err != nil {
+		return nil, err
+	}
+	v, err = value.Force(v)
+	return v, in.wrap(sc, x, err)
+}
+
+func (in *Interp) lookup(sc *scope, id *syntax.Ident, what string) (value.Value, error) {
+	if v, ok := sc.locals[id.Name]; ok {
+		return v, nil
+	}
+	if v, ok := in.Globals[id.Name]; ok {
+		return v, nil
+	}
+	if in.Builtins != nil {
+		if v, ok := in.Builtins.Lookup(id.Name); ok {
+			return v, nil
+		}
+	}
+	msg := fmt.Sprintf("unknown %s %s", what, id.Name)
+	if s := suggest(id.Name, in.knownNames(sc)); s != "" {
+		msg += fmt.Sprintf("; did you mean %s?", s)
+	}
+	return nil, &Error{Name: "NameError", Msg: msg, File: sc.file, Pos: id.Pos(), End: id.End()}
+}
+
+func (in *Interp) knownNames(sc *scope) []string {
+	var names []string
+	for k := range sc.locals {
+		names = append(names, k)
+	}
+	for k := range in.Globals {
+		names = append(names, k)
+	}
+	if in.Builtins != nil {
+		names = append(names, in.Builtins.Names()...)
+	}
+	sort.Strings(names)
+	return names
+}
+
+func (in *Interp) evalVector(sc *scope, e *syntax.VectorLit) (value.Value, error) {
+	elems := make([]value.Value, len(e.Elems))
+	real, cplx := true, true
+	for i, x := range e.Elems {
+		v, err := in.evalValue(sc, x)
+		if err != nil {
+			return nil, err
+		}
+		elems[i] = v
+		switch v.(type) {
+		case value.Num:
+		case value.Complex:
+			real = false
+		default:
+			real, cplx = false, false
+		}
+	}
+	switch {
+	case real:
+		out := make([]float64, len(elems))
+		for i, v := range elems {
+			out[i] = float64(v.(value.Num))
+		}
+		return value.RealVec(out), nil
+	case cplx:
+		out := make([]complex128, len(elems))
+		for i, v := range elems {
+			switch t := v.(type) {
+			case value.Num:
+				out[i] = complex(float64(t), 0)
+			case value.Complex:
+				out[i] = complex128(t)
+			}
+		}
+		return value.ComplexVec(out), nil
+	}
+	return value.List(elems), nil
+}
+
+func (in *Interp) evalMatrix(sc *scope, e *syntax.MatrixLit) (value.Value, error) {
+	rows := len(e.Rows)
+	cols := len(e.Rows[0])
+	m := value.NewMatrix(rows, cols)
+	for i, r := range e.Rows {
+		if len(r) != cols {
+			return nil, in.errorf(sc, e, "ValueError", "matrix row %d has %d entries but row 1 has %d", i+1, len(r), cols)
+		}
+		for j, x := range r {
+			v, err := in.evalValue(sc, x)
+			if err != nil {
+				return nil, err
+			}
+			n, ok := v.(value.Num)
+			if !ok {
+				return nil, in.errorf(sc, x, "TypeError", "matrix entries must be real numbers; entry (%d, %d) is a %s", i, j, value.TypeName(v))
+			}
+			m.Data[i*cols+j] = float64(n)
+		}
+	}
+	return m, nil
+}
+
+func (in *Interp) evalUnary(sc *scope, e *syntax.UnaryExpr) (value.Value, error) {
+	v, err := in.evalValue(sc, e.X)
+	if err != nil {
+		return nil, err
+	}
+	if e.Op == syntax.NOT {
+		b, ok := v.(value.Bool)
+		if !ok {
+			return nil, in.errorf(sc, e.X, "TypeError", "not needs true or false, got %s", value.TypeName(v))
+		}
+		return !b, nil
+	}
+	r, err := value.Unary(e.Op, v)
+	if err != nil {
+		return nil, in.wrap(sc, e, err)
+	}
+	return r, in.chargeResult(sc, e, r)
+}
+
+// chargeResult charges the work of building r (one unit per entry).
+func (in *Interp) chargeResult(sc *scope, at syntax.Node, r value.Value) error {
+	switch t := r.(type) {
+	case *value.Vec:
+		return in.tick(sc, at, t.Len())
+	case *value.Matrix:
+		return in.tick(sc, at, len(t.Data))
+	}
+	return nil
+}
+
+func (in *Interp) evalBinary(sc *scope, e *syntax.BinaryExpr) (value.Value, error) {
+	x, err := in.evalValue(sc, e.X)
+	if err != nil {
+		return nil, err
+	}
+	if e.Op == syntax.AND || e.Op == syntax.OR {
+		b, ok := x.(value.Bool)
+		if !ok {
+			return nil, in.errorf(sc, e.X, "TypeError", "%s needs true or false on its left, got %s", e.Op, value.TypeName(x))
+		}
+		if bool(b) == (e.Op == syntax.OR) {
+			return b, nil
+		}
+		y, err := in.evalValue(sc, e.Y)
+		if err != nil {
+			return nil, err
+		}
+		c, ok := y.(value.Bool)
+		if !ok {
+			return nil, in.errorf(sc, e.Y, "TypeError", "%s needs true or false on its right, got %s", e.Op, value.TypeName(y))
+		}
+		return c, nil
+	}
+	y, err := in.evalValue(sc, e.Y)
+	if err != nil {
+		return nil, err
+	}
+	if a, ok := x.(*value.Matrix); ok {
+		if err := in.chargeMatrix(sc, e, e.Op, a, y); err != nil {
+			return nil, err
+		}
+	}
+	r, err := value.Binary(e.Op, x, y)
+	if err != nil {
+		return nil, in.wrap(sc, e, err)
+	}
+	return r, in.chargeResult(sc, e, r)
+}
+
+// chargeMatrix checks the size and charges the work of a matrix product or
+// power before it is computed.
+func (in *Interp) chargeMatrix(sc *scope, e syntax.Node, op syntax.Token, a *value.Matrix, y value.Value) error {
+	var work float64
+	switch b := y.(type) {
+	case *value.Matrix:
+		if op == syntax.MUL && a.Cols == b.Rows {
+			if err := in.checkSize(float64(a.Rows)*float64(b.Cols), "the matrix product"); err != nil {
+				return in.wrap(sc, e, err)
+			}
+			work = float64(a.Rows) * float64(a.Cols) * float64(b.Cols)
+		}
+	case value.Num:
+		if op == syntax.POW && float64(b) >= 1 {
+			n := float64(a.Rows)
+			work = n * n * n * 2 * math.Ceil(math.Log2(float64(b)+1))
+		}
+	}
+	if work > 0 {
+		if work > 1e15 {
+			work = 1e15
+		}
+		return in.tick(sc, e, int(work/16))
+	}
+	return nil
+}
+
+func (in *Interp) realOperand(sc *scope, x syntax.Expr, what string) (float64, error) {
+	v, err := in.evalValue(sc, x)
+	if err != nil {
+		return 0, err
+	}
+	n, ok := v.(value.Num)
+	if !ok {
+		return 0, in.errorf(sc, x, "TypeError", "%s must be a real number, not %s", what, value.TypeName(v))
+	}
+	return float64(n), nil
+}
+
+func (in *Interp) evalRange(sc *scope, e *syntax.RangeExpr) (value.Value, error) {
+	lo, err := in.realOperand(sc, e.Lo, "the start of a range")
+	if err != nil {
+		return nil, err
+	}
+	hi, err := in.realOperand(sc, e.Hi, "the end of a range")
+	if err != nil {
+		return nil, err
+	}
+	step := 1.0
+	if e.Step != nil {
+		if step, err = in.realOperand(sc, e.Step, "the step of a range"); err != nil {
+			return nil, err
+		}
+	}
+	return in.makeRange(sc, e, lo, hi, step)
+}
+
+func (in *Interp) makeRange(sc *scope, e syntax.Node, lo, hi, step float64) (value.Value, error) {
+	for _, x := range []float64{lo, hi, step} {
+		if math.IsInf(x, 0) || math.IsNaN(x) {
+			return nil, in.errorf(sc, e, "ValueError", "range ends and step must be finite, got %s .. %s by %s",
+				value.FormatNum(lo), value.FormatNum(hi), value.FormatNum(step))
+		}
+	}
+	if step == 0 {
+		return nil, in.errorf(sc, e, "ValueError", "range step must not be zero")
+	}
+	n := value.RangeLen(lo, hi, step)
+	if err := in.checkSize(n, "the range"); err != nil {
+		return nil, in.wrap(sc, e, err)
+	}
+	return &value.Range{Lo: lo, Hi: hi, Step: step, N: int(n)}, nil
+}

@@ -1,0 +1,127 @@
+// Package run is the public entry point of the Semiflow language: a
+// Session holds the variables of one notebook or script and executes cells
+// against them. It is used by the command line, the tests and the kernel.
+package run
+
+import (
+	"context"
+	"sort"
+	"sync"
+
+	"semiflow/lang/builtin"
+	"semiflow/lang/display"
+	"semiflow/lang/eval"
+	"semiflow/lang/syntax"
+	"semiflow/lang/value"
+)
+
+// Output receives what a cell emits while it runs.
+type Output interface {
+	Stream(name, text string) // "stdout" | "stderr"
+	Display(data, metadata map[string]any, displayID string, update bool)
+	Clear(wait bool)
+	Page(data map[string]any)
+}
+
+// Session is the state of one interactive session: its variables and user
+// functions. Its methods may be called from several goroutines; executions
+// are serialised.
+type Session struct {
+	mu      sync.Mutex
+	globals map[string]value.Value
+	table   *builtin.Table
+	limits  eval.Limits
+	ids     map[string]bool
+}
+
+// NewSession returns a session with no variables and the default builtins
+// and limits.
+func NewSession() *Session {
+	return &Session{globals: map[string]value.Value{}, table: builtin.Default(), limits: eval.DefaultLimits, ids: map[string]bool{}}
+}
+
+// SetLimits replaces the evaluation limits (depth, size, work budget).
+func (s *Session) SetLimits(l eval.Limits) {
+	s.mu.Lock()
+	s.limits = l
+	s.mu.Unlock()
+}
+
+// Builtins returns the session's builtin table.
+func (s *Session) Builtins() *builtin.Table { return s.table }
+
+// Execute parses and evaluates a cell, named "cell" in error positions.
+// Each top-level expression statement's value is displayed; the last
+// statement's value (if it is an expression, not an assignment) is returned
+// as the cell result bundle instead of being displayed (nil data if none).
+// Earlier expression statements' values are sent with out.Display. On
+// error, state from statements that completed before the error is kept; a
+// failing statement changes nothing. A syntax error anywhere in the cell
+// stops it before anything runs. Returned errors implement
+// ErrorName() string and Traceback() []string.
+func (s *Session) Execute(ctx context.Context, src string, out Output) (data, metadata map[string]any, err error) {
+	return s.ExecuteNamed(ctx, "cell", src, out)
+}
+
+// ExecuteNamed is Execute with the given file name in error positions.
+func (s *Session) ExecuteNamed(ctx context.Context, name, src string, out Output) (data, metadata map[string]any, err error) {
+	script, errs := syntax.ParseFile(syntax.NewFile(name, src))
+	if len(errs) > 0 {
+		return nil, nil, errs
+	}
+	s.mu.Lock()
+	defer s.mu.Unlock()
+	if out == nil {
+		out = discard{}
+	}
+	in := eval.New(s.globals, s.table, out)
+	in.Limits = s.limits
+	in.DisplayIDs = s.ids
+	for i, st := range script.Stmts {
+		if ctx.Err() != nil {
+			e := &eval.Error{Name: "Interrupted", Msg: "interrupted", File: script.File, Pos: st.Pos(), End: st.End()}
+			return nil, nil, e
+		}
+		v, err := in.Exec(ctx, script.File, st)
+		if err != nil {
+			return nil, nil, err
+		}
+		b := display.Bundle(v)
+		if b == nil {
+			continue
+		}
+		if i == len(script.Stmts)-1 {
+			return b, display.Metadata(v), nil
+		}
+		out.Display(b, display.Metadata(v), "", false)
+	}
+	return nil, nil, nil
+}
+
+// Names returns the names of the session's variables and user functions,
+// sorted.
+func (s *Session) Names() []string {
+	s.mu.Lock()
+	defer s.mu.Unlock()
+	names := make([]string, 0, len(s.globals))
+	for k := range s.globals {
+		names = append(names, k)
+	}
+	sort.Strings(names)
+	return names
+}
+
+// Lookup returns the value of a session variable.
+func (s *Session) Lookup(name string) (value.Value, bool) {
+	s.mu.Lock()
+	defer s.mu.Unlock()
+	v, ok := s.globals[name]
+	return v, ok
+}
+
+type discard struct{}
+
+func (discard) Stream(string, string)                                {}
+func (discard) Display(map[string]any, map[string]any, string, bool) {}
+func (discard) Clear(bool)                                           {}
+func (discard) Page(map[string]any)                                  {}

@@ -1,0 +1,462 @@
+package syntax
+
+import (
+	"fmt"
+	"strconv"
+	"strings"
+)
+
+// MaxNesting bounds how deeply expressions may nest (brackets, unary
+// operators, powers). Deeper input is a syntax error, so neither the parser
+// nor the evaluator can exhaust the stack.
+const MaxNesting = 200
+
+// Parse parses src, named name, into a Script. The error, if not nil, is an
+// ErrorList (sorted, at most MaxErrors entries); the Script is then partial
+// but never nil.
+//
+// The grammar, from the loosest binding to the tightest:
+//
+//	Script    = { [ Stmt ] ( NEWLINE | ";" ) }
+//	Stmt      = name "=" Expr | name "(" Params ")" "=" Expr | Expr
+//	Params    = [ Param { "," Param } ]        Param = name [ "=" Expr ]
+//	Expr      = And { "or" And }
+//	And       = Not { "and" Not }
+//	Not       = "not" Not | Compare
+//	Compare   = Range [ ( "==" | "!=" | "<" | "<=" | ">" | ">=" ) Range ]
+//	Range     = Sum [ ".." Sum [ "by" Sum ] ]
+//	Sum       = Term { ( "+" | "-" ) Term }
+//	Term      = Unary { ( "*" | "/" | "%" ) Unary }
+//	Unary     = ( "-" | "+" ) Unary | Power
+//	Power     = Postfix [ "^" Unary ]          (right-associative)
+//	Postfix   = Operand { "(" Args ")" | "[" Expr { "," Expr } "]" }
+//	Args      = [ Arg { "," Arg } [ "," ] ]    Arg = [ name "=" ] Expr
+//	Operand   = name | number | imaginary | string | "(" Expr ")"
+//	          | "[" [ Expr { "," Expr } [ "," ] ] "]"
+//	          | "{" Row { "|" Row } "}"        Row = Expr { "," Expr }
+//
+// So -a^2 is -(a^2), 2^3^2 is 2^(3^2), and 2^-1 is 2^(-1). Comparisons do
+// not chain. Newlines inside brackets are ignored.
+func Parse(name, src string) (*Script, error) {
+	s, errs := ParseFile(NewFile(name, src))
+	return s, errs.Err()
+}
+
+// ParseFile is Parse on an existing File; it returns the sorted error list.
+func ParseFile(f *File) (script *Script, errs ErrorList) {
+	p := &parser{file: f}
+	p.sc = NewScanner(f, &p.errs)
+	p.next()
+	script = &Script{File: f}
+	defer func() {
+		if r := recover(); r != nil {
+			if _, ok := r.(bailout); !ok {
+				panic(r)
+			}
+		}
+		p.errs.Sort()
+		errs = p.errs
+	}()
+	for p.tok.Tok != EOF {
+		if p.tok.Tok == NEWLINE || p.tok.Tok == SEMI {
+			p.next()
+			continue
+		}
+		n := len(p.errs)
+		st := p.parseStmt()
+		switch p.tok.Tok {
+		case NEWLINE, SEMI, EOF:
+		default:
+			if len(p.errs) == n {
+				p.errorf(p.tok.Pos, p.tok.End, "unexpected %s after the end of a statement; put one statement per line or separate them with ;", p.describe())
+			}
+		}
+		if len(p.errs) > n {
+			for p.tok.Tok != NEWLINE && p.tok.Tok != SEMI && p.tok.Tok != EOF {
+				p.next()
+			}
+		}
+		script.Stmts = append(script.Stmts, st)
+	}
+	return script, nil
+}
+
+type bailout struct{}
+
+type parser struct {
+	file  *File
+	sc    *Scanner
+	errs  ErrorList
+	tok   Item
+	ahead []Item
+	nest  int
+}
+
+func (p *parser) next() {
+	if len(p.ahead) > 0 {
+		p.tok = p.ahead[0]
+		p.ahead = p.ahead[1:]
+		return
+	}
+	p.tok = p.sc.Next()
+}
+
+func (p *parser) peek() Item {
+	if len(p.ahead) == 0 {
+		p.ahead = append(p.ahead, p.sc.Next())
+	}
+	return p.ahead[0]
+}
+
+func (p *parser) errorf(pos, end Pos, format string, args ...any) {
+	p.errs.Add(p.file, pos, end, fmt.Sprintf(format, args...))
+	if len(p.errs) >= 4*MaxErrors { // plenty to sort and dedupe down to MaxErrors
+		panic(bailout{})
+	}
+}
+
+// describe names the current token for messages.
+func (p *parser) describe() string {
+	switch p.tok.Tok {
+	case IDENT:
+		return fmt.Sprintf("name %s", p.tok.Lit)
+	case NUMBER, IMAG:
+		return fmt.Sprintf("number %s", p.tok.Lit)
+	case STRING:
+		return "string"
+	case EOF, NEWLINE:
+		return p.tok.Tok.String()
+	case ILLEGAL:
+		return fmt.Sprintf("%q", p.tok.Lit)
+	}
+	return fmt.Sprintf("'%s'", p.tok.Tok)
+}
+
+// expect consumes a closing token tok that matches the opener at open.
+func (p *parser) expectClose(tok Token, open Pos) Pos {
+	pos := p.tok.Pos
+	if p.tok.Tok == tok {
+		p.next()
+		return pos
+	}
+	opener := map[Token]string{RPAREN: "(", RBRACK: "[", RBRACE: "{"}[tok]
+	p.errorf(p.tok.Pos, p.tok.End, "expected %s to close the %s at %d:%d, found %s",
+		tok, opener, p.file.Position(open).Line, p.file.Position(open).Column, p.describe())
+	return pos
+}
+
+func (p *parser) enter() {
+	p.nest++
+	if p.nest > MaxNesting {
+		p.errorf(p.tok.Pos, p.tok.End, "expression nested too deeply (more than %d levels)", MaxNesting)
+		panic(bailout{})
+	}
+}
+
+func (p *parser) leave() { p.nest-- }
+
+func (p *parser) parseStmt() Stmt {
+	start := p.tok.Pos
+	x := p.parseExpr()
+	if p.tok.Tok != ASSIGN {
+		return &ExprStmt{X: x}
+	}
+	eq := p.tok.Pos
+	p.next()
+	switch lhs := x.(type) {
+	case *Ident:
+		return &AssignStmt{Name: lhs, Eq: eq, Value: p.parseExpr()}
+	case *CallExpr:
+		name, ok := lhs.Fun.(*Ident)
+		if !ok {
+			p.errorf(lhs.Fun.Pos(), lhs.Fun.End(), "a function definition needs a plain name before (")
+			break
+		}
+		def := &FuncDef{Name: name, Eq: eq}
+		seen := map[string]bool{}
+		for _, a := range lhs.Args {
+			prm := &Param{}
+			if a.Name != nil {
+				prm.Name, prm.Default = a.Name, a.Value
+			} else if id, ok := a.Value.(*Ident); ok {
+				prm.Name = id
+				if len(def.Params) > 0 && def.Params[len(def.Params)-1].Default != nil {
+					p.errorf(id.Pos(), id.End(), "parameter %s without a default follows one with a default", id.Name)
+				}
+			} else {
+				p.errorf(a.Value.Pos(), a.Value.End(), "a parameter must be a name, optionally with a default (k=2)")
+				continue
+			}
+			if seen[prm.Name.Name] {
+				p.errorf(prm.Name.Pos(), prm.Name.End(), "duplicate parameter %s", prm.Name.Name)
+			}
+			seen[prm.Name.Name] = true
+			def.Params = append(def.Params, prm)
+		}
+		def.Body = p.parseExpr()
+		end := int(def.Body.End())
+		if end > len(p.file.Src) || end < int(start) {
+			end = int(start)
+		}
+		def.Text = strings.TrimSpace(p.file.Src[start:end])
+		return def
+	default:
+		p.errorf(x.Pos(), eq+1, "cannot assign to this expression: the left side of = must be a name (x = ...) or a function heading (f(x) = ...); equality is ==")
+	}
+	v := p.parseExpr()
+	return &BadStmt{From: start, To: v.End()}
+}
+
+func (p *parser) parseExpr() Expr {
+	x := p.parseAnd()
+	for p.tok.Tok == OR {
+		pos := p.tok.Pos
+		p.next()
+		x = &BinaryExpr{X: x, OpPos: pos, Op: OR, Y: p.parseAnd()}
+	}
+	return x
+}
+
+func (p *parser) parseAnd() Expr {
+	x := p.parseNot()
+	for p.tok.Tok == AND {
+		pos := p.tok.Pos
+		p.next()
+		x = &BinaryExpr{X: x, OpPos: pos, Op: AND, Y: p.parseNot()}
+	}
+	return x
+}
+
+func (p *parser) parseNot() Expr {
+	if p.tok.Tok == NOT {
+		pos := p.tok.Pos
+		p.next()
+		p.enter()
+		x := p.parseNot()
+		p.leave()
+		return &UnaryExpr{OpPos: pos, Op: NOT, X: x}
+	}
+	return p.parseCompare()
+}
+
+func isCompare(t Token) bool {
+	return t == EQL || t == NEQ || t == LSS || t == LEQ || t == GTR || t == GEQ
+}
+
+func (p *parser) parseCompare() Expr {
+	x := p.parseRange()
+	if isCompare(p.tok.Tok) {
+		op, pos := p.tok.Tok, p.tok.Pos
+		p.next()
+		x = &BinaryExpr{X: x, OpPos: pos, Op: op, Y: p.parseRange()}
+		if isCompare(p.tok.Tok) {
+			p.errorf(p.tok.Pos, p.tok.End, "comparisons do not chain: write a < b and b < c")
+		}
+	}
+	return x
+}
+
+func (p *parser) parseRange() Expr {
+	x := p.parseSum()
+	if p.tok.Tok == DOTDOT {
+		r := &RangeExpr{Lo: x, Dots: p.tok.Pos}
+		p.next()
+		r.Hi = p.parseSum()
+		if p.tok.Tok == BY {
+			p.next()
+			r.Step = p.parseSum()
+		}
+		if p.tok.Tok == DOTDOT {
+			p.errorf(p.tok.Pos, p.tok.End, "a range has one '..'; the step is written a .. b by h")
+		}
+		return r
+	}
+	if p.tok.Tok == BY {
+		p.errorf(p.tok.Pos, p.tok.End, "'by' belongs to a range: a .. b by h")
+	}
+	return x
+}
+
+func (p *parser) parseSum() Expr {
+	x := p.parseTerm()
+	for p.tok.Tok == ADD || p.tok.Tok == SUB {
+		op, pos := p.tok.Tok, p.tok.Pos
+		p.next()
+		x = &BinaryExpr{X: x, OpPos: pos, Op: op, Y: p.parseTerm()}
+	}
+	return x
+}
+
+func (p *parser) parseTerm() Expr {
+	x := p.parseUnary()
+	for p.tok.Tok == MUL || p.tok.Tok == QUO || p.tok.Tok == REM {
+		op, pos := p.tok.Tok, p.tok.Pos
+		p.next()
+		x = &BinaryExpr{X: x, OpPos: pos, Op: op, Y: p.parseUnary()}
+	}
+	return x
+}
+
+func (p *parser) parseUnary() Expr {
+	if p.tok.Tok == SUB || p.tok.Tok == ADD {
+		op, pos := p.tok.Tok, p.tok.Pos
+		p.next()
+		p.enter()
+		x := p.parseUnary()
+		p.leave()
+		return &UnaryExpr{OpPos: pos, Op: op, X: x}
+	}
+	return p.parsePower()
+}
+
+func (p *parser) parsePower() Expr {
+	x := p.parsePostfix()
+	if p.tok.Tok == POW {
+		pos := p.tok.Pos
+		p.next()
+		p.enter()
+		y := p.parseUnary()
+		p.leave()
+		return &BinaryExpr{X: x, OpPos: pos, Op: POW, Y: y}
+	}
+	return x
+}
+
+func (p *parser) parsePostfix() Expr {
+	x := p.parseOperand()
+	for {
+		switch p.tok.Tok {
+		case LPAREN:
+			p.enter()
+			call := &CallExpr{Fun: x, Lparen: p.tok.Pos}
+			p.next()
+			for p.tok.Tok != RPAREN && p.tok.Tok != EOF {
+				a := &Arg{}
+				if p.tok.Tok == IDENT && p.peek().Tok == ASSIGN {
+					a.Name = &Ident{NamePos: p.tok.Pos, Name: p.tok.Lit}
+					p.next()
+					p.next()
+				} else if len(call.Args) > 0 && call.Args[len(call.Args)-1].Name != nil {
+					p.errorf(p.tok.Pos, p.tok.End, "positional argument after a named argument")
+				}
+				a.Value = p.parseExpr()
+				call.Args = append(call.Args, a)
+				if p.tok.Tok != COMMA {
+					break
+				}
+				p.next()
+			}
+			call.Rparen = p.expectClose(RPAREN, call.Lparen)
+			p.leave()
+			x = call
+		case LBRACK:
+			p.enter()
+			ix := &IndexExpr{X: x, Lbrack: p.tok.Pos}
+			p.next()
+			if p.tok.Tok == RBRACK {
+				p.errorf(p.tok.Pos, p.tok.End, "missing index inside []")
+			}
+			for p.tok.Tok != RBRACK && p.tok.Tok != EOF {
+				ix.Indices = append(ix.Indices, p.parseExpr())
+				if p.tok.Tok != COMMA {
+					break
+				}
+				p.next()
+			}
+			ix.Rbrack = p.expectClose(RBRACK, ix.Lbrack)
+			p.leave()
+			x = ix
+		default:
+			return x
+		}
+	}
+}
+
+func (p *parser) parseOperand() Expr {
+	it := p.tok
+	switch it.Tok {
+	case IDENT:
+		p.next()
+		return &Ident{NamePos: it.Pos, Name: it.Lit}
+	case NUMBER, IMAG:
+		p.next()
+		raw := strings.TrimSuffix(it.Lit, "i")
+		v, err := strconv.ParseFloat(raw, 64)
+		if err != nil {
+			p.errorf(it.Pos, it.End, "number %s is out of the range of float64 (about ±1.8e308)", it.Lit)
+		}
+		return &NumberLit{ValuePos: it.Pos, Raw: it.Lit, Value: v, Imag: it.Tok == IMAG}
+	case STRING:
+		p.next()
+		return &StringLit{ValuePos: it.Pos, ValueEnd: it.End, Value: it.Lit}
+	case LPAREN:
+		p.enter()
+		p.next()
+		x := p.parseExpr()
+		rp := p.expectClose(RPAREN, it.Pos)
+		p.leave()
+		return &ParenExpr{Lparen: it.Pos, Rparen: rp, X: x}
+	case LBRACK:
+		p.enter()
+		p.next()
+		v := &VectorLit{Lbrack: it.Pos}
+		for p.tok.Tok != RBRACK && p.tok.Tok != EOF {
+			v.Elems = append(v.Elems, p.parseExpr())
+			if p.tok.Tok == BAR {
+				p.errorf(p.tok.Pos, p.tok.End, "'|' separates matrix rows inside { }; a vector is written [1, 2, 3]")
+				p.next()
+				continue
+			}
+			if p.tok.Tok != COMMA {
+				break
+			}
+			p.next()
+		}
+		v.Rbrack = p.expectClose(RBRACK, it.Pos)
+		p.leave()
+		return v
+	case LBRACE:
+		p.enter()
+		p.next()
+		m := &MatrixLit{Lbrace: it.Pos}
+		if p.tok.Tok == RBRACE {
+			p.errorf(it.Pos, p.tok.End, "empty matrix: a matrix literal needs at least one entry, {1, 2 | 3, 4}")
+		}
+		row := []Expr{}
+		for p.tok.Tok != RBRACE && p.tok.Tok != EOF {
+			row = append(row, p.parseExpr())
+			if p.tok.Tok == COMMA {
+				p.next()
+				continue
+			}
+			if p.tok.Tok == BAR {
+				m.Rows = append(m.Rows, row)
+				row = []Expr{}
+				p.next()
+				continue
+			}
+			break
+		}
+		m.Rows = append(m.Rows, row)
+		m.Rbrace = p.expectClose(RBRACE, it.Pos)
+		p.leave()
+		for i, r := range m.Rows {
+			if len(r) != len(m.Rows[0]) {
+				from, to := it.Pos, m.Rbrace+1
+				if len(r) > 0 {
+					from, to = r[0].Pos(), r[len(r)-1].End()
+				}
+				p.errorf(from, to, "matrix row %d has %d entries but row 1 has %d", i+1, len(r), len(m.Rows[0]))
+				break
+			}
+		}
+		return m
+	}
+	p.errorf(it.Pos, it.End, "expected an expression, found %s", p.describe())
+	switch it.Tok {
+	case NEWLINE, SEMI, EOF, RPAREN, RBRACK, RBRACE:
+	default:
+		p.next()
+	}
+	return &BadExpr{From: it.Pos, To: it.End}
+}
