@@ -1,0 +1,354 @@
+// Package zguard is a ZeroMQ (ZMTP 3) transport for github.com/go-zeromq/zmq4
+// that puts deadlines and limits around the pure-Go socket implementation.
+//
+// zmq4 performs each incoming connection's handshake on its single accept
+// loop, allocates every frame at the length the peer announces, queues
+// messages for a slow peer without bound, and delivers a ROUTER reply to
+// every connection that announced the same identity. A Transport registered
+// with zmq4.RegisterTransport and used for listening guards against each:
+//
+//   - The ZMTP greeting and the peer's READY command are read on a
+//     goroutine of their own, under a deadline, before zmq4 sees the
+//     connection; a silent peer delays no one and is dropped at the deadline.
+//   - Every frame header the peer sends is inspected before zmq4 reads it; a
+//     frame or a multipart message longer than the limit closes the
+//     connection before anything of that size is allocated.
+//   - Outgoing messages go through a bounded per-connection queue; whole
+//     messages that do not fit are dropped and counted, so a stalled reader
+//     cannot make memory grow.
+//   - A peer whose READY names an identity already in use on the same
+//     listener is given a fresh random identity, so two peers never share
+//     one another's replies.
+//
+// Only the NULL security mechanism is supported.
+package zguard
+
+import (
+	"bytes"
+	"context"
+	"crypto/rand"
+	"encoding/binary"
+	"errors"
+	"fmt"
+	"io"
+	"net"
+	"sync"
+	"sync/atomic"
+	"time"
+
+	"github.com/go-zeromq/zmq4/transport"
+)
+
+// Limits configures a Transport. Zero fields take the defaults.
+type Limits struct {
+	// Handshake bounds the time from accept to a complete peer READY
+	// command (default 5 s).
+	Handshake time.Duration
+	// MaxFrame is the largest frame, and the largest multipart message,
+	// accepted from a peer (default 256 MiB).
+	MaxFrame uint64
+	// MaxQueue is the number of bytes of outgoing messages that may wait
+	// for one slow peer (default 64 MiB).
+	MaxQueue int
+}
+
+// Stats counts what a Transport has refused or dropped.
+type Stats struct {
+	HandshakeFailures int64 // peers that did not complete a valid handshake in time
+	OversizeFrames    int64 // connections closed for an oversize frame or message
+	DroppedMessages   int64 // outgoing messages dropped because a peer's queue was full
+	RenamedIdentities int64 // peers given a fresh identity because theirs was in use
+}
+
+// Transport implements transport.Transport for tcp and unix sockets.
+type Transport struct {
+	network string
+	lim     Limits
+	logf    func(format string, args ...any)
+
+	handshakeFailures atomic.Int64
+	oversizeFrames    atomic.Int64
+	droppedMessages   atomic.Int64
+	renamedIDs        atomic.Int64
+}
+
+// New returns a guarded transport over network ("tcp" or "unix"). logf
+// receives one line per refused peer; nil discards them.
+func New(network string, lim Limits, logf func(format string, args ...any)) *Transport {
+	if lim.Handshake <= 0 {
+		lim.Handshake = 5 * time.Second
+	}
+	if lim.MaxFrame == 0 {
+		lim.MaxFrame = 256 << 20
+	}
+	if lim.MaxQueue <= 0 {
+		lim.MaxQueue = 64 << 20
+	}
+	if logf == nil {
+		logf = func(string, ...any) {}
+	}
+	return &Transport{network: network, lim: lim, logf: logf}
+}
+
+// Stats returns the counters so far.
+func (t *Transport) Stats() Stats {
+	return Stats{
+		HandshakeFailures: t.handshakeFailures.Load(),
+		OversizeFrames:    t.oversizeFrames.Load(),
+		DroppedMessages:   t.droppedMessages.Load(),
+		RenamedIdentities: t.renamedIDs.Load(),
+	}
+}
+
+// Dial connects without guards: the kernel only listens.
+func (t *Transport) Dial(ctx context.Context, d transport.Dialer, addr string) (net.Conn, error) {
+	return d.DialContext(ctx, t.network, addr)
+}
+
+// Addr returns the listening address of an end-point.
+func (t *Transport) Addr(ep string) (string, error) {
+	return transport.New(t.network).Addr(ep)
+}
+
+// Listen announces on addr and returns a listener whose Accept yields only
+// connections that completed the ZMTP greeting and READY exchange.
+func (t *Transport) Listen(ctx context.Context, addr string) (net.Listener, error) {
+	inner, err := net.Listen(t.network, addr)
+	if err != nil {
+		return nil, err
+	}
+	l := &listener{Listener: inner, t: t, ready: make(chan net.Conn), done: make(chan struct{}), ids: map[string]int{}}
+	go l.loop()
+	return l, nil
+}
+
+var _ transport.Transport = (*Transport)(nil)
+
+type listener struct {
+	net.Listener
+	t     *Transport
+	ready chan net.Conn
+	done  chan struct{}
+	once  sync.Once
+
+	mu  sync.Mutex
+	ids map[string]int // identities of live connections
+}
+
+func (l *listener) loop() {
+	for {
+		c, err := l.Listener.Accept()
+		if err != nil {
+			if errors.Is(err, net.ErrClosed) {
+				l.once.Do(func() { close(l.done) })
+				return
+			}
+			time.Sleep(10 * time.Millisecond)
+			continue
+		}
+		go l.handshake(c)
+	}
+}
+
+func (l *listener) Accept() (net.Conn, error) {
+	select {
+	case c := <-l.ready:
+		return c, nil
+	case <-l.done:
+		return nil, net.ErrClosed
+	}
+}
+
+func (l *listener) Close() error {
+	err := l.Listener.Close()
+	l.once.Do(func() { close(l.done) })
+	return err
+}
+
+// ZMTP 3.0 framing constants (RFC 23/ZMTP).
+const (
+	greetingLen = 64
+	flagMore    = 0x01
+	flagLong    = 0x02
+	flagCommand = 0x04
+	maxCommand  = 64 << 10 // READY carries a few short properties
+)
+
+// ourGreeting is the greeting zmq4 itself sends: version 3.0, NULL, as-server 0.
+func ourGreeting() []byte {
+	g := make([]byte, greetingLen)
+	g[0], g[9], g[10], g[11] = 0xFF, 0x7F, 3, 0
+	copy(g[12:32], "NULL")
+	return g
+}
+
+func (l *listener) handshake(c net.Conn) {
+	t := l.t
+	fail := func(format string, args ...any) {
+		t.handshakeFailures.Add(1)
+		t.logf("zguard: %s: "+format, append([]any{c.RemoteAddr()}, args...)...)
+		c.Close()
+	}
+	_ = c.SetDeadline(time.Now().Add(t.lim.Handshake))
+	if _, err := c.Write(ourGreeting()); err != nil {
+		fail("sending greeting: %v", err)
+		return
+	}
+	greet := make([]byte, greetingLen)
+	if _, err := io.ReadFull(c, greet); err != nil {
+		fail("no ZMTP greeting: %v", err)
+		return
+	}
+	if greet[0] != 0xFF || greet[9] != 0x7F || greet[10] < 3 {
+		fail("not a ZMTP 3 greeting")
+		return
+	}
+	if mech := string(bytes.TrimRight(greet[12:32], "\x00")); mech != "NULL" {
+		fail("security mechanism %q is not NULL", mech)
+		return
+	}
+	var hdr [9]byte
+	if _, err := io.ReadFull(c, hdr[:2]); err != nil {
+		fail("no READY command: %v", err)
+		return
+	}
+	if hdr[0]&flagCommand == 0 || hdr[0]&flagMore != 0 {
+		fail("first frame after the greeting is not a command")
+		return
+	}
+	size := uint64(hdr[1])
+	if hdr[0]&flagLong != 0 {
+		if _, err := io.ReadFull(c, hdr[2:9]); err != nil {
+			fail("no READY command: %v", err)
+			return
+		}
+		size = binary.BigEndian.Uint64(hdr[1:9])
+	}
+	if size > maxCommand {
+		t.oversizeFrames.Add(1)
+		fail("READY command of %d bytes exceeds %d", size, maxCommand)
+		return
+	}
+	body := make([]byte, size)
+	if _, err := io.ReadFull(c, body); err != nil {
+		fail("short READY command: %v", err)
+		return
+	}
+	props, err := parseReady(body)
+	if err != nil {
+		fail("%v", err)
+		return
+	}
+	id, hasID := props.get("Identity")
+	if hasID && id != "" {
+		l.mu.Lock()
+		if l.ids[id] > 0 {
+			fresh := make([]byte, 16)
+			_, _ = rand.Read(fresh)
+			fresh[0] = 0 // libzmq reserves a leading zero byte for generated identities
+			t.renamedIDs.Add(1)
+			t.logf("zguard: %s: identity %q already in use on this socket; assigning a fresh one", c.RemoteAddr(), id)
+			id = string(fresh)
+			props.set("Identity", id)
+		}
+		l.ids[id]++
+		l.mu.Unlock()
+	}
+	_ = c.SetDeadline(time.Time{})
+	ready := props.encode()
+	replay := make([]byte, 0, greetingLen+9+len(ready))
+	replay = append(replay, greet...)
+	replay = appendFrameHeader(replay, flagCommand, uint64(len(ready)))
+	replay = append(replay, ready...)
+	gc := newConn(c, t, replay)
+	if hasID && id != "" {
+		gc.release = func() {
+			l.mu.Lock()
+			if l.ids[id]--; l.ids[id] <= 0 {
+				delete(l.ids, id)
+			}
+			l.mu.Unlock()
+		}
+	}
+	select {
+	case l.ready <- gc:
+	case <-l.done:
+		gc.Close()
+	}
+}
+
+func appendFrameHeader(b []byte, flags byte, size uint64) []byte {
+	if size > 255 {
+		b = append(b, flags|flagLong)
+		return binary.BigEndian.AppendUint64(b, size)
+	}
+	return append(b, flags, byte(size))
+}
+
+// readyCmd is a parsed READY command: its properties in order.
+type readyCmd struct {
+	keys, vals []string
+}
+
+func (r *readyCmd) get(k string) (string, bool) {
+	for i, key := range r.keys {
+		if equalFold(key, k) {
+			return r.vals[i], true
+		}
+	}
+	return "", false
+}
+
+func (r *readyCmd) set(k, v string) {
+	for i, key := range r.keys {
+		if equalFold(key, k) {
+			r.vals[i] = v
+			return
+		}
+	}
+	r.keys, r.vals = append(r.keys, k), append(r.vals, v)
+}
+
+func (r *readyCmd) encode() []byte {
+	b := append([]byte{5}, "READY"...)
+	for i, k := range r.keys {
+		b = append(b, byte(len(k)))
+		b = append(b, k...)
+		b = binary.BigEndian.AppendUint32(b, uint32(len(r.vals[i])))
+		b = append(b, r.vals[i]...)
+	}
+	return b
+}
+
+func equalFold(a, b string) bool { return bytes.EqualFold([]byte(a), []byte(b)) }
+
+// parseReady checks a READY command body strictly (zmq4's own property
+// reader can index past the end of a malformed body).
+func parseReady(b []byte) (*readyCmd, error) {
+	if len(b) < 6 || b[0] != 5 || string(b[1:6]) != "READY" {
+		return nil, errors.New("first command is not READY")
+	}
+	r := &readyCmd{}
+	p := b[6:]
+	for len(p) > 0 {
+		kl := int(p[0])
+		if kl == 0 || 1+kl+4 > len(p) {
+			return nil, errors.New("malformed READY property")
+		}
+		k := string(p[1 : 1+kl])
+		vl := binary.BigEndian.Uint32(p[1+kl : 1+kl+4])
+		p = p[1+kl+4:]
+		if uint64(vl) > uint64(len(p)) {
+			return nil, errors.New("malformed READY property value")
+		}
+		if equalFold(k, "Identity") && vl > 255 {
+			return nil, fmt.Errorf("identity of %d bytes exceeds 255", vl)
+		}
+		r.keys, r.vals = append(r.keys, k), append(r.vals, string(p[:vl]))
+		p = p[vl:]
+	}
+	if _, ok := r.get("Socket-Type"); !ok {
+		return nil, errors.New("READY names no Socket-Type")
+	}
+	return r, nil
+}

@@ -1,0 +1,325 @@
+package zguard
+
+import (
+	"bytes"
+	"context"
+	"encoding/binary"
+	"fmt"
+	"io"
+	"net"
+	"runtime"
+	"sync/atomic"
+	"testing"
+	"time"
+
+	"github.com/go-zeromq/zmq4"
+)
+
+var schemeN atomic.Int64
+
+// register makes a fresh guarded scheme for one test (zmq4's registry is
+// global and refuses duplicates).
+func register(t *testing.T, lim Limits) (*Transport, string) {
+	t.Helper()
+	tr := New("tcp", lim, t.Logf)
+	name := fmt.Sprintf("zgtest%d", schemeN.Add(1))
+	if err := zmq4.RegisterTransport(name, tr); err != nil {
+		t.Fatal(err)
+	}
+	return tr, name
+}
+
+func listen(t *testing.T, sck zmq4.Socket, scheme string) string {
+	t.Helper()
+	if err := sck.Listen(scheme + "://127.0.0.1:0"); err != nil {
+		t.Fatal(err)
+	}
+	return sck.Addr().String()
+}
+
+// rawPeer does a ZMTP 3.0 NULL handshake by hand (RFC 23/ZMTP) so that a
+// test can then misbehave at the byte level.
+func rawPeer(t *testing.T, addr, sockType, identity string) net.Conn {
+	t.Helper()
+	c, err := net.Dial("tcp", addr)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if _, err := c.Write(ourGreeting()); err != nil {
+		t.Fatal(err)
+	}
+	g := make([]byte, greetingLen)
+	c.SetDeadline(time.Now().Add(5 * time.Second))
+	if _, err := io.ReadFull(c, g); err != nil {
+		t.Fatal(err)
+	}
+	r := &readyCmd{keys: []string{"Socket-Type", "Identity"}, vals: []string{sockType, identity}}
+	body := r.encode()
+	if _, err := c.Write(append(appendFrameHeader(nil, flagCommand, uint64(len(body))), body...)); err != nil {
+		t.Fatal(err)
+	}
+	var hdr [2]byte
+	if _, err := io.ReadFull(c, hdr[:]); err != nil {
+		t.Fatal(err)
+	}
+	if _, err := io.ReadFull(c, make([]byte, hdr[1])); err != nil {
+		t.Fatal(err)
+	}
+	c.SetDeadline(time.Time{})
+	return c
+}
+
+func TestScannerSplitsAndLimits(t *testing.T) {
+	// Two messages: [a, bb] and [ccc (long form)], then a command.
+	var stream []byte
+	stream = append(appendFrameHeader(stream, flagMore, 1), 'a')
+	stream = append(appendFrameHeader(stream, 0, 2), "bb"...)
+	stream = append(stream, flagLong, 0, 0, 0, 0, 0, 0, 0, 3)
+	stream = append(stream, "ccc"...)
+	stream = append(appendFrameHeader(stream, flagCommand, 4), "\x04PING"[:4]...)
+	for chunk := 1; chunk <= len(stream); chunk++ {
+		s := scanner{max: 10}
+		var ends []int
+		pos := 0
+		for off := 0; off < len(stream); off += chunk {
+			q := stream[off:min(off+chunk, len(stream))]
+			for len(q) > 0 {
+				k, err := s.feed(q)
+				if err != nil {
+					t.Fatal(err)
+				}
+				pos += k
+				q = q[k:]
+				if s.complete {
+					s.complete = false
+					ends = append(ends, pos)
+				}
+			}
+		}
+		want := []int{7, 19, 25}
+		if fmt.Sprint(ends) != fmt.Sprint(want) {
+			t.Fatalf("chunk %d: message ends %v, want %v", chunk, ends, want)
+		}
+	}
+	s := scanner{max: 10}
+	if _, err := s.feed([]byte{flagLong, 0xFF, 0xFF, 0xFF, 0xFF, 0xFF, 0xFF, 0xFF, 0xFF}); err == nil {
+		t.Error("2^64-1 byte frame accepted")
+	}
+	s = scanner{max: 10}
+	var multi []byte
+	for range 3 {
+		multi = append(appendFrameHeader(multi, flagMore, 4), "xxxx"...)
+	}
+	if _, err := s.feed(multi); err == nil {
+		t.Error("12-byte multipart message accepted under a 10-byte limit")
+	}
+}
+
+func TestParseReadyRejectsMalformed(t *testing.T) {
+	good := (&readyCmd{keys: []string{"Socket-Type"}, vals: []string{"DEALER"}}).encode()
+	if _, err := parseReady(good); err != nil {
+		t.Fatal(err)
+	}
+	for _, b := range [][]byte{
+		nil,
+		[]byte("\x05HELLO"),
+		append([]byte("\x05READY"), 11), // key length past the end
+		append([]byte("\x05READY\x01k"), 0, 0, 0, 9, 'v'), // value length past the end
+		[]byte("\x05READY"),                         // no Socket-Type
+		append([]byte("\x05READY\x00"), 0, 0, 0, 0), // empty key
+	} {
+		if _, err := parseReady(b); err == nil {
+			t.Errorf("parseReady(%q) accepted", b)
+		}
+	}
+}
+
+// A peer that connects and never sends a greeting must not delay others.
+func TestSilentPeerDoesNotBlockAccept(t *testing.T) {
+	tr, scheme := register(t, Limits{Handshake: 30 * time.Second})
+	ctx := context.Background()
+	router := zmq4.NewRouter(ctx)
+	defer router.Close()
+	addr := listen(t, router, scheme)
+
+	silent, err := net.Dial("tcp", addr)
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer silent.Close()
+	time.Sleep(50 * time.Millisecond)
+
+	dealer := zmq4.NewDealer(ctx, zmq4.WithDialerRetry(20*time.Millisecond))
+	defer dealer.Close()
+	done := make(chan error, 1)
+	go func() {
+		if err := dealer.Dial("tcp://" + addr); err != nil {
+			done <- err
+			return
+		}
+		done <- dealer.Send(zmq4.NewMsgString("hello"))
+	}()
+	select {
+	case err := <-done:
+		if err != nil {
+			t.Fatal(err)
+		}
+	case <-time.After(3 * time.Second):
+		t.Fatal("a second client could not connect while a silent peer was pending")
+	}
+	got := make(chan zmq4.Msg, 1)
+	go func() { m, _ := router.Recv(); got <- m }()
+	select {
+	case m := <-got:
+		if len(m.Frames) != 2 || string(m.Frames[1]) != "hello" {
+			t.Fatalf("router got %q", m.Frames)
+		}
+	case <-time.After(3 * time.Second):
+		t.Fatal("no message through the router")
+	}
+	_ = tr
+}
+
+// The silent peer is dropped at the handshake deadline.
+func TestHandshakeDeadline(t *testing.T) {
+	tr, scheme := register(t, Limits{Handshake: 100 * time.Millisecond})
+	router := zmq4.NewRouter(context.Background())
+	defer router.Close()
+	addr := listen(t, router, scheme)
+	c, err := net.Dial("tcp", addr)
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer c.Close()
+	c.SetReadDeadline(time.Now().Add(3 * time.Second))
+	_, err = io.ReadAll(c) // our greeting, then EOF when the server closes
+	if err != nil {
+		t.Fatalf("connection not closed by the server: %v", err)
+	}
+	if tr.Stats().HandshakeFailures != 1 {
+		t.Errorf("stats = %+v", tr.Stats())
+	}
+}
+
+// A frame announcing 2^40 bytes is refused before zmq4 allocates it (without
+// the guard, zmq4 would call make([]byte, 1<<40) and the process would die).
+func TestOversizeFrameRefused(t *testing.T) {
+	tr, scheme := register(t, Limits{MaxFrame: 1 << 20})
+	router := zmq4.NewRouter(context.Background())
+	defer router.Close()
+	addr := listen(t, router, scheme)
+	c := rawPeer(t, addr, "DEALER", "")
+	defer c.Close()
+	hdr := []byte{flagLong}
+	hdr = binary.BigEndian.AppendUint64(hdr, 1<<40)
+	if _, err := c.Write(hdr); err != nil {
+		t.Fatal(err)
+	}
+	c.SetReadDeadline(time.Now().Add(3 * time.Second))
+	if _, err := c.Read(make([]byte, 1)); err == nil {
+		t.Fatal("connection still open after an oversize frame")
+	} else if ne, ok := err.(net.Error); ok && ne.Timeout() {
+		t.Fatal("server did not close the connection")
+	}
+	if tr.Stats().OversizeFrames != 1 {
+		t.Errorf("stats = %+v", tr.Stats())
+	}
+	// The socket still serves a well-behaved client.
+	dealer := zmq4.NewDealer(context.Background())
+	defer dealer.Close()
+	if err := dealer.Dial("tcp://" + addr); err != nil {
+		t.Fatal(err)
+	}
+	if err := dealer.Send(zmq4.NewMsgString("after")); err != nil {
+		t.Fatal(err)
+	}
+	m, err := router.Recv()
+	if err != nil || string(m.Frames[len(m.Frames)-1]) != "after" {
+		t.Fatalf("recv %q %v", m.Frames, err)
+	}
+}
+
+// Two peers announcing one identity each receive only their own replies.
+func TestDuplicateIdentity(t *testing.T) {
+	tr, scheme := register(t, Limits{})
+	ctx := context.Background()
+	router := zmq4.NewRouter(ctx)
+	defer router.Close()
+	addr := listen(t, router, scheme)
+	go func() {
+		for {
+			m, err := router.Recv()
+			if err != nil {
+				return
+			}
+			router.Send(zmq4.NewMsgFrom(m.Frames[0], append([]byte("re:"), m.Frames[1]...)))
+		}
+	}()
+	var ds [2]zmq4.Socket
+	for i := range ds {
+		ds[i] = zmq4.NewDealer(ctx, zmq4.WithID(zmq4.SocketIdentity("same")))
+		defer ds[i].Close()
+		if err := ds[i].Dial("tcp://" + addr); err != nil {
+			t.Fatal(err)
+		}
+	}
+	for round := range 3 {
+		for i, d := range ds {
+			if err := d.Send(zmq4.NewMsgString(fmt.Sprintf("%d-%d", i, round))); err != nil {
+				t.Fatal(err)
+			}
+		}
+		for i, d := range ds {
+			m, err := d.Recv()
+			if err != nil {
+				t.Fatal(err)
+			}
+			if want := fmt.Sprintf("re:%d-%d", i, round); string(m.Frames[0]) != want {
+				t.Fatalf("peer %d got %q, want %q", i, m.Frames[0], want)
+			}
+		}
+	}
+	if tr.Stats().RenamedIdentities != 1 {
+		t.Errorf("stats = %+v", tr.Stats())
+	}
+}
+
+// A subscriber that never reads cannot make the publisher's memory grow:
+// whole messages beyond the per-peer queue are dropped and counted.
+func TestStalledSubscriberBounded(t *testing.T) {
+	tr, scheme := register(t, Limits{MaxQueue: 1 << 20})
+	pub := zmq4.NewPub(context.Background())
+	defer pub.Close()
+	addr := listen(t, pub, scheme)
+	c := rawPeer(t, addr, "SUB", "")
+	defer c.Close()
+	// Subscribe to everything (ZMTP 3.0: a message whose body is 0x01 + topic).
+	if _, err := c.Write([]byte{0, 1, 1}); err != nil {
+		t.Fatal(err)
+	}
+	time.Sleep(100 * time.Millisecond)
+	runtime.GC()
+	var before, after runtime.MemStats
+	runtime.ReadMemStats(&before)
+	payload := bytes.Repeat([]byte("x"), 100<<10)
+	const n = 2000 // 200 MiB in all
+	for i := range n {
+		if err := pub.Send(zmq4.NewMsgFrom([]byte("topic"), payload)); err != nil {
+			t.Fatal(i, err)
+		}
+	}
+	deadline := time.Now().Add(10 * time.Second)
+	for tr.Stats().DroppedMessages < n/2 && time.Now().Before(deadline) {
+		time.Sleep(20 * time.Millisecond)
+	}
+	runtime.GC()
+	runtime.ReadMemStats(&after)
+	st := tr.Stats()
+	if st.DroppedMessages < n/2 {
+		t.Fatalf("only %d of %d messages dropped for a stalled peer", st.DroppedMessages, n)
+	}
+	if grow := int64(after.HeapInuse) - int64(before.HeapInuse); grow > 64<<20 {
+		t.Errorf("heap grew by %d MiB for a stalled subscriber", grow>>20)
+	}
+	t.Logf("dropped %d of %d messages; heap %d → %d MiB", st.DroppedMessages, n, before.HeapInuse>>20, after.HeapInuse>>20)
+}
