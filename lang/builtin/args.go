@@ -39,7 +39,7 @@ func argCount(c *eval.Call, i int) (int, error) {
 	if f < 0 || f != math.Trunc(f) {
 		return 0, value.ValueErrorf("%s: %s must be a whole number ≥ 0, not %s", c.Name, paramName(c, i), value.FormatNum(f))
 	}
-	if err := c.CheckSize(f, c.Name+"'s result"); err != nil {
+	if err := c.CheckSize(f, c.Name+": the result"); err != nil {
 		return 0, err
 	}
 	return int(f), nil

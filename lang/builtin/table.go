@@ -90,13 +90,14 @@ func (b *Builtin) Help() string {
 		sb.WriteString(" = " + b.Const.String())
 	}
 	sb.WriteString("\n\n" + wrap(b.Doc, 76) + "\n")
-	for _, p := range b.Params {
-		if p.Doc != "" {
-			fmt.Fprintf(&sb, "\n  %-8s %s", p.Name, p.Doc)
+	for i, p := range b.Params {
+		if i == 0 {
+			sb.WriteString("\n")
 		}
+		fmt.Fprintf(&sb, "  %-8s %s\n", p.Name, p.Doc)
 	}
 	if len(b.Examples) > 0 {
-		sb.WriteString("\n\nExamples:\n")
+		sb.WriteString("\nExamples:\n")
 		for _, ex := range b.Examples {
 			sb.WriteString("  " + ex.Code + "\n")
 			if ex.Result != "" {

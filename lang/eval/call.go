@@ -257,8 +257,13 @@ func (in *Interp) callArgs(sc *scope, site syntax.Node, fn value.Callable, pos [
 		v, err := in.evalValue(&scope{file: f.File, locals: locals}, f.Def.Body)
 		in.depth--
 		if err != nil {
-			if e, ok := err.(*Error); ok && e.Name != "Interrupted" && e.Name != "LimitError" && len(e.Stack) < 20 {
-				e.Stack = append(e.Stack, Frame{Func: name, File: sc.file, Pos: site.Pos(), End: site.End()})
+			if e, ok := err.(*Error); ok && e.Name != "Interrupted" && e.Name != "LimitError" {
+				fr := Frame{Func: name, File: sc.file, Pos: site.Pos(), End: site.End()}
+				if n := len(e.Stack); n > 0 && e.Stack[n-1].File == fr.File && e.Stack[n-1].Pos == fr.Pos && e.Stack[n-1].Func == fr.Func {
+					e.Stack[n-1].Repeat++
+				} else if n < 20 {
+					e.Stack = append(e.Stack, fr)
+				}
 			}
 			return nil, err
 		}

@@ -22,6 +22,7 @@ type Frame struct {
 	Func     string
 	File     *syntax.File
 	Pos, End syntax.Pos
+	Repeat   int // further identical calls directly above this one
 }
 
 // Error formats e as file:line:col: message.
@@ -49,6 +50,9 @@ func (e *Error) Traceback() []string {
 		}
 		lines = append(lines, fmt.Sprintf("%s: in the call of %s", f.File.Position(f.Pos), f.Func))
 		lines = append(lines, f.File.Excerpt(f.Pos, f.End)...)
+		if f.Repeat > 0 {
+			lines = append(lines, fmt.Sprintf("(the same call %d more times)", f.Repeat))
+		}
 	}
 	return lines
 }

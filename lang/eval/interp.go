@@ -306,7 +306,7 @@ func (in *Interp) evalMatrix(sc *scope, e *syntax.MatrixLit) (value.Value, error
 			}
 			n, ok := v.(value.Num)
 			if !ok {
-				return nil, in.errorf(sc, x, "TypeError", "matrix entries must be real numbers; entry (%d, %d) is a %s", i, j, value.TypeName(v))
+				return nil, in.errorf(sc, x, "TypeError", "matrix entries must be real numbers; entry (%d, %d) is of type %s", i, j, value.TypeName(v))
 			}
 			m.Data[i*cols+j] = float64(n)
 		}

@@ -139,6 +139,9 @@ func errorLines(err error) []string {
 		for _, f := range ee.Stack {
 			q := f.File.Position(f.Pos)
 			lines = append(lines, fmt.Sprintf("!! %d:%d: in the call of %s", q.Line, q.Column, f.Func))
+			if f.Repeat > 0 {
+				lines = append(lines, fmt.Sprintf("!! (the same call %d more times)", f.Repeat))
+			}
 		}
 	default:
 		lines = append(lines, "!! Error "+err.Error())

@@ -446,7 +446,7 @@ func (p *parser) parseOperand() Expr {
 				if len(r) > 0 {
 					from, to = r[0].Pos(), r[len(r)-1].End()
 				}
-				p.errorf(from, to, "matrix row %d has %d entries but row 1 has %d", i+1, len(r), len(m.Rows[0]))
+				p.errorf(from, to, "matrix row %d has %s but row 1 has %d", i+1, entries(len(r)), len(m.Rows[0]))
 				break
 			}
 		}
@@ -459,4 +459,11 @@ func (p *parser) parseOperand() Expr {
 		p.next()
 	}
 	return &BadExpr{From: it.Pos, To: it.End}
+}
+
+func entries(n int) string {
+	if n == 1 {
+		return "1 entry"
+	}
+	return fmt.Sprintf("%d entries", n)
 }
