@@ -132,7 +132,10 @@ func (p *parser) describe() string {
 	return fmt.Sprintf("'%s'", p.tok.Tok)
 }
 
-// expect consumes a closing token tok that matches the opener at open.
+// expectClose consumes a closing token tok that matches the opener at open
+// and returns its position. When it is missing it reports an error and
+// returns the position just before the current token, so that the node's
+// End stays inside the input.
 func (p *parser) expectClose(tok Token, open Pos) Pos {
 	pos := p.tok.Pos
 	if p.tok.Tok == tok {
@@ -142,6 +145,9 @@ func (p *parser) expectClose(tok Token, open Pos) Pos {
 	opener := map[Token]string{RPAREN: "(", RBRACK: "[", RBRACE: "{"}[tok]
 	p.errorf(p.tok.Pos, p.tok.End, "expected %s to close the %s at %d:%d, found %s",
 		tok, opener, p.file.Position(open).Line, p.file.Position(open).Column, p.describe())
+	if pos > open {
+		pos--
+	}
 	return pos
 }
 

@@ -1,0 +1,337 @@
+package syntax
+
+import (
+	"flag"
+	"fmt"
+	"os"
+	"path/filepath"
+	"strings"
+	"testing"
+	"unicode/utf8"
+)
+
+// update is accepted so that `go test ./lang/... -update` works in every
+// package; this package has no generated files.
+var _ = flag.Bool("update", false, "rewrite golden files (unused here)")
+
+func scanAll(src string) ([]string, ErrorList) {
+	f := NewFile("t", src)
+	var errs ErrorList
+	s := NewScanner(f, &errs)
+	var out []string
+	for {
+		it := s.Next()
+		if it.Tok == EOF {
+			break
+		}
+		switch it.Tok {
+		case IDENT, NUMBER, IMAG:
+			out = append(out, it.Tok.String()+":"+it.Lit)
+		case STRING:
+			out = append(out, "string:"+fmt.Sprintf("%q", it.Lit))
+		case NEWLINE:
+			out = append(out, "NL")
+		default:
+			out = append(out, it.Tok.String())
+		}
+	}
+	return out, errs
+}
+
+func TestScanner(t *testing.T) {
+	tests := []struct {
+		src  string
+		want string
+		err  string
+	}{
+		{"n = 64", "name:n = number:64", ""},
+		{"1.5e-3 2E+4 7e 3", "number:1.5e-3 number:2E+4", "followed by"},
+		{"3i 1e-3i 2.5i", "imaginary number:3i imaginary number:1e-3i imaginary number:2.5i", ""},
+		{"0..1 by 0.25", "number:0 .. number:1 by number:0.25", ""},
+		{"1.", "number:1", "unexpected character '.'"},
+		{`"a\n\t\"\\"`, `string:"a\n\t\"\\"`, ""},
+		{"a # comment\nb", "name:a NL name:b", ""},
+		{"(1,\n2)\n", "( number:1 , number:2 ) NL", ""},
+		{"== != <= >= < > = ^ % | ;", "== != <= >= < > = ^ % | ;", ""},
+		{"not a and b or c", "not name:a and name:b or name:c", ""},
+		{"λ = 2", "name:λ = number:2", ""},
+		{"x_1 _y", "name:x_1 name:_y", ""},
+		{"\"open", `string:"open"`, "unterminated string"},
+		{"\x00", "", "control character"},
+		{"\xff", "", "invalid UTF-8"},
+		{"2in", "", "followed by \"in\""},
+		{"a.*b", "name:a * name:b", "hadamard"},
+	}
+	for _, tt := range tests {
+		toks, errs := scanAll(tt.src)
+		got := strings.Join(toks, " ")
+		if tt.err == "" && got != tt.want {
+			t.Errorf("scan %q = %q, want %q", tt.src, got, tt.want)
+		}
+		if tt.err != "" && tt.want != "" && !strings.HasPrefix(got, tt.want) {
+			t.Errorf("scan %q = %q, want prefix %q", tt.src, got, tt.want)
+		}
+		switch {
+		case tt.err == "" && len(errs) > 0:
+			t.Errorf("scan %q: unexpected error %v", tt.src, errs)
+		case tt.err != "" && (len(errs) == 0 || !strings.Contains(errs.Error(), tt.err)):
+			t.Errorf("scan %q: error %v, want one containing %q", tt.src, errs, tt.err)
+		}
+	}
+}
+
+// tree renders an expression as a fully parenthesised string.
+func tree(x Node) string {
+	switch e := x.(type) {
+	case *Ident:
+		return e.Name
+	case *NumberLit:
+		return e.Raw
+	case *StringLit:
+		return fmt.Sprintf("%q", e.Value)
+	case *ParenExpr:
+		return tree(e.X)
+	case *UnaryExpr:
+		return "(" + e.Op.String() + " " + tree(e.X) + ")"
+	case *BinaryExpr:
+		return "(" + tree(e.X) + " " + e.Op.String() + " " + tree(e.Y) + ")"
+	case *RangeExpr:
+		s := "(" + tree(e.Lo) + " .. " + tree(e.Hi)
+		if e.Step != nil {
+			s += " by " + tree(e.Step)
+		}
+		return s + ")"
+	case *VectorLit:
+		parts := make([]string, len(e.Elems))
+		for i, x := range e.Elems {
+			parts[i] = tree(x)
+		}
+		return "[" + strings.Join(parts, ", ") + "]"
+	case *MatrixLit:
+		var rows []string
+		for _, r := range e.Rows {
+			parts := make([]string, len(r))
+			for i, x := range r {
+				parts[i] = tree(x)
+			}
+			rows = append(rows, strings.Join(parts, ", "))
+		}
+		return "{" + strings.Join(rows, " | ") + "}"
+	case *CallExpr:
+		parts := make([]string, len(e.Args))
+		for i, a := range e.Args {
+			parts[i] = tree(a.Value)
+			if a.Name != nil {
+				parts[i] = a.Name.Name + "=" + parts[i]
+			}
+		}
+		return tree(e.Fun) + "(" + strings.Join(parts, ", ") + ")"
+	case *IndexExpr:
+		parts := make([]string, len(e.Indices))
+		for i, x := range e.Indices {
+			parts[i] = tree(x)
+		}
+		return tree(e.X) + "[" + strings.Join(parts, ", ") + "]"
+	case *ExprStmt:
+		return tree(e.X)
+	case *AssignStmt:
+		return "(set " + e.Name.Name + " " + tree(e.Value) + ")"
+	case *FuncDef:
+		var ps []string
+		for _, p := range e.Params {
+			s := p.Name.Name
+			if p.Default != nil {
+				s += "=" + tree(p.Default)
+			}
+			ps = append(ps, s)
+		}
+		return "(def " + e.Name.Name + "(" + strings.Join(ps, ", ") + ") " + tree(e.Body) + ")"
+	case *BadExpr, *BadStmt:
+		return "BAD"
+	}
+	return fmt.Sprintf("%T", x)
+}
+
+func TestParser(t *testing.T) {
+	tests := []struct{ src, want string }{
+		{"1 + 2 * 3", "(1 + (2 * 3))"},
+		{"1 - 2 - 3", "((1 - 2) - 3)"},
+		{"2^3^2", "(2 ^ (3 ^ 2))"},
+		{"-a^2", "(- (a ^ 2))"},
+		{"2^-1", "(2 ^ (- 1))"},
+		{"-2 * 3", "((- 2) * 3)"},
+		{"a % b / c", "((a % b) / c)"},
+		{"not a and b or c", "(((not a) and b) or c)"},
+		{"a or b and c", "(a or (b and c))"},
+		{"not x < 1", "(not (x < 1))"},
+		{"1 + 2 < 3 * 4", "((1 + 2) < (3 * 4))"},
+		{"0 .. 1 by 0.25", "(0 .. 1 by 0.25)"},
+		{"a + 1 .. b - 1", "((a + 1) .. (b - 1))"},
+		{"x < 0 .. 2", "(x < (0 .. 2))"},
+		{"f(x)[0]", "f(x)[0]"},
+		{"M[0, 1]", "M[0, 1]"},
+		{"v[1 .. -1]", "v[(1 .. (- 1))]"},
+		{"g(3, k=3)", "g(3, k=3)"},
+		{"[1, 2, 3]", "[1, 2, 3]"},
+		{"[]", "[]"},
+		{"[1,]", "[1]"},
+		{"{1, 2 | 3, 4}", "{1, 2 | 3, 4}"},
+		{"z = 2 + 3i", "(set z (2 + 3i))"},
+		{"f(x) = exp(-x^2)", "(def f(x) exp((- (x ^ 2))))"},
+		{"g(x, k=2) = x^k", "(def g(x, k=2) (x ^ k))"},
+		{"(\n1 +\n2 )", "(1 + 2)"},
+		{"a; b", "a ; b"},
+		{"a\n\n b\n", "a ; b"},
+		{"s = \"x\"", "(set s \"x\")"},
+	}
+	for _, tt := range tests {
+		s, err := Parse("t", tt.src)
+		if err != nil {
+			t.Errorf("Parse(%q): %v", tt.src, err)
+			continue
+		}
+		var parts []string
+		for _, st := range s.Stmts {
+			parts = append(parts, tree(st))
+		}
+		if got := strings.Join(parts, " ; "); got != tt.want {
+			t.Errorf("Parse(%q) = %s, want %s", tt.src, got, tt.want)
+		}
+	}
+}
+
+func TestParseErrors(t *testing.T) {
+	tests := []struct {
+		src   string
+		count int
+		first string // line:col of the first error
+	}{
+		{"1 +", 1, "1:4"},
+		{"x = ((1)", 1, "1:9"},
+		{"a ? b\nc ? d\n", 2, "1:3"},
+		// Eleven bad lines: the list stops at MaxErrors.
+		{strings.Repeat("1 +\n", 11), MaxErrors, "1:4"},
+		{"f(1) = 2\n[1] = 3", 2, "1:3"},
+		{strings.Repeat("(", 300) + "1", 1, "1:201"},
+		{strings.Repeat("-", 300) + "1", 1, "1:202"},
+		{strings.Repeat("2^", 300) + "1", 1, "1:403"},
+	}
+	for _, tt := range tests {
+		s, err := Parse("t", tt.src)
+		if s == nil {
+			t.Fatalf("Parse(%q) returned a nil script", tt.src)
+		}
+		list, ok := err.(ErrorList)
+		if !ok {
+			t.Errorf("Parse(%q) error = %v, want an ErrorList", tt.src, err)
+			continue
+		}
+		if len(list) != tt.count {
+			t.Errorf("Parse(%q): %d errors, want %d: %v", tt.src, len(list), tt.count, list)
+		}
+		p := list[0].File.Position(list[0].Pos)
+		if got := fmt.Sprintf("%d:%d", p.Line, p.Column); got != tt.first {
+			t.Errorf("Parse(%q): first error at %s, want %s (%v)", tt.src, got, tt.first, list[0])
+		}
+		for i := 1; i < len(list); i++ {
+			if list[i].Pos <= list[i-1].Pos {
+				t.Errorf("Parse(%q): errors not sorted and unique: %v", tt.src, list)
+			}
+		}
+	}
+}
+
+func TestPositionAndExcerpt(t *testing.T) {
+	f := NewFile("cell", "x = 1\nyé = zz + 2\n\tq")
+	p := f.Position(Pos(strings.Index(f.Src, "zz")))
+	if p.String() != "cell:2:6" {
+		t.Errorf("position = %s, want cell:2:6 (columns count code points)", p)
+	}
+	start := Pos(strings.Index(f.Src, "zz"))
+	got := f.Excerpt(start, start+2)
+	want := []string{"yé = zz + 2", "     ^^"}
+	if strings.Join(got, "|") != strings.Join(want, "|") {
+		t.Errorf("excerpt = %q, want %q", got, want)
+	}
+	q := Pos(strings.Index(f.Src, "q"))
+	if got := f.Excerpt(q, q+1); got[1] != "\t^" {
+		t.Errorf("excerpt keeps tabs: %q", got)
+	}
+	if p := f.Position(Pos(len(f.Src) + 10)); p.Line != 3 {
+		t.Errorf("clamped position = %v", p)
+	}
+}
+
+// goldenInputs returns the input lines of the golden scripts, block by
+// block, for the fuzz corpus.
+func goldenInputs(tb testing.TB) []string {
+	files, _ := filepath.Glob("../../testdata/lang/*.sf")
+	var out []string
+	for _, path := range files {
+		raw, err := os.ReadFile(path)
+		if err != nil {
+			tb.Fatal(err)
+		}
+		var cur []string
+		for _, l := range strings.Split(string(raw), "\n") {
+			isOut := len(l) >= 2 && strings.Contains("=>-> !>~>!!", l[:2])
+			if strings.TrimSpace(l) == "" || isOut {
+				if len(cur) > 0 {
+					out = append(out, strings.Join(cur, "\n"))
+					cur = nil
+				}
+				continue
+			}
+			cur = append(cur, l)
+		}
+		if len(cur) > 0 {
+			out = append(out, strings.Join(cur, "\n"))
+		}
+	}
+	return out
+}
+
+// checkPositions asserts that every error lies inside the input and
+// resolves to a valid line and column.
+func checkPositions(t *testing.T, src string, errs ErrorList) {
+	for _, e := range errs {
+		if e.Pos < 0 || int(e.Pos) > len(src) || e.End < e.Pos || int(e.End) > len(src) {
+			t.Fatalf("error %q spans [%d, %d) outside input of length %d", e.Msg, e.Pos, e.End, len(src))
+		}
+		p := e.File.Position(e.Pos)
+		if p.Line < 1 || p.Line > e.File.LineCount() || p.Column < 1 ||
+			p.Column > utf8.RuneCountInString(rawLine(e.File, p.Line))+1 {
+			t.Fatalf("error %q at invalid position %v", e.Msg, p)
+		}
+	}
+	if len(errs) > MaxErrors {
+		t.Fatalf("%d errors, more than %d", len(errs), MaxErrors)
+	}
+}
+
+func FuzzParse(f *testing.F) {
+	for _, s := range goldenInputs(f) {
+		f.Add(s)
+	}
+	f.Fuzz(func(t *testing.T, src string) {
+		s, errs := ParseFile(NewFile("fuzz", src))
+		if s == nil {
+			t.Fatal("nil script")
+		}
+		checkPositions(t, src, errs)
+		for _, st := range s.Stmts {
+			if st.Pos() > st.End() && len(errs) == 0 {
+				t.Fatalf("statement with inverted span in a valid parse")
+			}
+		}
+	})
+}
+
+// rawLine is line n of f including a trailing carriage return.
+func rawLine(f *File, n int) string {
+	start, end := f.lines[n-1], len(f.Src)
+	if n < len(f.lines) {
+		end = f.lines[n] - 1
+	}
+	return f.Src[start:end]
+}
