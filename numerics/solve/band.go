@@ -8,14 +8,26 @@ import (
 // scalar is the element type of the banded factorisations.
 type scalar interface{ float64 | complex128 }
 
-func mag[T scalar](x T) float64 {
-	switch v := any(x).(type) {
-	case float64:
-		return math.Abs(v)
-	case complex128:
-		return abs1(v)
+// argmax returns the index and magnitude (|re|+|im| for complex) of the
+// largest element of s, the first one on ties; (0, 0) for an empty s. The
+// type switch is on the slice, once per call, not per element.
+func argmax[T scalar](s []T) (int, float64) {
+	k, best := 0, -1.0
+	switch v := any(s).(type) {
+	case []float64:
+		for i, x := range v {
+			if a := math.Abs(x); a > best {
+				k, best = i, a
+			}
+		}
+	case []complex128:
+		for i, x := range v {
+			if a := abs1(x); a > best {
+				k, best = i, a
+			}
+		}
 	}
-	panic("unreachable")
+	return k, max(best, 0)
 }
 
 func conj[T scalar](x T) T {
@@ -60,21 +72,13 @@ func FactorBand[T scalar](n, kl, ku int, ab []T) (*BandLU[T], error) {
 	}
 	kv := kl + ku
 	f := &BandLU[T]{n: n, kl: kl, ku: ku, ab: ab, piv: make([]int, n)}
-	var amax float64
-	for _, v := range ab {
-		amax = math.Max(amax, mag(v))
-	}
+	_, amax := argmax(ab)
 	tol := pivotTol * float64(n) * amax
 	ju := 0 // last column touched by the interchanges so far
 	for j := 0; j < n; j++ {
 		km := min(kl, n-1-j)
 		col := ab[j*ld+kv : j*ld+kv+km+1] // rows j..j+km of column j
-		jp, pv := 0, mag(col[0])
-		for p := 1; p <= km; p++ {
-			if v := mag(col[p]); v > pv {
-				jp, pv = p, v
-			}
-		}
+		jp, pv := argmax(col)
 		f.piv[j] = j + jp
 		if pv <= tol || pv == 0 {
 			return nil, &SingularError{Pivot: j, N: n, Method: "band"}
