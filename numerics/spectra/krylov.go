@@ -83,6 +83,7 @@ func PseudoKrylov(ctx context.Context, a linop.Operator, r Region, m int, opt *G
 					for k := 0; k < m*m; k++ {
 						t[k] = -mz[k]
 					}
+					ts.st.load(t)
 					res := ts.eval(0, j > 0, false)
 					p.Sigma[i*len(im)+j] = res.sigma
 					maxIt[w] = max(maxIt[w], res.its)

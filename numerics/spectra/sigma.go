@@ -13,10 +13,13 @@ import (
 // and one with zI − T (O(n²)), with full reorthogonalisation. The largest
 // Ritz value θ of B gives σ_min = θ^{-1/2} (Trefethen, Acta Numerica 1999;
 // Lanczos convergence from below, so θ^{-1/2} ≥ σ_min until converged).
-// It stops when the Ritz residual β_j|s_j| is at most tol·θ, which bounds
-// the relative error of θ by tol and of σ_min by about tol/2.
+// It stops when the Ritz residual r = β_j|s_j| is at most tol·θ (a bound on
+// the error of θ), or when r²/(θ₁ − θ₂) ≤ tol·θ and θ changed by at most
+// tol·θ in the last step (the gap-based estimate), so the relative error of
+// σ_min is about tol/2 or less.
 type triSigma struct {
 	t       []complex128
+	st      *splitTri
 	n       int
 	tol     float64
 	maxIter int
@@ -30,6 +33,9 @@ type triSigma struct {
 
 func newTriSigma(t []complex128, n int, tol float64, maxIter int) *triSigma {
 	ts := &triSigma{t: t, n: n, tol: tol, maxIter: maxIter}
+	if t != nil {
+		ts.st = newSplitTri(t, n)
+	}
 	ts.w = make([]complex128, n)
 	ts.y = make([]complex128, n)
 	ts.start = make([]complex128, n)
@@ -90,8 +96,7 @@ func (ts *triSigma) eval(z complex128, warm, wantVec bool) sigmaResult {
 	for ; j < maxIter; j++ {
 		qj := ts.q[j]
 		copy(ts.w, qj)
-		forwardSolveH(ts.t, n, z, ts.y, ts.w)
-		backSolve(ts.t, n, z, ts.w, ts.y)
+		ts.st.applyInv(z, ts.w)
 		w := ts.w
 		a := real(cdot(qj, w))
 		ts.alpha = append(ts.alpha, a)
@@ -103,12 +108,19 @@ func (ts *triSigma) eval(z complex128, warm, wantVec bool) sigmaResult {
 			}
 		}
 		b := cnorm(w)
-		theta, s = tridiagTop(ts.alpha, ts.beta)
+		prev := theta
+		var second float64
+		theta, second, s = tridiagTop(ts.alpha, ts.beta)
 		if math.IsInf(theta, 0) || math.IsNaN(theta) {
 			break
 		}
 		res := b * math.Abs(s[j])
-		if res <= ts.tol*theta || b <= 1e-14*theta {
+		// Ritz value error ≤ res, and ≈ res²/gap once the gap to the next
+		// eigenvalue is resolved (Parlett, The Symmetric Eigenvalue
+		// Problem, 1998, §11.7); the gap estimate θ₁ − θ₂ is trusted only
+		// when θ₁ has also stopped moving.
+		gapOK := j > 0 && theta-second > 0 && res*res/(theta-second) <= ts.tol*theta && math.Abs(theta-prev) <= ts.tol*theta
+		if res <= ts.tol*theta || gapOK || b <= 1e-14*theta {
 			conv = true
 			j++
 			break
@@ -145,12 +157,13 @@ func (ts *triSigma) eval(z complex128, warm, wantVec bool) sigmaResult {
 	return r
 }
 
-// tridiagTop returns the largest eigenvalue of the symmetric tridiagonal
-// matrix with diagonal a and off-diagonal b, and its unit eigenvector.
-func tridiagTop(a, b []float64) (float64, []float64) {
+// tridiagTop returns the largest and second largest eigenvalues of the
+// symmetric tridiagonal matrix with diagonal a and off-diagonal b, and the
+// unit eigenvector of the largest.
+func tridiagTop(a, b []float64) (float64, float64, []float64) {
 	k := len(a)
 	if k == 1 {
-		return a[0], []float64{1}
+		return a[0], math.Inf(-1), []float64{1}
 	}
 	sym := mat.NewSymDense(k, nil)
 	for i := 0; i < k; i++ {
@@ -161,7 +174,7 @@ func tridiagTop(a, b []float64) (float64, []float64) {
 	}
 	var es mat.EigenSym
 	if !es.Factorize(sym, true) {
-		return math.NaN(), make([]float64, k)
+		return math.NaN(), math.NaN(), make([]float64, k)
 	}
 	vals := es.Values(nil)
 	var vecs mat.Dense
@@ -171,7 +184,7 @@ func tridiagTop(a, b []float64) (float64, []float64) {
 	for i := range s {
 		s[i] = vecs.At(i, top)
 	}
-	return vals[top], s
+	return vals[top], vals[top-1], s
 }
 
 // leftVector returns u = (zI − T) v / σ, the left singular vector that goes
