@@ -42,7 +42,7 @@ var constFamily = []*Builtin{
 	{
 		Name:     "false",
 		Const:    value.Bool(false),
-		Doc:      "The boolean false.",
+		Doc:      "The boolean false, the negation of true.",
 		Examples: []Example{{"false or 1 < 2", "true"}},
 	},
 }

@@ -72,6 +72,14 @@ func (b *Builtin) Signature() string {
 	return eval.SignatureText(b.Name, b.Params)
 }
 
+// Header is the signature, or for a constant "name = value".
+func (b *Builtin) Header() string {
+	if b.Const != nil {
+		return b.Name + " = " + b.Const.String()
+	}
+	return b.Signature()
+}
+
 // Summary is the first sentence of the documentation.
 func (b *Builtin) Summary() string {
 	d := b.Doc
@@ -85,10 +93,7 @@ func (b *Builtin) Summary() string {
 // the parameters and the examples with their results.
 func (b *Builtin) Help() string {
 	var sb strings.Builder
-	sb.WriteString(b.Signature())
-	if b.Const != nil {
-		sb.WriteString(" = " + b.Const.String())
-	}
+	sb.WriteString(b.Header())
 	sb.WriteString("\n\n" + wrap(b.Doc, 76) + "\n")
 	for i, p := range b.Params {
 		if i == 0 {

@@ -169,7 +169,7 @@ func (s *Session) Inspect(src string, cursor, detail int) (data map[string]any, 
 	if b := s.table.Get(name); b != nil {
 		text := b.Help()
 		if detail == 0 {
-			text = b.Signature() + "\n\n" + b.Doc + "\n"
+			text = b.Header() + "\n\n" + b.Doc + "\n"
 		}
 		return map[string]any{"text/plain": text}, true
 	}

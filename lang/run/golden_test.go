@@ -215,3 +215,14 @@ func TestGolden(t *testing.T) {
 		})
 	}
 }
+
+func goldenFilesNoT() []string {
+	files, _ := filepath.Glob(filepath.Join(goldenDir, "*.sf"))
+	sort.Strings(files)
+	return files
+}
+
+func readFile(path string) (string, error) {
+	b, err := os.ReadFile(path)
+	return string(b), err
+}
