@@ -326,3 +326,25 @@ func goldenSeeds() ([]string, error) {
 	}
 	return out, nil
 }
+
+// TestTour runs the bundled example script.
+func TestTour(t *testing.T) {
+	src, err := readFile("../../notebooks/tour.sf")
+	if err != nil {
+		t.Fatal(err)
+	}
+	rec := &recorder{}
+	s := NewSession()
+	data, _, err := s.ExecuteNamed(context.Background(), "tour.sf", src, rec)
+	if err != nil {
+		t.Fatalf("tour fails: %v", err)
+	}
+	if data != nil || len(rec.lines) < 15 {
+		t.Errorf("tour output: %d lines, result %v", len(rec.lines), data)
+	}
+	// The cooling time solves exp(-kappa pi^2 t) = 0.01 (closed form above).
+	v, _ := s.Lookup("t_cool")
+	if v.String() != "0.9332025882" {
+		t.Errorf("t_cool = %v", v)
+	}
+}
