@@ -3,6 +3,8 @@ package solve
 import (
 	"context"
 
+	"gonum.org/v1/gonum/mat"
+
 	"semiflow/numerics/linop"
 	"semiflow/numerics/memguard"
 )
@@ -37,39 +39,57 @@ func (m Method) String() string {
 // large). A singular shift returns an error wrapping ErrSingular that names
 // z. NewShifted panics with ErrShape if A is not square.
 func NewShifted(a linop.Operator, z complex128) (ShiftedSolver, error) {
-	return NewShiftedMethod(context.Background(), a, z, Auto)
+	return NewShiftedContext(context.Background(), a, z, Options{})
 }
 
-// NewShiftedMethod is NewShifted with an explicit method (Auto to choose)
-// and a context that interrupts long factorisations (the context's error is
-// returned).
-func NewShiftedMethod(ctx context.Context, a linop.Operator, z complex128, m Method) (ShiftedSolver, error) {
+// Options control NewShiftedContext.
+type Options struct {
+	// Method forces a factorisation; Auto (the zero value) chooses.
+	Method Method
+	// Progress, if not nil, is called during long factorisations with the
+	// number of columns done and the total.
+	Progress func(done, total int)
+}
+
+// NewShiftedContext is NewShifted with options and a context that
+// interrupts long factorisations (the context's error is returned).
+func NewShiftedContext(ctx context.Context, a linop.Operator, z complex128, opt Options) (ShiftedSolver, error) {
 	n, c := a.Dims()
 	if n != c {
 		panic(ErrShape)
 	}
+	m := opt.Method
+	var csr *linop.CSR
 	if m == Auto {
-		m = Choose(a)
+		m, csr = choose(a)
 	}
 	switch m {
 	case BandMethod, SparseMethod:
-		csr, err := linop.ToCSR(a)
-		if err != nil {
-			return nil, err
+		if csr == nil {
+			var err error
+			if csr, err = linop.ToCSR(a); err != nil {
+				return nil, err
+			}
 		}
 		if m == BandMethod {
 			return NewZBandShifted(csr, z)
 		}
-		return newSparse(ctx, a, csr, z)
+		return newSparse(ctx, a, csr, z, opt.Progress)
 	}
-	d, err := linop.ToDense(a)
+	var d *mat.Dense
+	var err error
+	if csr != nil {
+		d, err = csr.ToDense()
+	} else {
+		d, err = linop.ToDense(a)
+	}
 	if err != nil {
 		return nil, err
 	}
 	if err := ctx.Err(); err != nil {
 		return nil, err
 	}
-	return NewZDenseShifted(n, flat(d.RawMatrix().Data, d.RawMatrix().Stride, n), z)
+	return newZDenseShifted(ctx, n, flat(d.RawMatrix().Data, d.RawMatrix().Stride, n), z, opt.Progress)
 }
 
 func flat(data []float64, stride, n int) []float64 {
@@ -86,21 +106,29 @@ func flat(data []float64, stride, n int) []float64 {
 // Choose returns the method NewShifted uses for a: BandMethod when A has a
 // sparse form whose band storage is at most 8 times its number of entries
 // plus n (a band matrix, or nearly one), SparseMethod for other operators
-// with a sparse form, DenseMethod otherwise.
+// with a sparse form filled to less than a quarter, DenseMethod otherwise.
 func Choose(a linop.Operator) Method {
+	m, _ := choose(a)
+	return m
+}
+
+func choose(a linop.Operator) (Method, *linop.CSR) {
 	if _, ok := a.(*linop.Dense); ok {
-		return DenseMethod
+		return DenseMethod, nil
 	}
 	csr, err := linop.ToCSR(a)
 	if err != nil {
-		return DenseMethod
+		return DenseMethod, nil
 	}
 	kl, ku := csr.Bandwidth()
 	n := csr.Rows
-	if BandLD(kl, ku)*n <= 8*(csr.NNZ()+n) {
-		return BandMethod
+	switch {
+	case BandLD(kl, ku)*n <= 8*(csr.NNZ()+n):
+		return BandMethod, csr
+	case float64(csr.NNZ()) < 0.25*float64(n)*float64(n):
+		return SparseMethod, csr
 	}
-	return SparseMethod
+	return DenseMethod, csr
 }
 
 // NewZBandShifted factors zI − A in band storage for a square sparse A,

@@ -1,6 +1,7 @@
 package solve
 
 import (
+	"context"
 	"errors"
 	"math"
 	"math/cmplx"
@@ -106,7 +107,7 @@ func checkSolver(t *testing.T, name string, a linop.Operator, z complex128, s Sh
 
 func TestDenseShifted(t *testing.T) {
 	rng := rand.New(rand.NewPCG(1, 2))
-	for _, n := range []int{1, 2, 7, 60} {
+	for _, n := range []int{1, 2, 7, 60, 150} { // 150: several panels, parallel update
 		m := mat.NewDense(n, n, nil)
 		for i := 0; i < n; i++ {
 			for j := 0; j < n; j++ {
@@ -226,7 +227,7 @@ func TestSingularShift(t *testing.T) {
 		if m == DenseMethod {
 			op = linop.NewDense(d)
 		}
-		_, err := NewShiftedMethod(t.Context(), op, z, m)
+		_, err := NewShiftedContext(t.Context(), op, z, Options{Method: m})
 		if !errors.Is(err, ErrSingular) {
 			t.Errorf("%v: shift at an eigenvalue gave %v", m, err)
 			continue
@@ -239,4 +240,31 @@ func TestSingularShift(t *testing.T) {
 
 func contains(s, sub string) bool {
 	return len(sub) == 0 || len(s) >= len(sub) && (s[:len(sub)] == sub || contains(s[1:], sub))
+}
+
+func TestDenseProgressCancel(t *testing.T) {
+	n := 200
+	rng := rand.New(rand.NewPCG(5, 5))
+	m := mat.NewDense(n, n, nil)
+	for i := 0; i < n; i++ {
+		for j := 0; j < n; j++ {
+			m.Set(i, j, rng.NormFloat64())
+		}
+	}
+	a := linop.NewDense(m)
+	last := 0
+	_, err := NewShiftedContext(context.Background(), a, 1i, Options{Progress: func(done, total int) {
+		if total != n || done < last {
+			t.Errorf("progress %d/%d after %d", done, total, last)
+		}
+		last = done
+	}})
+	if err != nil || last != n {
+		t.Fatalf("err %v, last progress %d", err, last)
+	}
+	ctx, cancel := context.WithCancel(context.Background())
+	cancel()
+	if _, err := NewShiftedContext(ctx, a, 1i, Options{}); !errors.Is(err, context.Canceled) {
+		t.Errorf("cancelled dense factorisation: %v", err)
+	}
 }

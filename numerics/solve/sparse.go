@@ -90,10 +90,10 @@ func NewSparseShifted(ctx context.Context, a linop.Operator, z complex128) (*Spa
 	if err != nil {
 		return nil, err
 	}
-	return newSparse(ctx, a, csr, z)
+	return newSparse(ctx, a, csr, z, nil)
 }
 
-func newSparse(ctx context.Context, a linop.Operator, csr *linop.CSR, z complex128) (*SparseLU, error) {
+func newSparse(ctx context.Context, a linop.Operator, csr *linop.CSR, z complex128, progress func(done, total int)) (*SparseLU, error) {
 	var q []int
 	if k, ok := a.(*linop.KronSum); ok {
 		q = kronOrder(k)
@@ -101,11 +101,11 @@ func newSparse(ctx context.Context, a linop.Operator, csr *linop.CSR, z complex1
 	if q == nil {
 		q = RCM(csr)
 	}
-	f, err := FactorSparse(ctx, shiftedCSC(csr, z), q)
+	f, err := FactorSparse(ctx, shiftedCSC(csr, z), q, progress)
 	return f, withShift(err, z)
 }
 
-func factorSparseCSC(ctx context.Context, m *CSC, q []int) (*SparseLU, error) {
+func factorSparseCSC(ctx context.Context, m *CSC, q []int, progress func(done, total int)) (*SparseLU, error) {
 	n := m.N
 	if q == nil {
 		q = make([]int, n)
@@ -137,6 +137,9 @@ func factorSparseCSC(ctx context.Context, m *CSC, q []int) (*SparseLU, error) {
 		if k&255 == 0 {
 			if err := ctx.Err(); err != nil {
 				return nil, err
+			}
+			if progress != nil && k > 0 {
+				progress(k, n)
 			}
 			if need := int64(cap(f.lx)+cap(f.ux)) * 24; need > limit {
 				return nil, memguard.CheckBytes(need, fmt.Sprintf("sparse LU factors of order %d", n))
@@ -208,6 +211,9 @@ func factorSparseCSC(ctx context.Context, m *CSC, q []int) (*SparseLU, error) {
 	}
 	f.lp[n] = len(f.li)
 	f.up[n] = len(f.ui)
+	if progress != nil {
+		progress(n, n)
+	}
 	for p, i := range f.li {
 		f.li[p] = f.pinv[i]
 	}
@@ -257,12 +263,13 @@ func (f *SparseLU) dfs(j, stamp, top int, xi, pstack, mark []int) int {
 }
 
 // FactorSparse factors the complex n×n matrix m (duplicate entries are
-// summed) in the column order q (a permutation; nil for the identity). It
+// summed) in the column order q (a permutation; nil for the identity),
+// calling progress(done, n) every 256 columns if it is not nil. It
 // returns an error wrapping ErrSingular for a negligible pivot and the
 // context's error when ctx is cancelled. It panics with ErrShape on
 // inconsistent lengths.
-func FactorSparse(ctx context.Context, m *CSC, q []int) (*SparseLU, error) {
-	return factorSparseCSC(ctx, m, q)
+func FactorSparse(ctx context.Context, m *CSC, q []int, progress func(done, total int)) (*SparseLU, error) {
+	return factorSparseCSC(ctx, m, q, progress)
 }
 
 // NNZ returns the numbers of stored entries of L and U (fill included).

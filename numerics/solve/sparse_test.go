@@ -110,6 +110,10 @@ func TestChoose(t *testing.T) {
 	if m := Choose(secondDiff(1000, true, false)); m != SparseMethod {
 		t.Errorf("periodic 1-D operator: Choose = %v, want sparse", m)
 	}
+	full := linop.NewCSRFromTriplets(3, 3, []int{0, 0, 1, 1, 2, 2, 2}, []int{0, 2, 0, 1, 0, 1, 2}, []float64{1, 1, 1, 1, 1, 1, 1})
+	if m := Choose(&linop.Sum{Terms: []linop.Operator{full, full}}); m != DenseMethod && m != BandMethod {
+		t.Errorf("nearly full sparse operator: Choose = %v, want dense or band", m)
+	}
 }
 
 func shiftOp(n int) *linop.CSR {
@@ -156,7 +160,7 @@ func TestSparseFill(t *testing.T) {
 	m := shiftedCSC(csr, 1)
 	fill := map[string]int{}
 	for name, q := range map[string][]int{"nested dissection": kronOrder(lap), "RCM": RCM(csr), "natural": nil} {
-		f, err := FactorSparse(context.Background(), m, q)
+		f, err := FactorSparse(context.Background(), m, q, nil)
 		if err != nil {
 			t.Fatal(err)
 		}

@@ -1,8 +1,11 @@
 package solve
 
 import (
+	"context"
 	"math"
 	"math/cmplx"
+	"runtime"
+	"sync"
 
 	"semiflow/numerics/memguard"
 )
@@ -20,6 +23,18 @@ type ZDense struct {
 // pivot is negligible (|u_jj| ≤ n·ε·max|a_ij|). FactorZDense panics with
 // ErrShape if len(a) != n².
 func FactorZDense(n int, a []complex128) (*ZDense, error) {
+	return FactorZDenseContext(context.Background(), n, a, nil)
+}
+
+// zBlock is the panel width of the blocked factorisation.
+const zBlock = 48
+
+// FactorZDenseContext is FactorZDense with cancellation and progress. It is
+// a right-looking blocked LU: each panel of zBlock columns is factored with
+// partial pivoting, then the trailing matrix is updated by A22 −= L21 U12,
+// split over the cores by rows. It checks ctx and calls progress(done, n)
+// (if not nil) after each panel, and returns ctx.Err() when cancelled.
+func FactorZDenseContext(ctx context.Context, n int, a []complex128, progress func(done, total int)) (*ZDense, error) {
 	if len(a) != n*n {
 		panic(ErrShape)
 	}
@@ -29,36 +44,95 @@ func FactorZDense(n int, a []complex128) (*ZDense, error) {
 		amax = math.Max(amax, abs1(v))
 	}
 	tol := pivotTol * float64(n) * amax
-	for k := 0; k < n; k++ {
-		p, pv := k, abs1(a[k*n+k])
-		for i := k + 1; i < n; i++ {
-			if v := abs1(a[i*n+k]); v > pv {
-				p, pv = i, v
+	workers := runtime.GOMAXPROCS(0)
+	for k0 := 0; k0 < n; k0 += zBlock {
+		if err := ctx.Err(); err != nil {
+			return nil, err
+		}
+		k1 := min(k0+zBlock, n) // panel columns [k0, k1)
+		for k := k0; k < k1; k++ {
+			p, pv := k, abs1(a[k*n+k])
+			for i := k + 1; i < n; i++ {
+				if v := abs1(a[i*n+k]); v > pv {
+					p, pv = i, v
+				}
+			}
+			f.piv[k] = p
+			if pv <= tol || pv == 0 {
+				return nil, &SingularError{Pivot: k, N: n, Method: "dense"}
+			}
+			if p != k {
+				rk, rp := a[k*n:(k+1)*n], a[p*n:(p+1)*n]
+				for j := range rk {
+					rk[j], rp[j] = rp[j], rk[j]
+				}
+			}
+			inv := 1 / a[k*n+k]
+			urow := a[k*n+k+1 : k*n+k1]
+			for i := k + 1; i < n; i++ {
+				l := a[i*n+k] * inv
+				a[i*n+k] = l
+				if l == 0 {
+					continue
+				}
+				row := a[i*n+k+1 : i*n+k1]
+				for j, u := range urow {
+					row[j] -= l * u
+				}
 			}
 		}
-		f.piv[k] = p
-		if pv <= tol || pv == 0 {
-			return nil, &SingularError{Pivot: k, N: n, Method: "dense"}
+		if k1 == n {
+			break
 		}
-		if p != k {
-			rk, rp := a[k*n:(k+1)*n], a[p*n:(p+1)*n]
-			for j := range rk {
-				rk[j], rp[j] = rp[j], rk[j]
+		// U12 = L11⁻¹ A12 (unit lower triangular, rows k0..k1−1).
+		for r := k0 + 1; r < k1; r++ {
+			row := a[r*n+k1 : (r+1)*n]
+			for s := k0; s < r; s++ {
+				l := a[r*n+s]
+				if l == 0 {
+					continue
+				}
+				for j, u := range a[s*n+k1 : (s+1)*n] {
+					row[j] -= l * u
+				}
 			}
 		}
-		inv := 1 / a[k*n+k]
-		rowk := a[k*n+k+1 : (k+1)*n]
-		for i := k + 1; i < n; i++ {
-			l := a[i*n+k] * inv
-			a[i*n+k] = l
-			if l == 0 {
-				continue
-			}
-			rowi := a[i*n+k+1 : (i+1)*n]
-			for j, u := range rowk {
-				rowi[j] -= l * u
+		// A22 −= L21 U12.
+		update := func(lo, hi int) {
+			for i := lo; i < hi; i++ {
+				row := a[i*n+k1 : (i+1)*n]
+				for s := k0; s < k1; s++ {
+					l := a[i*n+s]
+					if l == 0 {
+						continue
+					}
+					for j, u := range a[s*n+k1 : (s+1)*n] {
+						row[j] -= l * u
+					}
+				}
 			}
 		}
+		rows := n - k1
+		if workers < 2 || rows*rows*(k1-k0) < 1<<18 {
+			update(k1, n)
+		} else {
+			var wg sync.WaitGroup
+			for w := 0; w < workers; w++ {
+				lo, hi := k1+rows*w/workers, k1+rows*(w+1)/workers
+				wg.Add(1)
+				go func() {
+					defer wg.Done()
+					update(lo, hi)
+				}()
+			}
+			wg.Wait()
+		}
+		if progress != nil {
+			progress(k1, n)
+		}
+	}
+	if progress != nil {
+		progress(n, n)
 	}
 	return f, nil
 }
@@ -67,6 +141,10 @@ func FactorZDense(n int, a []complex128) (*ZDense, error) {
 // (not modified). The memory guard refuses an n×n complex matrix too large
 // for the machine. NewZDenseShifted panics with ErrShape if len(a) != n².
 func NewZDenseShifted(n int, a []float64, z complex128) (*ZDense, error) {
+	return newZDenseShifted(context.Background(), n, a, z, nil)
+}
+
+func newZDenseShifted(ctx context.Context, n int, a []float64, z complex128, progress func(done, total int)) (*ZDense, error) {
 	if len(a) != n*n {
 		panic(ErrShape)
 	}
@@ -80,7 +158,7 @@ func NewZDenseShifted(n int, a []float64, z complex128) (*ZDense, error) {
 	for i := 0; i < n; i++ {
 		m[i*n+i] += z
 	}
-	f, err := FactorZDense(n, m)
+	f, err := FactorZDenseContext(ctx, n, m, progress)
 	return f, withShift(err, z)
 }
 
