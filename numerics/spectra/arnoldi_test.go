@@ -110,3 +110,19 @@ func TestPseudoKrylovInside(t *testing.T) {
 		}
 	}
 }
+
+// Closed form: for the N×N tridiagonal Toeplitz (lo, d, up) the symmetric
+// part is tridiagonal Toeplitz (m, d, m) with m = (lo+up)/2, whose largest
+// eigenvalue is d + 2|m|cos(π/(N+1)). N = 3000 exercises the Lanczos path.
+func TestNumericalAbscissaLarge(t *testing.T) {
+	n := 3000
+	a, lo, d, up := convDiff1D(n, 1, 50)
+	got, err := NumericalAbscissa(a, nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	want := d + 2*math.Abs((lo+up)/2)*math.Cos(math.Pi/float64(n+1))
+	if relDiff(got, want) > 1e-9 {
+		t.Errorf("ω = %.15g, closed form %.15g", got, want)
+	}
+}
