@@ -30,6 +30,7 @@ type refData struct {
 		Times []float64
 		Scipy [][]float64
 		Dense [][]float64
+		Exact [][]float64
 	}
 }
 

@@ -1,0 +1,296 @@
+package expo
+
+import (
+	"context"
+	"fmt"
+	"math"
+	"sort"
+	"time"
+
+	"semiflow/numerics/linop"
+)
+
+// Method names accepted in Options.Method.
+const (
+	MethodAuto      = "auto"
+	MethodDense     = "dense"
+	MethodTaylor    = "taylor"
+	MethodKrylov    = "krylov"
+	MethodContour   = "contour"
+	MethodResolvent = "resolvent-powers"
+	MethodKronecker = "kronecker"
+)
+
+// Contour shapes accepted in Options.Contour.
+const (
+	ContourParabolic  = "parabolic"
+	ContourHyperbolic = "hyperbolic"
+	ContourCotangent  = "cotangent"
+)
+
+// Options controls Propagate. The zero value asks for the automatic choice
+// at tolerance 1e-10.
+type Options struct {
+	Method string  // one of the Method constants; "" means "auto"
+	Tol    float64 // relative accuracy asked, ‖error‖_∞ ≲ Tol·‖u0‖_∞ (default 1e-10)
+
+	// Crosscheck runs a second, independent method and records the largest
+	// difference between the two results.
+	Crosscheck bool
+
+	// Progress, if not nil, is called with the work done and the work
+	// expected (in products or solves) as the computation advances.
+	Progress func(done, total int)
+
+	KrylovDim int     // Krylov subspace dimension m (default 30)
+	Contour   string  // contour shape (default cotangent)
+	Nodes     int     // quadrature nodes N on the contour (default from Tol)
+	Shift     float64 // contour shift σ: the contour is applied to A − σI (default: a Gershgorin bound when available)
+
+	ResolventSteps  int // smallest n in (I − tA/n)^{-n} (default 16)
+	ResolventLevels int // Richardson levels n, 2n, 4n, … (default 4)
+
+	Workers int // parallel shifted solves (default GOMAXPROCS)
+}
+
+// Solution is the result of Propagate.
+type Solution struct {
+	Method  string        // method used
+	Reason  string        // why this method (for "auto"), or "requested"
+	Tol     float64       // tolerance asked
+	Times   []float64     // output times, in the order given
+	Values  [][]float64   // Values[i] ≈ e^{Times[i]·A}u0
+	ErrEst  []float64     // estimate of ‖Values[i] − e^{Times[i]·A}u0‖_∞
+	MatVecs int           // products with A (or Aᵀ), norm estimation included
+	Solves  int           // shifted linear solves
+	Factors int           // factorisations of shifted matrices
+	Elapsed time.Duration // wall time
+
+	Cross *Crosscheck // set when Options.Crosscheck was asked for
+}
+
+// Crosscheck records a second, independent computation of the same values.
+type Crosscheck struct {
+	Method  string
+	MaxDiff float64 // max_i ‖Values[i] − other[i]‖_∞
+	ErrEst  float64 // the second method's largest error estimate
+	Elapsed time.Duration
+}
+
+// MaxErrEst returns the largest error estimate over the output times.
+func (s *Solution) MaxErrEst() float64 {
+	m := 0.0
+	for _, e := range s.ErrEst {
+		m = math.Max(m, e)
+	}
+	return m
+}
+
+// Propagate computes u(t) = e^{tA}u0, the solution of u' = Au, u(0) = u0,
+// at each of the given times t ≥ 0 (in any order), with the method named
+// in opts (see the Method constants) and an error estimate per time.
+//
+// "auto" chooses: a Kronecker sum X⊕Y with small factors → "kronecker";
+// order ≤ 400 → "dense"; t‖A‖₁ > 1000 with A symmetric and a sparse form →
+// "contour" (the semigroup is analytic and polynomial methods would need
+// about t‖A‖₁ products); otherwise "taylor". Solution.Reason says which
+// rule applied.
+//
+// Propagate panics with ErrShape if A is not square or len(u0) differs
+// from its order. It returns an error for a negative or non-finite time, an
+// unknown method, numerical failure, or when ctx is cancelled.
+func Propagate(ctx context.Context, A linop.Operator, u0 []float64, times []float64, opts Options) (*Solution, error) {
+	n, c := A.Dims()
+	if n != c || len(u0) != n {
+		panic(ErrShape)
+	}
+	for _, t := range times {
+		if t < 0 || math.IsNaN(t) || math.IsInf(t, 0) {
+			return nil, fmt.Errorf("expo: output time %v: times must be finite and nonnegative", t)
+		}
+	}
+	if opts.Tol <= 0 {
+		opts.Tol = 1e-10
+	}
+	start := time.Now()
+	method, reason := opts.Method, "requested"
+	if method == "" || method == MethodAuto {
+		method, reason = chooseMethod(A, times)
+	}
+	sol, err := run(ctx, method, A, u0, times, opts)
+	if err != nil {
+		return nil, err
+	}
+	sol.Method, sol.Reason, sol.Tol = method, reason, opts.Tol
+	sol.Elapsed = time.Since(start)
+	if opts.Crosscheck {
+		other := crossMethod(method, A)
+		t0 := time.Now()
+		o := opts
+		o.Progress = nil
+		s2, err := run(ctx, other, A, u0, times, o)
+		if err != nil {
+			return nil, fmt.Errorf("expo: cross-check by %s: %w", other, err)
+		}
+		cc := &Crosscheck{Method: other, ErrEst: s2.MaxErrEst(), Elapsed: time.Since(t0)}
+		for i := range sol.Values {
+			for k := range sol.Values[i] {
+				cc.MaxDiff = math.Max(cc.MaxDiff, math.Abs(sol.Values[i][k]-s2.Values[i][k]))
+			}
+		}
+		sol.Cross = cc
+	}
+	return sol, nil
+}
+
+// chooseMethod implements the "auto" rule documented on Propagate.
+func chooseMethod(A linop.Operator, times []float64) (method, reason string) {
+	n, _ := A.Dims()
+	if k, ok := A.(*linop.KronSum); ok {
+		nx, _ := k.X.Dims()
+		ny, _ := k.Y.Dims()
+		if nx <= maxDenseN && ny <= maxDenseN {
+			return MethodKronecker, fmt.Sprintf("Kronecker sum of factors %d and %d: e^{tX} U e^{tY}ᵀ costs two small dense exponentials", nx, ny)
+		}
+	}
+	if n <= 400 {
+		return MethodDense, fmt.Sprintf("order %d ≤ 400: dense scaling and squaring is cheapest", n)
+	}
+	tmax := 0.0
+	for _, t := range times {
+		tmax = math.Max(tmax, t)
+	}
+	nrm := opNorm1(&counted{a: A})
+	stiff := tmax * nrm
+	if stiff > 1000 && len(times) <= 50 {
+		if _, ok := A.(linop.Sparser); ok && isSymmetric(A) {
+			if g, ok := gershgorinRight(A); ok && g <= 1e-8*nrm {
+				return MethodContour, fmt.Sprintf("t‖A‖₁ = %.3g is stiff and A is symmetric with spectrum in (−∞, %.3g]: contour integral of the resolvent", stiff, g)
+			}
+		}
+	}
+	return MethodTaylor, fmt.Sprintf("order %d, t‖A‖₁ = %.3g: truncated Taylor series with scaling, about %.3g products", n, stiff, stiff+float64(len(times))*8)
+}
+
+// crossMethod picks the independent method used by Options.Crosscheck.
+func crossMethod(method string, A linop.Operator) string {
+	n, _ := A.Dims()
+	switch method {
+	case MethodDense:
+		return MethodTaylor
+	case MethodTaylor:
+		if n <= 400 {
+			return MethodDense
+		}
+		return MethodKrylov
+	default:
+		return MethodTaylor
+	}
+}
+
+// run dispatches to one method on sorted times and returns the values in
+// the caller's order.
+func run(ctx context.Context, method string, A linop.Operator, u0 []float64, times []float64, opts Options) (*Solution, error) {
+	order := make([]int, len(times))
+	for i := range order {
+		order[i] = i
+	}
+	sort.SliceStable(order, func(a, b int) bool { return times[order[a]] < times[order[b]] })
+	st := make([]float64, len(times))
+	for i, k := range order {
+		st[i] = times[k]
+	}
+	vals := make([][]float64, len(times))
+	errs := make([]float64, len(times))
+	sol := &Solution{Times: append([]float64(nil), times...)}
+	c := &counted{a: A}
+	var err error
+	switch method {
+	case MethodTaylor:
+		mu := 0.0
+		if d := opDiagonal(A); d != nil && len(d) > 0 {
+			for _, v := range d {
+				mu += v
+			}
+			mu /= float64(len(d))
+		}
+		c = &counted{a: A}
+		op := A
+		if mu != 0 {
+			op = &shifted{a: A, mu: mu}
+		}
+		cs := &counted{a: op}
+		tn := &taylorNorms{norm1: opNorm1(cs)}
+		if mu != 0 {
+			// Keep the shift only when it reduces the norm.
+			if n0 := opNorm1(c); n0 <= tn.norm1 {
+				cs, mu = &counted{a: A, matvecs: cs.matvecs}, 0
+				tn.norm1 = n0
+			}
+		}
+		err = taylorRun(ctx, cs, mu, tn, u0, st, opts.Tol, opts.Progress, vals, errs)
+		c.matvecs += cs.matvecs
+	case MethodKrylov:
+		err = krylovRun(ctx, c, u0, st, opts, vals, errs)
+	case MethodDense:
+		err = denseRun(ctx, A, u0, st, opts, vals, errs)
+	case MethodKronecker:
+		k, ok := A.(*linop.KronSum)
+		if !ok {
+			return nil, fmt.Errorf("%w: kronecker needs a linop.KronSum, got %T", ErrMethod, A)
+		}
+		err = kronRun(ctx, k, u0, st, opts, vals, errs)
+	case MethodContour:
+		var w work
+		err = contourRun(ctx, A, u0, st, opts, vals, errs, &w)
+		sol.Solves, sol.Factors = w.solves, w.factors
+	case MethodResolvent:
+		var w work
+		err = resolventRun(ctx, A, u0, st, opts, vals, errs, &w)
+		sol.Solves, sol.Factors = w.solves, w.factors
+	default:
+		return nil, fmt.Errorf("%w: unknown method %q", ErrMethod, method)
+	}
+	if err != nil {
+		return nil, err
+	}
+	sol.MatVecs = c.matvecs
+	sol.Values = make([][]float64, len(times))
+	sol.ErrEst = make([]float64, len(times))
+	for i, k := range order {
+		sol.Values[k] = vals[i]
+		sol.ErrEst[k] = errs[i]
+	}
+	return sol, nil
+}
+
+// work counts shifted solves and factorisations.
+type work struct {
+	solves, factors int
+}
+
+// gershgorinRight returns max_i (a_ii + Σ_{j≠i}|a_ij|), an upper bound on
+// the real parts of the eigenvalues, when A has an explicit sparse form.
+func gershgorinRight(A linop.Operator) (float64, bool) {
+	s, ok := A.(linop.Sparser)
+	if !ok {
+		return 0, false
+	}
+	m, err := s.ToCSR()
+	if err != nil {
+		return 0, false
+	}
+	g := math.Inf(-1)
+	for i := 0; i < m.Rows; i++ {
+		r := 0.0
+		for p := m.RowPtr[i]; p < m.RowPtr[i+1]; p++ {
+			if m.ColIdx[p] == i {
+				r += m.Val[p]
+			} else {
+				r += math.Abs(m.Val[p])
+			}
+		}
+		g = math.Max(g, r)
+	}
+	return g, true
+}
