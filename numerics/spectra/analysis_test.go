@@ -304,3 +304,63 @@ func TestKreissTheoremRandom(t *testing.T) {
 		}
 	}
 }
+
+// α_ε of the Grcar matrix against the grid: every grid point with
+// σ_min ≤ ε (σ_min checked against scipy in TestGrcarAgainstScipy) lies in
+// σ_ε, so α_ε ≥ their largest real part, and the rightmost boundary point
+// found must itself satisfy σ_min = ε.
+func TestPseudoAbscissaGrcar(t *testing.T) {
+	a := grcar(32)
+	s, _ := NewSchur(a)
+	r := Region{0, 3.5, 0, 3.5, 141, 141}
+	p, err := s.Pseudo(bg, r, &GridOptions{Tol: 1e-10})
+	if err != nil {
+		t.Fatal(err)
+	}
+	for _, eps := range []float64{1e-1, 1e-3} {
+		gridMax := math.Inf(-1)
+		for i, x := range p.Re {
+			for j := range p.Im {
+				if p.At(i, j) <= eps {
+					gridMax = math.Max(gridMax, x)
+				}
+			}
+		}
+		res, err := PseudoAbscissa(bg, a, eps)
+		if err != nil {
+			t.Fatal(err)
+		}
+		h := p.Re[1] - p.Re[0]
+		if res.Alpha < gridMax-1e-12 || res.Alpha > gridMax+2*h {
+			t.Errorf("ε=%g: α_ε = %.12g, grid says [%g, %g]", eps, res.Alpha, gridMax, gridMax+2*h)
+		}
+		if sg := s.SigmaMin(res.Z, 1e-12); math.Abs(sg-eps) > 1e-8*eps {
+			t.Errorf("ε=%g: σ_min at the rightmost point %v is %g", eps, res.Z, sg)
+		}
+	}
+}
+
+// Progress and cancellation on the resolvent-norm grid.
+func TestResolventNormsProgress(t *testing.T) {
+	s, _ := NewSchur(grcar(30))
+	zs := make([]complex128, 50)
+	for k := range zs {
+		zs[k] = complex(float64(k)/10, 1)
+	}
+	last, calls := 0, 0
+	_, err := s.ResolventNorms(bg, zs, &GridOptions{Progress: func(done, total int) {
+		calls++
+		if done <= last || total != len(zs) {
+			t.Errorf("progress %d/%d after %d", done, total, last)
+		}
+		last = done
+	}})
+	if err != nil || last != len(zs) || calls != len(zs) {
+		t.Errorf("err %v, last %d, calls %d", err, last, calls)
+	}
+	ctx, cancel := context.WithCancel(bg)
+	cancel()
+	if _, err := s.ResolventNorms(ctx, zs, nil); err != context.Canceled {
+		t.Errorf("cancelled: err = %v", err)
+	}
+}

@@ -55,41 +55,54 @@ func newShape(m *mat.Dense) (*shape, error) {
 
 // rightmostOnLine returns the largest x with σ_min((x + iy)I − A) ≤ eps, or
 // −Inf if the horizontal line Im z = y misses σ_ε(A). It walks leftwards
-// from x = ω(A) + eps, where σ_min ≥ x − ω(A) ≥ eps, in steps of
-// σ_min − eps (σ_min is 1-Lipschitz in z, so no point of σ_ε is skipped),
-// accelerated by Newton steps with ∂σ/∂x = Re(uᴴv), and finishes by
-// bisection to relative tolerance 1e-12.
+// from x = ω(A) + eps, where σ_min ≥ x − ω(A) ≥ eps. σ_min is 1-Lipschitz
+// in z, so a step of σ_min − eps never skips a point of σ_ε; the walk
+// takes the longer Newton step for log σ_min (∂σ/∂x = Re(uᴴv) from the
+// singular vectors; σ_min often varies exponentially with x for strongly
+// non-normal A) and, once a step lands inside σ_ε, finishes by bisection
+// to absolute tolerance 1e-12·scale. When a Newton step lands where σ
+// increases leftwards, the minimum it passed is searched (golden section)
+// for points of σ_ε; a non-unimodal σ between two steps could still hide
+// a thin part of σ_ε (the Lipschitz step alone cannot).
 func (sh *shape) rightmostOnLine(ctx context.Context, y, eps float64) (float64, error) {
 	x := sh.omega + eps
 	lower := sh.omegaLeft - eps
 	tol := 1e-12 * (math.Abs(sh.omega) + math.Abs(sh.omegaLeft) + eps)
-	for it := 0; it < 2000; it++ {
+	for it := 0; it < 500; it++ {
 		if ctx.Err() != nil {
 			return 0, ctx.Err()
 		}
-		if x < lower {
-			return math.Inf(-1), nil
-		}
-		z := complex(x, y)
-		sg, v, u := sh.s.sigmaMin(z, 1e-12)
+		sg, v, u := sh.s.sigmaMin(complex(x, y), 1e-12)
 		gap := sg - eps
 		if gap <= tol {
-			return x, nil // on the boundary (or just inside from the start)
+			return x, nil // on the boundary to tolerance
 		}
-		g := real(cdot(u, v))
-		step := gap // Lipschitz step, safe
-		if g > 0.05 {
-			xn := x - gap/g
-			if sn := sh.s.SigmaMin(complex(xn, y), 1e-12); sn <= eps {
-				return sh.bisect(y, eps, xn, x, tol), nil
-			} else if xn < x-step {
-				x = xn
-				continue
+		step := gap
+		if g := real(cdot(u, v)); g > 0 {
+			step = math.Max(step, sg*math.Log(sg/eps)/g)
+		}
+		if x-step < lower {
+			if x-gap < lower {
+				return math.Inf(-1), nil
+			}
+			step = x - lower
+		}
+		xn := x - step
+		sn, vn, un := sh.s.sigmaMin(complex(xn, y), 1e-12)
+		if sn <= eps {
+			return sh.bisect(y, eps, xn, x, tol), nil
+		}
+		if step > gap && real(cdot(un, vn)) < 0 {
+			// σ increases leftwards at xn: a minimum lies in (xn, x), which
+			// the Newton step passed over; look for σ_ε there.
+			xm, fm := goldenMax(func(t float64) float64 { return -sh.s.SigmaMin(complex(t, y), 1e-12) }, xn, x, 1e-10, 80)
+			if -fm <= eps {
+				return sh.bisect(y, eps, xm, x, tol), nil
 			}
 		}
-		x -= step
+		x = xn
 	}
-	return x, nil
+	return 0, numErr("boundary search on Im z = %g did not converge", y)
 }
 
 // bisect finds the boundary crossing between lo (inside σ_ε) and hi (outside).
