@@ -340,6 +340,13 @@ func (in *Interp) chargeResult(sc *scope, at syntax.Node, r value.Value) error {
 		return in.tick(sc, at, t.Len())
 	case *value.Matrix:
 		return in.tick(sc, at, len(t.Data))
+	case value.Str:
+		if len(t) > in.Limits.MaxElements {
+			return in.errorf(sc, at, "ValueError", "string of %d bytes, more than the limit of %d", len(t), in.Limits.MaxElements)
+		}
+		return in.tick(sc, at, len(t)/16)
+	case value.List:
+		return in.tick(sc, at, len(t))
 	}
 	return nil
 }
