@@ -24,11 +24,17 @@ type Output interface {
 }
 
 // Session is the state of one interactive session: its variables and user
-// functions. Its methods may be called from several goroutines; executions
-// are serialised.
+// functions. Its methods may be called from several goroutines: executions
+// are serialised, and Complete, Inspect, Names and Lookup answer from a
+// view of the variables updated after each statement, so they do not wait
+// for a running cell.
 type Session struct {
-	mu      sync.Mutex
+	mu      sync.Mutex // held by Execute
 	globals map[string]value.Value
+
+	viewMu sync.RWMutex
+	view   map[string]value.Value
+
 	table   *builtin.Table
 	limits  eval.Limits
 	ids     map[string]bool
@@ -37,7 +43,8 @@ type Session struct {
 // NewSession returns a session with no variables and the default builtins
 // and limits.
 func NewSession() *Session {
-	return &Session{globals: map[string]value.Value{}, table: builtin.Default(), limits: eval.DefaultLimits, ids: map[string]bool{}}
+	return &Session{globals: map[string]value.Value{}, view: map[string]value.Value{},
+		table: builtin.Default(), limits: eval.DefaultLimits, ids: map[string]bool{}}
 }
 
 // SetLimits replaces the evaluation limits (depth, size, work budget).
@@ -86,6 +93,7 @@ func (s *Session) ExecuteNamed(ctx context.Context, name, src string, out Output
 		if err != nil {
 			return nil, nil, err
 		}
+		s.publish(st)
 		b := display.Bundle(v)
 		if b == nil {
 			continue
@@ -98,13 +106,29 @@ func (s *Session) ExecuteNamed(ctx context.Context, name, src string, out Output
 	return nil, nil, nil
 }
 
+// publish copies the variable a completed statement assigned into the view.
+func (s *Session) publish(st syntax.Stmt) {
+	var name string
+	switch x := st.(type) {
+	case *syntax.AssignStmt:
+		name = x.Name.Name
+	case *syntax.FuncDef:
+		name = x.Name.Name
+	default:
+		return
+	}
+	s.viewMu.Lock()
+	s.view[name] = s.globals[name]
+	s.viewMu.Unlock()
+}
+
 // Names returns the names of the session's variables and user functions,
 // sorted.
 func (s *Session) Names() []string {
-	s.mu.Lock()
-	defer s.mu.Unlock()
-	names := make([]string, 0, len(s.globals))
-	for k := range s.globals {
+	s.viewMu.RLock()
+	defer s.viewMu.RUnlock()
+	names := make([]string, 0, len(s.view))
+	for k := range s.view {
 		names = append(names, k)
 	}
 	sort.Strings(names)
@@ -113,9 +137,9 @@ func (s *Session) Names() []string {
 
 // Lookup returns the value of a session variable.
 func (s *Session) Lookup(name string) (value.Value, bool) {
-	s.mu.Lock()
-	defer s.mu.Unlock()
-	v, ok := s.globals[name]
+	s.viewMu.RLock()
+	defer s.viewMu.RUnlock()
+	v, ok := s.view[name]
 	return v, ok
 }
 

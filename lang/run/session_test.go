@@ -348,3 +348,29 @@ func TestTour(t *testing.T) {
 		t.Errorf("t_cool = %v", v)
 	}
 }
+
+// TestCompleteDuringExecution checks that completion answers while a cell
+// runs (the kernel may ask between messages of a long execution).
+func TestCompleteDuringExecution(t *testing.T) {
+	s := NewSession()
+	mustExec(t, s, "alpha = 1")
+	ctx, cancel := context.WithCancel(context.Background())
+	done := make(chan struct{})
+	go func() {
+		s.Execute(ctx, "f(n) = choose(n > 40, 0, f(n + 1) + f(n + 1))\nf(0)", nil)
+		close(done)
+	}()
+	time.Sleep(20 * time.Millisecond)
+	got := make(chan []string, 1)
+	go func() { m, _, _ := s.Complete("alp", 3); got <- m }()
+	select {
+	case m := <-got:
+		if len(m) != 1 || m[0] != "alpha" {
+			t.Errorf("Complete = %v", m)
+		}
+	case <-time.After(2 * time.Second):
+		t.Error("Complete blocked by a running cell")
+	}
+	cancel()
+	<-done
+}
