@@ -1,6 +1,7 @@
 package spectra
 
 import (
+	"math"
 	"runtime"
 	"sync"
 	"testing"
@@ -74,13 +75,19 @@ func BenchmarkPseudoSVDPerPoint400(b *testing.B) {
 // convection–diffusion operator on a 316×316 grid (N = 99 856) by
 // shift-and-invert Krylov–Schur about σ = 0 (factorisation included).
 func BenchmarkRightmostConvDiff1e5(b *testing.B) {
-	x, _, _, _ := convDiff1D(316, 0.05, 1)
-	y, _, _, _ := convDiff1D(316, 0.05, 0.3)
+	x, lx, dx, ux := convDiff1D(316, 0.05, 1)
+	y, ly, dy, uy := convDiff1D(316, 0.05, 0.3)
 	a := linop.NewKronSum(x, y)
+	want := convDiffEigs(316, 316, lx, dx, ux, ly, dy, uy)[:6]
 	for i := 0; i < b.N; i++ {
 		sp, err := Rightmost(bg, a, &EigsOptions{Count: 6, ShiftInvert: true})
 		if err != nil {
 			b.Fatal(err)
+		}
+		for k := range want {
+			if math.Abs(real(sp.Values[k])-want[k]) > 1e-8*math.Abs(want[k]) {
+				b.Errorf("λ_%d = %v, closed form %g", k, sp.Values[k], want[k])
+			}
 		}
 		if i == 0 {
 			b.Logf("λ = %v; residuals %v; %s", sp.Values, sp.Residual, sp.Method)
