@@ -2,6 +2,7 @@ package solve
 
 import (
 	"context"
+	"errors"
 	"fmt"
 	"math"
 	"math/cmplx"
@@ -76,12 +77,15 @@ func shiftedCSC(a *linop.CSR, z complex128) *CSC {
 }
 
 // NewSparseShifted factors zI − A for a square operator A with a sparse form,
-// with a fill-reducing column order: nested dissection by grid geometry when
-// A is a Kronecker sum X ⊕ Y of sparse factors, reverse Cuthill–McKee
-// otherwise. It returns an error wrapping ErrSingular (naming z) if a pivot
-// is negligible, the context's error if ctx is cancelled, or an error from
-// the memory guard. It panics with ErrShape if A is not square.
-func NewSparseShifted(ctx context.Context, a linop.Operator, z complex128) (*SparseLU, error) {
+// with a fill-reducing symmetric order: nested dissection by grid geometry
+// when A is a Kronecker sum X ⊕ Y of sparse factors, reverse Cuthill–McKee
+// otherwise. It first tries the supernodal Multifrontal factorisation and,
+// if that meets a pivot it cannot take within a front, falls back to
+// SparseLU (left-looking, free partial pivoting). It returns an error
+// wrapping ErrSingular (naming z) if a pivot is negligible, the context's
+// error if ctx is cancelled, or an error from the memory guard. It panics
+// with ErrShape if A is not square.
+func NewSparseShifted(ctx context.Context, a linop.Operator, z complex128) (AdjointSolver, error) {
 	r, c := a.Dims()
 	if r != c {
 		panic(ErrShape)
@@ -93,16 +97,29 @@ func NewSparseShifted(ctx context.Context, a linop.Operator, z complex128) (*Spa
 	return newSparse(ctx, a, csr, z, nil)
 }
 
-func newSparse(ctx context.Context, a linop.Operator, csr *linop.CSR, z complex128, progress func(done, total int)) (*SparseLU, error) {
-	var q []int
+func sparseOrder(a linop.Operator, csr *linop.CSR) []int {
 	if k, ok := a.(*linop.KronSum); ok {
-		q = kronOrder(k)
+		if q := kronOrder(k); q != nil {
+			return q
+		}
 	}
-	if q == nil {
-		q = RCM(csr)
+	return RCM(csr)
+}
+
+func newSparse(ctx context.Context, a linop.Operator, csr *linop.CSR, z complex128, progress func(done, total int)) (AdjointSolver, error) {
+	q := sparseOrder(a, csr)
+	mf, err := factorMultifrontal(ctx, csr, z, q, progress)
+	if err == nil {
+		return mf, nil
+	}
+	if !errors.Is(err, errDelayed) {
+		return nil, withShift(err, z)
 	}
 	f, err := FactorSparse(ctx, shiftedCSC(csr, z), q, progress)
-	return f, withShift(err, z)
+	if err != nil {
+		return nil, withShift(err, z)
+	}
+	return f, nil
 }
 
 func factorSparseCSC(ctx context.Context, m *CSC, q []int, progress func(done, total int)) (*SparseLU, error) {

@@ -94,9 +94,43 @@ func TestSparseKronSum(t *testing.T) {
 			if err != nil {
 				t.Fatal(err)
 			}
+			// Away from the real axis the fronts never need to delay a pivot;
+			// z = −0.1 lies inside the spectrum (zI − A indefinite) and may
+			// take the fallback.
+			if _, ok := s.(*Multifrontal); !ok && imag(z) != 0 {
+				t.Errorf("%v, z = %v: fell back to %T", c, z, s)
+			}
 			checkSolver(t, "sparse kron", k, z, s)
+			// The left-looking factorisation on the same order agrees.
+			csr, _ := k.ToCSR()
+			gp, err := FactorSparse(context.Background(), shiftedCSC(csr, z), q, nil)
+			if err != nil {
+				t.Fatal(err)
+			}
+			checkSolver(t, "left-looking kron", k, z, gp)
 		}
 	}
+}
+
+// A zero diagonal cannot be pivoted within the fronts: tridiag(1, 0, 1) of
+// even order is regular at z = 0 (closed form: eigenvalues 2cos(kπ/(n+1)))
+// and must be solved by the fallback with free pivoting.
+func TestSparseFallback(t *testing.T) {
+	n := 40
+	var is, js []int
+	var vs []float64
+	for i := 1; i < n; i++ {
+		is, js, vs = append(is, i, i-1), append(js, i-1, i), append(vs, 1, 1)
+	}
+	a := linop.NewCSRFromTriplets(n, n, is, js, vs)
+	s, err := NewSparseShifted(context.Background(), a, 0)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if _, ok := s.(*SparseLU); !ok {
+		t.Errorf("solver %T, want the *SparseLU fallback", s)
+	}
+	checkSolver(t, "fallback", a, 0, s)
 }
 
 func TestChoose(t *testing.T) {
@@ -159,6 +193,12 @@ func TestSparseFill(t *testing.T) {
 	csr, _ := lap.ToCSR()
 	m := shiftedCSC(csr, 1)
 	fill := map[string]int{}
+	mf, err := factorMultifrontal(context.Background(), csr, 1, kronOrder(lap), nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	l, u := mf.NNZ()
+	t.Logf("multifrontal, nested dissection: nnz(L)+nnz(U) = %d (%.1f × nnz(A))", l+u, float64(l+u)/float64(csr.NNZ()))
 	for name, q := range map[string][]int{"nested dissection": kronOrder(lap), "RCM": RCM(csr), "natural": nil} {
 		f, err := FactorSparse(context.Background(), m, q, nil)
 		if err != nil {
