@@ -1,0 +1,244 @@
+package expo
+
+import (
+	"context"
+	"fmt"
+	"math"
+	"time"
+
+	"gonum.org/v1/gonum/mat"
+
+	"semiflow/numerics/linop"
+)
+
+// Nonlinear is the term N(t, u) of u' = Lu + N(t, u); it sets dst = N(t, u).
+type Nonlinear func(t float64, u, dst []float64)
+
+// etdCoeffs holds the ETDRK4 operators for one step length h, either as
+// diagonals (L diagonal) or as dense matrices.
+type etdCoeffs struct {
+	diag                 bool
+	e, e2, q, f1, f2, f3 []float64
+	E, E2, Q, F1, F2, F3 *mat.Dense
+}
+
+// maxETDDense bounds the order of a non-diagonal L for ETDRK4 (its
+// φ-functions are dense matrices of that order).
+const maxETDDense = 1500
+
+// newETDCoeffs computes, for step h,
+//
+//	E = e^{hL}, E2 = e^{hL/2}, Q = (h/2)φ_1(hL/2),
+//	F1 = h(φ_1 − 3φ_2 + 4φ_3)(hL), F2 = h(φ_2 − 2φ_3)(hL), F3 = h(4φ_3 − φ_2)(hL),
+//
+// the coefficients of Cox & Matthews (J. Comput. Phys. 176, 2002, eq. (26))
+// written with φ-functions. For diagonal L each scalar φ_k is evaluated by
+// PhiScalar (contour means for small arguments, Kassam & Trefethen 2005);
+// otherwise through the augmented-matrix identity (Phi).
+func newETDCoeffs(L linop.Operator, h float64) (*etdCoeffs, error) {
+	c := &etdCoeffs{}
+	if d, ok := L.(*linop.Diag); ok {
+		n := len(d.D)
+		c.diag = true
+		c.e, c.e2, c.q = make([]float64, n), make([]float64, n), make([]float64, n)
+		c.f1, c.f2, c.f3 = make([]float64, n), make([]float64, n), make([]float64, n)
+		for i, l := range d.D {
+			z := complex(h*l, 0)
+			p1, p2, p3 := real(PhiScalar(1, z)), real(PhiScalar(2, z)), real(PhiScalar(3, z))
+			c.e[i] = math.Exp(h * l)
+			c.e2[i] = math.Exp(h * l / 2)
+			c.q[i] = h / 2 * real(PhiScalar(1, z/2))
+			c.f1[i] = h * (p1 - 3*p2 + 4*p3)
+			c.f2[i] = h * (p2 - 2*p3)
+			c.f3[i] = h * (4*p3 - p2)
+		}
+		return c, nil
+	}
+	n, _ := L.Dims()
+	if n > maxETDDense {
+		return nil, fmt.Errorf("expo: ETDRK4 with a non-diagonal operator of order %d needs dense φ-functions (limit %d)", n, maxETDDense)
+	}
+	a, err := toDense(L)
+	if err != nil {
+		return nil, err
+	}
+	var ha, ha2 mat.Dense
+	ha.Scale(h, a)
+	ha2.Scale(h/2, a)
+	ph := []*mat.Dense{new(mat.Dense), new(mat.Dense), new(mat.Dense)}
+	if err := Phi(ph, &ha); err != nil {
+		return nil, err
+	}
+	ph2 := []*mat.Dense{new(mat.Dense)}
+	if err := Phi(ph2, &ha2); err != nil {
+		return nil, err
+	}
+	c.E, c.E2 = new(mat.Dense), new(mat.Dense)
+	if _, err := Exp(c.E, &ha); err != nil {
+		return nil, err
+	}
+	if _, err := Exp(c.E2, &ha2); err != nil {
+		return nil, err
+	}
+	comb := func(a1, a2, a3 float64) *mat.Dense {
+		var m mat.Dense
+		m.Scale(h*a1, ph[0])
+		addScaled(&m, h*a2, ph[1])
+		addScaled(&m, h*a3, ph[2])
+		return &m
+	}
+	c.Q = new(mat.Dense)
+	c.Q.Scale(h/2, ph2[0])
+	c.F1, c.F2, c.F3 = comb(1, -3, 4), comb(0, 1, -2), comb(0, -1, 4)
+	return c, nil
+}
+
+// mul sets dst = M x for the diagonal or dense coefficient.
+func (c *etdCoeffs) mul(dst []float64, d []float64, M *mat.Dense, x []float64) {
+	if c.diag {
+		for i := range dst {
+			dst[i] = d[i] * x[i]
+		}
+		return
+	}
+	gemv(M, false, dst, x)
+}
+
+// step advances u by one ETDRK4 step of length h from time t.
+func (c *etdCoeffs) step(N Nonlinear, t, h float64, u []float64, tmp *etdWork) {
+	n := len(u)
+	Nu, Na, Nb, Nc := tmp.v[0], tmp.v[1], tmp.v[2], tmp.v[3]
+	a, b, cc, eu, t1 := tmp.v[4], tmp.v[5], tmp.v[6], tmp.v[7], tmp.v[8]
+	N(t, u, Nu)
+	c.mul(eu, c.e2, c.E2, u)
+	c.mul(t1, c.q, c.Q, Nu)
+	for i := 0; i < n; i++ {
+		a[i] = eu[i] + t1[i]
+	}
+	N(t+h/2, a, Na)
+	c.mul(t1, c.q, c.Q, Na)
+	for i := 0; i < n; i++ {
+		b[i] = eu[i] + t1[i]
+	}
+	N(t+h/2, b, Nb)
+	c.mul(eu, c.e2, c.E2, a)
+	for i := 0; i < n; i++ {
+		t1[i] = 2*Nb[i] - Nu[i]
+	}
+	c.mul(cc, c.q, c.Q, t1)
+	for i := 0; i < n; i++ {
+		cc[i] += eu[i]
+	}
+	N(t+h, cc, Nc)
+	c.mul(eu, c.e, c.E, u)
+	c.mul(t1, c.f1, c.F1, Nu)
+	for i := 0; i < n; i++ {
+		u[i] = eu[i] + t1[i]
+		Na[i] += Nb[i]
+	}
+	c.mul(t1, c.f2, c.F2, Na)
+	for i := 0; i < n; i++ {
+		u[i] += 2 * t1[i]
+	}
+	c.mul(t1, c.f3, c.F3, Nc)
+	for i := 0; i < n; i++ {
+		u[i] += t1[i]
+	}
+}
+
+type etdWork struct{ v [9][]float64 }
+
+// ETDRK4 integrates the semilinear problem u' = Lu + N(t, u), u(0) = u0,
+// with the fourth-order exponential time-differencing Runge–Kutta scheme of
+// Cox & Matthews (J. Comput. Phys. 2002) in the stable form of Kassam &
+// Trefethen (SIAM J. Sci. Comput. 2005), with steps no longer than h,
+// adjusted to land on each output time. The error estimate is by step
+// doubling: the reported values use steps h/2 and the estimate is
+// ‖u_h − u_{h/2}‖_∞, the error of the coarse solution. For a fourth-order
+// scheme in its asymptotic regime that is 15 times the error of the
+// reported values; the margin covers stiff steps (|hλ| ≫ 1) where the
+// asymptotic ratio does not yet hold.
+//
+// L may be a *linop.Diag (any order) or an operator of order ≤ 1500. It
+// panics with ErrShape on mismatched sizes and returns an error for h ≤ 0,
+// a negative time, non-finite values, or when ctx is cancelled.
+func ETDRK4(ctx context.Context, L linop.Operator, N Nonlinear, u0 []float64, times []float64, h float64, opts Options) (*Solution, error) {
+	n, c := L.Dims()
+	if n != c || len(u0) != n {
+		panic(ErrShape)
+	}
+	if !(h > 0) {
+		return nil, fmt.Errorf("expo: ETDRK4 step %v must be positive", h)
+	}
+	for _, t := range times {
+		if t < 0 || math.IsNaN(t) || math.IsInf(t, 0) {
+			return nil, fmt.Errorf("expo: output time %v: times must be finite and nonnegative", t)
+		}
+	}
+	start := time.Now()
+	order := sortedOrder(times)
+	cache := map[float64]*etdCoeffs{}
+	coeffs := func(h float64) (*etdCoeffs, error) {
+		if c, ok := cache[h]; ok {
+			return c, nil
+		}
+		c, err := newETDCoeffs(L, h)
+		if err == nil {
+			cache[h] = c
+		}
+		return c, err
+	}
+	var wk etdWork
+	for i := range wk.v {
+		wk.v[i] = make([]float64, n)
+	}
+	coarse := append([]float64(nil), u0...)
+	fine := append([]float64(nil), u0...)
+	sol := &Solution{Method: "etdrk4", Tol: opts.Tol, Times: append([]float64(nil), times...),
+		Values: make([][]float64, len(times)), ErrEst: make([]float64, len(times)),
+		Reason: "semilinear problem: ETDRK4 with step doubling"}
+	prev := 0.0
+	totalSteps := 0
+	for _, k := range order {
+		totalSteps += int(math.Ceil((times[k]-prev)/h)) * 3
+		prev = times[k]
+	}
+	done := 0
+	prev = 0
+	for _, k := range order {
+		t := times[k]
+		if t > prev {
+			steps := int(math.Ceil((t - prev) / h * (1 - 1e-12)))
+			hh := (t - prev) / float64(steps)
+			cc, err := coeffs(hh)
+			if err != nil {
+				return nil, err
+			}
+			cf, err := coeffs(hh / 2)
+			if err != nil {
+				return nil, err
+			}
+			for s := 0; s < steps; s++ {
+				if err := ctx.Err(); err != nil {
+					return nil, err
+				}
+				ts := prev + float64(s)*hh
+				cc.step(N, ts, hh, coarse, &wk)
+				cf.step(N, ts, hh/2, fine, &wk)
+				cf.step(N, ts+hh/2, hh/2, fine, &wk)
+				done += 3
+				if opts.Progress != nil {
+					opts.Progress(done, totalSteps)
+				}
+			}
+			if v := normInf(fine); math.IsNaN(v) || math.IsInf(v, 0) {
+				return nil, errorf("ETDRK4 solution is not finite at t = %g", t)
+			}
+		}
+		prev = t
+		sol.Values[k] = append([]float64(nil), fine...)
+		sol.ErrEst[k] = maxAbsDiff(coarse, fine)
+	}
+	sol.Elapsed = time.Since(start)
+	return sol, nil
+}
