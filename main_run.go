@@ -62,10 +62,16 @@ func cmdRun(args []string) int {
 		fmt.Fprintln(os.Stderr, "usage: semiflow run FILE")
 		return 2
 	}
-	path := args[0]
+	ctx, stop := signal.NotifyContext(context.Background(), os.Interrupt)
+	defer stop()
+	return runFile(ctx, args[0], os.Stdout, os.Stderr)
+}
+
+// runFile is cmdRun with its context and output streams given.
+func runFile(ctx context.Context, path string, stdout, stderr io.Writer) int {
 	src, err := os.ReadFile(path)
 	if err != nil {
-		fmt.Fprintln(os.Stderr, "semiflow:", err)
+		fmt.Fprintln(stderr, "semiflow:", err)
 		return 1
 	}
 	type cell struct{ name, src string }
@@ -78,7 +84,7 @@ func cmdRun(args []string) int {
 			} `json:"cells"`
 		}
 		if err := json.Unmarshal(src, &nb); err != nil {
-			fmt.Fprintf(os.Stderr, "semiflow: %s: not a notebook: %v\n", path, err)
+			fmt.Fprintf(stderr, "semiflow: %s: not a notebook: %v\n", path, err)
 			return 1
 		}
 		n := 0
@@ -91,7 +97,7 @@ func cmdRun(args []string) int {
 			var lines []string
 			if json.Unmarshal(c.Source, &text) != nil {
 				if err := json.Unmarshal(c.Source, &lines); err != nil {
-					fmt.Fprintf(os.Stderr, "semiflow: %s: code cell %d: bad source\n", path, n)
+					fmt.Fprintf(stderr, "semiflow: %s: code cell %d: bad source\n", path, n)
 					return 1
 				}
 				text = strings.Join(lines, "")
@@ -102,15 +108,13 @@ func cmdRun(args []string) int {
 		cells = []cell{{path, string(src)}}
 	}
 
-	ctx, stop := signal.NotifyContext(context.Background(), os.Interrupt)
-	defer stop()
 	s := run.NewSession()
-	out := termOutput{os.Stdout, os.Stderr}
+	out := termOutput{stdout, stderr}
 	for _, c := range cells {
 		data, _, err := s.ExecuteNamed(ctx, c.name, c.src, out)
 		if err != nil {
 			for _, l := range tracebackOf(err) {
-				fmt.Fprintln(os.Stderr, l)
+				fmt.Fprintln(stderr, l)
 			}
 			return 1
 		}
