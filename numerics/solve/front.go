@@ -36,9 +36,9 @@ type Multifrontal struct {
 }
 
 type front struct {
-	c0, k int     // own columns c0..c0+k−1 (permuted)
-	rows  []int   // front index list: own k, then the later rows (permuted)
-	rowOf []int   // pivot row (permuted) of each own column after interchanges
+	c0, k int          // own columns c0..c0+k−1 (permuted)
+	rows  []int        // front index list: own k, then the later rows (permuted)
+	rowOf []int        // pivot row (permuted) of each own column after interchanges
 	top   []complex128 // k×f: rows of U (with L11 below the diagonal), row-major
 	low   []complex128 // (f−k)×k: L21, row-major
 }
@@ -340,14 +340,7 @@ func factorMultifrontal(ctx context.Context, a *linop.CSR, z complex128, q []int
 		m := f - k
 		update := func(lo, hi int) {
 			for i := lo; i < hi; i++ {
-				row := F[i*f+k : (i+1)*f]
-				for p := 0; p < k; p++ {
-					if l := F[i*f+p]; l != 0 {
-						for j, u := range F[p*f+k : (p+1)*f] {
-							row[j] -= l * u
-						}
-					}
-				}
+				rankUpdate(F[i*f+k:(i+1)*f], F[i*f:i*f+k], F[k:], f)
 			}
 		}
 		if workers > 1 && m*m*k > 1<<17 {

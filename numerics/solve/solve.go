@@ -6,11 +6,13 @@
 //
 //   - Band: LU with partial pivoting of a banded matrix in LAPACK gbtrf
 //     storage, real or complex, for 1-D operators (O(n·kl·(kl+ku)) work).
-//   - Sparse: left-looking sparse LU with partial pivoting (Gilbert–Peierls,
-//     SIAM J. Sci. Stat. Comput. 1988) after a fill-reducing ordering —
-//     nested dissection by grid geometry for Kronecker sums on tensor
-//     grids (George, SIAM J. Numer. Anal. 1973), reverse Cuthill–McKee or
-//     the identity otherwise.
+//   - Multifrontal: supernodal multifrontal LU (Duff & Reid, ACM TOMS 1983)
+//     on a fill-reducing symmetric order — nested dissection by grid
+//     geometry for Kronecker sums on tensor grids (George, SIAM J. Numer.
+//     Anal. 1973), reverse Cuthill–McKee otherwise — with threshold
+//     pivoting inside each front; when a front cannot find an acceptable
+//     pivot, SparseLU, a left-looking LU with free partial pivoting
+//     (Gilbert–Peierls, SIAM J. Sci. Stat. Comput. 1988), takes over.
 //   - ZDense: dense complex LU with partial pivoting for dense operators,
 //     guarded by memguard.
 //

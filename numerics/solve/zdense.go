@@ -100,16 +100,7 @@ func FactorZDenseContext(ctx context.Context, n int, a []complex128, progress fu
 		// A22 −= L21 U12.
 		update := func(lo, hi int) {
 			for i := lo; i < hi; i++ {
-				row := a[i*n+k1 : (i+1)*n]
-				for s := k0; s < k1; s++ {
-					l := a[i*n+s]
-					if l == 0 {
-						continue
-					}
-					for j, u := range a[s*n+k1 : (s+1)*n] {
-						row[j] -= l * u
-					}
-				}
+				rankUpdate(a[i*n+k1:(i+1)*n], a[i*n+k0:i*n+k1], a[k0*n+k1:], n)
 			}
 		}
 		rows := n - k1
