@@ -9,6 +9,7 @@ import (
 	"sync"
 
 	"semiflow/numerics/linop"
+	"semiflow/numerics/solve"
 )
 
 // contourShape is a contour z(θ), θ ∈ [−π, π], for e^{z} with N nodes and
@@ -142,7 +143,7 @@ func contourRun(ctx context.Context, A linop.Operator, u0 []float64, times []flo
 				if bad {
 					return
 				}
-				f, err := newShiftedLU(ctx, A, zs[k]/complex(t, 0)+complex(sigma, 0))
+				f, err := solve.NewShiftedContext(ctx, A, zs[k]/complex(t, 0)+complex(sigma, 0), solve.Options{})
 				var x []complex128
 				if err == nil {
 					x = make([]complex128, n)

@@ -5,6 +5,7 @@ import (
 	"math"
 
 	"semiflow/numerics/linop"
+	"semiflow/numerics/solve"
 )
 
 // resolventRun computes e^{tA}u0 as the limit of the implicit Euler
@@ -42,7 +43,7 @@ func resolventRun(ctx context.Context, A linop.Operator, u0 []float64, times []f
 		for l := 0; l < L; l++ {
 			steps := n0 << l
 			z := float64(steps) / t
-			f, err := newShiftedLU(ctx, A, complex(z, 0))
+			f, err := solve.NewShiftedContext(ctx, A, complex(z, 0), solve.Options{})
 			w.factors++
 			if err != nil {
 				return err
