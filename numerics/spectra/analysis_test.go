@@ -364,3 +364,32 @@ func TestResolventNormsProgress(t *testing.T) {
 		t.Errorf("cancelled: err = %v", err)
 	}
 }
+
+// Weighted norms: with A = D⁻¹BD and W = D², ‖e^{tA}‖_W = ‖e^{tB}‖₂; for B
+// normal with eigenvalues −1 ± 2i that is e^{−t} exactly (closed form),
+// while the Euclidean norm of e^{tA} is larger.
+func TestGrowthWeighted(t *testing.T) {
+	d := []float64{1, 20}
+	b := [][]float64{{-1, 2}, {-2, -1}}
+	a := op([][]float64{{b[0][0], b[0][1] * d[1] / d[0]}, {b[1][0] * d[0] / d[1], b[1][1]}})
+	times := []float64{0, 0.3, 1, 2}
+	g, err := GrowthCurve(bg, a, times, &GrowthOptions{Weight: diagW{d}, NoKreiss: true})
+	if err != nil {
+		t.Fatal(err)
+	}
+	e, _ := GrowthCurve(bg, a, times, &GrowthOptions{NoKreiss: true})
+	for k, tt := range times {
+		if relDiff(g.Norm[k], math.Exp(-tt)) > 1e-13 {
+			t.Errorf("‖e^{%gA}‖_W = %.16g, want e^{−t} = %.16g", tt, g.Norm[k], math.Exp(-tt))
+		}
+		if tt > 0 && e.Norm[k] <= g.Norm[k] {
+			t.Errorf("Euclidean norm %g not above the weighted %g", e.Norm[k], g.Norm[k])
+		}
+	}
+	s, _ := NewSchurWeighted(a, diagW{d})
+	z := complex(0.5, 1)
+	want := 1 / math.Min(cmplx.Abs(z-complex(-1, 2)), cmplx.Abs(z-complex(-1, -2)))
+	if got := s.ResolventNorm(z); relDiff(got, want) > 1e-9 {
+		t.Errorf("weighted ‖R(z)‖ = %g, want 1/dist = %g", got, want)
+	}
+}

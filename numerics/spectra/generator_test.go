@@ -6,6 +6,8 @@ import (
 	"testing"
 
 	"gonum.org/v1/gonum/mat"
+
+	"semiflow/numerics/linop"
 )
 
 // Lumer–Phillips (Pazy 1983, Thm 1.4.3): a normal stable A has
@@ -154,5 +156,28 @@ func TestMarkovQueueAndCycle(t *testing.T) {
 	}
 	if _, err := Markov(bg, op([][]float64{{-1, 2}, {1, -1}})); err == nil {
 		t.Error("row sum ≠ 0 accepted")
+	}
+}
+
+// Sparse path on a 2-D convection–diffusion operator (N = 1600): α(A) and
+// ω(A) against the closed forms (eigenvalues of the Kronecker sum of
+// tridiagonal Toeplitz matrices, and the largest eigenvalue of its
+// symmetric part, itself a Kronecker sum of symmetric Toeplitz matrices).
+func TestGeneratorSparse(t *testing.T) {
+	x, lx, dx, ux := convDiff1D(40, 0.05, 1)
+	y, ly, dy, uy := convDiff1D(40, 0.05, 0.3)
+	a := linop.NewKronSum(x, y)
+	rep, err := Generator(bg, a, nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	alpha := convDiffEigs(40, 40, lx, dx, ux, ly, dy, uy)[0]
+	c := math.Cos(math.Pi / 41)
+	omega := dx + 2*math.Abs((lx+ux)/2)*c + dy + 2*math.Abs((ly+uy)/2)*c
+	if relDiff(rep.SpectralAbscissa, alpha) > 1e-8 || relDiff(rep.NumericalAbscissa, omega) > 1e-9 {
+		t.Errorf("α = %.12g (want %.12g), ω = %.12g (want %.12g)", rep.SpectralAbscissa, alpha, rep.NumericalAbscissa, omega)
+	}
+	if rep.Dissipative != (omega <= 0) {
+		t.Errorf("dissipative = %v with ω(A) = %g", rep.Dissipative, omega)
 	}
 }

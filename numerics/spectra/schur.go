@@ -38,6 +38,18 @@ func NewSchur(a linop.Operator) (*Schur, error) {
 	return schurOf(m)
 }
 
+// NewSchurWeighted computes the complex Schur form of B = R A R⁻¹ for the
+// weight W = RᵀR, so that σ_min(zI − B) = 1/‖(zI − A)⁻¹‖_W: pseudospectra,
+// resolvent norms and abscissae from it are those of the W-norm. It panics
+// with ErrShape on a size mismatch.
+func NewSchurWeighted(a linop.Operator, w Weight) (*Schur, error) {
+	m, err := toDense(a)
+	if err != nil {
+		return nil, err
+	}
+	return schurOf(weighted(m, w))
+}
+
 func schurOf(m *mat.Dense) (*Schur, error) {
 	n, _ := m.Dims()
 	s := &Schur{N: n}

@@ -333,6 +333,9 @@ type GrowthOptions struct {
 	Eps []float64
 	// NoKreiss skips the Kreiss constant (the most expensive bound).
 	NoKreiss bool
+	// Weight, if not nil, measures ‖e^{tA}‖ in the norm √(xᵀWx), W = RᵀR:
+	// ‖e^{tA}‖_W = ‖e^{tB}‖₂ with B = RAR⁻¹, and all bounds refer to B.
+	Weight Weight
 	// Progress, if not nil, is called after each time point.
 	Progress func(done, total int)
 }
@@ -384,10 +387,11 @@ func GrowthCurve(ctx context.Context, a linop.Operator, times []float64, opt *Gr
 	if opt != nil {
 		o = *opt
 	}
-	m, err := toDense(a)
+	m0, err := toDense(a)
 	if err != nil {
 		return nil, err
 	}
+	m := weighted(m0, o.Weight)
 	n, _ := m.Dims()
 	g := &Growth{T: append([]float64(nil), times...), Norm: make([]float64, len(times))}
 	normAt := func(t float64, wantVec bool) (float64, []float64, int, error) {
