@@ -6,10 +6,12 @@ import (
 	"math"
 	"math/cmplx"
 	"math/rand/v2"
+	"strings"
 	"testing"
 
 	"gonum.org/v1/gonum/mat"
 	"semiflow/numerics/linop"
+	"semiflow/numerics/memguard"
 )
 
 // residual returns ‖(zI − A) x − b‖∞ / (‖zI − A‖∞ ‖x‖∞ + ‖b‖∞), computed
@@ -266,5 +268,18 @@ func TestDenseProgressCancel(t *testing.T) {
 	cancel()
 	if _, err := NewShiftedContext(ctx, a, 1i, Options{}); !errors.Is(err, context.Canceled) {
 		t.Errorf("cancelled dense factorisation: %v", err)
+	}
+}
+
+func TestMemoryGuard(t *testing.T) {
+	old := memguard.SetLimit(1 << 20)
+	defer memguard.SetLimit(old)
+	m := mat.NewDense(400, 400, nil) // 400² complex entries need 2.4 MiB
+	for i := 0; i < 400; i++ {
+		m.Set(i, i, 1)
+	}
+	_, err := NewShifted(linop.NewDense(m), 2)
+	if !errors.Is(err, memguard.ErrTooLarge) || !strings.Contains(err.Error(), "dense 400×400 complex matrix needs 2.4 MiB") {
+		t.Errorf("dense solver beyond the limit: %v", err)
 	}
 }
