@@ -4,6 +4,7 @@ import (
 	"context"
 	"fmt"
 	"strings"
+	"time"
 
 	"semiflow/lang/syntax"
 	"semiflow/lang/value"
@@ -63,6 +64,7 @@ type Closure struct {
 	Def    *syntax.FuncDef
 	File   *syntax.File
 	params []value.Param
+	names  []string
 }
 
 func (f *Closure) Type() string             { return "function" }
@@ -245,16 +247,15 @@ func (in *Interp) callArgs(sc *scope, site syntax.Node, fn value.Callable, pos [
 		if in.depth >= in.Limits.MaxDepth {
 			return nil, in.errorf(sc, site, "RecursionError", "calls nested more than %d deep (in %s); a recursive function needs choose(...) to stop", in.Limits.MaxDepth, name)
 		}
-		locals := make(map[string]value.Value, len(args))
-		for i, p := range f.params {
+		for i := range args {
 			v, err := value.Force(args[i])
 			if err != nil {
 				return nil, err
 			}
-			locals[p.Name] = v
+			args[i] = v
 		}
 		in.depth++
-		v, err := in.evalValue(&scope{file: f.File, locals: locals}, f.Def.Body)
+		v, err := in.evalValue(&scope{file: f.File, names: f.names, locals: args}, f.Def.Body)
 		in.depth--
 		if err != nil {
 			if e, ok := err.(*Error); ok && e.Name != "Interrupted" && e.Name != "LimitError" {
@@ -280,4 +281,30 @@ func (in *Interp) callArgs(sc *scope, site syntax.Node, fn value.Callable, pos [
 		return v, in.chargeResult(sc, site, v)
 	}
 	return nil, in.errorf(sc, site, "TypeError", "%s cannot be called", name)
+}
+
+// Progress returns a callback for long computations, func(done, total
+// int), that shows "name: done/total (p%)" in one display updated in place,
+// at most every 200 ms and once at completion. Long builtins pass it to
+// numerics routines that accept a progress callback.
+func (c *Call) Progress() func(done, total int) {
+	in := c.Interp
+	in.progressSeq++
+	id := fmt.Sprintf("progress-%s-%d", c.Name, in.progressSeq)
+	var last time.Time
+	shown := false
+	return func(done, total int) {
+		now := time.Now()
+		if done < total && now.Sub(last) < 200*time.Millisecond {
+			return
+		}
+		last = now
+		pct := 100.0
+		if total > 0 {
+			pct = 100 * float64(done) / float64(total)
+		}
+		text := fmt.Sprintf("%s: %d/%d (%.0f%%)", c.Name, done, total, pct)
+		in.Out.Display(map[string]any{"text/plain": text}, map[string]any{}, id, shown)
+		shown = true
+	}
 }

@@ -2,6 +2,8 @@ package eval
 
 import (
 	"flag"
+	"fmt"
+	"strings"
 	"testing"
 )
 
@@ -20,5 +22,28 @@ func TestSuggest(t *testing.T) {
 	}
 	if d := editDistance("kitten", "sitting"); d != 3 {
 		t.Errorf("editDistance = %d, want 3 (the classic example)", d)
+	}
+}
+
+type events struct{ ids []string }
+
+func (e *events) Stream(string, string) {}
+func (e *events) Display(data, md map[string]any, id string, update bool) {
+	e.ids = append(e.ids, fmt.Sprintf("%s %v %s", id, update, data["text/plain"]))
+}
+func (e *events) Clear(bool)          {}
+func (e *events) Page(map[string]any) {}
+
+func TestProgress(t *testing.T) {
+	out := &events{}
+	in := New(nil, nil, out)
+	c := &Call{Interp: in, Name: "work"}
+	p := c.Progress()
+	p(0, 4)
+	p(1, 4) // within 200 ms of the first: skipped
+	p(4, 4) // completion is always shown
+	want := []string{"progress-work-1 false work: 0/4 (0%)", "progress-work-1 true work: 4/4 (100%)"}
+	if strings.Join(out.ids, "|") != strings.Join(want, "|") {
+		t.Errorf("progress displays = %q, want %q", out.ids, want)
 	}
 }

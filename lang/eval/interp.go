@@ -58,6 +58,8 @@ type Interp struct {
 	steps     int64
 	nextCheck int64
 	depth     int
+
+	progressSeq int
 }
 
 // New returns an interpreter over globals (created if nil).
@@ -75,7 +77,17 @@ func (in *Interp) Steps() int64 { return in.steps }
 // inside a user function, the parameters.
 type scope struct {
 	file   *syntax.File
-	locals map[string]value.Value
+	names  []string // parameter names, in order
+	locals []value.Value
+}
+
+func (sc *scope) local(name string) (value.Value, bool) {
+	for i, n := range sc.names {
+		if n == name {
+			return sc.locals[i], true
+		}
+	}
+	return nil, false
 }
 
 // Exec runs one statement of file. For an expression statement it returns
@@ -118,6 +130,7 @@ func (in *Interp) Exec(ctx context.Context, file *syntax.File, st syntax.Stmt) (
 				prm.Default = d
 			}
 			c.params = append(c.params, prm)
+			c.names = append(c.names, prm.Name)
 		}
 		in.Globals[s.Name.Name] = c
 		return nil, nil
@@ -219,7 +232,7 @@ func (in *Interp) evalValue(sc *scope, x syntax.Expr) (value.Value, error) {
 }
 
 func (in *Interp) lookup(sc *scope, id *syntax.Ident, what string) (value.Value, error) {
-	if v, ok := sc.locals[id.Name]; ok {
+	if v, ok := sc.local(id.Name); ok {
 		return v, nil
 	}
 	if v, ok := in.Globals[id.Name]; ok {
@@ -239,9 +252,7 @@ func (in *Interp) lookup(sc *scope, id *syntax.Ident, what string) (value.Value,
 
 func (in *Interp) knownNames(sc *scope) []string {
 	var names []string
-	for k := range sc.locals {
-		names = append(names, k)
-	}
+	names = append(names, sc.names...)
 	for k := range in.Globals {
 		names = append(names, k)
 	}

@@ -35,9 +35,9 @@ type Session struct {
 	viewMu sync.RWMutex
 	view   map[string]value.Value
 
-	table   *builtin.Table
-	limits  eval.Limits
-	ids     map[string]bool
+	table  *builtin.Table
+	limits eval.Limits
+	ids    map[string]bool
 }
 
 // NewSession returns a session with no variables and the default builtins
