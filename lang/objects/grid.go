@@ -1,0 +1,129 @@
+package objects
+
+import (
+	"fmt"
+	"strings"
+
+	"semiflow/numerics/grid"
+)
+
+// GridKind tells what a 1-D grid is.
+type GridKind int
+
+const (
+	KindInterval  GridKind = iota // uniform finite-difference grid
+	KindChebyshev                 // Chebyshev points, spectral differentiation
+	KindTensor                    // 2-D tensor product of two 1-D grids
+)
+
+// Grid is a 1-D grid (a uniform interval with boundary conditions, or the
+// Chebyshev points with homogeneous Dirichlet ends) or the 2-D tensor
+// product of two 1-D grids. Exactly one of Interval, Cheb and (X, Y) is set
+// according to Kind.
+//
+// The unknowns of a Chebyshev grid of degree N are the interior points
+// x_1 .. x_{N−1} (u = 0 at x_0 = b and x_N = a). The unknowns of a tensor
+// grid are the pairs (x_ix, y_iy) with index k = ix*ny + iy.
+type Grid struct {
+	Kind     GridKind
+	Interval *grid.Interval  // KindInterval
+	Order    int             // finite-difference order (2 or 4) of an interval
+	Cheb     *grid.Chebyshev // KindChebyshev
+	X, Y     *Grid           // KindTensor: the 1-D factors
+}
+
+func (g *Grid) Type() string { return "grid" }
+
+// Dim returns 1 or 2.
+func (g *Grid) Dim() int {
+	if g.Kind == KindTensor {
+		return 2
+	}
+	return 1
+}
+
+// Size returns the number of unknowns.
+func (g *Grid) Size() int {
+	switch g.Kind {
+	case KindInterval:
+		return g.Interval.Size()
+	case KindChebyshev:
+		return g.Cheb.N - 1
+	}
+	return g.X.Size() * g.Y.Size()
+}
+
+// X1 returns the coordinates of the unknowns of a 1-D grid. It panics for a
+// 2-D grid.
+func (g *Grid) X1() []float64 {
+	switch g.Kind {
+	case KindInterval:
+		return g.Interval.X()
+	case KindChebyshev:
+		p := g.Cheb.Points()
+		return append([]float64(nil), p[1:len(p)-1]...)
+	}
+	panic("objects: X1 of a 2-D grid")
+}
+
+// Coords returns the x and y coordinates of every unknown of a 2-D grid in
+// the order k = ix*ny + iy; for a 1-D grid y is nil.
+func (g *Grid) Coords() (x, y []float64) {
+	if g.Kind != KindTensor {
+		return g.X1(), nil
+	}
+	gx, gy := g.X.X1(), g.Y.X1()
+	ny := len(gy)
+	x = make([]float64, len(gx)*ny)
+	y = make([]float64, len(gx)*ny)
+	for ix, xv := range gx {
+		for iy, yv := range gy {
+			x[ix*ny+iy] = xv
+			y[ix*ny+iy] = yv
+		}
+	}
+	return x, y
+}
+
+// QuadWeights returns quadrature weights on the unknowns: trapezoidal for
+// intervals, Clenshaw–Curtis for Chebyshev points, products for tensor grids.
+func (g *Grid) QuadWeights() []float64 {
+	switch g.Kind {
+	case KindInterval:
+		return g.Interval.QuadWeights()
+	case KindChebyshev:
+		return clenshawCurtis(g.Cheb)
+	}
+	wx, wy := g.X.QuadWeights(), g.Y.QuadWeights()
+	w := make([]float64, 0, len(wx)*len(wy))
+	for _, a := range wx {
+		for _, b := range wy {
+			w = append(w, a*b)
+		}
+	}
+	return w
+}
+
+func (g *Grid) describe() string {
+	switch g.Kind {
+	case KindInterval:
+		iv := g.Interval
+		ends := iv.Left.Kind.String()
+		if iv.Left.Kind == grid.Robin {
+			ends = fmt.Sprintf("robin %gu + %gu' = 0", iv.Left.Alpha, iv.Left.Beta)
+		}
+		return fmt.Sprintf("interval [%g, %g], %d points, h = %.6g, %s ends, order %d, %d unknowns",
+			iv.A, iv.B, iv.N, iv.H, strings.ToLower(ends), g.Order, iv.Size())
+	case KindChebyshev:
+		c := g.Cheb
+		return fmt.Sprintf("chebyshev [%g, %g], degree %d, dirichlet ends, %d unknowns", c.A, c.B, c.N, c.N-1)
+	}
+	return fmt.Sprintf("tensor %d×%d unknowns", g.X.Size(), g.Y.Size())
+}
+
+func (g *Grid) String() string {
+	if g.Kind == KindTensor {
+		return "grid: " + g.describe() + "\n  x: " + g.X.describe() + "\n  y: " + g.Y.describe()
+	}
+	return "grid: " + g.describe()
+}
