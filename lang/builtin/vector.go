@@ -398,6 +398,11 @@ func vectorNorm(a []float64, p float64) float64 {
 }
 
 func matrixNorm(m *value.Matrix, p float64) (value.Value, error) {
+	if m.Rows == 0 || m.Cols == 0 {
+		if p == 1 || p == 2 || math.IsInf(p, 1) {
+			return value.Num(0), nil
+		}
+	}
 	switch {
 	case p == 1 || math.IsInf(p, 1):
 		best := 0.0

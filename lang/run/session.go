@@ -5,6 +5,7 @@ package run
 
 import (
 	"context"
+	"fmt"
 	"sort"
 	"sync"
 
@@ -89,7 +90,7 @@ func (s *Session) ExecuteNamed(ctx context.Context, name, src string, out Output
 			e := &eval.Error{Name: "Interrupted", Msg: "interrupted", File: script.File, Pos: st.Pos(), End: st.End()}
 			return nil, nil, e
 		}
-		v, err := in.Exec(ctx, script.File, st)
+		v, err := execGuarded(ctx, in, script.File, st)
 		if err != nil {
 			return nil, nil, err
 		}
@@ -149,3 +150,17 @@ func (discard) Stream(string, string)                                {}
 func (discard) Display(map[string]any, map[string]any, string, bool) {}
 func (discard) Clear(bool)                                           {}
 func (discard) Page(map[string]any)                                  {}
+
+// execGuarded runs one statement and turns a panic (a bug, or misuse
+// inside a builtin) into an InternalError at the statement, so a session
+// survives it. Tests treat InternalError as a failure.
+func execGuarded(ctx context.Context, in *eval.Interp, f *syntax.File, st syntax.Stmt) (v value.Value, err error) {
+	defer func() {
+		if r := recover(); r != nil {
+			v = nil
+			err = &eval.Error{Name: "InternalError", Msg: fmt.Sprintf("internal error: %v (please report this input)", r),
+				File: f, Pos: st.Pos(), End: st.End()}
+		}
+	}()
+	return in.Exec(ctx, f, st)
+}

@@ -9,8 +9,10 @@ import (
 	"testing"
 	"time"
 
+	"semiflow/lang/builtin"
 	"semiflow/lang/eval"
 	"semiflow/lang/syntax"
+	"semiflow/lang/value"
 )
 
 type tracer interface {
@@ -296,6 +298,9 @@ func FuzzEval(f *testing.F) {
 				}
 			}
 		case errors.As(err, &ee):
+			if ee.Name == "InternalError" {
+				t.Fatalf("panic during evaluation: %v", ee)
+			}
 			if ee.Name == "Interrupted" {
 				t.Fatalf("evaluation ran into the deadline: the work budget did not bound it")
 			}
@@ -373,4 +378,18 @@ func TestCompleteDuringExecution(t *testing.T) {
 	}
 	cancel()
 	<-done
+}
+
+func TestPanicBecomesInternalError(t *testing.T) {
+	boom := &builtin.Builtin{Name: "boom", Doc: "Panics.", Impl: func(*eval.Call) (value.Value, error) { panic("shape") }}
+	in := eval.New(nil, builtin.New([]*builtin.Builtin{boom}), discard{})
+	script, err := syntax.Parse("cell", "boom()")
+	if err != nil {
+		t.Fatal(err)
+	}
+	_, err = execGuarded(context.Background(), in, script.File, script.Stmts[0])
+	var e *eval.Error
+	if !errors.As(err, &e) || e.Name != "InternalError" || !strings.Contains(e.Msg, "shape") {
+		t.Errorf("err = %v, want an InternalError", err)
+	}
 }

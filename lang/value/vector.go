@@ -203,6 +203,9 @@ func (m *Matrix) Index(i int) Value {
 // Matrices with more than MaxShown rows or columns show the first and last
 // few, with ... between them.
 func (m *Matrix) String() string {
+	if m.Rows == 0 || m.Cols == 0 {
+		return fmt.Sprintf("{} (%d×%d)", m.Rows, m.Cols)
+	}
 	ri := shownIndices(m.Rows)
 	ci := shownIndices(m.Cols)
 	cells := make([][]string, len(ri))
