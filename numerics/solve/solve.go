@@ -81,7 +81,8 @@ func withShift(err error, z complex128) error {
 }
 
 // ShiftedSolver is a factorisation of zI − A for one complex z, reusable
-// for any number of right-hand sides.
+// for any number of right-hand sides. The solvers of this package are safe
+// for concurrent calls of Solve and SolveH (the factors are only read).
 type ShiftedSolver interface {
 	// Solve sets dst = (zI − A)⁻¹ b. It panics with ErrShape on a length
 	// mismatch; dst and b may be the same slice.
