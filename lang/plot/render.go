@@ -1,0 +1,473 @@
+package plot
+
+import (
+	"bytes"
+	"fmt"
+	"hash/fnv"
+	"io"
+	"math"
+	"strings"
+)
+
+// Notes reports data the figure could not draw.
+type Notes struct {
+	NonFinite   int // NaN or ±Inf coordinates or heat map cells, skipped
+	NonPositive int // non-positive values on a logarithmic axis or colour scale, dropped
+}
+
+func (n Notes) text() string {
+	var parts []string
+	if n.NonFinite > 0 {
+		parts = append(parts, fmt.Sprintf("%d non-finite value%s skipped", n.NonFinite, plural(n.NonFinite)))
+	}
+	if n.NonPositive > 0 {
+		parts = append(parts, fmt.Sprintf("%d non-positive value%s dropped (log scale)", n.NonPositive, plural(n.NonPositive)))
+	}
+	return strings.Join(parts, "; ")
+}
+
+func plural(n int) string {
+	if n == 1 {
+		return ""
+	}
+	return "s"
+}
+
+// Font sizes and spacing in px.
+const (
+	titleSize  = 15.0
+	labelSize  = 13.0
+	tickSize   = 11.0
+	legendSize = 11.0
+	noteSize   = 10.0
+	tickLen    = 5.0
+	minorLen   = 3.0
+)
+
+// SVG renders the figure as a standalone SVG document. See WriteSVG.
+func (f *Figure) SVG() ([]byte, error) {
+	var b bytes.Buffer
+	_, err := f.WriteSVG(&b)
+	if err != nil {
+		return nil, err
+	}
+	return b.Bytes(), nil
+}
+
+// WriteSVG writes the figure as a standalone SVG document to w and reports the
+// data it skipped. It returns an error, and writes nothing, when a logarithmic
+// axis has non-positive data and DropNonPositive is false, when an explicit
+// log-axis limit is not positive, or when a heat map is placed on a
+// logarithmic axis. It panics with ErrShape if a series has inconsistent
+// lengths.
+func (f *Figure) WriteSVG(w io.Writer) (Notes, error) {
+	f.checkShapes()
+	r, err := f.prepare()
+	if err != nil {
+		return Notes{}, err
+	}
+	r.draw()
+	_, err = w.Write(r.b.Bytes())
+	return r.notes, err
+}
+
+// renderer holds one rendering of a figure.
+type renderer struct {
+	f      *Figure
+	b      bytes.Buffer
+	notes  Notes
+	id     string
+	W, H   float64
+	plot   rect
+	xs, ys scale
+	xt, yt axisTicks
+	title  []string
+	heat   *HeatMap // the heat map whose colour bar is drawn
+	cbar   colourScale
+	cbt    axisTicks
+	segs   [][2]point // data segments in px, for legend placement
+	marks  []point    // data markers in px
+	legend rect       // where the legend box went
+}
+
+type axisTicks struct {
+	major  []float64
+	minor  []float64
+	labels []label
+}
+
+// colourScale maps heat map values to [0, 1].
+type colourScale struct {
+	log    bool
+	lo, hi float64
+}
+
+func (c colourScale) t(v float64) (float64, bool) {
+	if !finite(v) || (c.log && v <= 0) {
+		return 0, false
+	}
+	if c.log {
+		return clamp01((math.Log10(v) - math.Log10(c.lo)) / (math.Log10(c.hi) - math.Log10(c.lo))), true
+	}
+	return clamp01((v - c.lo) / (c.hi - c.lo)), true
+}
+
+func clamp01(t float64) float64 { return math.Min(1, math.Max(0, t)) }
+
+// bounds accumulates the data range on one axis.
+type bounds struct {
+	log         bool
+	lo, hi      float64
+	n           int
+	nonPos      int
+	firstNonPos float64
+}
+
+func newBounds(log bool) bounds { return bounds{log: log, lo: math.Inf(1), hi: math.Inf(-1)} }
+
+// valid reports whether v can be drawn on this axis, counting failures.
+func (b *bounds) valid(v float64, notes *Notes) bool {
+	if !finite(v) {
+		notes.NonFinite++
+		return false
+	}
+	if b.log && v <= 0 {
+		if b.nonPos == 0 {
+			b.firstNonPos = v
+		}
+		b.nonPos++
+		return false
+	}
+	return true
+}
+
+func (b *bounds) add(v float64) {
+	b.lo, b.hi = math.Min(b.lo, v), math.Max(b.hi, v)
+	b.n++
+}
+
+// limits returns the axis limits from explicit values or the data range.
+func (b *bounds) limits(ax Axis, margin float64) (lo, hi float64) {
+	if ax.Min < ax.Max && finite(ax.Min) && finite(ax.Max) {
+		return ax.Min, ax.Max
+	}
+	return autoRange(b.lo, b.hi, b.n > 0, b.log, margin)
+}
+
+// autoRange widens [lo, hi] by margin·span on each side (in log₁₀ on a log
+// scale), gives a zero-width range a width of its own, and bounds the result
+// to ±1e300 so that spans stay finite.
+func autoRange(lo, hi float64, any, log bool, margin float64) (float64, float64) {
+	if !any {
+		if log {
+			return 1, 10
+		}
+		return 0, 1
+	}
+	if log {
+		lo, hi = math.Log10(lo), math.Log10(hi)
+	} else {
+		lo, hi = math.Max(lo, -1e300), math.Min(hi, 1e300)
+	}
+	mid := lo/2 + hi/2
+	span := hi - lo
+	if span <= math.Max(math.Abs(mid)*1e-9, 1e-300) {
+		half := math.Max(math.Abs(mid)*0.1, 1e-300)
+		if mid == 0 {
+			half = 1
+		}
+		if log {
+			half = 0.5
+		}
+		lo, hi = mid-half, mid+half
+	} else {
+		lo, hi = lo-margin*span, hi+margin*span
+	}
+	if log {
+		return math.Pow(10, lo), math.Pow(10, hi)
+	}
+	return math.Max(lo, -1e300), math.Min(hi, 1e300)
+}
+
+// prepare collects the data ranges and lays the figure out.
+func (f *Figure) prepare() (*renderer, error) {
+	r := &renderer{f: f}
+	r.W, r.H = float64(f.Width), float64(f.Height)
+	if f.Width <= 0 {
+		r.W = DefaultWidth
+	}
+	if f.Height <= 0 {
+		r.H = DefaultHeight
+	}
+	r.W, r.H = math.Max(r.W, 120), math.Max(r.H, 90)
+	for _, ax := range []struct {
+		a    Axis
+		name string
+	}{{f.X, "x"}, {f.Y, "y"}} {
+		if ax.a.Log && ax.a.Min < ax.a.Max && ax.a.Min <= 0 {
+			return nil, fmt.Errorf("plot: logarithmic %s axis has the non-positive lower limit %s", ax.name, FormatValue(ax.a.Min))
+		}
+	}
+	bx, by := newBounds(f.X.Log), newBounds(f.Y.Log)
+	pt := func(x, y float64) {
+		okx := bx.valid(x, &r.notes)
+		if oky := by.valid(y, &r.notes); okx && oky {
+			bx.add(x)
+			by.add(y)
+		}
+	}
+	for _, s := range f.Series {
+		switch s := s.(type) {
+		case *Line:
+			for k := range s.X {
+				pt(s.X[k], s.Y[k])
+			}
+		case *Points:
+			for k := range s.X {
+				pt(s.X[k], s.Y[k])
+			}
+		case *Band:
+			for k := range s.X {
+				pt(s.X[k], s.Lower[k])
+				pt(s.X[k], s.Upper[k])
+			}
+		case *ContourSet:
+			for _, ls := range s.Lines {
+				for _, pl := range ls {
+					for k := range pl.X {
+						pt(pl.X[k], pl.Y[k])
+					}
+				}
+			}
+		case *HeatMap:
+			if f.X.Log || f.Y.Log {
+				return nil, fmt.Errorf("plot: a heat map needs linear axes")
+			}
+			if len(s.Z) > 0 && len(s.Z[0]) > 0 && finite(s.X0) && finite(s.X1) && finite(s.Y0) && finite(s.Y1) {
+				bx.add(s.X0)
+				bx.add(s.X1)
+				by.add(s.Y0)
+				by.add(s.Y1)
+			}
+			if r.heat == nil {
+				r.heat = s
+			}
+			for _, row := range s.Z {
+				for _, v := range row {
+					if !finite(v) {
+						r.notes.NonFinite++
+					} else if s.Log && v <= 0 {
+						r.notes.NonPositive++
+					}
+				}
+			}
+		case *HLine:
+			if by.valid(s.Y, &r.notes) {
+				by.add(s.Y)
+			}
+		case *VLine:
+			if bx.valid(s.X, &r.notes) {
+				bx.add(s.X)
+			}
+		case *Text:
+			pt(s.X, s.Y)
+		}
+	}
+	for _, b := range []struct {
+		b    *bounds
+		name string
+	}{{&bx, "x"}, {&by, "y"}} {
+		if b.b.nonPos == 0 {
+			continue
+		}
+		if !f.DropNonPositive {
+			return nil, fmt.Errorf("plot: %d non-positive value%s (first %s) on the logarithmic %s axis; set DropNonPositive to drop them",
+				b.b.nonPos, plural(b.b.nonPos), FormatValue(b.b.firstNonPos), b.name)
+		}
+		r.notes.NonPositive += b.b.nonPos
+	}
+	if r.heat != nil {
+		r.cbar = r.heatScale(r.heat)
+	}
+	r.id = f.hashID()
+	r.layout(&bx, &by)
+	return r, nil
+}
+
+// heatScale returns the colour scale of h and counts its undrawable cells.
+func (r *renderer) heatScale(h *HeatMap) colourScale {
+	c := colourScale{log: h.Log}
+	if h.Min < h.Max && finite(h.Min) && finite(h.Max) && (!h.Log || h.Min > 0) {
+		c.lo, c.hi = h.Min, h.Max
+		return c
+	}
+	b := newBounds(h.Log)
+	for _, row := range h.Z {
+		for _, v := range row {
+			if finite(v) && (!h.Log || v > 0) {
+				b.add(v)
+			}
+		}
+	}
+	c.lo, c.hi = autoRange(b.lo, b.hi, b.n > 0, h.Log, 0)
+	return c
+}
+
+// layout sizes the margins from the text they hold and computes the scales
+// and ticks. Margins only grow, so the loop settles in a few rounds.
+func (r *renderer) layout(bx, by *bounds) {
+	f := r.f
+	top := 14.0
+	if f.Title != "" {
+		r.title = wrapText(f.Title, r.W-24, titleSize, 2)
+		top = 12 + float64(len(r.title))*(titleSize+4) + 6
+	}
+	bottom := tickLen + 3 + tickSize + 8
+	if f.X.Label != "" {
+		bottom += labelSize + 6
+	}
+	if r.notes.text() != "" {
+		bottom += noteSize + 4
+	}
+	margin := 0.03
+	if r.heat != nil { // a heat map fills the plot
+		margin = 0
+	}
+	left, right := 40.0, 20.0
+	cbarW := 0.0
+	for round := 0; round < 6; round++ {
+		pw := math.Max(r.W-left-right-cbarW, 20)
+		ph := math.Max(r.H-top-bottom, 20)
+		r.plot = rect{left, top, left + pw, top + ph}
+		xlo, xhi := bx.limits(f.X, margin)
+		ylo, yhi := by.limits(f.Y, margin)
+		if f.EqualAspect && !f.X.Log && !f.Y.Log {
+			ux, uy := (xhi-xlo)/pw, (yhi-ylo)/ph
+			if ux > uy {
+				m, h := ylo/2+yhi/2, ux*ph/2
+				ylo, yhi = m-h, m+h
+			} else {
+				m, h := xlo/2+xhi/2, uy*pw/2
+				xlo, xhi = m-h, m+h
+			}
+		}
+		r.xs = newScale(f.X.Log, xlo, xhi, r.plot.x0, r.plot.x1)
+		r.ys = newScale(f.Y.Log, ylo, yhi, r.plot.y1, r.plot.y0)
+		r.yt = fitTicks(f.Y.Log, ylo, yhi, ph, func(l []label, spacing float64) bool {
+			return spacing >= tickSize+5
+		})
+		r.xt = fitTicks(f.X.Log, xlo, xhi, pw, func(l []label, spacing float64) bool {
+			for k := 0; k+1 < len(l); k++ {
+				if (l[k].width(tickSize)+l[k+1].width(tickSize))/2+10 > spacing {
+					return false
+				}
+			}
+			return true
+		})
+		needL := 8 + maxWidth(r.yt.labels, tickSize) + tickLen + 4
+		if f.Y.Label != "" {
+			needL += labelSize + 8
+		}
+		needR := 14.0
+		if n := len(r.xt.labels); n > 0 {
+			if p, ok := r.xs.px(r.xt.major[n-1]); ok {
+				needR = math.Max(needR, r.xt.labels[n-1].width(tickSize)/2-(r.plot.x1-p)+6)
+			}
+		}
+		needCbar := 0.0
+		if r.heat != nil {
+			r.cbt = fitTicks(r.cbar.log, r.cbar.lo, r.cbar.hi, ph, func(l []label, spacing float64) bool {
+				return spacing >= tickSize+5
+			})
+			needCbar = 14 + 14 + tickLen + 3 + maxWidth(r.cbt.labels, tickSize)
+			if r.heat.Label != "" {
+				needCbar += 8 + labelSize
+			}
+			needR = math.Max(needR-6, 8)
+		}
+		if needL <= left && needR <= right && needCbar <= cbarW {
+			break
+		}
+		left, right, cbarW = math.Max(left, needL), math.Max(right, needR), math.Max(cbarW, needCbar)
+	}
+}
+
+func maxWidth(ls []label, size float64) float64 {
+	w := 0.0
+	for _, l := range ls {
+		w = math.Max(w, l.width(size))
+	}
+	return w
+}
+
+// fitTicks chooses ticks for [lo, hi] drawn over length px, reducing their
+// number until fits accepts the labels at their smallest spacing in px.
+func fitTicks(log bool, lo, hi, length float64, fits func([]label, float64) bool) axisTicks {
+	target := int(math.Max(2, math.Min(12, length/60)))
+	var at axisTicks
+	for ; target >= 1; target-- {
+		if log {
+			at.major, at.minor = LogTicks(lo, hi, target)
+			at.labels = logLabels(at.major)
+		} else {
+			var step float64
+			at.major, step = NiceTicks(lo, hi, target)
+			at.minor = nil
+			at.labels = linearLabels(at.major, step)
+		}
+		if len(at.major) < 2 {
+			return at
+		}
+		spacing := math.Inf(1)
+		s := newScale(log, lo, hi, 0, length)
+		for k := 0; k+1 < len(at.major); k++ {
+			a, _ := s.px(at.major[k])
+			b, _ := s.px(at.major[k+1])
+			spacing = math.Min(spacing, math.Abs(b-a))
+		}
+		if fits(at.labels, spacing) {
+			return at
+		}
+	}
+	// Even the sparsest ticks collide: keep the two end ticks.
+	if n := len(at.major); n > 2 {
+		at.major = []float64{at.major[0], at.major[n-1]}
+		at.labels = []label{at.labels[0], at.labels[n-1]}
+	}
+	return at
+}
+
+// hashID derives an identifier prefix from the figure's content, so that
+// several figures inlined in one HTML page do not share clip-path or gradient
+// ids, while the same figure always gives the same file.
+func (f *Figure) hashID() string {
+	h := fnv.New64a()
+	fl := func(vs ...float64) {
+		for _, v := range vs {
+			fmt.Fprintf(h, "%x,", math.Float64bits(v))
+		}
+	}
+	fmt.Fprintf(h, "%d|%d|%q|%q|%q|%d", f.Width, f.Height, f.Title, f.X.Label, f.Y.Label, len(f.Series))
+	for _, s := range f.Series {
+		switch s := s.(type) {
+		case *Line:
+			fl(s.X...)
+			fl(s.Y...)
+		case *Points:
+			fl(s.X...)
+			fl(s.Y...)
+		case *Band:
+			fl(s.X...)
+			fl(s.Upper...)
+		case *ContourSet:
+			fl(s.Levels...)
+		case *HeatMap:
+			fl(s.X0, s.X1, s.Y0, s.Y1)
+			for _, row := range s.Z {
+				fl(row...)
+			}
+		}
+		fmt.Fprintf(h, "%T;", s)
+	}
+	return fmt.Sprintf("sf%08x", h.Sum64()&0xffffffff)
+}
