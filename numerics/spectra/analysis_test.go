@@ -393,3 +393,61 @@ func TestGrowthWeighted(t *testing.T) {
 		t.Errorf("weighted ‖R(z)‖ = %g, want 1/dist = %g", got, want)
 	}
 }
+
+// The fast tridiagonal solver against the dense one on the Dirichlet
+// second difference tridiag(1, −2, 1), whose largest eigenvalue is
+// −4 sin²(π/(2(k+1))) (closed form), and on a random tridiagonal.
+func TestTridiagTopFast(t *testing.T) {
+	k := 50
+	a, b := make([]float64, k), make([]float64, k-1)
+	for i := range a {
+		a[i] = -2
+	}
+	for i := range b {
+		b[i] = 1
+	}
+	th, s := tridiagTopFast(a, b)
+	sn := math.Sin(math.Pi / float64(2*(k+1)))
+	if math.Abs(th+4*sn*sn) > 1e-14 {
+		t.Errorf("θ = %.17g, want %.17g", th, -4*sn*sn)
+	}
+	rng := rand.New(rand.NewPCG(5, 6))
+	for i := range a {
+		a[i] = rng.NormFloat64()
+	}
+	for i := range b {
+		b[i] = rng.NormFloat64()
+	}
+	th, s = tridiagTopFast(a, b)
+	th2, _, s2 := tridiagTop(a, b)
+	dot := 0.0
+	for i := range s {
+		dot += s[i] * s2[i]
+	}
+	if math.Abs(th-th2) > 1e-13*math.Abs(th2) || math.Abs(math.Abs(dot)-1) > 1e-10 {
+		t.Errorf("θ = %g vs %g, |⟨s, s₂⟩| = %g", th, th2, math.Abs(dot))
+	}
+}
+
+// The Lanczos path of the numerical range (n > 64) on the Jordan block:
+// r = ω = cos(π/(N+1)) (Haagerup & de la Harpe, Proc. AMS 1992).
+func TestNumericalRadiusJordanLanczos(t *testing.T) {
+	n := 100
+	m := mat.NewDense(n, n, nil)
+	for i := 0; i+1 < n; i++ {
+		m.Set(i, i+1, 1)
+	}
+	nr, err := NumRange(denseOp{m}, nil, 6)
+	if err != nil {
+		t.Fatal(err)
+	}
+	want := math.Cos(math.Pi / float64(n+1))
+	if relDiff(nr.Radius, want) > 1e-11 || relDiff(nr.Abscissa, want) > 1e-11 {
+		t.Errorf("r = %.15g, ω = %.15g, want %.15g", nr.Radius, nr.Abscissa, want)
+	}
+	for k, z := range nr.Boundary {
+		if math.Abs(cmplx.Abs(z)-want) > 1e-8 {
+			t.Errorf("boundary point %d at |z| = %.12g", k, cmplx.Abs(z))
+		}
+	}
+}

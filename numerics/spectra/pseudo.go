@@ -163,7 +163,7 @@ func (s *Schur) Pseudo(ctx context.Context, r Region, opt *GridOptions) (*Pseudo
 	}
 	p.Contours = contours(re, im, p.Sigma, o.Levels)
 	p.Method = fmt.Sprintf("complex Schur form (no balancing), then inverse Lanczos on ((zI−T)ᴴ(zI−T))⁻¹ at each of %d×%d points, %d workers", len(re), len(im), o.Workers)
-	p.Accuracy = fmt.Sprintf("σ_min relative error ≲ %.1e where converged (Ritz residual test); %d of %d points unconverged after %d steps; contours by linear interpolation of log σ between grid points", o.Tol/2, p.Unconverged, len(p.Sigma), o.MaxIter)
+	p.Accuracy = fmt.Sprintf("σ_min relative error ≲ %.1e where converged (Lanczos Ritz residual, or its gap-based estimate); %d of %d points unconverged after %d steps; contours by linear interpolation of log σ between grid points", o.Tol/2, p.Unconverged, len(p.Sigma), o.MaxIter)
 	return p, nil
 }
 

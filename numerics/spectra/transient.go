@@ -133,8 +133,8 @@ type AbscissaResult struct {
 // Method: for a horizontal line Im z = y, the rightmost point of σ_ε on it
 // is found exactly (Lipschitz walk from the right, then bisection; see
 // rightmostOnLine). The maximum over y is sought from the lines through
-// every eigenvalue (each component of σ_ε contains one) and a uniform set of
-// lines over the numerical range's extent, then refined by golden-section
+// the 60 rightmost eigenvalues (each component of σ_ε contains one), the
+// real axis and 17 uniform lines over the numerical range's extent, then refined by golden-section
 // search between neighbouring lines. The result is a lower bound that is
 // exact when the maximum is unimodal between neighbouring lines, which holds
 // for all but pathological sets; it never exceeds ω(A) + ε.
@@ -154,12 +154,7 @@ func PseudoAbscissa(ctx context.Context, a linop.Operator, eps float64) (*Abscis
 }
 
 func (sh *shape) pseudoAbscissa(ctx context.Context, eps float64) (*AbscissaResult, error) {
-	ys := []float64{0}
-	for _, l := range sh.eigs {
-		if imag(l) > 0 {
-			ys = append(ys, imag(l))
-		}
-	}
+	ys := append([]float64{0}, sh.lineStarts()...)
 	for _, y := range linspace(0, sh.spreadImag+eps, 17) {
 		ys = append(ys, y)
 	}
@@ -209,6 +204,26 @@ func (sh *shape) pseudoAbscissa(ctx context.Context, eps float64) (*AbscissaResu
 	}, nil
 }
 
+// maxLines bounds the eigenvalue-based starting lines of the searches.
+const maxLines = 60
+
+// lineStarts returns the imaginary parts (> 0) of the maxLines rightmost
+// eigenvalues in the upper half plane.
+func (sh *shape) lineStarts() []float64 {
+	var up []complex128
+	for _, l := range sh.eigs {
+		if imag(l) > 0 {
+			up = append(up, l)
+		}
+	}
+	sort.Slice(up, func(i, j int) bool { return real(up[i]) > real(up[j]) })
+	ys := make([]float64, 0, min(len(up), maxLines))
+	for _, l := range up[:min(len(up), maxLines)] {
+		ys = append(ys, imag(l))
+	}
+	return ys
+}
+
 func dedupe(x []float64, tol float64) []float64 {
 	out := x[:0]
 	for i, v := range x {
@@ -224,12 +239,7 @@ func dedupe(x []float64, tol float64) []float64 {
 // and a uniform set over W(A), refined around the best three samples by
 // golden-section search.
 func (sh *shape) minOverLine(x float64) (float64, float64) {
-	ys := []float64{0}
-	for _, l := range sh.eigs {
-		if imag(l) > 0 {
-			ys = append(ys, imag(l))
-		}
-	}
+	ys := append([]float64{0}, sh.lineStarts()...)
 	for _, y := range linspace(0, sh.spreadImag, 25) {
 		ys = append(ys, y)
 	}
