@@ -451,3 +451,28 @@ func TestNumericalRadiusJordanLanczos(t *testing.T) {
 		}
 	}
 }
+
+// Residual checks of the returned eigenvectors: ‖Ax − λx‖ and ‖yᴴA − λyᴴ‖.
+func TestDenseSpectrumVectors(t *testing.T) {
+	a := grcar(12)
+	sp, err := DenseSpectrum(a)
+	if err != nil {
+		t.Fatal(err)
+	}
+	n := 12
+	for k, l := range sp.Values {
+		var rx, ry float64
+		for i := 0; i < n; i++ {
+			var ax, ya complex128
+			for j := 0; j < n; j++ {
+				ax += complex(a.m.At(i, j), 0) * sp.Right.At(j, k)
+				ya += cmplx.Conj(sp.Left.At(j, k)) * complex(a.m.At(j, i), 0)
+			}
+			rx += math.Pow(cmplx.Abs(ax-l*sp.Right.At(i, k)), 2)
+			ry += math.Pow(cmplx.Abs(ya-l*cmplx.Conj(sp.Left.At(i, k))), 2)
+		}
+		if math.Sqrt(rx) > 1e-13 || math.Sqrt(ry) > 1e-13 {
+			t.Errorf("λ_%d: right residual %g, left residual %g", k, math.Sqrt(rx), math.Sqrt(ry))
+		}
+	}
+}

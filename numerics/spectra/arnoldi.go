@@ -121,6 +121,7 @@ func Rightmost(ctx context.Context, a linop.Operator, opt *EigsOptions) (*Spectr
 	type pair struct {
 		l   complex128
 		res float64
+		x   []complex128
 	}
 	var ps []pair
 	for k, th := range thetas {
@@ -139,12 +140,20 @@ func Rightmost(ctx context.Context, a linop.Operator, opt *EigsOptions) (*Spectr
 			d := complex(ar[i], ai[i]) - l*x[i]
 			r2 += real(d)*real(d) + imag(d)*imag(d)
 		}
-		ps = append(ps, pair{l, math.Sqrt(r2) / cnorm(x)})
+		nx := cnorm(x)
+		ps = append(ps, pair{l, math.Sqrt(r2) / nx, x})
 	}
 	sort.SliceStable(ps, func(i, j int) bool { return rightOf(ps[i].l, ps[j].l) })
 	sp.Abscissa = math.Inf(-1)
 	maxRes := 0.0
-	for _, p := range ps {
+	if len(ps) > 0 {
+		sp.Right = mat.NewCDense(n, len(ps), nil)
+	}
+	for k, p := range ps {
+		nx := cnorm(p.x)
+		for i, v := range p.x {
+			sp.Right.Set(i, k, v/complex(nx, 0))
+		}
 		sp.Values = append(sp.Values, p.l)
 		sp.Residual = append(sp.Residual, p.res)
 		sp.Abscissa = math.Max(sp.Abscissa, real(p.l))

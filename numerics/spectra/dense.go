@@ -1,9 +1,12 @@
 package spectra
 
 import (
+	"fmt"
+
 	"gonum.org/v1/gonum/mat"
 
 	"semiflow/numerics/linop"
+	"semiflow/numerics/memguard"
 )
 
 // denser is implemented by operators that can produce their dense matrix.
@@ -24,6 +27,11 @@ func toDense(a linop.Operator) (*mat.Dense, error) {
 	}
 	if r > maxDense {
 		return nil, numErr("dense method refused for n = %d > %d; use the sparse (Arnoldi) methods", r, maxDense)
+	}
+	// The matrix, a complex Schur form with its unitary factor, and
+	// workspace: about 64n² bytes.
+	if err := memguard.Check(r*r, 64, fmt.Sprintf("dense spectral analysis of order %d", r)); err != nil {
+		return nil, err
 	}
 	if d, ok := a.(denser); ok {
 		m, err := d.ToDense()

@@ -22,6 +22,10 @@ type Spectrum struct {
 	Cond []float64
 	// Residual[k] = ‖Ax − λx‖/‖x‖ for the sparse method; empty for dense.
 	Residual []float64
+	// Right and Left hold unit right and left eigenvectors in the columns
+	// (column k for Values[k]; A x = λ x, yᴴA = λ yᴴ), for the dense method;
+	// Right also for the sparse one.
+	Right, Left *mat.CDense
 	// Abscissa is the spectral abscissa α(A) = max Re λ over the computed
 	// eigenvalues (over all of them for the dense method).
 	Abscissa float64
@@ -72,9 +76,14 @@ func DenseSpectrum(a linop.Operator) (*Spectrum, error) {
 	sp.Values = make([]complex128, n)
 	sp.Cond = make([]float64, n)
 	maxCond := 0.0
+	sp.Right, sp.Left = mat.NewCDense(n, n, nil), mat.NewCDense(n, n, nil)
 	for k, i := range idx {
 		sp.Values[k], sp.Cond[k] = vals[i], cond[i]
 		maxCond = math.Max(maxCond, cond[i])
+		for r := 0; r < n; r++ {
+			sp.Right.Set(r, k, x.At(r, i))
+			sp.Left.Set(r, k, y.At(r, i))
+		}
 	}
 	sp.Abscissa = real(sp.Values[0])
 	fn := mat.Norm(m, 2) // Frobenius
