@@ -63,27 +63,59 @@ func denseRun(ctx context.Context, A linop.Operator, u0 []float64, times []float
 	return nil
 }
 
-// kronFactors sets ex = e^{tX} and ey = e^{tY}, the factors of
-// e^{t(X⊕Y)} = e^{tX} ⊗ e^{tY}.
+// kronFactors returns ex = e^{tX} and ey = e^{tY}, the factors of
+// e^{t(X⊕Y)} = e^{tX} ⊗ e^{tY}. A factor shared by X and Y is exponentiated
+// once.
 func kronFactors(k *linop.KronSum, t float64) (ex, ey *mat.Dense, err error) {
-	x, err := toDense(k.X)
-	if err != nil {
+	if ex, err = factorExp(k.X, t); err != nil {
 		return nil, nil, err
 	}
-	y, err := toDense(k.Y)
-	if err != nil {
-		return nil, nil, err
+	if k.Y == k.X {
+		return ex, ex, nil
 	}
-	x.Scale(t, x)
-	y.Scale(t, y)
-	ex, ey = new(mat.Dense), new(mat.Dense)
-	if _, err := Exp(ex, x); err != nil {
-		return nil, nil, err
-	}
-	if _, err := Exp(ey, y); err != nil {
+	if ey, err = factorExp(k.Y, t); err != nil {
 		return nil, nil, err
 	}
 	return ex, ey, nil
+}
+
+// factorExp returns e^{tX}: for symmetric X through the eigen-decomposition
+// X = QΛQᵀ as Q e^{tΛ} Qᵀ (Q orthogonal, so backward stable and free of
+// squarings), otherwise by Exp.
+func factorExp(op linop.Operator, t float64) (*mat.Dense, error) {
+	x, err := toDense(op)
+	if err != nil {
+		return nil, err
+	}
+	if isSymmetric(op) {
+		n, _ := x.Dims()
+		sym := mat.NewSymDense(n, nil)
+		for i := 0; i < n; i++ {
+			for j := i; j < n; j++ {
+				sym.SetSym(i, j, x.At(i, j))
+			}
+		}
+		var eig mat.EigenSym
+		if eig.Factorize(sym, true) {
+			lam := eig.Values(nil)
+			var q mat.Dense
+			eig.VectorsTo(&q)
+			qe := mat.DenseCopyOf(&q)
+			for j, l := range lam {
+				col := qe.ColView(j).(*mat.VecDense)
+				col.ScaleVec(math.Exp(t*l), col)
+			}
+			var e mat.Dense
+			e.Mul(qe, q.T())
+			return &e, nil
+		}
+	}
+	x.Scale(t, x)
+	var e mat.Dense
+	if _, err := Exp(&e, x); err != nil {
+		return nil, err
+	}
+	return &e, nil
 }
 
 // KronApply sets dst = (E ⊗ F) u = vec(E U Fᵀ), where U is the nx×ny

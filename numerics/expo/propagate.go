@@ -183,6 +183,10 @@ func crossMethod(method string, A linop.Operator) string {
 			return MethodDense
 		}
 		return MethodKrylov
+	case MethodContour, MethodKronecker, MethodResolvent:
+		// Stiff or structured problems: Krylov's cost grows like √(t‖A‖)
+		// for symmetric A, far below Taylor's t‖A‖.
+		return MethodKrylov
 	default:
 		return MethodTaylor
 	}

@@ -303,6 +303,16 @@ func TestAutoChoiceAndCrosscheck(t *testing.T) {
 	if s.Cross == nil || s.Cross.Method == s.Method || s.Cross.MaxDiff > 1e-10 {
 		t.Errorf("cross-check: %+v", s.Cross)
 	}
+	calls := 0
+	s = propagate(t, small, u0, []float64{0.01, 0.02}, Options{Method: MethodTaylor, Progress: func(done, total int) {
+		if done > total {
+			t.Errorf("progress %d of %d", done, total)
+		}
+		calls++
+	}})
+	if calls == 0 {
+		t.Error("progress callback never called")
+	}
 	big := heat1D(2000)
 	u0, _ = sineModes(2000, 0, []int{1, 7}, []float64{1, 1})
 	s = propagate(t, big, u0, []float64{0.1}, Options{})
