@@ -23,12 +23,13 @@
 //
 // Number formatting is fixed so that golden files are stable:
 //   - Linear tick labels share the number of decimals implied by the tick step
-//     (step 0.2 → one decimal, step 50 → none). When the largest |tick| is at
+//     (step 0.2 → one decimal, so 0 is written 0.0; step 50 → none). When the largest |tick| is at
 //     least 1e5 or below 1e-3 each nonzero tick is written m×10ᵉ, where m carries
 //     as many decimals as the step needs at that exponent.
 //   - Decade ticks on a logarithmic axis are written 10ᵉ with a raised exponent
 //     (a <tspan> shifted by dy, which every SVG renderer honours).
-//   - Legend entries and annotations use FormatValue: %.4g with the exponent
-//     written "1e−3" (U+2212 minus, no leading zeros, no plus sign).
+//   - Legend entries and annotations use FormatValue: four significant digits,
+//     a decimal for 10⁻² ≤ |v| < 10⁴, otherwise an exponent written "1e−3"
+//     (U+2212 minus, no leading zeros, no plus sign).
 //   - Negative numbers use U+2212 minus; −0 is written 0.
 package plot

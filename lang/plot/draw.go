@@ -105,6 +105,9 @@ func (r *renderer) draw() {
 				wd = 1.3
 			}
 			for k, lv := range s.Levels {
+				if !finite(lv) {
+					continue
+				}
 				c := ""
 				if k < len(s.Colors) {
 					c = s.Colors[k]
@@ -492,12 +495,12 @@ func (r *renderer) drawAxes() {
 	}
 	r.printf(`<g font-size="%s" fill="%s">`+"\n", num(tickSize), inkColor)
 	for k, v := range r.xt.major {
-		if x, ok := r.xs.px(v); ok {
+		if x, ok := r.xs.px(v); ok && r.xt.labels[k].mant != "" {
 			r.printf(`<text x="%s" y="%s" text-anchor="middle">%s</text>`+"\n", num(x), num(p.y1+tickLen+3+tickSize), r.xt.labels[k].svg())
 		}
 	}
 	for k, v := range r.yt.major {
-		if y, ok := r.ys.px(v); ok {
+		if y, ok := r.ys.px(v); ok && r.yt.labels[k].mant != "" {
 			r.printf(`<text x="%s" y="%s" text-anchor="end">%s</text>`+"\n", num(p.x0-tickLen-3), num(y+0.36*tickSize), r.yt.labels[k].svg())
 		}
 	}
@@ -527,7 +530,7 @@ func (r *renderer) drawColourBar() {
 	}
 	r.printf(`<g font-size="%s" fill="%s">`+"\n", num(tickSize), inkColor)
 	for k, v := range r.cbt.major {
-		if y, ok := s.px(v); ok {
+		if y, ok := s.px(v); ok && r.cbt.labels[k].mant != "" {
 			r.printf(`<text x="%s" y="%s">%s</text>`+"\n", num(x0+w+tickLen+3), num(y+0.36*tickSize), r.cbt.labels[k].svg())
 		}
 	}

@@ -156,7 +156,7 @@ func (b *bounds) limits(ax Axis, margin float64) (lo, hi float64) {
 
 // autoRange widens [lo, hi] by margin·span on each side (in log₁₀ on a log
 // scale), gives a zero-width range a width of its own, and bounds the result
-// to ±1e300 so that spans stay finite.
+// to ±1e300 (to [1e−300, 1e300] on a log scale) so that spans stay finite.
 func autoRange(lo, hi float64, any, log bool, margin float64) (float64, float64) {
 	if !any {
 		if log {
@@ -184,7 +184,7 @@ func autoRange(lo, hi float64, any, log bool, margin float64) (float64, float64)
 		lo, hi = lo-margin*span, hi+margin*span
 	}
 	if log {
-		return math.Pow(10, lo), math.Pow(10, hi)
+		return math.Pow(10, math.Max(lo, -300)), math.Pow(10, math.Min(hi, 300))
 	}
 	return math.Max(lo, -1e300), math.Min(hi, 1e300)
 }
@@ -317,7 +317,7 @@ func (r *renderer) heatScale(h *HeatMap) colourScale {
 // and ticks. Margins only grow, so the loop settles in a few rounds.
 func (r *renderer) layout(bx, by *bounds) {
 	f := r.f
-	top := 14.0
+	top := 18.0
 	if f.Title != "" {
 		r.title = wrapText(f.Title, r.W-24, titleSize, 2)
 		top = 12 + float64(len(r.title))*(titleSize+4) + 6
@@ -401,40 +401,76 @@ func maxWidth(ls []label, size float64) float64 {
 }
 
 // fitTicks chooses ticks for [lo, hi] drawn over length px, reducing their
-// number until fits accepts the labels at their smallest spacing in px.
+// number until fits accepts the labels at their smallest spacing in px. When
+// even the sparsest ticks collide, it keeps them and labels only every s-th,
+// for the smallest s that fits (at least the first tick stays labelled).
 func fitTicks(log bool, lo, hi, length float64, fits func([]label, float64) bool) axisTicks {
-	target := int(math.Max(2, math.Min(12, length/60)))
-	var at axisTicks
-	for ; target >= 1; target-- {
+	s := newScale(log, lo, hi, 0, length)
+	spacing := func(major []float64, labels []label) float64 {
+		sp := math.Inf(1)
+		last := math.NaN()
+		for k, v := range major {
+			if labels[k].mant == "" {
+				continue
+			}
+			p, _ := s.px(v)
+			if !math.IsNaN(last) {
+				sp = math.Min(sp, math.Abs(p-last))
+			}
+			last = p
+		}
+		return sp
+	}
+	var best axisTicks
+	for target := int(math.Max(2, math.Min(12, length/60))); target >= 1; target-- {
+		var at axisTicks
 		if log {
 			at.major, at.minor = LogTicks(lo, hi, target)
 			at.labels = logLabels(at.major)
 		} else {
 			var step float64
 			at.major, step = NiceTicks(lo, hi, target)
-			at.minor = nil
 			at.labels = linearLabels(at.major, step)
 		}
 		if len(at.major) < 2 {
-			return at
+			if best.major == nil {
+				best = at
+			}
+			break
 		}
-		spacing := math.Inf(1)
-		s := newScale(log, lo, hi, 0, length)
-		for k := 0; k+1 < len(at.major); k++ {
-			a, _ := s.px(at.major[k])
-			b, _ := s.px(at.major[k+1])
-			spacing = math.Min(spacing, math.Abs(b-a))
-		}
-		if fits(at.labels, spacing) {
+		best = at
+		if fits(labelled(at.labels), spacing(at.major, at.labels)) {
 			return at
 		}
 	}
-	// Even the sparsest ticks collide: keep the two end ticks.
-	if n := len(at.major); n > 2 {
-		at.major = []float64{at.major[0], at.major[n-1]}
-		at.labels = []label{at.labels[0], at.labels[n-1]}
+	if len(best.major) < 2 {
+		return best
 	}
-	return at
+	full := best.labels
+	for stride := 2; stride < len(full); stride++ {
+		thin := make([]label, len(full))
+		for k := 0; k < len(full); k += stride {
+			thin[k] = full[k]
+		}
+		if fits(labelled(thin), spacing(best.major, thin)) {
+			best.labels = thin
+			return best
+		}
+	}
+	best.labels = make([]label, len(full))
+	best.labels[0] = full[0]
+	return best
+}
+
+// labelled returns the non-empty labels.
+func labelled(ls []label) []label {
+	var out []label
+	for _, l := range ls {
+		if l.mant != "" {
+			out = append(out, l)
+		}
+	}
+	return out
 }
 
 // hashID derives an identifier prefix from the figure's content, so that

@@ -234,9 +234,11 @@ func logLabels(ticks []float64) []label {
 	return out
 }
 
-// FormatValue formats v for legends and annotations: %.4g, an exponent written
-// as in "1e−3" (U+2212 minus, no plus sign, no leading zeros), U+2212 for a
-// negative mantissa, −0 as 0, and ∞ for infinities.
+// FormatValue formats v for legends and annotations with four significant
+// digits and trailing zeros removed: as a decimal when 10⁻² ≤ |v| < 10⁴ (%.4g),
+// otherwise as mantissa and exponent written "1e−3" or "1.5e6" (U+2212 minus,
+// no plus sign, no leading zeros). A negative value takes U+2212, −0 is 0, and
+// infinities are ∞.
 func FormatValue(v float64) string {
 	switch {
 	case math.IsNaN(v):
@@ -248,8 +250,16 @@ func FormatValue(v float64) string {
 	case v == 0:
 		return "0"
 	}
-	s := strconv.FormatFloat(v, 'g', 4, 64)
+	var s string
+	if a := math.Abs(v); a >= 1e-2 && a < 1e4 {
+		s = strconv.FormatFloat(v, 'g', 4, 64)
+	} else {
+		s = strconv.FormatFloat(v, 'e', 3, 64)
+	}
 	mant, exp, hasExp := strings.Cut(s, "e")
+	if hasExp && strings.Contains(mant, ".") {
+		mant = strings.TrimRight(strings.TrimRight(mant, "0"), ".")
+	}
 	if strings.HasPrefix(mant, "-") {
 		mant = minus + mant[1:]
 	}

@@ -1,0 +1,336 @@
+package plot
+
+import (
+	"errors"
+	"math"
+	"math/rand/v2"
+	"reflect"
+	"strings"
+	"testing"
+)
+
+func near(a, b, tol float64) bool { return math.Abs(a-b) <= tol*math.Max(1, math.Abs(b)) }
+
+func TestNiceTicks(t *testing.T) {
+	// Hand-checked: multiples of the smallest 1-2-5 step with (hi−lo)/step ≤ target.
+	for _, c := range []struct {
+		lo, hi float64
+		n      int
+		want   []float64
+		step   float64
+	}{
+		{0, 1, 5, []float64{0, 0.2, 0.4, 0.6, 0.8, 1}, 0.2},
+		{-3.7, 12.2, 5, []float64{0, 5, 10}, 5},
+		{-1, 1, 4, []float64{-1, -0.5, 0, 0.5, 1}, 0.5},
+		{0.13, 0.17, 4, []float64{0.13, 0.14, 0.15, 0.16, 0.17}, 0.01},
+		{1e-6, 5e-6, 4, []float64{1e-6, 2e-6, 3e-6, 4e-6, 5e-6}, 1e-6},
+		{-2e5, 7e5, 5, []float64{-2e5, 0, 2e5, 4e5, 6e5}, 2e5},
+	} {
+		got, step := NiceTicks(c.lo, c.hi, c.n)
+		if !near(step, c.step, 1e-12) || len(got) != len(c.want) {
+			t.Errorf("NiceTicks(%g, %g, %d) = %v step %g, want %v step %g", c.lo, c.hi, c.n, got, step, c.want, c.step)
+			continue
+		}
+		for k := range got {
+			if !near(got[k], c.want[k], 1e-12) {
+				t.Errorf("NiceTicks(%g, %g, %d)[%d] = %g, want %g", c.lo, c.hi, c.n, k, got[k], c.want[k])
+			}
+		}
+	}
+	// The tick at zero is exactly zero, not a rounding residue such as 5.55e-17.
+	got, _ := NiceTicks(-0.3, 0.3, 6)
+	found := false
+	for _, v := range got {
+		if v == 0 && !math.Signbit(v) {
+			found = true
+		}
+	}
+	if !found {
+		t.Errorf("NiceTicks(-0.3, 0.3) = %v lacks an exact +0", got)
+	}
+	if g, _ := NiceTicks(1, 1, 5); g != nil {
+		t.Errorf("empty range gave %v", g)
+	}
+	if g, _ := NiceTicks(math.Inf(-1), 1, 5); g != nil {
+		t.Errorf("infinite range gave %v", g)
+	}
+}
+
+func TestLogTicks(t *testing.T) {
+	major, minor := LogTicks(2e-4, 3, 10) // decades 1e-3 … 1
+	want := []float64{1e-3, 1e-2, 1e-1, 1}
+	if len(major) != len(want) {
+		t.Fatalf("majors %v, want %v", major, want)
+	}
+	for k := range want {
+		if !near(major[k], want[k], 1e-12) {
+			t.Errorf("major[%d] = %g, want %g", k, major[k], want[k])
+		}
+	}
+	// Minors j·10^k, j = 2…9, inside the range: 2e-4 … 9e-4 (8), then 8 per
+	// decade for 1e-3, 1e-2, 1e-1 (24), then 2, 3 (2): 34.
+	if len(minor) != 34 {
+		t.Errorf("%d minors, want 34: %v", len(minor), minor)
+	}
+	// 21 decades with at most 5 majors: stride 5, majors 1, 1e5, …, 1e20.
+	major, minor = LogTicks(1, 1e20, 5)
+	if len(major) != 5 || !near(major[1], 1e5, 1e-12) || !near(major[4], 1e20, 1e-12) {
+		t.Errorf("stride-5 majors %v", major)
+	}
+	if len(minor) != 16 {
+		t.Errorf("stride-5 minors: %d, want the 16 skipped decades", len(minor))
+	}
+	// Less than a decade: 1-2-5 majors.
+	major, _ = LogTicks(1.5, 30, 10)
+	if want := []float64{2, 5, 10, 20}; !reflect.DeepEqual(roundAll(major), want) {
+		t.Errorf("sub-decade majors %v, want %v", major, want)
+	}
+	// A narrow range falls back to linear ticks.
+	major, _ = LogTicks(3.1, 3.9, 4)
+	if len(major) < 2 || major[0] < 3.1 || major[len(major)-1] > 3.9 {
+		t.Errorf("narrow range majors %v", major)
+	}
+	if m, _ := LogTicks(-1, 10, 5); m != nil {
+		t.Errorf("non-positive range gave %v", m)
+	}
+}
+
+func roundAll(v []float64) []float64 {
+	out := make([]float64, len(v))
+	for i, x := range v {
+		out[i] = math.Round(x*1e9) / 1e9
+	}
+	return out
+}
+
+func TestLabels(t *testing.T) {
+	str := func(ls []label) []string {
+		var s []string
+		for _, l := range ls {
+			s = append(s, l.String())
+		}
+		return s
+	}
+	for _, c := range []struct {
+		ticks []float64
+		step  float64
+		want  []string
+	}{
+		{[]float64{-1, -0.5, math.Copysign(0, -1), 0.5, 1}, 0.5, []string{"−1.0", "−0.5", "0.0", "0.5", "1.0"}},
+		{[]float64{0, 50, 100}, 50, []string{"0", "50", "100"}},
+		{[]float64{0, 2e5, 4e5}, 2e5, []string{"0", "2×10^5", "4×10^5"}},
+		{[]float64{1e5, 1.5e5}, 5e4, []string{"1.0×10^5", "1.5×10^5"}},
+		{[]float64{-4e-4, 0, 4e-4}, 4e-4, []string{"−4×10^−4", "0", "4×10^−4"}},
+		{[]float64{0.001, 0.002}, 0.001, []string{"0.001", "0.002"}},
+	} {
+		if got := str(linearLabels(c.ticks, c.step)); !reflect.DeepEqual(got, c.want) {
+			t.Errorf("linearLabels(%v) = %q, want %q", c.ticks, got, c.want)
+		}
+	}
+	if got := str(logLabels([]float64{1e-6, 1, 1e3})); !reflect.DeepEqual(got, []string{"10^−6", "10^0", "10^3"}) {
+		t.Errorf("decade labels %q", got)
+	}
+	if got := str(logLabels([]float64{2, 5, 10, 20})); !reflect.DeepEqual(got, []string{"2", "5", "10", "20"}) {
+		t.Errorf("1-2-5 labels %q", got)
+	}
+	for v, want := range map[float64]string{
+		1e-3: "1e−3", 1.5e-6: "1.5e−6", 0.001234: "1.234e−3", 0.05: "0.05", 1e4: "1e4", -2.5: "−2.5", 12346: "1.235e4",
+		math.Copysign(0, -1): "0", math.Inf(1): "∞", 1e100: "1e100", 0.1: "0.1",
+	} {
+		if got := FormatValue(v); got != want {
+			t.Errorf("FormatValue(%g) = %q, want %q", v, got, want)
+		}
+	}
+}
+
+func TestTextHelpers(t *testing.T) {
+	if got := escape(`a<b & "c" 'd'>` + "\x01\xff"); got != "a&lt;b &amp; &quot;c&quot; &apos;d&apos;&gt;" {
+		t.Errorf("escape: %q", got)
+	}
+	long := strings.Repeat("growth of the semigroup ", 20)
+	lines := wrapText(long, 300, 15, 2)
+	if len(lines) != 2 || !strings.HasSuffix(lines[1], "…") {
+		t.Errorf("wrap: %q", lines)
+	}
+	for _, l := range lines {
+		if TextWidth(l, 15) > 300 {
+			t.Errorf("line %q is too wide", l)
+		}
+	}
+	if got := shorten("abcdefghijklmnopqrstuvwxyz", 60, 10); TextWidth(got, 10) > 60 || !strings.HasSuffix(got, "…") {
+		t.Errorf("shorten: %q", got)
+	}
+	// DejaVu Sans digits advance 0.636 em (font metrics, from memory): the
+	// estimate must not be smaller.
+	if TextWidth("0123456789", 10) < 63.6 {
+		t.Error("digit width underestimated")
+	}
+}
+
+func TestContoursCircle(t *testing.T) {
+	z, xs, ys := circleField(81, 1.6)
+	h := xs[1] - xs[0]
+	radii := []float64{0.3, 0.75, 1.2}
+	levels := make([]float64, len(radii))
+	for k, r := range radii {
+		levels[k] = r * r
+	}
+	got := Contours(z, xs, ys, levels)
+	for k, r := range radii {
+		if len(got[k]) != 1 || !got[k][0].Closed {
+			t.Fatalf("r = %g: %d polylines, want one closed curve", r, len(got[k]))
+		}
+		pl := got[k][0]
+		if pl.X[0] != pl.X[len(pl.X)-1] || pl.Y[0] != pl.Y[len(pl.Y)-1] {
+			t.Errorf("r = %g: closed curve does not repeat its first point", r)
+		}
+		area := 0.0
+		for i := 0; i+1 < len(pl.X); i++ {
+			// Closed form: the level set of x² + y² at r² is the circle of radius r.
+			if d := math.Abs(math.Hypot(pl.X[i], pl.Y[i]) - r); d > h {
+				t.Errorf("r = %g: vertex (%g, %g) is %g from the circle, more than h = %g", r, pl.X[i], pl.Y[i], d, h)
+			}
+			area += pl.X[i]*pl.Y[i+1] - pl.X[i+1]*pl.Y[i]
+		}
+		// Closed form: the disc has area πr²; the inscribed polygon loses O(h²).
+		if a := math.Abs(area) / 2; math.Abs(a-math.Pi*r*r) > 0.01*math.Pi*r*r {
+			t.Errorf("r = %g: enclosed area %g, want πr² = %g", r, a, math.Pi*r*r)
+		}
+	}
+}
+
+func TestContoursLinearExact(t *testing.T) {
+	// For f(x, y) = x + 2y linear interpolation is exact: every vertex of the
+	// level c satisfies x + 2y = c, and the set is one open line across the grid.
+	xs, ys := linspace(0, 1, 11), linspace(0, 1, 7)
+	z := make([][]float64, len(xs))
+	for i := range z {
+		z[i] = make([]float64, len(ys))
+		for j := range z[i] {
+			z[i][j] = xs[i] + 2*ys[j]
+		}
+	}
+	got := Contours(z, xs, ys, []float64{1.37})
+	if len(got[0]) != 1 || got[0][0].Closed {
+		t.Fatalf("got %d polylines (closed %v), want one open line", len(got[0]), len(got[0]) > 0 && got[0][0].Closed)
+	}
+	pl := got[0][0]
+	for i := range pl.X {
+		if math.Abs(pl.X[i]+2*pl.Y[i]-1.37) > 1e-12 {
+			t.Errorf("vertex (%g, %g) off the line", pl.X[i], pl.Y[i])
+		}
+	}
+}
+
+func TestContoursSaddleAndGaps(t *testing.T) {
+	// Saddle f = x·y on [−1, 1]² sampled at the corners only: corners alternate
+	// in sign. Level 0.5 ± small: two separate pieces, never a crossing.
+	xs, ys := []float64{-1, 1}, []float64{-1, 1}
+	z := [][]float64{{1, -1}, {-1, 1}}
+	for _, c := range []float64{0.1, -0.1} {
+		got := Contours(z, xs, ys, []float64{c})
+		if len(got[0]) != 2 {
+			t.Errorf("saddle at level %g: %d pieces, want 2", c, len(got[0]))
+		}
+	}
+	// A NaN corner removes its cells; nothing panics and curves stay finite.
+	zz, gx, gy := circleField(21, 1)
+	zz[10][10] = math.NaN()
+	zz[3][4] = math.Inf(1)
+	for _, pls := range Contours(zz, gx, gy, []float64{0.25, math.NaN()}) {
+		for _, pl := range pls {
+			for i := range pl.X {
+				if !finite(pl.X[i]) || !finite(pl.Y[i]) {
+					t.Fatal("non-finite vertex")
+				}
+			}
+		}
+	}
+	if got := Contours([][]float64{{1}}, []float64{0}, []float64{0}, []float64{0.5}); len(got) != 1 || got[0] != nil {
+		t.Errorf("1×1 grid: %v", got)
+	}
+	mustPanic(t, func() { Contours([][]float64{{1, 2}}, []float64{0, 1}, []float64{0, 1}, nil) })
+	mustPanic(t, func() { Contours([][]float64{{1}, {2, 3}}, []float64{0, 1}, []float64{0}, nil) })
+}
+
+func mustPanic(t *testing.T, f func()) {
+	t.Helper()
+	defer func() {
+		e := recover()
+		err, ok := e.(error)
+		if !ok || !errors.Is(err, ErrShape) {
+			t.Errorf("panic %v, want ErrShape", e)
+		}
+	}()
+	f()
+}
+
+func TestOKLab(t *testing.T) {
+	// Ottosson (2020) / CSS Color 4: white is L = 1, a = b = 0; sRGB red is
+	// oklab(0.62796 0.22486 0.12585) (reference values from memory, to 4e-4).
+	w := RGB{255, 255, 255}.ToLab()
+	if !near(w.L, 1, 1e-4) || math.Abs(w.A) > 1e-4 || math.Abs(w.B) > 1e-4 {
+		t.Errorf("white: %+v", w)
+	}
+	red := RGB{255, 0, 0}.ToLab()
+	if math.Abs(red.L-0.62796) > 4e-4 || math.Abs(red.A-0.22486) > 4e-4 || math.Abs(red.B-0.12585) > 4e-4 {
+		t.Errorf("red: %+v", red)
+	}
+	rng := rand.New(rand.NewPCG(1, 2))
+	for range 200 {
+		c := RGB{uint8(rng.IntN(256)), uint8(rng.IntN(256)), uint8(rng.IntN(256))}
+		if back := c.ToLab().RGB(); back != c {
+			t.Fatalf("round trip %v → %v", c, back)
+		}
+	}
+}
+
+func inGamut(p Lab) bool {
+	r, g, b := p.linearRGB()
+	const e = 1e-3
+	return r > -e && g > -e && b > -e && r < 1+e && g < 1+e && b < 1+e
+}
+
+func TestPalette(t *testing.T) {
+	for i, p := range paletteLab {
+		if !inGamut(p) {
+			t.Errorf("palette colour %d out of sRGB gamut", i)
+		}
+		for j := range i {
+			q := paletteLab[j]
+			// Greyscale separation: lightness differs by at least 0.08.
+			if math.Abs(p.L-q.L) < 0.08 {
+				t.Errorf("palette %d and %d: lightness %.2f and %.2f too close", i, j, p.L, q.L)
+			}
+			if d := math.Sqrt((p.L-q.L)*(p.L-q.L) + (p.A-q.A)*(p.A-q.A) + (p.B-q.B)*(p.B-q.B)); d < 0.12 {
+				t.Errorf("palette %d and %d: ΔE_ok = %.3f", i, j, d)
+			}
+		}
+		// Visible on white: lightness at most 0.85.
+		if p.L > 0.85 {
+			t.Errorf("palette %d too light for lines on white", i)
+		}
+	}
+}
+
+func TestColorMap(t *testing.T) {
+	for _, p := range Sequential.stops {
+		if !inGamut(p) {
+			t.Errorf("control point %+v out of gamut", p)
+		}
+	}
+	prev := -1.0
+	for k := 0; k <= 100; k++ {
+		p := Sequential.Lab(float64(k) / 100)
+		if !inGamut(p) {
+			t.Errorf("t = %g out of gamut", float64(k)/100)
+		}
+		if p.L <= prev {
+			t.Errorf("lightness not increasing at t = %g", float64(k)/100)
+		}
+		prev = p.L
+	}
+	if Sequential.At(math.NaN()) != Sequential.At(0) || Sequential.At(2) != Sequential.At(1) {
+		t.Error("clamping")
+	}
+}

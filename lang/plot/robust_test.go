@@ -1,0 +1,225 @@
+package plot
+
+import (
+	"errors"
+	"math"
+	"strings"
+	"testing"
+)
+
+// render renders f, checks the SVG, and returns it with the renderer's state.
+func render(t *testing.T, f *Figure) (string, *renderer) {
+	t.Helper()
+	f.checkShapes()
+	r, err := f.prepare()
+	if err != nil {
+		t.Fatalf("prepare: %v", err)
+	}
+	r.draw()
+	checkSVG(t, r.b.Bytes())
+	return r.b.String(), r
+}
+
+func TestRobustness(t *testing.T) {
+	nan, inf := math.NaN(), math.Inf(1)
+	cases := map[string]*Figure{
+		"empty":       {},
+		"empty-log":   {X: Axis{Log: true}, Y: Axis{Log: true}},
+		"empty-line":  {Series: []Series{&Line{}, &Points{}, &Band{}, &ContourSet{}, &HeatMap{}}},
+		"one-point":   {Series: []Series{&Line{X: []float64{2}, Y: []float64{3}}, &Points{X: []float64{2}, Y: []float64{3}}}},
+		"all-equal":   {Series: []Series{&Line{X: []float64{1, 1, 1}, Y: []float64{5, 5, 5}}}},
+		"zero-points": {Series: []Series{&Points{X: []float64{0, 0}, Y: []float64{0, 0}}}, EqualAspect: true},
+		"huge-range":  {Series: []Series{&Line{X: []float64{-math.MaxFloat64, 0, math.MaxFloat64}, Y: []float64{1e-300, 1, 1e300}}}},
+		"huge-log":    {Y: Axis{Log: true}, Series: []Series{&Line{X: []float64{0, 1, 2}, Y: []float64{math.SmallestNonzeroFloat64, 1, math.MaxFloat64}}}},
+		"tiny-range":  {Series: []Series{&Line{X: []float64{1, 1 + 1e-15}, Y: []float64{1e-310, 2e-310}}}},
+		"non-finite":  {Series: []Series{&Line{X: []float64{0, 1, nan, 3, 4}, Y: []float64{0, inf, 2, -inf, 4}}, &Band{X: []float64{0, 1, 2}, Lower: []float64{nan, 0, 1}, Upper: []float64{1, 2, nan}}}},
+		"all-nan":     {Series: []Series{&Line{X: []float64{nan, nan}, Y: []float64{nan, nan}}, &HLine{Y: nan}, &VLine{X: inf}, &Text{X: nan, Y: 1, S: "x"}}},
+		"outside-limits": {X: Axis{Min: 0, Max: 1}, Y: Axis{Min: 0, Max: 1},
+			Series: []Series{&Line{X: []float64{-1e200, 1e200}, Y: []float64{-1e250, 1e250}}, &Points{X: []float64{5}, Y: []float64{5}}, &Band{X: []float64{-10, 10}, Lower: []float64{-10, -10}, Upper: []float64{10, 10}}}},
+		"reversed-limits": {X: Axis{Min: 3, Max: 1}, Series: []Series{&Line{X: []float64{0, 1}, Y: []float64{0, 1}}}},
+		"tiny-figure":     {Width: 10, Height: 10, Title: "tiny", X: Axis{Label: "x"}, Y: Axis{Label: "y"}, Series: []Series{&Line{X: []float64{0, 1}, Y: []float64{0, 1}, Label: "a"}}},
+		"heat-nan":        {Series: []Series{&HeatMap{Z: [][]float64{{nan, nan}, {nan, inf}}, X0: 0, X1: 1, Y0: 0, Y1: 1}}},
+		"heat-one":        {Series: []Series{&HeatMap{Z: [][]float64{{7}}, X0: 0, X1: 1, Y0: 0, Y1: 1, Log: true}}},
+		"heat-equal":      {Series: []Series{&HeatMap{Z: [][]float64{{2, 2}, {2, 2}}, X0: nan, X1: 1, Y0: 0, Y1: 1}}},
+		"heat-log-neg":    {Series: []Series{&HeatMap{Z: [][]float64{{-1, 0}, {1, 10}}, X0: 0, X1: 1, Y0: 0, Y1: 1, Log: true, Label: "v"}}},
+		"contour-nan":     {Series: []Series{&ContourSet{Levels: []float64{nan}, Lines: [][]Polyline{{{X: []float64{nan}, Y: []float64{1}}}}}}},
+		"escape": {Title: `<script>alert("x")</script> & more`, X: Axis{Label: "a<b"}, Y: Axis{Label: "c&d"},
+			Series: []Series{&Line{X: []float64{0, 1}, Y: []float64{0, 1}, Label: `"quoted" & <tag>`, Color: `red"/><script>`}, &Text{X: 0.5, Y: 0.5, S: "]]><!--"}}},
+		"long-title": {Title: strings.Repeat("A very long title about resolvent norms ", 10), Series: []Series{&Line{X: []float64{0, 1}, Y: []float64{0, 1}}}},
+		"many-legend": {Height: 150, Series: func() []Series {
+			var s []Series
+			for k := range 30 {
+				s = append(s, &Line{X: []float64{0, 1}, Y: []float64{float64(k), float64(k)}, Label: strings.Repeat("w", k)})
+			}
+			return s
+		}()},
+	}
+	for name, f := range cases {
+		t.Run(name, func(t *testing.T) {
+			svg, _ := render(t, f)
+			if strings.Contains(svg, "NaN") || strings.Contains(svg, "Inf") {
+				t.Error("SVG contains NaN or Inf")
+			}
+			if name == "escape" && strings.Contains(svg, "<script>") {
+				t.Error("unescaped text")
+			}
+		})
+	}
+}
+
+func TestNotes(t *testing.T) {
+	nan := math.NaN()
+	f := &Figure{Series: []Series{&Line{X: []float64{0, 1, nan, 3}, Y: []float64{0, math.Inf(1), 2, 3}}}}
+	n, err := f.WriteSVG(&strings.Builder{})
+	if err != nil || n.NonFinite != 2 {
+		t.Errorf("notes %+v, err %v; want 2 non-finite", n, err)
+	}
+	svg, _ := f.SVG()
+	if !strings.Contains(string(svg), "2 non-finite values skipped") {
+		t.Error("note missing from figure")
+	}
+	// Log axis: non-positive data are an error unless dropped.
+	g := &Figure{Y: Axis{Log: true}, Series: []Series{&Line{X: []float64{0, 1, 2}, Y: []float64{1, -0.5, 0}}}}
+	if _, err := g.SVG(); err == nil || !strings.Contains(err.Error(), "2 non-positive values (first −0.5)") {
+		t.Errorf("log error: %v", err)
+	}
+	g.DropNonPositive = true
+	n, err = g.WriteSVG(&strings.Builder{})
+	if err != nil || n.NonPositive != 2 {
+		t.Errorf("drop: %+v %v", n, err)
+	}
+	h := &Figure{X: Axis{Log: true, Min: -1, Max: 10}}
+	if _, err := h.SVG(); err == nil {
+		t.Error("non-positive log limit accepted")
+	}
+	hm := &Figure{X: Axis{Log: true}, Series: []Series{&HeatMap{Z: [][]float64{{1}}, X0: 1, X1: 2, Y0: 1, Y1: 2}}}
+	if _, err := hm.SVG(); err == nil {
+		t.Error("heat map on a log axis accepted")
+	}
+	hn := &Figure{Series: []Series{&HeatMap{Z: [][]float64{{nan, 1}, {-1, 2}}, X0: 0, X1: 1, Y0: 0, Y1: 1, Log: true}}}
+	n, _ = hn.WriteSVG(&strings.Builder{})
+	if n.NonFinite != 1 || n.NonPositive != 1 {
+		t.Errorf("heat map notes %+v", n)
+	}
+}
+
+func TestShapePanics(t *testing.T) {
+	f := &Figure{}
+	mustPanic(t, func() { f.AddLine([]float64{1}, nil, "") })
+	mustPanic(t, func() { f.AddPoints([]float64{1}, nil, "") })
+	mustPanic(t, func() { f.AddBand([]float64{1}, []float64{1}, nil, "") })
+	mustPanic(t, func() { f.AddContours([]float64{1}, nil, "") })
+	mustPanic(t, func() { f.AddHeatMap([][]float64{{1}, {1, 2}}, 0, 1, 0, 1, "") })
+	mustPanic(t, func() { f.AddHeatMapGrid([][]float64{{1}}, []float64{0}, []float64{0}, "") })
+	g := &Figure{Series: []Series{&Line{X: []float64{1, 2}, Y: []float64{1}}}}
+	mustPanic(t, func() { g.SVG() })
+	if len(f.Series) != 0 {
+		t.Error("a refused series was added")
+	}
+}
+
+func TestEqualAspect(t *testing.T) {
+	for _, f := range []*Figure{spectrumFigure(), contourFigure(),
+		{EqualAspect: true, Width: 300, Height: 600, Series: []Series{&Points{X: []float64{-10, 10}, Y: []float64{0, 1}}}},
+		{EqualAspect: true, Series: []Series{&Points{X: []float64{0, 0.1}, Y: []float64{-50, 50}}}},
+	} {
+		_, r := render(t, f)
+		ux := (r.xs.hi - r.xs.lo) / (r.plot.x1 - r.plot.x0)
+		uy := (r.ys.hi - r.ys.lo) / (r.plot.y1 - r.plot.y0)
+		if math.Abs(ux-uy) > 1e-9*ux {
+			t.Errorf("%q: %g x-units per px, %g y-units per px", f.Title, ux, uy)
+		}
+	}
+}
+
+func TestLegendPlacement(t *testing.T) {
+	// Data crowd the top right: the legend goes elsewhere, and top left wins
+	// the tie among empty corners.
+	var xs, ys []float64
+	for i := range 50 {
+		xs = append(xs, 8+2*float64(i%7)/7)
+		ys = append(ys, 8+2*float64(i/7)/7)
+	}
+	f := &Figure{Series: []Series{&Points{X: append(xs, 0), Y: append(ys, 0), Label: "cluster"}}}
+	_, r := render(t, f)
+	p := r.plot
+	if r.legend.x1 > (p.x0+p.x1)/2 || r.legend.y1 > (p.y0+p.y1)/2 {
+		t.Errorf("legend at %+v in plot %+v, want top left", r.legend, p)
+	}
+	// A rising line leaves the top left and bottom right empty; the legend
+	// takes one of them and meets no segment.
+	line := &Figure{Series: []Series{&Line{X: []float64{0, 10}, Y: []float64{0, 10}, Label: "rising"}}}
+	_, r = render(t, line)
+	if n := r.overlap(r.legend); n != 0 {
+		t.Errorf("legend meets %d segments", n)
+	}
+	none := &Figure{Legend: LegendNone, Series: []Series{&Line{X: []float64{0, 1}, Y: []float64{0, 1}, Label: "a"}}}
+	if svg, _ := render(t, none); strings.Contains(svg, `fill-opacity="0.9"`) {
+		t.Error("legend drawn with LegendNone")
+	}
+}
+
+func TestTickThinning(t *testing.T) {
+	// A narrow figure with long tick labels: labels must not touch.
+	for _, w := range []int{160, 240, 640} {
+		f := &Figure{Width: w, Series: []Series{&Line{X: []float64{123456.7, 123456.7 + 0.9}, Y: []float64{-1e6, 3e7}}}}
+		_, r := render(t, f)
+		prev, labels := -1, 0
+		for k := range r.xt.major {
+			if r.xt.labels[k].mant == "" {
+				continue
+			}
+			labels++
+			if prev >= 0 {
+				a, _ := r.xs.px(r.xt.major[prev])
+				b, _ := r.xs.px(r.xt.major[k])
+				if half := (r.xt.labels[prev].width(tickSize) + r.xt.labels[k].width(tickSize)) / 2; b-a < half {
+					t.Errorf("width %d: x labels %q and %q overlap", w, r.xt.labels[prev], r.xt.labels[k])
+				}
+			}
+			prev = k
+		}
+		if labels == 0 {
+			t.Errorf("width %d: no x label", w)
+		}
+		// The y tick labels fit in the left margin.
+		if need := maxWidth(r.yt.labels, tickSize) + tickLen + 3; need > r.plot.x0 {
+			t.Errorf("width %d: y labels need %g px, margin %g", w, need, r.plot.x0)
+		}
+		if len(r.xt.major) < 2 || len(r.yt.major) < 2 {
+			t.Errorf("width %d: too few ticks %v %v", w, r.xt.major, r.yt.major)
+		}
+	}
+}
+
+func TestUniqueIDs(t *testing.T) {
+	a, _ := growthFigure().SVG()
+	b, _ := contourFigure().SVG()
+	id := func(s []byte) string {
+		i := strings.Index(string(s), `clipPath id="`)
+		return string(s[i+13 : i+23])
+	}
+	if id(a) == id(b) {
+		t.Errorf("two figures share the id %s", id(a))
+	}
+}
+
+func TestLargeHeatMapSize(t *testing.T) {
+	// 300×300 cells go into a PNG; the file stays well under 100 kB for a
+	// smooth field.
+	f := heatFigure(300, 300)
+	svg, err := f.SVG()
+	if err != nil {
+		t.Fatal(err)
+	}
+	checkSVG(t, svg)
+	if len(svg) > 100_000 {
+		t.Errorf("300×300 heat map: %d bytes", len(svg))
+	}
+	if !strings.Contains(string(svg), "data:image/png;base64,") {
+		t.Error("no PNG data URI")
+	}
+	if errors.Is(err, ErrShape) {
+		t.Error("unexpected")
+	}
+}
