@@ -29,6 +29,19 @@ func BenchmarkShifted(b *testing.B) {
 		})
 		f, _ := NewSparseShifted(context.Background(), lap, z)
 		benchSolve(b, name, f, k*k)
+		// A real shift inside the spectrum (eigenvalues in (−8, 0)):
+		// zI − A is indefinite and fronts delay pivots.
+		b.Run(name+"/factor-indefinite", func(b *testing.B) {
+			for b.Loop() {
+				f, err := NewSparseShifted(context.Background(), lap, -3.3)
+				if err != nil {
+					b.Fatal(err)
+				}
+				if mf, ok := f.(*Multifrontal); ok {
+					b.ReportMetric(float64(mf.Delayed), "delayed")
+				}
+			}
+		})
 	}
 	for _, n := range []int{1_000_000} {
 		a := secondDiff(n, false, false)

@@ -2,7 +2,6 @@ package solve
 
 import (
 	"context"
-	"errors"
 	"fmt"
 	"math"
 	"math/cmplx"
@@ -25,28 +24,33 @@ import (
 //
 // A pivot is accepted only if it is at least FrontTol times the largest
 // entry of its column in the front (the threshold MUMPS uses by default for
-// unsymmetric matrices); otherwise the factorisation gives up with
-// errDelayed and NewSparseShifted falls back to SparseLU, which pivots
-// freely. Real shifts inside the spectrum of a discretised elliptic
-// operator (indefinite zI − A) typically take the fallback.
+// unsymmetric matrices). A column with no acceptable pivot among the
+// front's fully summed rows is delayed: it is passed, with one uneliminated
+// row, to the parent front and eliminated there (Duff & Reid 1983). At a
+// root every row is fully summed, so only a singular matrix stops it.
 type Multifrontal struct {
+	// Delayed counts the columns passed on to a parent front for want of an
+	// acceptable pivot (each delay is counted once per front).
+	Delayed int
+
 	n     int
 	q     []int // permuted index t ↔ original q[t]
 	nodes []front
 }
 
+// front holds the factors produced by one supernode: k eliminated columns
+// cols with pivot rows rowOf (permuted indices), the columns ucol of the
+// off-diagonal block of U and the rows lrow of the off-diagonal block of L.
 type front struct {
-	c0, k int          // own columns c0..c0+k−1 (permuted)
-	rows  []int        // front index list: own k, then the later rows (permuted)
-	rowOf []int        // pivot row (permuted) of each own column after interchanges
-	top   []complex128 // k×f: rows of U (with L11 below the diagonal), row-major
-	low   []complex128 // (f−k)×k: L21, row-major
+	cols, rowOf []int
+	ucol, lrow  []int
+	top         []complex128 // k×(k+len(ucol)): U with L11 below the diagonal
+	low         []complex128 // len(lrow)×k: L21
 }
 
 // FrontTol is the pivot threshold of the multifrontal factorisation.
 const FrontTol = 0.01
 
-var errDelayed = errors.New("solve: pivot outside the front's fully summed rows")
 
 // symbolic holds the supernodal structure of a symmetric pattern.
 type symbolic struct {
@@ -211,6 +215,7 @@ func factorMultifrontal(ctx context.Context, a *linop.CSR, z complex128, q []int
 	if err := memguard.CheckBytes(need, fmt.Sprintf("multifrontal factors of order %d", n)); err != nil {
 		return nil, err
 	}
+	limit := memguard.Limit()
 	perm := make([]int, n)
 	for t, o := range q {
 		perm[o] = t
@@ -222,15 +227,24 @@ func factorMultifrontal(ctx context.Context, a *linop.CSR, z complex128, q []int
 	amax += abs1(z)
 	tol := pivotTol * float64(n) * amax
 	mf := &Multifrontal{n: n, q: q, nodes: make([]front, len(sym.snode))}
-	updates := make([][]complex128, len(sym.snode))
+	// Contribution of each supernode to its parent: the update matrix and
+	// its row and column indices, delayed ones first (nd of them).
+	type contrib struct {
+		u          []complex128
+		rows, cols []int
+		nd         int
+	}
+	contribs := make([]contrib, len(sym.snode))
 	children := make([][]int, len(sym.snode))
 	for s, p := range sym.parent {
 		if p >= 0 {
 			children[p] = append(children[p], s)
 		}
 	}
-	loc := make([]int, n)
+	locR := make([]int, n)
+	locC := make([]int, n)
 	workers := runtime.GOMAXPROCS(0)
+	var stored int64
 	for s, sn := range sym.snode {
 		if s&63 == 0 {
 			if err := ctx.Err(); err != nil {
@@ -241,97 +255,128 @@ func factorMultifrontal(ctx context.Context, a *linop.CSR, z complex128, q []int
 			}
 		}
 		c0, c1 := sn[0], sn[1]
-		k := c1 - c0
-		rows := sym.rows[s]
-		f := len(rows)
-		for l, t := range rows {
-			loc[t] = l
+		own := c1 - c0
+		rest := sym.rows[s][own:]
+		// Index lists: own, delayed from the children, then the rest.
+		rowList := make([]int, 0, len(sym.rows[s]))
+		colList := make([]int, 0, len(sym.rows[s]))
+		for c := c0; c < c1; c++ {
+			rowList = append(rowList, c)
+			colList = append(colList, c)
+		}
+		for _, c := range children[s] {
+			cb := contribs[c]
+			rowList = append(rowList, cb.rows[:cb.nd]...)
+			colList = append(colList, cb.cols[:cb.nd]...)
+		}
+		nfs := len(rowList)
+		rowList = append(rowList, rest...)
+		colList = append(colList, rest...)
+		f := len(rowList)
+		for l := range rowList {
+			locR[rowList[l]] = l
+			locC[colList[l]] = l
 		}
 		F := make([]complex128, f*f)
 		// Original entries: columns of own vertices (rows ≥ c0), and rows of
 		// own vertices (columns ≥ c1). M = zI − A.
 		for c := c0; c < c1; c++ {
 			oc := q[c]
-			lc := loc[c]
+			lc := locC[c]
 			for p := at.RowPtr[oc]; p < at.RowPtr[oc+1]; p++ { // column oc of A
 				if t := perm[at.ColIdx[p]]; t >= c0 {
-					F[loc[t]*f+lc] -= complex(at.Val[p], 0)
+					F[locR[t]*f+lc] -= complex(at.Val[p], 0)
 				}
 			}
+			lr := locR[c]
 			for p := a.RowPtr[oc]; p < a.RowPtr[oc+1]; p++ { // row oc of A
 				if t := perm[a.ColIdx[p]]; t >= c1 {
-					F[lc*f+loc[t]] -= complex(a.Val[p], 0)
+					F[lr*f+locC[t]] -= complex(a.Val[p], 0)
 				}
 			}
-			F[lc*f+lc] += z
+			F[lr*f+lc] += z
 		}
 		// Extend-add the children's update matrices.
 		for _, c := range children[s] {
-			u := updates[c]
-			cr := sym.rows[c][sym.snode[c][1]-sym.snode[c][0]:]
-			m := len(cr)
-			for i, ti := range cr {
-				row := F[loc[ti]*f:]
-				ui := u[i*m : (i+1)*m]
-				for j, tj := range cr {
-					row[loc[tj]] += ui[j]
+			cb := contribs[c]
+			m := len(cb.rows)
+			cl := make([]int, m)
+			for j, t := range cb.cols {
+				cl[j] = locC[t]
+			}
+			for i, ti := range cb.rows {
+				row := F[locR[ti]*f:]
+				ui := cb.u[i*m : (i+1)*m]
+				for j, v := range ui {
+					row[cl[j]] += v
 				}
 			}
-			updates[c] = nil
+			contribs[c] = contrib{}
 		}
-		// Eliminate the k own columns (panel), pivoting among own rows.
-		rowOf := make([]int, k)
-		for p := 0; p < k; p++ {
-			rowOf[p] = rows[p]
-		}
-		for p := 0; p < k; p++ {
+		// Eliminate fully summed columns, pivoting among fully summed rows;
+		// a column without an acceptable pivot moves to the end (delayed).
+		root := sym.parent[s] < 0
+		k, cand := 0, nfs // eliminated so far; candidates are columns k..cand−1
+		for k < cand {
+			p := k
 			best, colmax := p, 0.0
 			for i := p; i < f; i++ {
 				v := abs1(F[i*f+p])
-				if v > colmax {
-					colmax = v
-				}
-				if i < k && v > abs1(F[best*f+p]) {
+				colmax = math.Max(colmax, v)
+				if i < nfs && v > abs1(F[best*f+p]) {
 					best = i
 				}
 			}
 			pv := abs1(F[best*f+p])
-			if pv <= tol || pv == 0 {
-				if colmax <= tol {
-					return nil, &SingularError{Pivot: c0 + p, N: n, Method: "multifrontal"}
+			if pv <= tol || pv < FrontTol*colmax {
+				if root && (pv <= tol || pv == 0) && cand == k+1 {
+					return nil, &SingularError{Pivot: n - (nfs - k), N: n, Method: "multifrontal"}
 				}
-				return nil, errDelayed
-			}
-			if pv < FrontTol*colmax {
-				return nil, errDelayed
+				if !root || pv <= tol {
+					// Delay column p: swap it with the last candidate.
+					cand--
+					if cand != p {
+						for i := 0; i < f; i++ {
+							F[i*f+p], F[i*f+cand] = F[i*f+cand], F[i*f+p]
+						}
+						colList[p], colList[cand] = colList[cand], colList[p]
+					}
+					continue
+				}
 			}
 			if best != p {
 				rp, rb := F[p*f:(p+1)*f], F[best*f:(best+1)*f]
 				for j := range rp {
 					rp[j], rb[j] = rb[j], rp[j]
 				}
-				rowOf[p], rowOf[best] = rowOf[best], rowOf[p]
+				rowList[p], rowList[best] = rowList[best], rowList[p]
 			}
 			inv := 1 / F[p*f+p]
-			urow := F[p*f+p+1 : p*f+k]
+			urow := F[p*f+p+1 : p*f+nfs]
 			for i := p + 1; i < f; i++ {
 				l := F[i*f+p] * inv
 				F[i*f+p] = l
 				if l == 0 {
 					continue
 				}
-				row := F[i*f+p+1 : i*f+k]
+				row := F[i*f+p+1 : i*f+nfs]
 				for j, u := range urow {
 					row[j] -= l * u
 				}
 			}
+			k++
+			cand = max(cand, k)
 		}
-		// F12 ← L11⁻¹ F12, then F22 −= F21 F12.
+		if root && k < nfs {
+			return nil, &SingularError{Pivot: n - (nfs - k), N: n, Method: "multifrontal"}
+		}
+		// F12 ← L11⁻¹ F12 on the columns after the fully summed ones, then
+		// F22 −= F21 F12 on rows k.. and those columns.
 		for r := 1; r < k; r++ {
-			row := F[r*f+k : (r+1)*f]
+			row := F[r*f+nfs : (r+1)*f]
 			for p := 0; p < r; p++ {
 				if l := F[r*f+p]; l != 0 {
-					for j, u := range F[p*f+k : (p+1)*f] {
+					for j, u := range F[p*f+nfs : (p+1)*f] {
 						row[j] -= l * u
 					}
 				}
@@ -340,10 +385,10 @@ func factorMultifrontal(ctx context.Context, a *linop.CSR, z complex128, q []int
 		m := f - k
 		update := func(lo, hi int) {
 			for i := lo; i < hi; i++ {
-				rankUpdate(F[i*f+k:(i+1)*f], F[i*f:i*f+k], F[k:], f)
+				rankUpdate(F[i*f+nfs:(i+1)*f], F[i*f:i*f+k], F[nfs:], f)
 			}
 		}
-		if workers > 1 && m*m*k > 1<<17 {
+		if workers > 1 && m*(f-nfs)*k > 1<<17 {
 			var wg sync.WaitGroup
 			for w := 0; w < workers; w++ {
 				lo, hi := k+m*w/workers, k+m*(w+1)/workers
@@ -354,21 +399,29 @@ func factorMultifrontal(ctx context.Context, a *linop.CSR, z complex128, q []int
 				}()
 			}
 			wg.Wait()
-		} else {
+		} else if k > 0 {
 			update(k, f)
 		}
-		nd := front{c0: c0, k: k, rows: rows, rowOf: rowOf}
+		nd := front{
+			cols: append([]int(nil), colList[:k]...), rowOf: append([]int(nil), rowList[:k]...),
+			ucol: append([]int(nil), colList[k:]...), lrow: append([]int(nil), rowList[k:]...),
+		}
 		nd.top = append([]complex128(nil), F[:k*f]...)
 		nd.low = make([]complex128, m*k)
 		for i := 0; i < m; i++ {
 			copy(nd.low[i*k:(i+1)*k], F[(k+i)*f:(k+i)*f+k])
 		}
-		if m > 0 && sym.parent[s] >= 0 {
+		stored += int64(len(nd.top)+len(nd.low)) * 16
+		if stored > limit {
+			return nil, memguard.CheckBytes(stored, fmt.Sprintf("multifrontal factors of order %d", n))
+		}
+		if m > 0 && !root {
 			u := make([]complex128, m*m)
 			for i := 0; i < m; i++ {
 				copy(u[i*m:(i+1)*m], F[(k+i)*f+k:(k+i+1)*f])
 			}
-			updates[s] = u
+			contribs[s] = contrib{u: u, rows: nd.lrow, cols: nd.ucol, nd: nfs - k}
+			mf.Delayed += nfs - k
 		}
 		mf.nodes[s] = nd
 	}
@@ -384,9 +437,9 @@ func (mf *Multifrontal) Len() int { return mf.n }
 // NNZ returns the numbers of stored entries of L and U.
 func (mf *Multifrontal) NNZ() (l, u int) {
 	for _, nd := range mf.nodes {
-		f := len(nd.rows)
-		l += len(nd.low) + nd.k*(nd.k+1)/2
-		u += nd.k*(nd.k+1)/2 + nd.k*(f-nd.k)
+		k := len(nd.cols)
+		l += len(nd.low) + k*(k-1)/2 + k
+		u += k*(k+1)/2 + k*len(nd.ucol)
 	}
 	return l, u
 }
@@ -398,14 +451,15 @@ func (mf *Multifrontal) Solve(dst, b []complex128) error {
 	if len(dst) != n || len(b) != n {
 		panic(ErrShape)
 	}
-	w := make([]complex128, n) // row space, then column space
+	w := make([]complex128, n) // indexed by rows
 	for t, o := range mf.q {
 		w[t] = b[o]
 	}
-	y := make([]complex128, n)
+	y := make([]complex128, n) // indexed by columns
 	var tmp []complex128
 	for _, nd := range mf.nodes {
-		k, f := nd.k, len(nd.rows)
+		k := len(nd.cols)
+		f := k + len(nd.ucol)
 		tmp = tmp[:0]
 		for p := 0; p < k; p++ {
 			tmp = append(tmp, w[nd.rowOf[p]])
@@ -417,29 +471,31 @@ func (mf *Multifrontal) Solve(dst, b []complex128) error {
 			}
 			tmp[p] = s
 		}
-		for i := k; i < f; i++ {
-			l := nd.low[(i-k)*k : (i-k+1)*k]
+		for i, r := range nd.lrow {
 			var s complex128
-			for p, v := range l {
+			for p, v := range nd.low[i*k : (i+1)*k] {
 				s += v * tmp[p]
 			}
-			w[nd.rows[i]] -= s
+			w[r] -= s
 		}
-		copy(y[nd.c0:nd.c0+k], tmp)
+		for p, c := range nd.cols {
+			y[c] = tmp[p]
+		}
 	}
 	for s := len(mf.nodes) - 1; s >= 0; s-- {
 		nd := &mf.nodes[s]
-		k, f := nd.k, len(nd.rows)
+		k := len(nd.cols)
+		f := k + len(nd.ucol)
 		for p := k - 1; p >= 0; p-- {
 			row := nd.top[p*f : (p+1)*f]
-			v := y[nd.c0+p]
+			v := y[nd.cols[p]]
 			for j := p + 1; j < k; j++ {
-				v -= row[j] * y[nd.c0+j]
+				v -= row[j] * y[nd.cols[j]]
 			}
-			for i := k; i < f; i++ {
-				v -= row[i] * y[nd.rows[i]]
+			for i, c := range nd.ucol {
+				v -= row[k+i] * y[c]
 			}
-			y[nd.c0+p] = v / row[p]
+			y[nd.cols[p]] = v / row[p]
 		}
 	}
 	for t, o := range mf.q {
@@ -455,42 +511,46 @@ func (mf *Multifrontal) SolveH(dst, b []complex128) error {
 	if len(dst) != n || len(b) != n {
 		panic(ErrShape)
 	}
-	c := make([]complex128, n) // column space
+	c := make([]complex128, n) // indexed by columns
 	for t, o := range mf.q {
 		c[t] = b[o]
 	}
 	// Uᴴ y = c, forward over supernodes.
 	for _, nd := range mf.nodes {
-		k, f := nd.k, len(nd.rows)
+		k := len(nd.cols)
+		f := k + len(nd.ucol)
 		for p := 0; p < k; p++ {
-			v := c[nd.c0+p]
+			v := c[nd.cols[p]]
 			for s := 0; s < p; s++ {
-				v -= cmplx.Conj(nd.top[s*f+p]) * c[nd.c0+s]
+				v -= cmplx.Conj(nd.top[s*f+p]) * c[nd.cols[s]]
 			}
-			c[nd.c0+p] = v / cmplx.Conj(nd.top[p*f+p])
+			c[nd.cols[p]] = v / cmplx.Conj(nd.top[p*f+p])
 		}
-		for i := k; i < f; i++ {
+		for i, col := range nd.ucol {
 			var v complex128
 			for p := 0; p < k; p++ {
-				v += cmplx.Conj(nd.top[p*f+i]) * c[nd.c0+p]
+				v += cmplx.Conj(nd.top[p*f+k+i]) * c[nd.cols[p]]
 			}
-			c[nd.rows[i]] -= v
+			c[col] -= v
 		}
 	}
-	// Lᴴ z = y, backward; z is stored in row space.
+	// Lᴴ z = y, backward; z is indexed by rows.
 	zr := make([]complex128, n)
 	var tmp []complex128
 	for s := len(mf.nodes) - 1; s >= 0; s-- {
 		nd := &mf.nodes[s]
-		k, f := nd.k, len(nd.rows)
-		tmp = append(tmp[:0], c[nd.c0:nd.c0+k]...)
-		for i := k; i < f; i++ {
-			zi := zr[nd.rows[i]]
+		k := len(nd.cols)
+		f := k + len(nd.ucol)
+		tmp = tmp[:0]
+		for _, col := range nd.cols {
+			tmp = append(tmp, c[col])
+		}
+		for i, r := range nd.lrow {
+			zi := zr[r]
 			if zi == 0 {
 				continue
 			}
-			l := nd.low[(i-k)*k : (i-k+1)*k]
-			for p, v := range l {
+			for p, v := range nd.low[i*k : (i+1)*k] {
 				tmp[p] -= cmplx.Conj(v) * zi
 			}
 		}
@@ -501,8 +561,8 @@ func (mf *Multifrontal) SolveH(dst, b []complex128) error {
 			}
 			tmp[p] = v
 		}
-		for p := 0; p < k; p++ {
-			zr[nd.rowOf[p]] = tmp[p]
+		for p, r := range nd.rowOf {
+			zr[r] = tmp[p]
 		}
 	}
 	for t, o := range mf.q {

@@ -10,9 +10,10 @@
 //     on a fill-reducing symmetric order — nested dissection by grid
 //     geometry for Kronecker sums on tensor grids (George, SIAM J. Numer.
 //     Anal. 1973), reverse Cuthill–McKee otherwise — with threshold
-//     pivoting inside each front; when a front cannot find an acceptable
-//     pivot, SparseLU, a left-looking LU with free partial pivoting
-//     (Gilbert–Peierls, SIAM J. Sci. Stat. Comput. 1988), takes over.
+//     pivoting inside each front and delayed pivots. SparseLU, a
+//     left-looking LU with free partial pivoting (Gilbert–Peierls, SIAM J.
+//     Sci. Stat. Comput. 1988), is available through FactorSparse as an
+//     independent sparse factorisation.
 //   - ZDense: dense complex LU with partial pivoting for dense operators,
 //     guarded by memguard.
 //

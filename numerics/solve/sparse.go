@@ -2,7 +2,6 @@ package solve
 
 import (
 	"context"
-	"errors"
 	"fmt"
 	"math"
 	"math/cmplx"
@@ -79,9 +78,7 @@ func shiftedCSC(a *linop.CSR, z complex128) *CSC {
 // NewSparseShifted factors zI − A for a square operator A with a sparse form,
 // with a fill-reducing symmetric order: nested dissection by grid geometry
 // when A is a Kronecker sum X ⊕ Y of sparse factors, reverse Cuthill–McKee
-// otherwise. It first tries the supernodal Multifrontal factorisation and,
-// if that meets a pivot it cannot take within a front, falls back to
-// SparseLU (left-looking, free partial pivoting). It returns an error
+// otherwise, by the supernodal Multifrontal factorisation. It returns an error
 // wrapping ErrSingular (naming z) if a pivot is negligible, the context's
 // error if ctx is cancelled, or an error from the memory guard. It panics
 // with ErrShape if A is not square.
@@ -109,17 +106,10 @@ func sparseOrder(a linop.Operator, csr *linop.CSR) []int {
 func newSparse(ctx context.Context, a linop.Operator, csr *linop.CSR, z complex128, progress func(done, total int)) (AdjointSolver, error) {
 	q := sparseOrder(a, csr)
 	mf, err := factorMultifrontal(ctx, csr, z, q, progress)
-	if err == nil {
-		return mf, nil
-	}
-	if !errors.Is(err, errDelayed) {
-		return nil, withShift(err, z)
-	}
-	f, err := FactorSparse(ctx, shiftedCSC(csr, z), q, progress)
 	if err != nil {
 		return nil, withShift(err, z)
 	}
-	return f, nil
+	return mf, nil
 }
 
 func factorSparseCSC(ctx context.Context, m *CSC, q []int, progress func(done, total int)) (*SparseLU, error) {
