@@ -51,7 +51,6 @@ type front struct {
 // FrontTol is the pivot threshold of the multifrontal factorisation.
 const FrontTol = 0.01
 
-
 // symbolic holds the supernodal structure of a symmetric pattern.
 type symbolic struct {
 	snode  [][2]int // [c0, c1) per supernode
