@@ -101,18 +101,38 @@ var Palette = func() []RGB {
 // steps of colour.
 type ColorMap struct {
 	stops []Lab
+	table []RGB // At sampled at lutSize points, built on first use
 }
+
+const lutSize = 1024
 
 // Sequential is the colour map for heat maps: from deep indigo through blue and
 // teal to pale yellow, with OKLab lightness rising monotonically from 0.22 to
 // 0.94, so order is readable in greyscale.
-var Sequential = ColorMap{stops: []Lab{
+var Sequential = newColorMap([]Lab{
 	lch(0.22, 0.10, 290),
 	lch(0.40, 0.13, 262),
 	lch(0.58, 0.09, 205),
 	lch(0.76, 0.13, 140),
 	lch(0.94, 0.12, 102),
-}}
+})
+
+func newColorMap(stops []Lab) ColorMap {
+	m := ColorMap{stops: stops}
+	m.table = make([]RGB, lutSize)
+	for k := range m.table {
+		m.table[k] = m.Lab(float64(k) / (lutSize - 1)).RGB()
+	}
+	return m
+}
+
+// quick returns the colour at t from the table (to within 1/2046 in t).
+func (m ColorMap) quick(t float64) RGB {
+	if !(t > 0) {
+		return m.table[0]
+	}
+	return m.table[int(math.Min(t, 1)*(lutSize-1)+0.5)]
+}
 
 // Lab returns the map's colour at t ∈ [0, 1] in OKLab (t is clamped; NaN gives
 // the start).

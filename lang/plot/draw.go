@@ -422,7 +422,7 @@ func (r *renderer) drawHeat(h *HeatMap) {
 		if !ok {
 			return RGB{}, false
 		}
-		return Sequential.At(t), true
+		return Sequential.quick(t), true
 	}
 	dx, dy := (h.X1-h.X0)/float64(nx), (h.Y1-h.Y0)/float64(ny)
 	xp := func(i int) float64 { v, _ := r.xs.px(h.X0 + float64(i)*dx); return v }

@@ -334,3 +334,42 @@ func TestColorMap(t *testing.T) {
 		t.Error("clamping")
 	}
 }
+
+// Dichromat simulation matrices on linear sRGB, severity 1, from Machado,
+// Oliveira & Fernandes, IEEE TVCG 2009 (values from memory; each row sums to 1).
+var dichromats = map[string][3][3]float64{
+	"protanopia":   {{0.152286, 1.052583, -0.204868}, {0.114503, 0.786281, 0.099216}, {-0.003882, -0.048116, 1.051998}},
+	"deuteranopia": {{0.367322, 0.860646, -0.227968}, {0.280085, 0.672501, 0.047413}, {-0.011820, 0.042940, 0.968881}},
+	"tritanopia":   {{1.255528, -0.076749, -0.178779}, {-0.078411, 0.930809, 0.147602}, {0.004733, 0.691367, 0.303900}},
+}
+
+func TestPaletteColourBlind(t *testing.T) {
+	toLab := func(r, g, b float64) Lab {
+		l := math.Cbrt(0.4122214708*r + 0.5363325363*g + 0.0514459929*b)
+		m := math.Cbrt(0.2119034982*r + 0.6806995451*g + 0.1073969566*b)
+		s := math.Cbrt(0.0883024619*r + 0.2817188376*g + 0.6299787005*b)
+		return Lab{0.2104542553*l + 0.7936177850*m - 0.0040720468*s,
+			1.9779984951*l - 2.4285922050*m + 0.4505937099*s,
+			0.0259040371*l + 0.7827717662*m - 0.8086757660*s}
+	}
+	for name, m := range dichromats {
+		sim := make([]Lab, len(paletteLab))
+		for i, p := range paletteLab {
+			r, g, b := p.linearRGB()
+			c := [3]float64{r, g, b}
+			var o [3]float64
+			for k := range 3 {
+				o[k] = math.Max(0, m[k][0]*c[0]+m[k][1]*c[1]+m[k][2]*c[2])
+			}
+			sim[i] = toLab(o[0], o[1], o[2])
+		}
+		for i := range sim {
+			for j := range i {
+				d := math.Sqrt((sim[i].L-sim[j].L)*(sim[i].L-sim[j].L) + (sim[i].A-sim[j].A)*(sim[i].A-sim[j].A) + (sim[i].B-sim[j].B)*(sim[i].B-sim[j].B))
+				if d < 0.08 {
+					t.Errorf("%s: palette %d and %d differ by ΔE_ok = %.3f", name, i, j, d)
+				}
+			}
+		}
+	}
+}

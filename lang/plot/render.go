@@ -2,6 +2,7 @@ package plot
 
 import (
 	"bytes"
+	"encoding/binary"
 	"fmt"
 	"hash/fnv"
 	"io"
@@ -353,10 +354,10 @@ func (r *renderer) layout(bx, by *bounds) {
 		}
 		r.xs = newScale(f.X.Log, xlo, xhi, r.plot.x0, r.plot.x1)
 		r.ys = newScale(f.Y.Log, ylo, yhi, r.plot.y1, r.plot.y0)
-		r.yt = fitTicks(f.Y.Log, ylo, yhi, ph, func(l []label, spacing float64) bool {
+		r.yt = fitTicks(f.Y.Log, ylo, yhi, ph, 45, func(l []label, spacing float64) bool {
 			return spacing >= tickSize+5
 		})
-		r.xt = fitTicks(f.X.Log, xlo, xhi, pw, func(l []label, spacing float64) bool {
+		r.xt = fitTicks(f.X.Log, xlo, xhi, pw, 60, func(l []label, spacing float64) bool {
 			for k := 0; k+1 < len(l); k++ {
 				if (l[k].width(tickSize)+l[k+1].width(tickSize))/2+10 > spacing {
 					return false
@@ -376,7 +377,7 @@ func (r *renderer) layout(bx, by *bounds) {
 		}
 		needCbar := 0.0
 		if r.heat != nil {
-			r.cbt = fitTicks(r.cbar.log, r.cbar.lo, r.cbar.hi, ph, func(l []label, spacing float64) bool {
+			r.cbt = fitTicks(r.cbar.log, r.cbar.lo, r.cbar.hi, ph, 45, func(l []label, spacing float64) bool {
 				return spacing >= tickSize+5
 			})
 			needCbar = 14 + 14 + tickLen + 3 + maxWidth(r.cbt.labels, tickSize)
@@ -400,11 +401,11 @@ func maxWidth(ls []label, size float64) float64 {
 	return w
 }
 
-// fitTicks chooses ticks for [lo, hi] drawn over length px, reducing their
+// fitTicks chooses about length/per ticks for [lo, hi] drawn over length px, reducing their
 // number until fits accepts the labels at their smallest spacing in px. When
 // even the sparsest ticks collide, it keeps them and labels only every s-th,
 // for the smallest s that fits (at least the first tick stays labelled).
-func fitTicks(log bool, lo, hi, length float64, fits func([]label, float64) bool) axisTicks {
+func fitTicks(log bool, lo, hi, length, per float64, fits func([]label, float64) bool) axisTicks {
 	s := newScale(log, lo, hi, 0, length)
 	spacing := func(major []float64, labels []label) float64 {
 		sp := math.Inf(1)
@@ -422,7 +423,7 @@ func fitTicks(log bool, lo, hi, length float64, fits func([]label, float64) bool
 		return sp
 	}
 	var best axisTicks
-	for target := int(math.Max(2, math.Min(12, length/60))); target >= 1; target-- {
+	for target := int(math.Max(2, math.Min(12, length/per))); target >= 1; target-- {
 		var at axisTicks
 		if log {
 			at.major, at.minor = LogTicks(lo, hi, target)
@@ -478,10 +479,13 @@ func labelled(ls []label) []label {
 // ids, while the same figure always gives the same file.
 func (f *Figure) hashID() string {
 	h := fnv.New64a()
+	var buf []byte
 	fl := func(vs ...float64) {
+		buf = buf[:0]
 		for _, v := range vs {
-			fmt.Fprintf(h, "%x,", math.Float64bits(v))
+			buf = binary.LittleEndian.AppendUint64(buf, math.Float64bits(v))
 		}
+		h.Write(buf)
 	}
 	fmt.Fprintf(h, "%d|%d|%q|%q|%q|%d", f.Width, f.Height, f.Title, f.X.Label, f.Y.Label, len(f.Series))
 	for _, s := range f.Series {
