@@ -24,6 +24,7 @@ var families = [][]*Builtin{
 	coreFamily,
 	elementFamily,
 	vectorFamily,
+	objectFamily,
 }
 
 // Example is code that must run in a fresh session, and the text/plain of

@@ -4,6 +4,7 @@ import (
 	"fmt"
 	"strings"
 
+	"semiflow/lang/value"
 	"semiflow/numerics/grid"
 )
 
@@ -110,13 +111,13 @@ func (g *Grid) describe() string {
 		iv := g.Interval
 		ends := iv.Left.Kind.String()
 		if iv.Left.Kind == grid.Robin {
-			ends = fmt.Sprintf("robin %gu + %gu' = 0", iv.Left.Alpha, iv.Left.Beta)
+			ends = fmt.Sprintf("robin %s·u + %s·u' = 0", value.FormatNum(iv.Left.Alpha), value.FormatNum(iv.Left.Beta))
 		}
-		return fmt.Sprintf("interval [%g, %g], %d points, h = %.6g, %s ends, order %d, %d unknowns",
-			iv.A, iv.B, iv.N, iv.H, strings.ToLower(ends), g.Order, iv.Size())
+		return fmt.Sprintf("interval [%s, %s], %d points, h = %.6g, %s ends, order %d, %d unknowns",
+			value.FormatNum(iv.A), value.FormatNum(iv.B), iv.N, iv.H, strings.ToLower(ends), g.Order, iv.Size())
 	case KindChebyshev:
 		c := g.Cheb
-		return fmt.Sprintf("chebyshev [%g, %g], degree %d, dirichlet ends, %d unknowns", c.A, c.B, c.N, c.N-1)
+		return fmt.Sprintf("chebyshev [%s, %s], degree %d, dirichlet ends, %d unknowns", value.FormatNum(c.A), value.FormatNum(c.B), c.N, c.N-1)
 	}
 	return fmt.Sprintf("tensor %d×%d unknowns", g.X.Size(), g.Y.Size())
 }
@@ -126,4 +127,13 @@ func (g *Grid) String() string {
 		return "grid: " + g.describe() + "\n  x: " + g.X.describe() + "\n  y: " + g.Y.describe()
 	}
 	return "grid: " + g.describe()
+}
+
+// NewTensor returns the tensor-product grid of two 1-D grids. It panics if
+// either is 2-D.
+func NewTensor(x, y *Grid) *Grid {
+	if x.Dim() != 1 || y.Dim() != 1 {
+		panic("objects: tensor of a 2-D grid")
+	}
+	return &Grid{Kind: KindTensor, X: x, Y: y}
 }

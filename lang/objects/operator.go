@@ -5,6 +5,7 @@ import (
 
 	"gonum.org/v1/gonum/mat"
 
+	"semiflow/lang/syntax"
 	"semiflow/lang/value"
 	"semiflow/numerics/linop"
 )
@@ -66,4 +67,216 @@ func AsOperator(v value.Value) (*Operator, error) {
 func FromMatrix(m *value.Matrix) *Operator {
 	d := mat.NewDense(m.Rows, m.Cols, append([]float64(nil), m.Data...))
 	return &Operator{Op: linop.NewDense(d), Label: "matrix"}
+}
+
+// Operator algebra (the Binary and Unary methods).
+//
+//   - A + B, A − B: operators of equal size; sparse operands stay sparse,
+//     dense stay dense, Kronecker sums of equal factor sizes add factor-wise,
+//     (X₁⊕Y₁) + (X₂⊕Y₂) = (X₁+X₂)⊕(Y₁+Y₂); otherwise a matrix-free sum.
+//   - s*A, A*s, A/s, −A: scalar multiples; s(X⊕Y) = (sX)⊕(sY) keeps the
+//     Kronecker structure.
+//   - A*B: the product (sparse or dense when both are), A*v: the vector A v.
+//   - A square matrix operand is taken as a dense operator.
+//
+// A size mismatch is a ValueError naming both sizes; division by zero is a
+// ValueError.
+
+// Binary implements value.HasBinary.
+func (a *Operator) Binary(op syntax.Token, y value.Value, right bool) (value.Value, error) {
+	switch b := y.(type) {
+	case value.Num:
+		s := float64(b)
+		switch {
+		case op == syntax.MUL:
+			return a.scale(s, value.FormatNum(s)+"·"+a.Label), nil
+		case op == syntax.QUO && !right:
+			if s == 0 {
+				return nil, value.ValueErrorf("division of an operator by zero")
+			}
+			return a.scale(1/s, a.Label+"/"+value.FormatNum(s)), nil
+		}
+		return nil, value.TypeErrorf("unsupported operands for %s: %s and an operator; only s*A, A*s and A/s mix numbers with operators", op, "a number")
+	case *value.Vec:
+		if op == syntax.MUL && !right {
+			return a.applyVec(b)
+		}
+		if op == syntax.MUL {
+			return nil, value.TypeErrorf("vector * operator is not defined: a vector is a column; write A * v")
+		}
+	case *value.Matrix:
+		if b.Rows != b.Cols {
+			return nil, value.ValueErrorf("an operator mixes only with square matrices, not %d×%d", b.Rows, b.Cols)
+		}
+		m := FromMatrix(b)
+		if right {
+			return m.combine(op, a)
+		}
+		return a.combine(op, m)
+	case *Operator:
+		if right {
+			return b.combine(op, a)
+		}
+		return a.combine(op, b)
+	}
+	return nil, nil
+}
+
+// Unary implements value.HasUnary.
+func (a *Operator) Unary(op syntax.Token) (value.Value, error) {
+	if op == syntax.SUB {
+		return a.scale(-1, "−"+a.Label), nil
+	}
+	return a, nil
+}
+
+func (a *Operator) applyVec(v *value.Vec) (value.Value, error) {
+	r, c := a.Op.Dims()
+	if v.IsComplex() {
+		return nil, value.TypeErrorf("operators act on real vectors; apply to the real and imaginary parts separately")
+	}
+	if len(v.R) != c {
+		return nil, value.ValueErrorf("operator * vector: the operator is %d×%d but the vector has %d entries", r, c, len(v.R))
+	}
+	dst := make([]float64, r)
+	a.Op.Apply(dst, v.R)
+	return value.RealVec(dst), nil
+}
+
+// SameGrid returns the grid shared by a and b: either one's grid when the
+// other has none, nil when they differ.
+func SameGrid(a, b *Grid) *Grid {
+	switch {
+	case a == nil:
+		return b
+	case b == nil || a == b:
+		return a
+	}
+	return nil
+}
+
+func (a *Operator) scale(s float64, label string) *Operator {
+	out := &Operator{Grid: a.Grid, Label: label}
+	switch t := a.Op.(type) {
+	case *linop.CSR:
+		out.Op = linop.ScaleCSR(s, t)
+	case *linop.Dense:
+		var m mat.Dense
+		m.Scale(s, t.Mat())
+		out.Op = linop.NewDense(&m)
+	case *linop.KronSum:
+		out.Op = linop.NewKronSum(scaleOp(s, t.X), scaleOp(s, t.Y))
+	case *linop.Diag:
+		d := make([]float64, len(t.D))
+		for i, x := range t.D {
+			d[i] = s * x
+		}
+		out.Op = &linop.Diag{D: d}
+	default:
+		out.Op = &linop.Scaled{Alpha: s, A: a.Op}
+	}
+	return out
+}
+
+func scaleOp(s float64, op linop.Operator) linop.Operator {
+	return (&Operator{Op: op}).scale(s, "").Op
+}
+
+func (a *Operator) combine(op syntax.Token, b *Operator) (value.Value, error) {
+	ar, ac := a.Op.Dims()
+	br, bc := b.Op.Dims()
+	g := SameGrid(a.Grid, b.Grid)
+	switch op {
+	case syntax.ADD, syntax.SUB:
+		if ar != br || ac != bc {
+			return nil, value.ValueErrorf("operator sizes differ for %s: %d×%d and %d×%d", op, ar, ac, br, bc)
+		}
+		sign := 1.0
+		if op == syntax.SUB {
+			sign = -1
+		}
+		return &Operator{Op: addOps(a.Op, sign, b.Op), Grid: g, Label: "(" + a.Label + " " + op.String() + " " + b.Label + ")"}, nil
+	case syntax.MUL:
+		if ac != br {
+			return nil, value.ValueErrorf("operator product needs inner sizes to agree: %d×%d times %d×%d", ar, ac, br, bc)
+		}
+		return &Operator{Op: mulOps(a.Op, b.Op), Grid: g, Label: a.Label + "·" + b.Label}, nil
+	}
+	return nil, value.TypeErrorf("unsupported operands for %s: operator and operator (use +, −, * or kronsum)", op)
+}
+
+// addOps returns x + sign·y in the most structured form available.
+func addOps(x linop.Operator, sign float64, y linop.Operator) linop.Operator {
+	if kx, ok := x.(*linop.KronSum); ok {
+		if ky, ok := y.(*linop.KronSum); ok {
+			nx, _ := kx.X.Dims()
+			my, _ := ky.X.Dims()
+			if nx == my {
+				return linop.NewKronSum(addOps(kx.X, sign, ky.X), addOps(kx.Y, sign, ky.Y))
+			}
+		}
+	}
+	if dx, ok := x.(*linop.Dense); ok {
+		if dy, ok := y.(*linop.Dense); ok {
+			var m mat.Dense
+			m.Scale(sign, dy.Mat())
+			m.Add(dx.Mat(), &m)
+			return linop.NewDense(&m)
+		}
+	}
+	if sx, ok := sparse(x); ok {
+		if sy, ok := sparse(y); ok {
+			return linop.AddCSR(1, sx, sign, sy)
+		}
+	}
+	if sign != 1 {
+		y = scaleOp(sign, y)
+	}
+	return &linop.Sum{Terms: []linop.Operator{x, y}}
+}
+
+// mulOps returns the product x y in the most structured form available.
+func mulOps(x, y linop.Operator) linop.Operator {
+	if dx, ok := x.(*linop.Dense); ok {
+		if dy, ok := y.(*linop.Dense); ok {
+			var m mat.Dense
+			m.Mul(dx.Mat(), dy.Mat())
+			return linop.NewDense(&m)
+		}
+	}
+	if sx, ok := sparse(x); ok {
+		if sy, ok := sparse(y); ok {
+			return linop.MulCSR(sx, sy)
+		}
+	}
+	return &linop.Product{Factors: []linop.Operator{x, y}}
+}
+
+// sparse returns the CSR form of op when it is sparse by construction (not
+// for dense matrices, which stay dense).
+func sparse(op linop.Operator) (*linop.CSR, bool) {
+	if _, ok := op.(*linop.Dense); ok {
+		return nil, false
+	}
+	s, ok := op.(linop.Sparser)
+	if !ok {
+		return nil, false
+	}
+	c, err := s.ToCSR()
+	return c, err == nil
+}
+
+// KronSum returns A ⊕ B = A ⊗ I + I ⊗ B of two square operators. Its grid is
+// the tensor product of their 1-D grids when both have one.
+func KronSum(a, b *Operator) (*Operator, error) {
+	ar, ac := a.Op.Dims()
+	br, bc := b.Op.Dims()
+	if ar != ac || br != bc {
+		return nil, value.ValueErrorf("kronsum needs square operators, not %d×%d and %d×%d", ar, ac, br, bc)
+	}
+	out := &Operator{Op: linop.NewKronSum(a.Op, b.Op), Label: a.Label + " ⊕ " + b.Label}
+	if a.Grid != nil && b.Grid != nil && a.Grid.Dim() == 1 && b.Grid.Dim() == 1 {
+		out.Grid = NewTensor(a.Grid, b.Grid)
+	}
+	return out, nil
 }

@@ -1,0 +1,386 @@
+package builtin
+
+import (
+	"fmt"
+	"math"
+	"strings"
+
+	"semiflow/lang/eval"
+	"semiflow/lang/objects"
+	"semiflow/lang/value"
+	"semiflow/numerics/grid"
+)
+
+// objectFamily is the family of grids, operators and propagation, kept in
+// three files (grids.go, operators.go, propagate.go).
+var objectFamily = join(gridFamily, operatorFamily, propagateFamily)
+
+func join(fams ...[]*Builtin) []*Builtin {
+	var out []*Builtin
+	for _, f := range fams {
+		out = append(out, f...)
+	}
+	return out
+}
+
+// gridFamily: 1-D and 2-D grids and grid functions.
+var gridFamily = []*Builtin{
+	{
+		Name: "interval",
+		Params: []value.Param{
+			req("a", "left end"),
+			req("b", "right end, b > a"),
+			req("n", "number of grid points, counting both ends (for periodic ends x = b is x = a and there are n unknowns)"),
+			opt("ends", value.Str("dirichlet"), `boundary condition at both ends: "dirichlet" (u = 0), "neumann" (u' = 0), "periodic" or "robin" (αu + βu' = 0)`),
+			opt("order", value.Num(2), "order of the finite differences, 2 or 4"),
+			opt("alpha", value.Num(1), "α of the Robin condition αu + βu' = 0"),
+			opt("beta", value.Num(0), "β of the Robin condition αu + βu' = 0"),
+		},
+		Doc: "The uniform grid x_j = a + j h, h = (b − a)/(n − 1), j = 0..n−1, on [a, b] with a boundary condition at both ends and finite differences of order 2 or 4. " +
+			"The unknowns of a grid function are the points where u is not prescribed: Dirichlet end points are left out (u = 0 there); with periodic ends h = (b − a)/n and x = b is identified with x = a. " +
+			"Robin ends impose αu + βu' = 0 with u' = du/dx at both ends.",
+		Examples: []Example{
+			{"interval(0, 1, 11)", "grid: interval [0, 1], 11 points, h = 0.1, dirichlet ends, order 2, 9 unknowns"},
+			{`interval(0, 2*pi, 64, ends="periodic", order=4)`, "grid: interval [0, 6.283185307], 64 points, h = 0.0981748, periodic ends, order 4, 64 unknowns"},
+		},
+		Impl: intervalImpl,
+	},
+	{
+		Name: "chebyshev",
+		Params: []value.Param{
+			req("n", "polynomial degree N ≥ 2: the grid has N + 1 points"),
+			opt("a", value.Num(-1), "left end"),
+			opt("b", value.Num(1), "right end, b > a"),
+		},
+		Doc: "The Chebyshev points x_j = (a+b)/2 + (b−a)/2 cos(jπ/N), j = 0..N, with spectral differentiation: derivatives are those of the polynomial of degree N through the values. " +
+			"The ends carry homogeneous Dirichlet conditions, so the unknowns are the N − 1 interior points (in decreasing order of x); d²/dx² on them has the eigenvalues of the Dirichlet problem to spectral accuracy.",
+		Examples: []Example{
+			{"chebyshev(16)", "grid: chebyshev [-1, 1], degree 16, dirichlet ends, 15 unknowns"},
+			{"coords(chebyshev(4))", "[0.7071067812, 0, -0.7071067812]"},
+		},
+		Impl: func(c *eval.Call) (value.Value, error) {
+			n, err := argInt(c, 0)
+			if err != nil {
+				return nil, err
+			}
+			a, err := argReal(c, 1)
+			if err != nil {
+				return nil, err
+			}
+			b, err := argReal(c, 2)
+			if err != nil {
+				return nil, err
+			}
+			if n < 2 {
+				return nil, value.ValueErrorf("chebyshev: n must be at least 2 (one interior point), not %d", n)
+			}
+			if err := c.CheckSize(float64(n)*float64(n), "chebyshev: the differentiation matrix"); err != nil {
+				return nil, err
+			}
+			g, err := grid.NewChebyshev(a, b, n)
+			if err != nil {
+				return nil, value.ValueErrorf("chebyshev: %s", strings.TrimPrefix(err.Error(), "grid: "))
+			}
+			return &objects.Grid{Kind: objects.KindChebyshev, Cheb: g}, nil
+		},
+	},
+	{
+		Name: "tensor",
+		Params: []value.Param{
+			req("gx", "the 1-D grid along x"),
+			req("gy", "the 1-D grid along y"),
+		},
+		Doc: "The 2-D tensor-product grid of two 1-D grids: its unknowns are the pairs (x_ix, y_iy) of unknowns of gx and gy, numbered k = ix·ny + iy (y fastest). " +
+			"Derivatives along x and y are D_x ⊗ I and I ⊗ D_y, and the Laplacian is the Kronecker sum D2_x ⊕ D2_y.",
+		Examples: []Example{
+			{"tensor(interval(0, 1, 5), interval(0, 2, 6))", "grid: tensor 3×4 unknowns\n  x: interval [0, 1], 5 points, h = 0.25, dirichlet ends, order 2, 3 unknowns\n  y: interval [0, 2], 6 points, h = 0.4, dirichlet ends, order 2, 4 unknowns"},
+		},
+		Impl: func(c *eval.Call) (value.Value, error) {
+			gx, err := argGrid(c, 0)
+			if err != nil {
+				return nil, err
+			}
+			gy, err := argGrid(c, 1)
+			if err != nil {
+				return nil, err
+			}
+			if gx.Dim() != 1 || gy.Dim() != 1 {
+				return nil, value.ValueErrorf("tensor: gx and gy must be 1-D grids")
+			}
+			if err := c.CheckSize(float64(gx.Size())*float64(gy.Size()), "tensor: the grid"); err != nil {
+				return nil, err
+			}
+			return objects.NewTensor(gx, gy), nil
+		},
+	},
+	{
+		Name: "coords",
+		Params: []value.Param{
+			req("g", "a grid"),
+			opt("axis", value.Str("x"), `"x" or "y" (y only for 2-D grids)`),
+		},
+		Doc: "The coordinate vector of the grid's unknowns: x_k for a 1-D grid; on a 2-D grid the x (or y) value of every unknown in the order k = ix·ny + iy.",
+		Examples: []Example{
+			{"coords(interval(0, 1, 5))", "[0.25, 0.5, 0.75]"},
+			{`coords(tensor(interval(0, 1, 5), interval(0, 1, 5)), axis="y")`, "[0.25, 0.5, 0.75, 0.25, 0.5, 0.75, 0.25, 0.5, 0.75]"},
+		},
+		Impl: func(c *eval.Call) (value.Value, error) {
+			g, err := argGrid(c, 0)
+			if err != nil {
+				return nil, err
+			}
+			axis, err := argChoice(c, 1, "x", "y")
+			if err != nil {
+				return nil, err
+			}
+			x, y := g.Coords()
+			if axis == "y" {
+				if y == nil {
+					return nil, value.ValueErrorf(`coords: axis="y" needs a 2-D grid; this grid is 1-D`)
+				}
+				return value.RealVec(y), nil
+			}
+			return value.RealVec(x), nil
+		},
+	},
+	{
+		Name: "sample",
+		Params: []value.Param{
+			req("f", "a function f(x) (1-D grid) or f(x, y) (2-D grid) returning a number, or a number"),
+			req("g", "a grid"),
+		},
+		Doc: "The grid function u_k = f(x_k) (or f(x_k, y_k) on a 2-D grid) at the grid's unknowns, as a vector. A number gives the constant function. " +
+			"f is first called once with the coordinate vectors (arithmetic acts entry-wise) and, if that does not give one number per unknown, once per unknown.",
+		Examples: []Example{
+			{"f(x) = x^2; sample(f, interval(0, 1, 5))", "[0.0625, 0.25, 0.5625]"},
+			{"sample(3, interval(0, 1, 5))", "[3, 3, 3]"},
+		},
+		Impl: func(c *eval.Call) (value.Value, error) {
+			g, err := argGrid(c, 1)
+			if err != nil {
+				return nil, err
+			}
+			u, err := sampleOn(c, "f", c.Args[0], g)
+			if err != nil {
+				return nil, err
+			}
+			return value.RealVec(u), nil
+		},
+	},
+}
+
+func intervalImpl(c *eval.Call) (value.Value, error) {
+	a, err := argReal(c, 0)
+	if err != nil {
+		return nil, err
+	}
+	b, err := argReal(c, 1)
+	if err != nil {
+		return nil, err
+	}
+	n, err := argInt(c, 2)
+	if err != nil {
+		return nil, err
+	}
+	ends, err := argChoice(c, 3, "dirichlet", "neumann", "periodic", "robin")
+	if err != nil {
+		return nil, err
+	}
+	order, err := argInt(c, 4)
+	if err != nil {
+		return nil, err
+	}
+	if order != 2 && order != 4 {
+		return nil, value.ValueErrorf("interval: order must be 2 or 4, not %d", order)
+	}
+	alpha, err := argReal(c, 5)
+	if err != nil {
+		return nil, err
+	}
+	beta, err := argReal(c, 6)
+	if err != nil {
+		return nil, err
+	}
+	if err := c.CheckSize(float64(n), "interval: the grid"); err != nil {
+		return nil, err
+	}
+	var e grid.End
+	switch ends {
+	case "dirichlet":
+		e = grid.DirichletEnd
+	case "neumann":
+		e = grid.NeumannEnd
+	case "periodic":
+		e = grid.PeriodicEnd
+	case "robin":
+		if math.IsNaN(alpha) || math.IsNaN(beta) || math.IsInf(alpha, 0) || math.IsInf(beta, 0) {
+			return nil, value.ValueErrorf("interval: alpha and beta must be finite")
+		}
+		e = grid.RobinEnd(alpha, beta)
+	}
+	iv, err := grid.NewInterval(a, b, n, e, e)
+	if err != nil {
+		return nil, value.ValueErrorf("interval: %s", strings.TrimPrefix(err.Error(), "grid: invalid grid: "))
+	}
+	g := &objects.Grid{Kind: objects.KindInterval, Interval: iv, Order: order}
+	if _, err := iv.D2(order); err != nil {
+		return nil, value.ValueErrorf("interval: %s", strings.TrimPrefix(err.Error(), "grid: invalid grid: "))
+	}
+	return g, nil
+}
+
+// sampleOn evaluates f (a function or a number) at the unknowns of g.
+func sampleOn(c *eval.Call, name string, f value.Value, g *objects.Grid) ([]float64, error) {
+	x, y := g.Coords()
+	n := len(x)
+	if num, ok := f.(value.Num); ok {
+		u := make([]float64, n)
+		for i := range u {
+			u[i] = float64(num)
+		}
+		return u, nil
+	}
+	fn, ok := f.(value.Callable)
+	if !ok {
+		return nil, value.TypeErrorf("%s: %s must be a function or a number, not %s", c.Name, name, value.TypeName(f))
+	}
+	args := func(xv, yv value.Value) []value.Value {
+		if y == nil {
+			return []value.Value{xv}
+		}
+		return []value.Value{xv, yv}
+	}
+	if want := len(args(nil, nil)); requiredParams(fn) > want || (len(fn.Params()) < want && !variadic(fn)) {
+		return nil, value.TypeErrorf("%s: %s must take %d argument(s) on a %d-D grid: %s", c.Name, name, want, g.Dim(), eval.SignatureText(fn.Name(), fn.Params()))
+	}
+	// Whole-vector call first.
+	var yv value.Value
+	if y != nil {
+		yv = value.RealVec(y)
+	}
+	if r, err := c.Apply(f, args(value.RealVec(x), yv)...); err == nil {
+		switch t := r.(type) {
+		case *value.Vec:
+			if !t.IsComplex() && len(t.R) == n {
+				return append([]float64(nil), t.R...), nil
+			}
+		case value.Num:
+			u := make([]float64, n)
+			for i := range u {
+				u[i] = float64(t)
+			}
+			return u, nil
+		}
+	} else if isStop(err) {
+		return nil, err
+	}
+	u := make([]float64, n)
+	for i := range u {
+		var yi value.Value
+		if y != nil {
+			yi = value.Num(y[i])
+		}
+		r, err := c.Apply(f, args(value.Num(x[i]), yi)...)
+		if err != nil {
+			return nil, err
+		}
+		num, ok := r.(value.Num)
+		if !ok {
+			return nil, value.TypeErrorf("%s: %s must return a real number, but at x = %s it returned %s", c.Name, name, value.FormatNum(x[i]), value.TypeName(r))
+		}
+		u[i] = float64(num)
+	}
+	return u, nil
+}
+
+// isStop reports errors that must not be retried (interrupts and limits).
+func isStop(err error) bool {
+	if e, ok := err.(*eval.Error); ok {
+		return e.Name == "Interrupted" || e.Name == "LimitError"
+	}
+	return false
+}
+
+func requiredParams(f value.Callable) int {
+	n := 0
+	for _, p := range f.Params() {
+		if p.Default == nil && !p.Variadic {
+			n++
+		}
+	}
+	return n
+}
+
+func variadic(f value.Callable) bool {
+	ps := f.Params()
+	return len(ps) > 0 && ps[len(ps)-1].Variadic
+}
+
+// Argument helpers of the object family.
+
+// argInt is an integer argument (any sign).
+func argInt(c *eval.Call, i int) (int, error) {
+	f, err := argReal(c, i)
+	if err != nil {
+		return 0, err
+	}
+	if f != math.Trunc(f) || math.Abs(f) > 1<<40 {
+		return 0, value.ValueErrorf("%s: %s must be a whole number, not %s", c.Name, paramName(c, i), value.FormatNum(f))
+	}
+	return int(f), nil
+}
+
+func argString(c *eval.Call, i int) (string, error) {
+	v, err := c.Arg(i)
+	if err != nil {
+		return "", err
+	}
+	s, ok := v.(value.Str)
+	if !ok {
+		return "", value.TypeErrorf("%s: %s must be a string, not %s", c.Name, paramName(c, i), value.TypeName(v))
+	}
+	return string(s), nil
+}
+
+// argChoice is a string argument from a fixed set; the error lists the set.
+func argChoice(c *eval.Call, i int, valid ...string) (string, error) {
+	s, err := argString(c, i)
+	if err != nil {
+		return "", err
+	}
+	for _, v := range valid {
+		if s == v {
+			return s, nil
+		}
+	}
+	q := make([]string, len(valid))
+	for k, v := range valid {
+		q[k] = fmt.Sprintf("%q", v)
+	}
+	return "", value.ValueErrorf("%s: unknown %s %q; valid values are %s", c.Name, paramName(c, i), s, strings.Join(q, ", "))
+}
+
+func argGrid(c *eval.Call, i int) (*objects.Grid, error) {
+	v, err := c.Arg(i)
+	if err != nil {
+		return nil, err
+	}
+	g, ok := v.(*objects.Grid)
+	if !ok {
+		return nil, value.TypeErrorf("%s: %s must be a grid, not %s", c.Name, paramName(c, i), value.TypeName(v))
+	}
+	return g, nil
+}
+
+func argOperator(c *eval.Call, i int) (*objects.Operator, error) {
+	v, err := c.Arg(i)
+	if err != nil {
+		return nil, err
+	}
+	a, err := objects.AsOperator(v)
+	if err != nil {
+		e := err.(*value.Error)
+		return nil, &value.Error{Name: e.Name, Msg: fmt.Sprintf("%s: %s %s", c.Name, paramName(c, i), e.Msg)}
+	}
+	return a, nil
+}

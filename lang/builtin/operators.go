@@ -1,0 +1,721 @@
+package builtin
+
+import (
+	"bufio"
+	"encoding/json"
+	"errors"
+	"fmt"
+	"math"
+	"os"
+	"path/filepath"
+	"strconv"
+	"strings"
+
+	"gonum.org/v1/gonum/mat"
+
+	"semiflow/lang/eval"
+	"semiflow/lang/objects"
+	"semiflow/lang/value"
+	"semiflow/numerics/linop"
+	"semiflow/numerics/mmio"
+)
+
+// operatorFamily: operators on grids, explicit and Markov-chain operators,
+// algebra helpers, and file export.
+var operatorFamily = []*Builtin{
+	{
+		Name: "deriv",
+		Params: []value.Param{
+			req("g", "a grid"),
+			opt("k", value.Num(1), "the order of the derivative, 1 or 2"),
+			opt("along", value.Str("x"), `"x" or "y" (y only for 2-D grids)`),
+		},
+		Doc: "The k-th derivative d^k/dx^k (k = 1, 2) as an operator on the grid's unknowns, with the grid's boundary conditions: " +
+			"central differences of the grid's order (2 or 4) inside and one-sided closures of the same order at the ends on an interval; " +
+			"the spectral differentiation matrix restricted to the interior points on a Chebyshev grid; D_x ⊗ I_ny or I_nx ⊗ D_y on a tensor grid.",
+		Examples: []Example{
+			{"deriv(interval(0, 1, 5), k=2) * [1, 0, 0]", "[-32, 16, 0]"},
+			{"deriv(interval(0, 1, 100, ends=\"periodic\"))", "operator d/dx: 100×100, sparse, 200 nonzeros\n  on interval [0, 1], 100 points, h = 0.01, periodic ends, order 2, 100 unknowns"},
+		},
+		Impl: func(c *eval.Call) (value.Value, error) {
+			g, err := argGrid(c, 0)
+			if err != nil {
+				return nil, err
+			}
+			k, err := argInt(c, 1)
+			if err != nil {
+				return nil, err
+			}
+			along, err := argChoice(c, 2, "x", "y")
+			if err != nil {
+				return nil, err
+			}
+			op, err := objects.Deriv(g, k, along)
+			if err != nil {
+				return nil, err
+			}
+			label := "d/d" + along
+			if k == 2 {
+				label = "d²/d" + along + "²"
+			}
+			return &objects.Operator{Op: op, Grid: g, Label: label}, nil
+		},
+	},
+	{
+		Name:   "laplacian",
+		Params: []value.Param{req("g", "a grid")},
+		Doc: "The Laplacian: d²/dx² on a 1-D grid, and ∂²/∂x² + ∂²/∂y² = D2_x ⊕ D2_y (the Kronecker sum D2_x ⊗ I + I ⊗ D2_y) on a tensor grid, with each grid's ends and order. " +
+			"The Kronecker structure is kept, so propagate can use e^{t(X⊕Y)} = e^{tX} ⊗ e^{tY}.",
+		Examples: []Example{
+			{"laplacian(interval(0, 1, 5)) * [1, 1, 1]", "[-16, 0, -16]"},
+			{"size(laplacian(tensor(interval(0, 1, 5), interval(0, 1, 6))))", "[12, 12]"},
+		},
+		Impl: func(c *eval.Call) (value.Value, error) {
+			g, err := argGrid(c, 0)
+			if err != nil {
+				return nil, err
+			}
+			op, err := objects.Laplacian(g)
+			if err != nil {
+				return nil, err
+			}
+			return &objects.Operator{Op: op, Grid: g, Label: "Δ"}, nil
+		},
+	},
+	{
+		Name: "coef",
+		Params: []value.Param{
+			req("g", "a grid"),
+			req("f", "the coefficient: a function f(x) (f(x, y) on a 2-D grid), a number, or a vector of values at the unknowns"),
+		},
+		Doc: "Multiplication by a coefficient function, (M u)_k = f(x_k) u_k: the diagonal operator diag(f(x_k)) on the grid's unknowns. Combined with deriv it builds variable-coefficient operators such as coef(g, a) * deriv(g, k=2).",
+		Examples: []Example{
+			{"g = interval(0, 1, 5); sq(x) = x^2; coef(g, sq) * [1, 1, 1]", "[0.0625, 0.25, 0.5625]"},
+		},
+		Impl: func(c *eval.Call) (value.Value, error) {
+			g, err := argGrid(c, 0)
+			if err != nil {
+				return nil, err
+			}
+			var d []float64
+			label := "coef"
+			switch f := c.Args[1].(type) {
+			case *value.Vec, *value.Range:
+				re, _, err := numbers(c, "f", f)
+				if err != nil {
+					return nil, err
+				}
+				if re == nil {
+					return nil, value.TypeErrorf("coef: the coefficient must be real")
+				}
+				if len(re) != g.Size() {
+					return nil, value.ValueErrorf("coef: the grid has %d unknowns but the vector f has %d entries", g.Size(), len(re))
+				}
+				d = append([]float64(nil), re...)
+			default:
+				if fn, ok := f.(value.Callable); ok {
+					label = "coef(" + fn.Name() + ")"
+				}
+				if d, err = sampleOn(c, "f", f, g); err != nil {
+					return nil, err
+				}
+			}
+			return &objects.Operator{Op: &linop.Diag{D: d}, Grid: g, Label: label}, nil
+		},
+	},
+	{
+		Name:   "operator",
+		Params: []value.Param{req("M", "a square matrix, e.g. {1, 2 | 3, 4}, or an operator")},
+		Doc:    "The operator x ↦ M x of a square matrix (dense). Operators and square matrices mix in arithmetic: A + M, M * A, s * A, A * v.",
+		Examples: []Example{
+			{"operator({0, 1 | -1, 0}) * [1, 2]", "[2, -1]"},
+			{"operator({1, 2 | 3, 4})", "operator matrix: 2×2, dense"},
+		},
+		Impl: func(c *eval.Call) (value.Value, error) {
+			return argOperator(c, 0)
+		},
+	},
+	{
+		Name: "kronsum",
+		Params: []value.Param{
+			req("A", "a square operator or matrix (n×n), acting along x"),
+			req("B", "a square operator or matrix (m×m), acting along y"),
+		},
+		Doc: "The Kronecker sum A ⊕ B = A ⊗ I_m + I_n ⊗ B acting on vectors indexed k = i·m + j; its eigenvalues are the sums λ_i(A) + μ_j(B) and e^{t(A⊕B)} = e^{tA} ⊗ e^{tB}. " +
+			"When A and B live on 1-D grids the result lives on their tensor grid.",
+		Examples: []Example{
+			{"dense(kronsum({1, 0 | 0, 2}, {10, 0 | 0, 20}))", "{11,  0,  0,  0 |\n  0, 21,  0,  0 |\n  0,  0, 12,  0 |\n  0,  0,  0, 22}"},
+		},
+		Impl: func(c *eval.Call) (value.Value, error) {
+			a, err := argOperator(c, 0)
+			if err != nil {
+				return nil, err
+			}
+			b, err := argOperator(c, 1)
+			if err != nil {
+				return nil, err
+			}
+			out, err := objects.KronSum(a, b)
+			if err != nil {
+				return nil, prefix(c, err)
+			}
+			return out, nil
+		},
+	},
+	{
+		Name: "adjoint",
+		Params: []value.Param{
+			req("A", "an operator or matrix"),
+			opt("weight", value.None, "none for the Euclidean inner product, a vector w > 0 for ⟨x, y⟩ = Σ w_i x_i y_i, or a symmetric positive definite matrix W for ⟨x, y⟩ = xᵀ W y"),
+		},
+		Doc: "The adjoint A* of A in an inner product: ⟨A x, y⟩_W = ⟨x, A* y⟩_W, so A* = W⁻¹ Aᵀ W (Aᵀ without a weight). " +
+			"A is dissipative in ⟨·,·⟩_W exactly when A + A* is negative semidefinite (Lumer–Phillips). For a rate matrix Q, adjoint(Q) = Qᵀ evolves probability distributions, p' = Qᵀ p.",
+		Examples: []Example{
+			{"dense(adjoint({1, 2 | 3, 4}))", "{1, 3 |\n 2, 4}"},
+			{"dense(adjoint({1, 2 | 3, 4}, weight=[1, 2]))", "{1, 6 |\n 1, 4}"},
+		},
+		Impl: adjointImpl,
+	},
+	{
+		Name:   "dense",
+		Params: []value.Param{req("A", "an operator or matrix")},
+		Doc:    "The matrix of an operator, column j = A e_j. Refused with the size it would need when the matrix would not fit in the machine's memory.",
+		Examples: []Example{
+			{"dense(deriv(interval(0, 1, 5), k=2))", "{-32,  16,   0 |\n  16, -32,  16 |\n   0,  16, -32}"},
+		},
+		Impl: func(c *eval.Call) (value.Value, error) {
+			v, err := c.Arg(0)
+			if err != nil {
+				return nil, err
+			}
+			if m, ok := v.(*value.Matrix); ok {
+				return m, nil
+			}
+			a, err := argOperator(c, 0)
+			if err != nil {
+				return nil, err
+			}
+			return denseOf(c, a)
+		},
+	},
+	{
+		Name:   "size",
+		Params: []value.Param{req("A", "an operator, matrix or grid")},
+		Doc:    "The dimensions [rows, columns] of an operator or matrix; for a grid, the number of unknowns (the length of its grid functions).",
+		Examples: []Example{
+			{"size(deriv(interval(0, 1, 11)))", "[9, 9]"},
+			{"size(tensor(interval(0, 1, 5), chebyshev(6)))", "15"},
+		},
+		Impl: func(c *eval.Call) (value.Value, error) {
+			v, err := c.Arg(0)
+			if err != nil {
+				return nil, err
+			}
+			switch t := v.(type) {
+			case *objects.Grid:
+				return value.Num(t.Size()), nil
+			case *objects.Operator:
+				r, k := t.Op.Dims()
+				return value.RealVec([]float64{float64(r), float64(k)}), nil
+			case *value.Matrix:
+				return value.RealVec([]float64{float64(t.Rows), float64(t.Cols)}), nil
+			}
+			return nil, value.TypeErrorf("size: A must be an operator, matrix or grid, not %s", value.TypeName(v))
+		},
+	},
+	{
+		Name: "chain",
+		Params: []value.Param{
+			req("n", "the number of states, numbered 0..n−1"),
+			req("transitions", "a list of [from, to, rate] triples"),
+		},
+		Doc: "The rate matrix (generator) Q of a continuous-time Markov chain on the states 0..n−1: Q_ij = the total rate of the jumps i → j (i ≠ j), Q_ii = −Σ_{j≠i} Q_ij, so every row sums to zero. " +
+			"Expected values E[f(X_t) | X_0 = i] = (e^{tQ} f)_i solve u' = Q u; distributions solve p' = Qᵀ p (use adjoint(Q)). " +
+			"Each transition is checked: states must lie in 0..n−1, differ, and rates must be finite and ≥ 0; the error names the transition.",
+		Examples: []Example{
+			{"dense(chain(2, [[0, 1, 3], [1, 0, 1]]))", "{-3,  3 |\n  1, -1}"},
+		},
+		Impl: chainImpl,
+	},
+	{
+		Name:   "ratematrix",
+		Params: []value.Param{req("M", "a square matrix or operator")},
+		Doc: "Checks that M is the generator of a continuous-time Markov chain — off-diagonal entries ≥ 0 and every row sum |Σ_j M_ij| ≤ 10⁻¹² max(1, Σ_j |M_ij|) — and returns it as an operator. " +
+			"The error names the first offending row and entry.",
+		Examples: []Example{
+			{"ratematrix({-2, 2 | 0.5, -0.5}) * [1, 1]", "[0, 0]"},
+		},
+		Impl: func(c *eval.Call) (value.Value, error) {
+			a, err := argOperator(c, 0)
+			if err != nil {
+				return nil, err
+			}
+			q, err := csrOf(c, a)
+			if err != nil {
+				return nil, err
+			}
+			if err := linop.CheckGenerator(q, 1e-12); err != nil {
+				return nil, value.ValueErrorf("ratematrix: %s", strings.TrimPrefix(err.Error(), "linop: not the generator of a Markov chain: "))
+			}
+			return &objects.Operator{Op: a.Op, Grid: a.Grid, Label: "rate matrix"}, nil
+		},
+	},
+	{
+		Name:   "readmm",
+		Params: []value.Param{req("path", "the file name")},
+		Doc: "Reads an operator from a Matrix Market file (the NIST exchange format: coordinate or array; real, integer or pattern; general, symmetric or skew-symmetric). " +
+			"Coordinate files give sparse operators, array files dense ones. A malformed file is reported with its line number.",
+		Examples: []Example{
+			{`writemm({2, 0 | 0, 3}, "/tmp/semiflow_readmm_example.mtx"); readmm("/tmp/semiflow_readmm_example.mtx") * [1, 1]`, "[2, 3]"},
+		},
+		Impl: readmmImpl,
+	},
+	{
+		Name: "writemm",
+		Params: []value.Param{
+			req("A", "an operator or matrix"),
+			req("path", "the file name (overwritten)"),
+		},
+		Doc: "Writes A to a Matrix Market file as real general data: in coordinate form (the stored nonzeros) for sparse operators, in array form for matrices and dense operators. " +
+			"Values are written in the shortest form that reads back exactly, so readmm(path) reproduces A.",
+		Examples: []Example{
+			{`writemm(deriv(interval(0, 1, 5), k=2), "/tmp/semiflow_writemm_example.mtx")`, ""},
+		},
+		Impl: writemmImpl,
+	},
+	{
+		Name: "writecsv",
+		Params: []value.Param{
+			req("x", "a vector, matrix or solution"),
+			req("path", "the file name (overwritten)"),
+		},
+		Doc: "Writes comma-separated values: a vector as one value per line; a matrix as one line per row; a solution as one line per output time, " +
+			"t, u_0(t), ..., u_{n−1}(t), after a header line t,u0,...,u{n−1} — in the order of the times given to propagate. Numbers are written in the shortest form that reads back exactly.",
+		Examples: []Example{
+			{`writecsv([1, 2.5], "/tmp/semiflow_writecsv_example.csv")`, ""},
+		},
+		Impl: writecsvImpl,
+	},
+	{
+		Name: "writejson",
+		Params: []value.Param{
+			req("x", "a number, string, bool, vector, matrix, list, grid or solution"),
+			req("path", "the file name (overwritten)"),
+		},
+		Doc: "Writes x as JSON: numbers, strings and bools as themselves, vectors and lists as arrays, a matrix as an array of rows, a complex number as {\"re\": ..., \"im\": ...}, " +
+			"a grid as {\"grid\": description, \"x\": coordinates (and \"y\")}, a solution as {\"method\", \"reason\", \"tol\", \"times\", \"values\" (one array per time), \"errest\", \"matvecs\", \"solves\"}. " +
+			"nan and ±inf, which JSON cannot hold, are written as null. Operators are written with writemm.",
+		Examples: []Example{
+			{`writejson([1, 2, 3], "/tmp/semiflow_writejson_example.json")`, ""},
+		},
+		Impl: writejsonImpl,
+	},
+}
+
+// prefix puts the builtin's name before a value error's message.
+func prefix(c *eval.Call, err error) error {
+	var e *value.Error
+	if errors.As(err, &e) {
+		return &value.Error{Name: e.Name, Msg: c.Name + ": " + e.Msg}
+	}
+	return value.ValueErrorf("%s: %v", c.Name, err)
+}
+
+func denseOf(c *eval.Call, a *objects.Operator) (*value.Matrix, error) {
+	r, k := a.Op.Dims()
+	if err := c.CheckSize(float64(r)*float64(k), c.Name+": the matrix"); err != nil {
+		return nil, err
+	}
+	d, err := linop.ToDense(a.Op)
+	if err != nil {
+		return nil, value.ValueErrorf("%s: %s", c.Name, strings.TrimPrefix(err.Error(), "memguard: "))
+	}
+	out := value.NewMatrix(r, k)
+	for i := 0; i < r; i++ {
+		for j := 0; j < k; j++ {
+			out.Data[i*k+j] = d.At(i, j)
+		}
+	}
+	return out, nil
+}
+
+func csrOf(c *eval.Call, a *objects.Operator) (*linop.CSR, error) {
+	if d, ok := a.Op.(*linop.Dense); ok {
+		return linop.CSRFromDense(d.Mat(), 0), nil
+	}
+	if q, err := linop.ToCSR(a.Op); err == nil {
+		return q, nil
+	}
+	d, err := linop.ToDense(a.Op)
+	if err != nil {
+		return nil, value.ValueErrorf("%s: %v", c.Name, err)
+	}
+	return linop.CSRFromDense(d, 0), nil
+}
+
+func adjointImpl(c *eval.Call) (value.Value, error) {
+	a, err := adjointOperand(c)
+	if err != nil {
+		return nil, err
+	}
+	r, k := a.Op.Dims()
+	w := c.Args[1]
+	if w == value.None {
+		return &objects.Operator{Op: &linop.Adjoint{A: a.Op}, Grid: a.Grid, Label: a.Label + "*"}, nil
+	}
+	if r != k {
+		return nil, value.ValueErrorf("adjoint: a weighted adjoint needs a square operator, not %d×%d", r, k)
+	}
+	var W linop.Weight
+	switch t := w.(type) {
+	case *value.Vec, *value.Range:
+		re, _, err := numbers(c, "weight", t)
+		if err != nil {
+			return nil, err
+		}
+		if re == nil {
+			return nil, value.TypeErrorf("adjoint: the weight must be real")
+		}
+		if len(re) != r {
+			return nil, value.ValueErrorf("adjoint: the operator is %d×%d but the weight has %d entries", r, k, len(re))
+		}
+		dw, err := linop.NewDiagWeight(re)
+		if err != nil {
+			return nil, value.ValueErrorf("adjoint: the weight must be positive: %s", strings.TrimPrefix(err.Error(), "linop: "))
+		}
+		W = dw
+	case *value.Matrix:
+		if t.Rows != r || t.Cols != r {
+			return nil, value.ValueErrorf("adjoint: the operator is %d×%d but the weight matrix is %d×%d", r, k, t.Rows, t.Cols)
+		}
+		for i := 0; i < r; i++ {
+			for j := 0; j < i; j++ {
+				if x, y := t.At(i, j), t.At(j, i); math.Abs(x-y) > 1e-12*math.Max(math.Abs(x), math.Abs(y)) {
+					return nil, value.ValueErrorf("adjoint: the weight matrix is not symmetric: W[%d, %d] = %s but W[%d, %d] = %s", i, j, value.FormatNum(x), j, i, value.FormatNum(y))
+				}
+			}
+		}
+		sw, err := linop.NewSPDWeight(mat.NewSymDense(r, append([]float64(nil), t.Data...)))
+		if err != nil {
+			return nil, value.ValueErrorf("adjoint: the weight matrix is not positive definite (its Cholesky factorisation fails)")
+		}
+		W = sw
+	default:
+		return nil, value.TypeErrorf("adjoint: weight must be none, a positive vector or a symmetric positive definite matrix, not %s", value.TypeName(w))
+	}
+	return &objects.Operator{Op: &linop.Adjoint{A: a.Op, W: W}, Grid: a.Grid, Label: a.Label + "*"}, nil
+}
+
+// adjointOperand accepts any operator or matrix (rectangular too).
+func adjointOperand(c *eval.Call) (*objects.Operator, error) {
+	v, err := c.Arg(0)
+	if err != nil {
+		return nil, err
+	}
+	if m, ok := v.(*value.Matrix); ok {
+		return objects.FromMatrix(m), nil
+	}
+	return argOperator(c, 0)
+}
+
+func chainImpl(c *eval.Call) (value.Value, error) {
+	n, err := argInt(c, 0)
+	if err != nil {
+		return nil, err
+	}
+	if n < 1 {
+		return nil, value.ValueErrorf("chain: n must be at least 1, not %d", n)
+	}
+	if err := c.CheckSize(float64(n), "chain: the states"); err != nil {
+		return nil, err
+	}
+	l, ok := c.Args[1].(value.List)
+	if !ok {
+		if v, isVec := c.Args[1].(*value.Vec); isVec && v.Len() == 0 {
+			l = value.List{}
+		} else {
+			return nil, value.TypeErrorf("chain: transitions must be a list of [from, to, rate] triples, not %s", value.TypeName(c.Args[1]))
+		}
+	}
+	ts := make([]linop.Transition, len(l))
+	for k, e := range l {
+		re, cx, err := numbers(c, "transitions", e)
+		if err != nil || cx != nil || len(re) != 3 {
+			return nil, value.ValueErrorf("chain: transition %d is %s; each transition must be [from, to, rate]", k, e)
+		}
+		for _, s := range re[:2] {
+			if s != math.Trunc(s) || math.Abs(s) > 1<<40 {
+				return nil, value.ValueErrorf("chain: transition %d %s: states must be whole numbers", k, e)
+			}
+		}
+		ts[k] = linop.Transition{From: int(re[0]), To: int(re[1]), Rate: re[2]}
+	}
+	q, err := linop.RateMatrix(n, ts)
+	if err != nil {
+		return nil, value.ValueErrorf("chain: %s", strings.TrimPrefix(err.Error(), "linop: not the generator of a Markov chain: "))
+	}
+	return &objects.Operator{Op: q, Label: fmt.Sprintf("rate matrix of a %d-state chain", n)}, nil
+}
+
+func readmmImpl(c *eval.Call) (value.Value, error) {
+	path, err := argString(c, 0)
+	if err != nil {
+		return nil, err
+	}
+	f, err := os.Open(path)
+	if err != nil {
+		return nil, value.Errorf("IOError", "readmm: %s", ioMessage(err))
+	}
+	defer f.Close()
+	m, err := mmio.Read(bufio.NewReader(f))
+	if err != nil {
+		var pe *mmio.ParseError
+		if errors.As(err, &pe) {
+			return nil, value.ValueErrorf("readmm: %s:%d: %s", path, pe.Line, pe.Msg)
+		}
+		return nil, value.ValueErrorf("readmm: %s: %v", path, err)
+	}
+	if err := c.CheckSize(float64(len(m.V)), "readmm: the matrix"); err != nil {
+		return nil, err
+	}
+	label := filepath.Base(path)
+	if m.Format == mmio.Array {
+		d, err := m.Dense()
+		if err != nil {
+			return nil, value.ValueErrorf("readmm: %s: %v", path, err)
+		}
+		return &objects.Operator{Op: linop.NewDense(d), Label: label}, nil
+	}
+	return &objects.Operator{Op: m.CSR(), Label: label}, nil
+}
+
+func ioMessage(err error) string {
+	var pe *os.PathError
+	if errors.As(err, &pe) {
+		return pe.Path + ": " + pe.Err.Error()
+	}
+	return err.Error()
+}
+
+func writeFile(c *eval.Call, path string, write func(w *bufio.Writer) error) error {
+	f, err := os.Create(path)
+	if err != nil {
+		return value.Errorf("IOError", "%s: %s", c.Name, ioMessage(err))
+	}
+	w := bufio.NewWriter(f)
+	if err := write(w); err != nil {
+		f.Close()
+		return err
+	}
+	if err := w.Flush(); err != nil {
+		f.Close()
+		return value.Errorf("IOError", "%s: %s", c.Name, ioMessage(err))
+	}
+	if err := f.Close(); err != nil {
+		return value.Errorf("IOError", "%s: %s", c.Name, ioMessage(err))
+	}
+	return nil
+}
+
+func writemmImpl(c *eval.Call) (value.Value, error) {
+	a, err := adjointOperand(c)
+	if err != nil {
+		return nil, err
+	}
+	path, err := argString(c, 1)
+	if err != nil {
+		return nil, err
+	}
+	comment := " written by semiflow: " + a.Label
+	var d *mat.Dense
+	var sp *linop.CSR
+	if dd, ok := a.Op.(*linop.Dense); ok {
+		d = dd.Mat()
+	} else if s, err := linop.ToCSR(a.Op); err == nil {
+		sp = s
+	} else if d, err = linop.ToDense(a.Op); err != nil {
+		return nil, value.ValueErrorf("writemm: %v", err)
+	}
+	err = writeFile(c, path, func(w *bufio.Writer) error {
+		var err error
+		if sp != nil {
+			err = mmio.WriteCoordinate(w, sp, mmio.Real, mmio.General, comment)
+		} else {
+			err = mmio.WriteArray(w, d, mmio.Real, mmio.General, comment)
+		}
+		if err != nil {
+			return value.ValueErrorf("writemm: %v", err)
+		}
+		return nil
+	})
+	return value.None, err
+}
+
+func fmtFloat(x float64) string { return strconv.FormatFloat(x, 'g', -1, 64) }
+
+func writecsvImpl(c *eval.Call) (value.Value, error) {
+	v, err := c.Arg(0)
+	if err != nil {
+		return nil, err
+	}
+	path, err := argString(c, 1)
+	if err != nil {
+		return nil, err
+	}
+	var lines func(w *bufio.Writer)
+	switch t := v.(type) {
+	case *objects.Solution:
+		lines = func(w *bufio.Writer) {
+			w.WriteString("t")
+			if len(t.S.Values) > 0 {
+				for j := range t.S.Values[0] {
+					fmt.Fprintf(w, ",u%d", j)
+				}
+			}
+			w.WriteString("\n")
+			for i, tt := range t.S.Times {
+				w.WriteString(fmtFloat(tt))
+				for _, x := range t.S.Values[i] {
+					w.WriteString("," + fmtFloat(x))
+				}
+				w.WriteString("\n")
+			}
+		}
+	case *value.Matrix:
+		lines = func(w *bufio.Writer) {
+			for i := 0; i < t.Rows; i++ {
+				for j := 0; j < t.Cols; j++ {
+					if j > 0 {
+						w.WriteString(",")
+					}
+					w.WriteString(fmtFloat(t.At(i, j)))
+				}
+				w.WriteString("\n")
+			}
+		}
+	case *value.Vec, *value.Range:
+		re, cx, err := numbers(c, "x", t)
+		if err != nil {
+			return nil, err
+		}
+		if cx != nil {
+			return nil, value.TypeErrorf("writecsv: complex vectors are not written; write real(v) and imag(v)")
+		}
+		lines = func(w *bufio.Writer) {
+			for _, x := range re {
+				w.WriteString(fmtFloat(x) + "\n")
+			}
+		}
+	default:
+		return nil, value.TypeErrorf("writecsv: x must be a vector, matrix or solution, not %s", value.TypeName(v))
+	}
+	return value.None, writeFile(c, path, func(w *bufio.Writer) error { lines(w); return nil })
+}
+
+// jsonNum is a float that JSON-encodes nan and ±inf as null.
+type jsonNum float64
+
+func (x jsonNum) MarshalJSON() ([]byte, error) {
+	f := float64(x)
+	if math.IsNaN(f) || math.IsInf(f, 0) {
+		return []byte("null"), nil
+	}
+	return []byte(fmtFloat(f)), nil
+}
+
+func jsonNums(x []float64) []jsonNum {
+	out := make([]jsonNum, len(x))
+	for i, v := range x {
+		out[i] = jsonNum(v)
+	}
+	return out
+}
+
+func toJSON(v value.Value, depth int) (any, error) {
+	if depth > 64 {
+		return nil, value.ValueErrorf("writejson: lists nested more than 64 deep")
+	}
+	switch t := v.(type) {
+	case value.Num:
+		return jsonNum(t), nil
+	case value.Complex:
+		return map[string]jsonNum{"re": jsonNum(real(t)), "im": jsonNum(imag(t))}, nil
+	case value.Str:
+		return string(t), nil
+	case value.Bool:
+		return bool(t), nil
+	case value.NoneType:
+		return nil, nil
+	case *value.Range:
+		return jsonNums(t.Vec().R), nil
+	case *value.Vec:
+		if !t.IsComplex() {
+			return jsonNums(t.R), nil
+		}
+		out := make([]any, len(t.C))
+		for i, z := range t.C {
+			out[i], _ = toJSON(value.Complex(z), depth+1)
+		}
+		return out, nil
+	case *value.Matrix:
+		rows := make([][]jsonNum, t.Rows)
+		for i := range rows {
+			rows[i] = jsonNums(t.Data[i*t.Cols : (i+1)*t.Cols])
+		}
+		return rows, nil
+	case value.List:
+		out := make([]any, len(t))
+		for i, e := range t {
+			x, err := toJSON(e, depth+1)
+			if err != nil {
+				return nil, err
+			}
+			out[i] = x
+		}
+		return out, nil
+	case *objects.Grid:
+		x, y := t.Coords()
+		m := map[string]any{"grid": strings.TrimPrefix(t.String(), "grid: "), "x": jsonNums(x)}
+		if y != nil {
+			m["y"] = jsonNums(y)
+		}
+		return m, nil
+	case *objects.Solution:
+		vals := make([][]jsonNum, len(t.S.Values))
+		for i, u := range t.S.Values {
+			vals[i] = jsonNums(u)
+		}
+		return map[string]any{
+			"method": t.S.Method, "reason": t.S.Reason, "tol": jsonNum(t.S.Tol),
+			"times": jsonNums(t.S.Times), "values": vals, "errest": jsonNums(t.S.ErrEst),
+			"matvecs": t.S.MatVecs, "solves": t.S.Solves,
+		}, nil
+	case *objects.Operator:
+		return nil, value.TypeErrorf("writejson: operators are written with writemm(A, path)")
+	}
+	return nil, value.TypeErrorf("writejson: a %s cannot be written as JSON", value.TypeName(v))
+}
+
+func writejsonImpl(c *eval.Call) (value.Value, error) {
+	v, err := c.Arg(0)
+	if err != nil {
+		return nil, err
+	}
+	path, err := argString(c, 1)
+	if err != nil {
+		return nil, err
+	}
+	x, err := toJSON(v, 0)
+	if err != nil {
+		return nil, err
+	}
+	b, err := json.MarshalIndent(x, "", " ")
+	if err != nil {
+		return nil, value.ValueErrorf("writejson: %v", err)
+	}
+	return value.None, writeFile(c, path, func(w *bufio.Writer) error {
+		w.Write(b)
+		w.WriteString("\n")
+		return nil
+	})
+}

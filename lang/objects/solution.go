@@ -1,0 +1,201 @@
+package objects
+
+import (
+	"fmt"
+	"math"
+	"time"
+
+	"semiflow/lang/plot"
+	"semiflow/lang/value"
+	"semiflow/numerics/expo"
+)
+
+// Solution is the result of propagate: the values u(t_i) at the output
+// times with the method, its reason, the error estimate per time and the
+// work done. sol[k] is the vector at the k-th output time.
+type Solution struct {
+	S       *expo.Solution
+	Grid    *Grid  // grid of the operator, or nil
+	Problem string // the equation solved, e.g. "u' = A u"
+	Label   string // label of the operator
+}
+
+func (s *Solution) Type() string { return "solution" }
+
+// Len is the number of output times.
+func (s *Solution) Len() int { return len(s.S.Times) }
+
+// Index returns the vector u(t_i) (a copy).
+func (s *Solution) Index(i int) value.Value {
+	return value.RealVec(append([]float64(nil), s.S.Values[i]...))
+}
+
+func g3(x float64) string {
+	if x == 0 {
+		return "0"
+	}
+	return fmt.Sprintf("%.3g", x)
+}
+
+func supNorm(u []float64) float64 {
+	m := 0.0
+	for _, x := range u {
+		m = math.Max(m, math.Abs(x))
+	}
+	return m
+}
+
+// summary is the table of how the solution was computed.
+func (s *Solution) summary() *textTable {
+	S := s.S
+	n := 0
+	if len(S.Values) > 0 {
+		n = len(S.Values[0])
+	}
+	t := &textTable{caption: fmt.Sprintf("solution of %s, A = %s, %d unknowns, %d output times", s.Problem, s.Label, n, len(S.Times))}
+	t.add("method", S.Method)
+	t.add("why", S.Reason)
+	t.add("tolerance", g3(S.Tol))
+	t.add("largest error estimate", g3(S.MaxErrEst())+" (‖·‖∞)")
+	t.add("matrix–vector products", fmt.Sprint(S.MatVecs))
+	t.add("shifted solves", fmt.Sprintf("%d (%d factorisations)", S.Solves, S.Factors))
+	t.add("time taken", S.Elapsed.Round(time.Microsecond).String())
+	if c := S.Cross; c != nil {
+		t.add("cross-check", fmt.Sprintf("%s: largest difference %s (its estimate %s, %s)", c.Method, g3(c.MaxDiff), g3(c.ErrEst), c.Elapsed.Round(time.Microsecond)))
+	} else {
+		t.add("cross-check", "not asked (crosscheck=true runs a second method)")
+	}
+	return t
+}
+
+// perTime is the table of output times with the error estimates.
+func (s *Solution) perTime() *textTable {
+	t := &textTable{head: []string{"t", "error estimate", "‖u(t)‖∞"}}
+	for i, tt := range s.S.Times {
+		t.add(value.FormatNum(tt), g3(s.S.ErrEst[i]), g3(supNorm(s.S.Values[i])))
+	}
+	return t
+}
+
+func (s *Solution) String() string {
+	pt := s.perTime()
+	if len(pt.rows) > 12 {
+		rows := append(append([][]string{}, pt.rows[:6]...), []string{"..."})
+		pt.rows = append(rows, pt.rows[len(pt.rows)-5:]...)
+	}
+	return s.summary().text() + "\n" + pt.text()
+}
+
+// MIME returns the HTML tables and, where there is something to draw, an
+// SVG figure: the profiles at the output times on a 1-D grid, a heat map
+// of the last time on a 2-D grid, and the components against t otherwise.
+func (s *Solution) MIME() map[string]any {
+	out := map[string]any{
+		"text/html": "<div>" + s.summary().html() + s.perTime().html() + "</div>",
+	}
+	if f := s.Figure(); f != nil {
+		if svg, err := f.SVG(); err == nil {
+			out["image/svg+xml"] = string(svg)
+		}
+	}
+	return out
+}
+
+// shown picks at most max indices out of n, evenly spread, first and last
+// included.
+func shown(n, max int) []int {
+	if n <= max {
+		idx := make([]int, n)
+		for i := range idx {
+			idx[i] = i
+		}
+		return idx
+	}
+	idx := make([]int, max)
+	for k := range idx {
+		idx[k] = int(math.Round(float64(k) * float64(n-1) / float64(max-1)))
+	}
+	return idx
+}
+
+// Figure returns the figure of the solution, or nil when there is none.
+func (s *Solution) Figure() *plot.Figure {
+	S := s.S
+	if len(S.Times) == 0 || len(S.Values[0]) == 0 {
+		return nil
+	}
+	f := &plot.Figure{Title: fmt.Sprintf("%s, %s", s.Problem, S.Method)}
+	switch {
+	case s.Grid != nil && s.Grid.Dim() == 1:
+		x := s.Grid.X1()
+		f.X.Label, f.Y.Label = "x", "u(t, x)"
+		for _, i := range shown(len(S.Times), 8) {
+			f.AddLine(x, S.Values[i], "t = "+plot.FormatValue(S.Times[i]))
+		}
+	case s.Grid != nil:
+		last := len(S.Times) - 1
+		gx, gy := s.Grid.X.X1(), s.Grid.Y.X1()
+		ny := len(gy)
+		z := make([][]float64, len(gx))
+		for ix := range z {
+			z[ix] = S.Values[last][ix*ny : (ix+1)*ny]
+		}
+		f.Title = fmt.Sprintf("u at t = %s (%s)", plot.FormatValue(S.Times[last]), S.Method)
+		f.X.Label, f.Y.Label = "x", "y"
+		f.EqualAspect = true
+		x0, x1 := cellEdges(gx)
+		y0, y1 := cellEdges(gy)
+		f.AddHeatMap(z, x0, x1, y0, y1, "u")
+	case len(S.Times) > 1 && len(S.Values[0]) <= 12:
+		f.X.Label, f.Y.Label = "t", "u_i(t)"
+		order := sortedTimes(S.Times)
+		ts := make([]float64, len(order))
+		for k, i := range order {
+			ts[k] = S.Times[i]
+		}
+		for j := range S.Values[0] {
+			y := make([]float64, len(order))
+			for k, i := range order {
+				y[k] = S.Values[i][j]
+			}
+			f.AddLine(ts, y, fmt.Sprintf("u_%d", j))
+		}
+	default:
+		f.X.Label, f.Y.Label = "index i", "u_i"
+		for _, i := range shown(len(S.Times), 8) {
+			idx := make([]float64, len(S.Values[i]))
+			for j := range idx {
+				idx[j] = float64(j)
+			}
+			f.AddLine(idx, S.Values[i], "t = "+plot.FormatValue(S.Times[i]))
+		}
+	}
+	return f
+}
+
+// cellEdges returns the outer edges of cells centred on the (monotone)
+// points p, in increasing order.
+func cellEdges(p []float64) (lo, hi float64) {
+	a, b := p[0], p[len(p)-1]
+	if a > b {
+		a, b = b, a
+	}
+	if len(p) == 1 {
+		return a - 0.5, b + 0.5
+	}
+	h := (b - a) / float64(len(p)-1) / 2
+	return a - h, b + h
+}
+
+func sortedTimes(ts []float64) []int {
+	idx := make([]int, len(ts))
+	for i := range idx {
+		idx[i] = i
+	}
+	for i := 1; i < len(idx); i++ {
+		for j := i; j > 0 && ts[idx[j]] < ts[idx[j-1]]; j-- {
+			idx[j], idx[j-1] = idx[j-1], idx[j]
+		}
+	}
+	return idx
+}
