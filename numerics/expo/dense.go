@@ -1,6 +1,7 @@
 package expo
 
 import (
+	"context"
 	"fmt"
 	"math"
 
@@ -56,6 +57,12 @@ type ExpInfo struct {
 // A is not square or dst has the wrong size. It returns an error if A has a
 // non-finite entry or the Padé denominator is numerically singular.
 func Exp(dst *mat.Dense, a mat.Matrix) (ExpInfo, error) {
+	return ExpContext(context.Background(), dst, a)
+}
+
+// ExpContext is Exp with a context checked between the matrix products;
+// it returns the context's error when cancelled.
+func ExpContext(ctx context.Context, dst *mat.Dense, a mat.Matrix) (ExpInfo, error) {
 	n, c := a.Dims()
 	if n != c {
 		panic(ErrShape)
@@ -89,7 +96,7 @@ func Exp(dst *mat.Dense, a mat.Matrix) (ExpInfo, error) {
 	if lower && !tri {
 		// e^A = (e^{Aᵀ})ᵀ, and Aᵀ is upper triangular.
 		var e mat.Dense
-		info, err := Exp(&e, A.T())
+		info, err := ExpContext(ctx, &e, A.T())
 		dst.Copy(e.T())
 		return info, err
 	}
@@ -117,6 +124,9 @@ func Exp(dst *mat.Dense, a mat.Matrix) (ExpInfo, error) {
 		return info, nil
 	}
 	mul := func(x, y *mat.Dense) *mat.Dense {
+		if ctx.Err() != nil {
+			return mat.NewDense(n, n, nil) // result discarded below
+		}
 		var z mat.Dense
 		z.Mul(x, y)
 		info.Products++
@@ -220,6 +230,9 @@ func Exp(dst *mat.Dense, a mat.Matrix) (ExpInfo, error) {
 		}
 		U = *mul(A, &odd)
 	}
+	if err := ctx.Err(); err != nil {
+		return info, err
+	}
 	var P, Q mat.Dense
 	P.Add(&V, &U)
 	Q.Sub(&V, &U)
@@ -236,6 +249,9 @@ func Exp(dst *mat.Dense, a mat.Matrix) (ExpInfo, error) {
 	}
 	var tmp mat.Dense
 	for i := s - 1; i >= 0; i-- {
+		if err := ctx.Err(); err != nil {
+			return info, err
+		}
 		tmp.Mul(dst, dst)
 		info.Products++
 		dst.Copy(&tmp)

@@ -43,7 +43,7 @@ func denseRun(ctx context.Context, A linop.Operator, u0 []float64, times []float
 			if !ok {
 				var ha, e mat.Dense
 				ha.Scale(h, a)
-				if _, err := Exp(&e, &ha); err != nil {
+				if _, err := ExpContext(ctx, &e, &ha); err != nil {
 					return err
 				}
 				E = &e
@@ -66,14 +66,14 @@ func denseRun(ctx context.Context, A linop.Operator, u0 []float64, times []float
 // kronFactors returns ex = e^{tX} and ey = e^{tY}, the factors of
 // e^{t(X⊕Y)} = e^{tX} ⊗ e^{tY}. A factor shared by X and Y is exponentiated
 // once.
-func kronFactors(k *linop.KronSum, t float64) (ex, ey *mat.Dense, err error) {
-	if ex, err = factorExp(k.X, t); err != nil {
+func kronFactors(ctx context.Context, k *linop.KronSum, t float64) (ex, ey *mat.Dense, err error) {
+	if ex, err = factorExp(ctx, k.X, t); err != nil {
 		return nil, nil, err
 	}
 	if k.Y == k.X {
 		return ex, ex, nil
 	}
-	if ey, err = factorExp(k.Y, t); err != nil {
+	if ey, err = factorExp(ctx, k.Y, t); err != nil {
 		return nil, nil, err
 	}
 	return ex, ey, nil
@@ -82,7 +82,7 @@ func kronFactors(k *linop.KronSum, t float64) (ex, ey *mat.Dense, err error) {
 // factorExp returns e^{tX}: for symmetric X through the eigen-decomposition
 // X = QΛQᵀ as Q e^{tΛ} Qᵀ (Q orthogonal, so backward stable and free of
 // squarings), otherwise by Exp.
-func factorExp(op linop.Operator, t float64) (*mat.Dense, error) {
+func factorExp(ctx context.Context, op linop.Operator, t float64) (*mat.Dense, error) {
 	x, err := toDense(op)
 	if err != nil {
 		return nil, err
@@ -112,7 +112,7 @@ func factorExp(op linop.Operator, t float64) (*mat.Dense, error) {
 	}
 	x.Scale(t, x)
 	var e mat.Dense
-	if _, err := Exp(&e, x); err != nil {
+	if _, err := ExpContext(ctx, &e, x); err != nil {
 		return nil, err
 	}
 	return &e, nil
@@ -145,7 +145,7 @@ func kronRun(ctx context.Context, k *linop.KronSum, u0 []float64, times []float6
 		if err := ctx.Err(); err != nil {
 			return err
 		}
-		ex, ey, err := kronFactors(k, t)
+		ex, ey, err := kronFactors(ctx, k, t)
 		if err != nil {
 			return err
 		}

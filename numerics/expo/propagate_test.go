@@ -349,6 +349,19 @@ func TestCancellation(t *testing.T) {
 		}
 		cancel()
 	}
+	// Dense products: a Kronecker sum of non-symmetric 600×600 factors.
+	x := linop.NewDense(benchDense(600))
+	k := linop.NewKronSum(x, x)
+	ctx, cancel := context.WithCancel(context.Background())
+	go func() { time.Sleep(20 * time.Millisecond); cancel() }()
+	start := time.Now()
+	if _, err := Propagate(ctx, k, make([]float64, 600*600), []float64{50}, Options{}); !errors.Is(err, context.Canceled) {
+		t.Errorf("kronecker: err = %v, want context.Canceled", err)
+	}
+	if d := time.Since(start); d > 2*time.Second {
+		t.Errorf("kronecker: stopped after %v", d)
+	}
+	cancel()
 }
 
 func TestPropagateMisuse(t *testing.T) {
