@@ -2,21 +2,31 @@
 // u(t) = e^{tA}u0 on vectors, φ-functions, forced and semilinear evolutions,
 // each with an error estimate and with several independent methods:
 //
-//   - Exp: dense scaling and squaring with Padé approximants (Higham 2005;
-//     Al-Mohy & Higham 2009), exact on triangular parts.
-//   - Phi: φ_k(A) through the augmented-matrix identity.
-//   - Taylor: truncated Taylor series with scaling (Al-Mohy & Higham, SIAM J.
-//     Sci. Comput. 2011), cost ≈ t‖A‖₁ matrix–vector products.
-//   - Krylov: Arnoldi or Lanczos with the a posteriori error estimate of
-//     Saad (SIAM J. Numer. Anal. 1992) and step-size control.
-//   - Contour: trapezoidal rule on parabolic, hyperbolic or cotangent
+//   - Exp, ExpContext: dense scaling and squaring with Padé approximants
+//     (Higham 2005; Al-Mohy & Higham 2009), exact on triangular parts.
+//   - Phi, PhiScalar: φ_k(A) through the augmented-matrix identity; scalar
+//     φ_k(z) by contour means near 0 (Kassam & Trefethen 2005).
+//   - Propagate with Method
+//     "taylor": truncated Taylor series with scaling (Al-Mohy & Higham, SIAM
+//     J. Sci. Comput. 2011), cost ≈ t‖A‖₁ matrix–vector products;
+//     "krylov": Arnoldi or Lanczos with the a posteriori error estimate of
+//     Saad (SIAM J. Numer. Anal. 1992) and step-size control;
+//     "contour": trapezoidal rule on parabolic, hyperbolic or cotangent
 //     contours for sectorial A (Trefethen, Weideman & Schmelzer, BIT 2006;
 //     Weideman & Trefethen, Math. Comp. 2007), one shifted solve per node,
-//     in parallel.
-//   - Resolvent powers (I − tA/n)^{-n} with Richardson extrapolation.
-//   - Kronecker sums e^{t(X⊕Y)} = e^{tX} ⊗ e^{tY}.
+//     in parallel, half the nodes by conjugate symmetry;
+//     "resolvent-powers": (I − tA/n)^{-n} with Richardson extrapolation;
+//     "kronecker": e^{t(X⊕Y)}u = vec(e^{tX} U e^{tY}ᵀ);
+//     "dense": dense exponentials of the step; and "auto", which chooses
+//     and says why in Solution.Reason.
+//   - PropagateForced: u' = Au + f(t), exact for polynomial f through an
+//     augmented operator, piecewise interpolation for a general f.
+//   - ETDRK4: u' = Lu + N(t, u) by Cox & Matthews' scheme with step
+//     doubling.
 //
-// Propagate chooses among them ("auto") and reports why.
+// Errors are estimates of the ∞-norm error of each returned vector.
+// Misuse (shape mismatch) panics with ErrShape; numerical failure returns
+// an error wrapping ErrNumerical; cancellation returns ctx.Err().
 //
 // Index convention for 2-D tensor grids (see linop): k = ix*ny + iy.
 package expo
