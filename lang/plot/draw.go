@@ -432,7 +432,14 @@ func (r *renderer) drawHeat(h *HeatMap) {
 		for i := 0; i < nx; i++ {
 			for j := 0; j < ny; j++ {
 				if c, ok := colourAt(i, j); ok {
-					img.SetNRGBA(i, ny-1-j, color.NRGBA{c.R, c.G, c.B, 255})
+					col, row := i, ny-1-j // x grows to the right, y upwards
+					if xp(nx) < xp(0) {
+						col = nx - 1 - i
+					}
+					if yp(ny) > yp(0) {
+						row = j
+					}
+					img.SetNRGBA(col, row, color.NRGBA{c.R, c.G, c.B, 255})
 				}
 			}
 		}

@@ -177,7 +177,8 @@ const (
 	AnchorEnd
 )
 
-// Text writes S at the data point (X, Y), its baseline through the point.
+// Text writes S at the data point (X, Y), its baseline through the point. The
+// point counts towards the automatic axis limits.
 type Text struct {
 	X, Y   float64
 	S      string

@@ -1,7 +1,11 @@
 package plot
 
 import (
+	"bytes"
+	"encoding/base64"
 	"errors"
+	"fmt"
+	"image/png"
 	"math"
 	"strings"
 	"testing"
@@ -221,5 +225,54 @@ func TestLargeHeatMapSize(t *testing.T) {
 	}
 	if errors.Is(err, ErrShape) {
 		t.Error("unexpected")
+	}
+}
+
+func TestHeatMapOrientation(t *testing.T) {
+	// Cell (i, j) = (0, 0) holds the smallest value; with X0 > X1 and Y0 < Y1
+	// it is the bottom-right cell of the picture, in both drawing modes.
+	for _, n := range []int{4, 50} { // 16 cells as rectangles, 2500 as a PNG
+		z := make([][]float64, n)
+		for i := range z {
+			z[i] = make([]float64, n)
+			for j := range z[i] {
+				z[i][j] = float64(i + j)
+			}
+		}
+		f := &Figure{Series: []Series{&HeatMap{Z: z, X0: 1, X1: 0, Y0: 0, Y1: 1}}}
+		_, r := render(t, f)
+		svg := r.b.String()
+		low := Sequential.quick(0)
+		p := r.plot
+		if n*n <= RectCells {
+			// The rectangle in the colour of the minimum touches the right and bottom edges.
+			i := strings.Index(svg, `fill="`+low.Hex()+`"`)
+			if i < 0 {
+				t.Fatal("no cell in the colour of the minimum")
+			}
+			var x, y, w, h float64
+			tag := svg[strings.LastIndex(svg[:i], "<rect"):i]
+			if _, err := fmt.Sscanf(tag, `<rect x="%g" y="%g" width="%g" height="%g"`, &x, &y, &w, &h); err != nil {
+				t.Fatalf("%q: %v", tag, err)
+			}
+			if math.Abs(x+w-0.4-p.x1) > 0.02 || math.Abs(y+h-0.4-p.y1) > 0.02 {
+				t.Errorf("minimum cell at x %g..%g, y %g..%g; plot %+v", x, x+w, y, y+h, p)
+			}
+			continue
+		}
+		i := strings.Index(svg, "base64,")
+		j := strings.Index(svg[i:], `"`)
+		data, err := base64.StdEncoding.DecodeString(svg[i+7 : i+j])
+		if err != nil {
+			t.Fatal(err)
+		}
+		img, err := png.Decode(bytes.NewReader(data))
+		if err != nil {
+			t.Fatal(err)
+		}
+		cr, cg, cb, _ := img.At(n-1, n-1).RGBA()
+		if got := (RGB{uint8(cr >> 8), uint8(cg >> 8), uint8(cb >> 8)}); got != low {
+			t.Errorf("bottom-right pixel %v, want the minimum's colour %v", got, low)
+		}
 	}
 }
