@@ -41,6 +41,20 @@ func BenchmarkCSRMatvec5pt(b *testing.B) {
 	}
 }
 
+// BenchmarkCSRMatvecT5pt measures y = Aᵀ x for the same matrix.
+func BenchmarkCSRMatvecT5pt(b *testing.B) {
+	a := lap5(1000)
+	x := make([]float64, a.Rows)
+	for i := range x {
+		x[i] = float64(i%7) + 1
+	}
+	y := make([]float64, a.Cols)
+	b.SetBytes(int64(a.NNZ()*16 + a.Rows*24))
+	for b.Loop() {
+		a.ApplyT(y, x)
+	}
+}
+
 // BenchmarkKronSumApply5pt is the same product without assembling the
 // matrix: X ⊕ Y applied factor by factor.
 func BenchmarkKronSumApply5pt(b *testing.B) {

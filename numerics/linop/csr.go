@@ -207,15 +207,62 @@ func (a *CSR) applyRows(dst, x []float64, lo, hi int) {
 	}
 }
 
-// ApplyT sets dst = Aᵀ x. It panics with ErrShape on a length mismatch.
+// ApplyT sets dst = Aᵀ x. For large matrices the rows are split over the
+// cores, each scattering into its own buffer, and the buffers are summed.
+// It panics with ErrShape on a length mismatch.
 func (a *CSR) ApplyT(dst, x []float64) {
 	if len(x) != a.Rows || len(dst) != a.Cols {
 		panic(ErrShape)
 	}
+	workers := runtime.GOMAXPROCS(0)
+	if a.NNZ() < parallelNNZ || workers < 2 || a.Rows < 2*workers {
+		a.scatterRows(dst, x, 0, a.Rows)
+		return
+	}
+	bufs := make([][]float64, workers)
+	bufs[0] = dst
+	var wg sync.WaitGroup
+	nnz := a.NNZ()
+	lo := 0
+	for w := 0; w < workers; w++ {
+		hi := a.Rows
+		if w < workers-1 {
+			hi = lo + sort.SearchInts(a.RowPtr[lo:a.Rows], nnz*(w+1)/workers)
+		}
+		if w > 0 {
+			bufs[w] = make([]float64, a.Cols)
+		}
+		wg.Add(1)
+		go func(buf []float64, lo, hi int) {
+			defer wg.Done()
+			a.scatterRows(buf, x, lo, hi)
+		}(bufs[w], lo, hi)
+		lo = hi
+	}
+	wg.Wait()
+	// Sum the buffers into dst, split by columns.
+	for w := 0; w < workers; w++ {
+		c0, c1 := a.Cols*w/workers, a.Cols*(w+1)/workers
+		wg.Add(1)
+		go func() {
+			defer wg.Done()
+			d := dst[c0:c1]
+			for _, b := range bufs[1:] {
+				for j, v := range b[c0:c1] {
+					d[j] += v
+				}
+			}
+		}()
+	}
+	wg.Wait()
+}
+
+// scatterRows sets dst = Σ_{lo ≤ i < hi} x_i A[i, :].
+func (a *CSR) scatterRows(dst, x []float64, lo, hi int) {
 	for k := range dst {
 		dst[k] = 0
 	}
-	for i := 0; i < a.Rows; i++ {
+	for i := lo; i < hi; i++ {
 		xi := x[i]
 		if xi == 0 {
 			continue
