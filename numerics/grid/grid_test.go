@@ -155,9 +155,10 @@ func TestObservedOrder(t *testing.T) {
 			return math.Cos(math.Pi*x) + p, -math.Pi*math.Sin(math.Pi*x) + dp, -math.Pi*math.Pi*math.Cos(math.Pi*x) + d2p
 		}},
 		{"Robin", RobinEnd(-du0, u0), RobinEnd(-du1, u1), testFunc},
-		{"Robin-Dirichlet-mix", RobinEnd(-du0, u0), NeumannEnd, func(x float64) (float64, float64, float64) {
+		{"Robin-Neumann", RobinEnd(-du0, u0), NeumannEnd, func(x float64) (float64, float64, float64) {
 			u, du, d2u := testFunc(x)
-			// add q(x) = c x²(x−1)²·… to make u'(1) = 0 while keeping u(0), u'(0).
+			// add c x²(x−1), which vanishes with its slope at 0 and has slope c at 1,
+			// to make u'(1) = 0 while keeping u(0) and u'(0).
 			c := -du1
 			return u + c*x*x*(x-1), du + c*(3*x*x-2*x), d2u + c*(6*x-2)
 		}},
@@ -166,7 +167,7 @@ func TestObservedOrder(t *testing.T) {
 		for _, m := range []int{1, 2} {
 			for _, order := range []int{2, 4} {
 				var errs, gerrs [2]float64
-				for r, n := range []int{161, 321} {
+				for r, n := range []int{41, 81} {
 					g, err := NewInterval(0, 1, n, cs.left, cs.right)
 					if err != nil {
 						t.Fatal(err)
@@ -213,7 +214,12 @@ func TestObservedOrder(t *testing.T) {
 					gerrs[r] = globalError(t, d, g.X(), cs.f)
 				}
 				p := math.Log2(errs[0] / errs[1])
-				if math.Abs(p-float64(order)) > 0.2 && !(errs[1] < 1e-9) {
+				if m == 2 {
+					t.Logf("%s D%d order %d: observed truncation order %.3f, solution order %.3f", cs.name, m, order, p, math.Log2(gerrs[0]/gerrs[1]))
+				} else {
+					t.Logf("%s D%d order %d: observed truncation order %.3f", cs.name, m, order, p)
+				}
+				if math.Abs(p-float64(order)) > 0.2 {
 					t.Errorf("%s D%d order %d: observed order %.3f (errors %.3g, %.3g)", cs.name, m, order, p, errs[0], errs[1])
 				}
 				if m == 2 {
