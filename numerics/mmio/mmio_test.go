@@ -102,8 +102,8 @@ func compareDense(t *testing.T, name string, d *mat.Dense, rc refCase) {
 	}
 }
 
-// Reading scipy's own output is checked above; here this package writes
-// and scipy's file format rules are checked by reading what we wrote.
+// Writing refuses headers the matrix does not satisfy, and skew-symmetric
+// output holds the strict lower triangle only (NIST IR 5935, §3).
 func TestWriteRefusals(t *testing.T) {
 	a := linop.NewCSRFromTriplets(2, 2, []int{0, 1}, []int{1, 0}, []float64{1, 2})
 	var buf bytes.Buffer
