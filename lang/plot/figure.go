@@ -15,7 +15,8 @@ type Axis struct {
 	Log bool
 	// Min and Max are explicit limits, used when Min < Max; otherwise the
 	// limits are the data range widened by 3% of its span on each side (of the
-	// span of log₁₀ of the data on a logarithmic axis).
+	// span of log₁₀ of the data on a logarithmic axis). Explicit limits
+	// narrower than 1e−9 of their magnitude are widened like a single value.
 	Min, Max float64
 }
 

@@ -150,7 +150,10 @@ func (b *bounds) add(v float64) {
 // limits returns the axis limits from explicit values or the data range.
 func (b *bounds) limits(ax Axis, margin float64) (lo, hi float64) {
 	if ax.Min < ax.Max && finite(ax.Min) && finite(ax.Max) {
-		return ax.Min, ax.Max
+		if lo, hi := ax.Min, ax.Max; hi-lo > math.Max(math.Abs(lo/2+hi/2)*1e-9, 1e-300) {
+			return lo, hi
+		}
+		return autoRange(ax.Min, ax.Max, true, b.log, 0) // too narrow to draw: widened
 	}
 	return autoRange(b.lo, b.hi, b.n > 0, b.log, margin)
 }
@@ -368,6 +371,11 @@ func (r *renderer) layout(bx, by *bounds) {
 		needL := 8 + maxWidth(r.yt.labels, tickSize) + tickLen + 4
 		if f.Y.Label != "" {
 			needL += labelSize + 8
+		}
+		if len(r.xt.labels) > 0 && r.xt.labels[0].mant != "" {
+			if p, ok := r.xs.px(r.xt.major[0]); ok {
+				needL = math.Max(needL, r.xt.labels[0].width(tickSize)/2-(p-r.plot.x0)+6)
+			}
 		}
 		needR := 14.0
 		if n := len(r.xt.labels); n > 0 {

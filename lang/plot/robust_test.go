@@ -40,6 +40,7 @@ func TestRobustness(t *testing.T) {
 		"all-nan":     {Series: []Series{&Line{X: []float64{nan, nan}, Y: []float64{nan, nan}}, &HLine{Y: nan}, &VLine{X: inf}, &Text{X: nan, Y: 1, S: "x"}}},
 		"outside-limits": {X: Axis{Min: 0, Max: 1}, Y: Axis{Min: 0, Max: 1},
 			Series: []Series{&Line{X: []float64{-1e200, 1e200}, Y: []float64{-1e250, 1e250}}, &Points{X: []float64{5}, Y: []float64{5}}, &Band{X: []float64{-10, 10}, Lower: []float64{-10, -10}, Upper: []float64{10, 10}}}},
+		"narrow-limits":   {X: Axis{Min: 1e300, Max: math.Nextafter(1e300, math.Inf(1))}, Y: Axis{Min: 1, Max: math.Nextafter(1, 2), Log: true}, Series: []Series{&Line{X: []float64{0, 1}, Y: []float64{1, 1}}}},
 		"reversed-limits": {X: Axis{Min: 3, Max: 1}, Series: []Series{&Line{X: []float64{0, 1}, Y: []float64{0, 1}}}},
 		"tiny-figure":     {Width: 10, Height: 10, Title: "tiny", X: Axis{Label: "x"}, Y: Axis{Label: "y"}, Series: []Series{&Line{X: []float64{0, 1}, Y: []float64{0, 1}, Label: "a"}}},
 		"heat-nan":        {Series: []Series{&HeatMap{Z: [][]float64{{nan, nan}, {nan, inf}}, X0: 0, X1: 1, Y0: 0, Y1: 1}}},

@@ -6,7 +6,8 @@ import "math"
 // in [lo, hi], choosing the smallest such s with (hi − lo)/s ≤ target, so that
 // about target intervals (at least two ticks for target ≥ 1) are produced.
 // Ticks within s·1e−9 of zero are exactly 0. If lo ≥ hi, or either is not
-// finite, or target < 1, it returns nil and 0.
+// finite, or target < 1, or the range is too narrow for the precision of its
+// magnitude, it returns nil and 0.
 func NiceTicks(lo, hi float64, target int) (ticks []float64, step float64) {
 	if !(lo < hi) || math.IsInf(lo, 0) || math.IsInf(hi, 0) || target < 1 {
 		return nil, 0
@@ -24,8 +25,11 @@ func NiceTicks(lo, hi float64, target int) (ticks []float64, step float64) {
 	}
 	k0 := math.Ceil(lo/step - 1e-9)
 	k1 := math.Floor(hi/step + 1e-9)
-	for k := k0; k <= k1; k++ {
-		v := k * step
+	if k1-k0 > float64(2*target+2) || k0+1 == k0 { // range too narrow for its magnitude
+		return nil, 0
+	}
+	for i := 0; k0+float64(i) <= k1; i++ {
+		v := (k0 + float64(i)) * step
 		if math.Abs(v) < step*1e-9 {
 			v = 0
 		}
