@@ -78,11 +78,6 @@ func RCM(a *linop.CSR) []int {
 
 // kronOrder returns a nested-dissection order for X ⊕ Y on the nx × ny
 // tensor grid (index ix*ny + iy), or nil if X or Y has no sparse form.
-// The rectangle is split across its longer side by a separator of
-// thickness equal to that factor's bandwidth, which disconnects the two
-// halves; the halves are ordered first (recursively) and the separator
-// last (George, SIAM J. Numer. Anal. 1973). A periodic direction (entries
-// near the corners of the factor) is cut twice at the first level.
 func kronOrder(k *linop.KronSum) []int {
 	x, err := linop.ToCSR(k.X)
 	if err != nil {
@@ -94,7 +89,51 @@ func kronOrder(k *linop.KronSum) []int {
 	}
 	wx, px := localBandwidth(x)
 	wy, py := localBandwidth(y)
-	nx, ny := x.Rows, y.Rows
+	return gridND(x.Rows, y.Rows, wx, wy, px, py)
+}
+
+// GridOrder returns a nested-dissection order for a sparse operator A on an
+// nx × ny tensor grid (index k = ix*ny + iy), with separators as thick as
+// the largest index distance |ix − jx| (resp. |iy − jy|) over A's entries,
+// measured cyclically when entries wrap around (a periodic direction). It
+// panics with ErrShape unless A is (nx·ny) × (nx·ny).
+func GridOrder(a *linop.CSR, nx, ny int) []int {
+	if a.Rows != nx*ny || a.Cols != nx*ny {
+		panic(ErrShape)
+	}
+	var wx, wy int
+	var px, py bool
+	for i := 0; i < a.Rows; i++ {
+		ix, iy := i/ny, i%ny
+		for p := a.RowPtr[i]; p < a.RowPtr[i+1]; p++ {
+			j := a.ColIdx[p]
+			dx, dy := abs(j/ny-ix), abs(j%ny-iy)
+			if dx > nx/2 && nx >= 10 {
+				px, dx = true, nx-dx
+			}
+			if dy > ny/2 && ny >= 10 {
+				py, dy = true, ny-dy
+			}
+			wx, wy = max(wx, dx), max(wy, dy)
+		}
+	}
+	return gridND(nx, ny, max(wx, 1), max(wy, 1), px, py)
+}
+
+func abs(x int) int {
+	if x < 0 {
+		return -x
+	}
+	return x
+}
+
+// gridND orders the nx × ny grid by nested dissection: the rectangle is
+// split across its longer side (in units of the separator widths) by a
+// separator of thickness wx (or wy), which disconnects the two halves;
+// the halves are ordered first, recursively, and the separator last
+// (George, SIAM J. Numer. Anal. 1973). A periodic direction is cut twice
+// at the first level.
+func gridND(nx, ny, wx, wy int, px, py bool) []int {
 	order := make([]int, 0, nx*ny)
 	var rec func(x0, x1, y0, y1 int, px, py bool)
 	rec = func(x0, x1, y0, y1 int, px, py bool) {
@@ -150,6 +189,45 @@ func kronOrder(k *linop.KronSum) []int {
 	}
 	rec(0, nx, 0, ny, px, py)
 	return order
+}
+
+// gridOf looks through sums, scalings, products, adjoints and similarities
+// for a Kronecker sum of the operator's size and returns its grid.
+func gridOf(a linop.Operator) (nx, ny int, ok bool) {
+	n, _ := a.Dims()
+	var walk func(op linop.Operator) bool
+	walk = func(op linop.Operator) bool {
+		switch o := op.(type) {
+		case *linop.KronSum:
+			x, _ := o.X.Dims()
+			y, _ := o.Y.Dims()
+			if x*y == n {
+				nx, ny = x, y
+				return true
+			}
+		case *linop.Sum:
+			for _, t := range o.Terms {
+				if walk(t) {
+					return true
+				}
+			}
+		case *linop.Scaled:
+			return walk(o.A)
+		case *linop.Product:
+			for _, f := range o.Factors {
+				if walk(f) {
+					return true
+				}
+			}
+		case *linop.Adjoint:
+			return walk(o.A)
+		case *linop.Similarity:
+			return walk(o.A)
+		}
+		return false
+	}
+	ok = walk(a)
+	return nx, ny, ok
 }
 
 func sepX(order *[]int, a, b, y0, y1, ny int) {

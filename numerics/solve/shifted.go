@@ -49,6 +49,11 @@ type Options struct {
 	// Progress, if not nil, is called during long factorisations with the
 	// number of columns done and the total.
 	Progress func(done, total int)
+	// Grid, if nonzero, declares that a sparse operator lives on an
+	// nx × ny tensor grid (index ix*ny + iy), so that the sparse
+	// factorisation orders it by nested dissection (see GridOrder). Without
+	// it the grid is found from a Kronecker sum inside the operator, if any.
+	Grid [2]int
 }
 
 // NewShiftedContext is NewShifted with options and a context that
@@ -74,7 +79,7 @@ func NewShiftedContext(ctx context.Context, a linop.Operator, z complex128, opt 
 		if m == BandMethod {
 			return NewZBandShifted(csr, z)
 		}
-		return newSparse(ctx, a, csr, z, opt.Progress)
+		return newSparse(ctx, a, csr, z, opt)
 	}
 	var d *mat.Dense
 	var err error

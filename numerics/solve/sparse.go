@@ -91,21 +91,31 @@ func NewSparseShifted(ctx context.Context, a linop.Operator, z complex128) (Adjo
 	if err != nil {
 		return nil, err
 	}
-	return newSparse(ctx, a, csr, z, nil)
+	return newSparse(ctx, a, csr, z, Options{})
 }
 
-func sparseOrder(a linop.Operator, csr *linop.CSR) []int {
+// sparseOrder picks the fill-reducing order: grid nested dissection when
+// the operator, or a term or factor of it, is a Kronecker sum of its size
+// (for instance a 2-D Laplacian plus a coefficient), RCM otherwise; with
+// Options.Grid the caller names the grid of a plain sparse matrix.
+func sparseOrder(a linop.Operator, csr *linop.CSR, grid [2]int) []int {
+	if grid[0]*grid[1] == csr.Rows && grid[0] > 0 {
+		return GridOrder(csr, grid[0], grid[1])
+	}
 	if k, ok := a.(*linop.KronSum); ok {
 		if q := kronOrder(k); q != nil {
 			return q
 		}
 	}
+	if nx, ny, ok := gridOf(a); ok {
+		return GridOrder(csr, nx, ny)
+	}
 	return RCM(csr)
 }
 
-func newSparse(ctx context.Context, a linop.Operator, csr *linop.CSR, z complex128, progress func(done, total int)) (AdjointSolver, error) {
-	q := sparseOrder(a, csr)
-	mf, err := factorMultifrontal(ctx, csr, z, q, progress)
+func newSparse(ctx context.Context, a linop.Operator, csr *linop.CSR, z complex128, opt Options) (AdjointSolver, error) {
+	q := sparseOrder(a, csr, opt.Grid)
+	mf, err := factorMultifrontal(ctx, csr, z, q, opt.Progress)
 	if err != nil {
 		return nil, withShift(err, z)
 	}
