@@ -51,7 +51,7 @@ func TestNiceTicks(t *testing.T) {
 	if g, _ := NiceTicks(1, 1, 5); g != nil {
 		t.Errorf("empty range gave %v", g)
 	}
-	if g, _ := NiceTicks(1e300, 1e300*(1+1e-15), 5); g != nil { // k·step no longer resolves the range
+	if g, _ := NiceTicks(1e300, math.Nextafter(1e300, math.Inf(1)), 5); g != nil { // k·step no longer resolves the range
 		t.Errorf("range below the precision gave %v", g)
 	}
 	if g, _ := NiceTicks(math.Inf(-1), 1, 5); g != nil {
