@@ -8,8 +8,9 @@
 //     storage, real or complex, for 1-D operators (O(n·kl·(kl+ku)) work).
 //   - Multifrontal: supernodal multifrontal LU (Duff & Reid, ACM TOMS 1983)
 //     on a fill-reducing symmetric order — nested dissection by grid
-//     geometry for Kronecker sums on tensor grids (George, SIAM J. Numer.
-//     Anal. 1973), reverse Cuthill–McKee otherwise — with threshold
+//     geometry for operators on tensor grids (George, SIAM J. Numer. Anal.
+//     1973; the grid is taken from a Kronecker sum in the operator or from
+//     Options.Grid), reverse Cuthill–McKee otherwise — with threshold
 //     pivoting inside each front and delayed pivots. SparseLU, a
 //     left-looking LU with free partial pivoting (Gilbert–Peierls, SIAM J.
 //     Sci. Stat. Comput. 1988), is available through FactorSparse as an

@@ -28,8 +28,9 @@ type SparseLU struct {
 	ux     []complex128
 }
 
-// SparseTol is the pivot threshold: the diagonal candidate is kept when its
-// magnitude is at least SparseTol times the largest in its column.
+// SparseTol is the pivot threshold of SparseLU: the diagonal candidate is
+// kept when its magnitude is at least SparseTol times the largest in its
+// column.
 const SparseTol = 0.1
 
 // CSC is a complex n×n matrix in compressed-column form: column j has the
@@ -77,8 +78,9 @@ func shiftedCSC(a *linop.CSR, z complex128) *CSC {
 
 // NewSparseShifted factors zI − A for a square operator A with a sparse form,
 // with a fill-reducing symmetric order: nested dissection by grid geometry
-// when A is a Kronecker sum X ⊕ Y of sparse factors, reverse Cuthill–McKee
-// otherwise, by the supernodal Multifrontal factorisation. It returns an error
+// when A is, or contains as a term or factor, a Kronecker sum X ⊕ Y of its
+// size, reverse Cuthill–McKee otherwise, by the supernodal Multifrontal
+// factorisation. It returns an error
 // wrapping ErrSingular (naming z) if a pivot is negligible, the context's
 // error if ctx is cancelled, or an error from the memory guard. It panics
 // with ErrShape if A is not square.
