@@ -74,6 +74,9 @@ var gridFamily = []*Builtin{
 			if n < 2 {
 				return nil, value.ValueErrorf("chebyshev: n must be at least 2 (one interior point), not %d", n)
 			}
+			if !(a < b) || math.IsInf(a, 0) || math.IsInf(b, 0) {
+				return nil, value.ValueErrorf("chebyshev: needs finite ends a < b, got a = %s, b = %s", value.FormatNum(a), value.FormatNum(b))
+			}
 			if err := c.CheckSize(float64(n)*float64(n), "chebyshev: the differentiation matrix"); err != nil {
 				return nil, err
 			}
@@ -201,6 +204,9 @@ func intervalImpl(c *eval.Call) (value.Value, error) {
 	if err != nil {
 		return nil, err
 	}
+	if !(a < b) || math.IsInf(a, 0) || math.IsInf(b, 0) {
+		return nil, value.ValueErrorf("interval: needs finite ends a < b, got a = %s, b = %s", value.FormatNum(a), value.FormatNum(b))
+	}
 	if err := c.CheckSize(float64(n), "interval: the grid"); err != nil {
 		return nil, err
 	}
@@ -251,7 +257,11 @@ func sampleOn(c *eval.Call, name string, f value.Value, g *objects.Grid) ([]floa
 		return []value.Value{xv, yv}
 	}
 	if want := len(args(nil, nil)); requiredParams(fn) > want || (len(fn.Params()) < want && !variadic(fn)) {
-		return nil, value.TypeErrorf("%s: %s must take %d argument(s) on a %d-D grid: %s", c.Name, name, want, g.Dim(), eval.SignatureText(fn.Name(), fn.Params()))
+		of := "x on a 1-D grid"
+		if want == 2 {
+			of = "(x, y) on a 2-D grid"
+		}
+		return nil, value.TypeErrorf("%s: %s must be a function of %s, not %s", c.Name, name, of, eval.SignatureText(fn.Name(), fn.Params()))
 	}
 	// Whole-vector call first.
 	var yv value.Value

@@ -17,6 +17,7 @@ import (
 	"semiflow/lang/objects"
 	"semiflow/lang/value"
 	"semiflow/numerics/linop"
+	"semiflow/numerics/memguard"
 	"semiflow/numerics/mmio"
 )
 
@@ -323,6 +324,9 @@ func prefix(c *eval.Call, err error) error {
 
 func denseOf(c *eval.Call, a *objects.Operator) (*value.Matrix, error) {
 	r, k := a.Op.Dims()
+	if err := memguard.DenseReal(r, k); err != nil {
+		return nil, value.ValueErrorf("%s: %s", c.Name, strings.TrimPrefix(err.Error(), "memguard: "))
+	}
 	if err := c.CheckSize(float64(r)*float64(k), c.Name+": the matrix"); err != nil {
 		return nil, err
 	}

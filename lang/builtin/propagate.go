@@ -4,6 +4,8 @@ import (
 	"fmt"
 	"math"
 	"strings"
+	"sync"
+	"time"
 
 	"gonum.org/v1/gonum/mat"
 
@@ -275,7 +277,10 @@ func propagateImpl(c *eval.Call) (value.Value, error) {
 	if steps < 0 {
 		return nil, value.ValueErrorf("propagate: steps must be ≥ 0, not %d", steps)
 	}
-	opts := expo.Options{Method: method, Tol: tol, Crosscheck: bool(cross), Progress: c.Progress()}
+	if _, ok := a.Op.(*linop.KronSum); method == expo.MethodKronecker && !ok {
+		return nil, value.ValueErrorf("propagate: method \"kronecker\" needs a Kronecker sum X ⊕ Y (the laplacian of a tensor grid, or kronsum(A, B)); this operator is %s", a.Structure())
+	}
+	opts := expo.Options{Method: method, Tol: tol, Crosscheck: bool(cross), Progress: lazyProgress(c)}
 
 	// Forcing: a constant vector or a function of t.
 	var forcing *expo.Forcing
@@ -292,7 +297,7 @@ func propagateImpl(c *eval.Call) (value.Value, error) {
 			return nil, err
 		}
 		if cx != nil || len(re) != n {
-			return nil, value.ValueErrorf("propagate: the forcing vector must be real with %d entries (the operator's order), not %d", n, len(re)+len(cx))
+			return nil, value.ValueErrorf("propagate: the forcing vector must be real, one entry per unknown (%d), not %d entries", n, len(re)+len(cx))
 		}
 		forcing = &expo.Forcing{Const: append([]float64(nil), re...)}
 		forceDesc = " + f"
@@ -421,4 +426,28 @@ func constVec(n int, x float64) []float64 {
 		u[i] = x
 	}
 	return u
+}
+
+// progressDelay is how long a computation runs before its progress is shown.
+const progressDelay = 400 * time.Millisecond
+
+// lazyProgress returns a progress callback that shows nothing for
+// computations finishing within progressDelay (most do), and afterwards
+// forwards to the evaluator's progress display. It is safe for concurrent
+// use by parallel workers.
+func lazyProgress(c *eval.Call) func(done, total int) {
+	start := time.Now()
+	var mu sync.Mutex
+	var show func(done, total int)
+	return func(done, total int) {
+		mu.Lock()
+		defer mu.Unlock()
+		if show == nil {
+			if time.Since(start) < progressDelay {
+				return
+			}
+			show = c.Progress()
+		}
+		show(done, total)
+	}
 }

@@ -32,6 +32,10 @@ func (a *Operator) String() string {
 	return s
 }
 
+// Structure describes how the operator is stored: "dense", "sparse, k
+// nonzeros", "Kronecker sum", "diagonal" or "matrix-free".
+func (a *Operator) Structure() string { return structure(a.Op) }
+
 // structure describes the storage of op.
 func structure(op linop.Operator) string {
 	switch t := op.(type) {
@@ -49,18 +53,19 @@ func structure(op linop.Operator) string {
 
 // AsOperator converts v to an operator: an *Operator is returned as it is,
 // a square *value.Matrix is wrapped (copied) as a dense operator. Other
-// values give a TypeError, a non-square matrix a ValueError.
+// values give a TypeError, a non-square matrix a ValueError; both messages
+// start with "must be", for the caller to put the argument's name before.
 func AsOperator(v value.Value) (*Operator, error) {
 	switch t := v.(type) {
 	case *Operator:
 		return t, nil
 	case *value.Matrix:
 		if t.Rows != t.Cols {
-			return nil, value.ValueErrorf("an operator needs a square matrix, not %d×%d", t.Rows, t.Cols)
+			return nil, value.ValueErrorf("must be a square matrix to act as an operator, not %d×%d", t.Rows, t.Cols)
 		}
 		return FromMatrix(t), nil
 	}
-	return nil, value.TypeErrorf("needs an operator or a square matrix, not %s", value.TypeName(v))
+	return nil, value.TypeErrorf("must be an operator or a square matrix, not %s", value.TypeName(v))
 }
 
 // FromMatrix returns the dense operator with the entries of m (copied).
@@ -272,7 +277,7 @@ func KronSum(a, b *Operator) (*Operator, error) {
 	ar, ac := a.Op.Dims()
 	br, bc := b.Op.Dims()
 	if ar != ac || br != bc {
-		return nil, value.ValueErrorf("kronsum needs square operators, not %d×%d and %d×%d", ar, ac, br, bc)
+		return nil, value.ValueErrorf("needs square operators, not %d×%d and %d×%d", ar, ac, br, bc)
 	}
 	out := &Operator{Op: linop.NewKronSum(a.Op, b.Op), Label: a.Label + " ⊕ " + b.Label}
 	if a.Grid != nil && b.Grid != nil && a.Grid.Dim() == 1 && b.Grid.Dim() == 1 {

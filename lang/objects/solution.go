@@ -52,7 +52,11 @@ func (s *Solution) summary() *textTable {
 	if len(S.Values) > 0 {
 		n = len(S.Values[0])
 	}
-	t := &textTable{caption: fmt.Sprintf("solution of %s, A = %s, %d unknowns, %d output times", s.Problem, s.Label, n, len(S.Times))}
+	plural := "s"
+	if len(S.Times) == 1 {
+		plural = ""
+	}
+	t := &textTable{caption: fmt.Sprintf("solution of %s, A = %s, %d unknowns, %d output time%s", s.Problem, s.Label, n, len(S.Times), plural), left: true}
 	t.add("method", S.Method)
 	t.add("why", S.Reason)
 	t.add("tolerance", g3(S.Tol))

@@ -6,17 +6,18 @@ import (
 	"unicode/utf8"
 )
 
-// textTable is a small two-dimensional textTable rendered as aligned plain text and
+// textTable is a small two-dimensional table rendered as aligned plain text and
 // as HTML.
 type textTable struct {
 	caption string
 	head    []string
 	rows    [][]string
+	left    bool // every column left-aligned (for label–value tables)
 }
 
 func (t *textTable) add(cells ...string) { t.rows = append(t.rows, cells) }
 
-// text renders the textTable with columns padded to a common width, the first
+// text renders the table with columns padded to a common width, the first
 // column left-aligned and the others right-aligned.
 func (t *textTable) text() string {
 	ncol := len(t.head)
@@ -49,7 +50,7 @@ func (t *textTable) text() string {
 			if j > 0 {
 				line.WriteString("  ")
 			}
-			if j == 0 {
+			if j == 0 || t.left {
 				line.WriteString(c + pad)
 			} else {
 				line.WriteString(pad + c)
@@ -60,10 +61,10 @@ func (t *textTable) text() string {
 	return strings.TrimRight(sb.String(), "\n")
 }
 
-// html renders the textTable as an HTML textTable.
+// html renders the table as an HTML table.
 func (t *textTable) html() string {
 	var sb strings.Builder
-	sb.WriteString("<textTable>")
+	sb.WriteString("<table>")
 	if t.caption != "" {
 		sb.WriteString("<caption>" + html.EscapeString(t.caption) + "</caption>")
 	}
@@ -86,6 +87,6 @@ func (t *textTable) html() string {
 		}
 		sb.WriteString("</tr>")
 	}
-	sb.WriteString("</tbody></textTable>")
+	sb.WriteString("</tbody></table>")
 	return sb.String()
 }
