@@ -1,0 +1,204 @@
+package builtin_test
+
+import (
+	"context"
+	"errors"
+	"math"
+	"os"
+	"strconv"
+	"strings"
+	"sync"
+	"testing"
+	"time"
+
+	"semiflow/lang/eval"
+	"semiflow/lang/objects"
+	"semiflow/lang/run"
+	"semiflow/lang/value"
+)
+
+const dataDir = "../../testdata/lang/data/"
+
+// readRef reads rows t, u_0, ..., u_{n−1} written by a reference script.
+func readRef(t *testing.T, name string) (times []float64, vals [][]float64) {
+	t.Helper()
+	b, err := os.ReadFile(dataDir + name)
+	if err != nil {
+		t.Fatal(err)
+	}
+	for _, line := range strings.Split(strings.TrimSpace(string(b)), "\n") {
+		var row []float64
+		for _, f := range strings.Split(line, ",") {
+			x, err := strconv.ParseFloat(f, 64)
+			if err != nil {
+				t.Fatal(err)
+			}
+			row = append(row, x)
+		}
+		times = append(times, row[0])
+		vals = append(vals, row[1:])
+	}
+	return times, vals
+}
+
+func exec(t *testing.T, s *run.Session, src string) {
+	t.Helper()
+	if _, _, err := s.Execute(context.Background(), src, nil); err != nil {
+		t.Fatalf("%s: %v", src, err)
+	}
+}
+
+func lookup[T value.Value](t *testing.T, s *run.Session, name string) T {
+	t.Helper()
+	v, ok := s.Lookup(name)
+	if !ok {
+		t.Fatalf("%s undefined", name)
+	}
+	x, ok := v.(T)
+	if !ok {
+		t.Fatalf("%s is a %s", name, v.Type())
+	}
+	return x
+}
+
+func maxDiff(a, b []float64) float64 {
+	m := 0.0
+	for i := range a {
+		m = math.Max(m, math.Abs(a[i]-b[i]))
+	}
+	return m
+}
+
+// The advection–diffusion operator D2 + 5 D1 built in the language equals
+// the matrix scipy builds independently, and every method reproduces
+// scipy.linalg.expm(tA) u0 (testdata/lang/data/make_propagate_ref.py), with
+// an error estimate that bounds the true error.
+func TestPropagateAgainstScipy(t *testing.T) {
+	s := run.NewSession()
+	exec(t, s, `g = interval(0, 1, 41)
+A = deriv(g, k=2) + 5 * deriv(g)
+u0(x) = sin(pi * x) + x * (1 - x)
+ref = readmm("`+dataDir+`advdiff41.mtx")
+d = dense(A) - dense(ref)`)
+	d := lookup[*value.Matrix](t, s, "d")
+	if m := maxDiff(d.Data, make([]float64, len(d.Data))); m > 1e-10 {
+		t.Fatalf("deriv(g, k=2) + 5 deriv(g) differs from scipy's matrix by %g", m)
+	}
+	times, want := readRef(t, "advdiff41_ref.csv")
+	for _, m := range []string{"auto", "dense", "taylor", "krylov", "resolvent-powers"} {
+		exec(t, s, `sol = propagate(A, u0, [0.01, 0.05, 0.2], method="`+m+`")`)
+		sol := lookup[*objects.Solution](t, s, "sol")
+		for i, tt := range times {
+			if sol.S.Times[i] != tt {
+				t.Fatalf("time %d: %g, want %g", i, sol.S.Times[i], tt)
+			}
+			e := maxDiff(sol.S.Values[i], want[i])
+			if e > 1e-7 {
+				t.Errorf("%s, t=%g: error %g against scipy", m, tt, e)
+			}
+			// scipy's own rounding is about 1e-15 relative; allow that.
+			if e > sol.S.ErrEst[i]+1e-13 {
+				t.Errorf("%s, t=%g: error %g exceeds the estimate %g", m, tt, e, sol.S.ErrEst[i])
+			}
+		}
+	}
+	// Crosscheck: a second method agrees.
+	exec(t, s, `sol = propagate(A, u0, 0.05, method="taylor", crosscheck=true)`)
+	sol := lookup[*objects.Solution](t, s, "sol")
+	if sol.S.Cross == nil || sol.S.Cross.MaxDiff > 1e-7 {
+		t.Errorf("cross-check %+v", sol.S.Cross)
+	}
+}
+
+// A probability distribution of the chain read from chain3.mtx evolves by
+// p' = Qᵀ p: compared with scipy.linalg.expm(t Qᵀ) p0.
+func TestChainDistributionAgainstScipy(t *testing.T) {
+	s := run.NewSession()
+	exec(t, s, `Q = ratematrix(readmm("`+dataDir+`chain3.mtx"))
+p = propagate(adjoint(Q), [1, 0, 0], [0.1, 1, 5])`)
+	sol := lookup[*objects.Solution](t, s, "p")
+	_, want := readRef(t, "chain3_ref.csv")
+	for i := range want {
+		if e := maxDiff(sol.S.Values[i], want[i]); e > 1e-8 {
+			t.Errorf("t=%g: error %g against scipy", sol.S.Times[i], e)
+		}
+	}
+}
+
+// Closed form: with forcing f(t) = cos(t) and A = −1, u(0) = 0,
+// u(t) = (sin t + cos t − e^{−t})/2; a nonlinear N(u, t) = cos(t) gives the
+// same solution through ETDRK4.
+func TestForcingAndNonlinearClosedForm(t *testing.T) {
+	s := run.NewSession()
+	exec(t, s, `f(t) = cos(t)
+a = propagate({-1}, [0], [1, 3], forcing=f)
+N(u, t) = cos(t) + 0 * u
+b = propagate({-1}, [0], [1, 3], nonlinear=N)`)
+	for _, name := range []string{"a", "b"} {
+		sol := lookup[*objects.Solution](t, s, name)
+		for i, tt := range sol.S.Times {
+			want := (math.Sin(tt) + math.Cos(tt) - math.Exp(-tt)) / 2
+			e := math.Abs(sol.S.Values[i][0] - want)
+			if e > 1e-7 {
+				t.Errorf("%s, t=%g: %g, want %g", name, tt, sol.S.Values[i][0], want)
+			}
+			if e > sol.S.ErrEst[i]+1e-14 {
+				t.Errorf("%s, t=%g: error %g exceeds the estimate %g", name, tt, e, sol.S.ErrEst[i])
+			}
+		}
+	}
+}
+
+// recorder collects display events concurrently.
+type recorder struct {
+	mu     sync.Mutex
+	shown  []string
+	result chan struct{}
+}
+
+func (r *recorder) Stream(name, text string) {}
+func (r *recorder) Display(data, _ map[string]any, id string, update bool) {
+	r.mu.Lock()
+	defer r.mu.Unlock()
+	r.shown = append(r.shown, id)
+}
+func (r *recorder) Clear(bool)          {}
+func (r *recorder) Page(map[string]any) {}
+
+// A propagation far too long to finish (t‖A‖ ≈ 10⁹ Taylor products) shows
+// its progress after a moment and stops promptly when the context is
+// cancelled.
+func TestPropagateInterruptAndProgress(t *testing.T) {
+	s := run.NewSession()
+	exec(t, s, `g = interval(0, 1, 20001)
+A = laplacian(g)
+u = sample(1, g)`)
+	ctx, cancel := context.WithCancel(context.Background())
+	rec := &recorder{}
+	done := make(chan error, 1)
+	start := time.Now()
+	go func() {
+		_, _, err := s.Execute(ctx, `propagate(A, u, 1, method="taylor")`, rec)
+		done <- err
+	}()
+	time.Sleep(1500 * time.Millisecond)
+	cancel()
+	var err error
+	select {
+	case err = <-done:
+	case <-time.After(5 * time.Second):
+		t.Fatal("propagate did not stop within 5 s of the interrupt")
+	}
+	var ee *eval.Error
+	if !errors.As(err, &ee) || ee.Name != "Interrupted" {
+		t.Errorf("error %v, want Interrupted", err)
+	}
+	if el := time.Since(start); el > 4*time.Second {
+		t.Errorf("stopped after %v", el)
+	}
+	rec.mu.Lock()
+	defer rec.mu.Unlock()
+	if len(rec.shown) == 0 || !strings.HasPrefix(rec.shown[0], "progress-propagate") {
+		t.Errorf("no progress display: %v", rec.shown)
+	}
+}
