@@ -94,3 +94,36 @@ func BenchmarkRightmostConvDiff1e5(b *testing.B) {
 		}
 	}
 }
+
+// BenchmarkGrowthKreiss100 is GrowthCurve with the Kreiss constant and two
+// α_ε bounds for the stable, strongly non-normal G − 2I (α ≈ −0.32, ω ≈ 0.99) (G the 100×100
+// Grcar matrix) at 61 times.
+func BenchmarkGrowthKreiss100(b *testing.B) {
+	a := grcar(100)
+	for i := 0; i < 100; i++ {
+		a.m.Set(i, i, a.m.At(i, i)-2)
+	}
+	for i := 0; i < b.N; i++ {
+		g, err := GrowthCurve(bg, a, linspace(0, 30, 61), &GrowthOptions{Eps: []float64{1e-2, 1e-4}})
+		if err != nil {
+			b.Fatal(err)
+		}
+		if i == 0 {
+			b.Logf("peak %.4g at t = %.3g, K = %.4g, eNK = %.4g, α_ε/ε = %.4g, %.4g", g.Peak, g.PeakTime, g.Kreiss.K, g.Upper, g.EpsBounds[0].Bound, g.EpsBounds[1].Bound)
+		}
+	}
+}
+
+// BenchmarkPseudoKrylov1e5 is the Krylov-projection pseudospectra (m = 60,
+// 50×50 grid) of the N = 99 856 convection–diffusion operator.
+func BenchmarkPseudoKrylov1e5(b *testing.B) {
+	x, _, _, _ := convDiff1D(316, 0.05, 1)
+	y, _, _, _ := convDiff1D(316, 0.05, 0.3)
+	a := linop.NewKronSum(x, y)
+	for i := 0; i < b.N; i++ {
+		_, err := PseudoKrylov(bg, a, Region{-4e5, 1e4, -2e5, 2e5, 50, 50}, 60, &GridOptions{Levels: []float64{1e2, 1e3}})
+		if err != nil {
+			b.Fatal(err)
+		}
+	}
+}

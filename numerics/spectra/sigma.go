@@ -111,7 +111,7 @@ func (ts *triSigma) eval(z complex128, warm, wantVec bool) sigmaResult {
 		b := cnorm(w)
 		prev := theta
 		var second float64
-		theta, second, s = tridiagTop(ts.alpha, ts.beta)
+		theta, second, s = tridiagTop2(ts.alpha, ts.beta, true)
 		if math.IsInf(theta, 0) || math.IsNaN(theta) {
 			break
 		}
@@ -241,6 +241,14 @@ func scal(x []complex128, a float64) {
 // two steps of inverse iteration with T − θ'I, θ' just above θ, which is
 // negative definite so elimination without pivoting is stable.
 func tridiagTopFast(a, b []float64) (float64, []float64) {
+	th, _, s := tridiagTop2(a, b, false)
+	return th, s
+}
+
+// tridiagTop2 is tridiagTopFast that also returns the second largest
+// eigenvalue (by a second bisection) when second is true, −Inf otherwise
+// or when k = 1.
+func tridiagTop2(a, b []float64, second bool) (float64, float64, []float64) {
 	k := len(a)
 	lo, hi := math.Inf(1), math.Inf(-1)
 	for i := 0; i < k; i++ {
@@ -274,15 +282,24 @@ func tridiagTopFast(a, b []float64) (float64, []float64) {
 		return c
 	}
 	scale := math.Max(math.Abs(lo), math.Abs(hi))
-	for it := 0; it < 200 && hi-lo > 1e-15*scale; it++ {
-		mid := (lo + hi) / 2
-		if count(mid) > 0 {
-			lo = mid
-		} else {
-			hi = mid
+	lo0, hi0 := lo, hi
+	bisect := func(want int) float64 { // largest x with count(x) ≥ want
+		lo, hi := lo0, hi0
+		for it := 0; it < 200 && hi-lo > 1e-15*scale; it++ {
+			mid := (lo + hi) / 2
+			if count(mid) >= want {
+				lo = mid
+			} else {
+				hi = mid
+			}
 		}
+		return hi
 	}
-	theta := hi
+	theta := bisect(1)
+	theta2 := math.Inf(-1)
+	if second && k > 1 {
+		theta2 = bisect(2)
+	}
 	shift := theta + 1e-13*math.Max(scale, 1e-300)
 	s := make([]float64, k)
 	for i := range s {
@@ -312,5 +329,5 @@ func tridiagTopFast(a, b []float64) (float64, []float64) {
 			s[i] /= nrm
 		}
 	}
-	return theta, s
+	return theta, theta2, s
 }
