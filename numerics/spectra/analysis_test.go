@@ -89,7 +89,8 @@ func TestNumericalRadiusJordan(t *testing.T) {
 	}
 }
 
-// Elliptical range theorem (e.g. Li, Linear Algebra Appl. 1996): W of
+// Elliptical range theorem (e.g. Horn & Johnson, Topics in Matrix
+// Analysis, 1991, §1.3; cited from memory): W of
 // [λ1 c; 0 λ2] is the ellipse with foci λ1, λ2 and minor axis |c|, so each
 // boundary point has |z−λ1| + |z−λ2| = √(|c|² + |λ1−λ2|²), the major axis.
 func TestEllipticalRange(t *testing.T) {

@@ -35,7 +35,8 @@ type NumericalRange struct {
 }
 
 // NumRange samples ∂W(A) at nAngles equally spaced angles (nAngles ≥ 3)
-// by rotating Hermitian parts (Johnson, SIAM J. Numer. Anal. 1978); the top
+// by rotating Hermitian parts (C. R. Johnson, SIAM J. Numer. Anal. 1978,
+// cited from memory); the top
 // eigenpair of H_θ comes from the dense symmetric eigensolver for n ≤ 64
 // and from Lanczos with full reorthogonalisation above. With a
 // weight W = RᵀR the inner product is ⟨x, y⟩ = xᵀWy, whose numerical range

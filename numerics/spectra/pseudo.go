@@ -112,10 +112,9 @@ func Pseudo(ctx context.Context, a linop.Operator, r Region, opt *GridOptions) (
 // Pseudo computes σ_min(zI − A) = σ_min(zI − T) on the grid, using the
 // unitary invariance of singular values: at each point, inverse Lanczos on
 // ((zI − T)ᴴ(zI − T))⁻¹ with two triangular solves per step, O(n²) per step
-// instead of the O(n³) SVD (Trefethen, Acta Numerica 1999; Wright &
-// Trefethen, SIAM J. Sci. Comput. 2001). Grid columns are shared among
-// workers; along a column each point starts from the previous point's
-// singular vector. No balancing is applied.
+// instead of the O(n³) SVD (Trefethen, Acta Numerica 1999). Grid columns
+// are shared among workers; along a column each point starts from the
+// previous point's singular vector. No balancing is applied.
 func (s *Schur) Pseudo(ctx context.Context, r Region, opt *GridOptions) (*Pseudospectra, error) {
 	r.check()
 	o := opt.defaults()

@@ -362,7 +362,8 @@ type GrowthOptions struct {
 }
 
 // EpsBound is the lower bound sup_{t≥0} ‖e^{tA}‖ ≥ α_ε(A)/ε
-// (Trefethen & Embree, Spectra and Pseudospectra, 2005, Thm 15.4), useful
+// (Trefethen & Embree, Spectra and Pseudospectra, 2005, Thm 15.4; the
+// theorem number is cited from memory), useful
 // when α_ε(A) > 0.
 type EpsBound struct {
 	Eps, Alpha, Bound float64
