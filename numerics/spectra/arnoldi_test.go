@@ -126,3 +126,31 @@ func TestNumericalAbscissaLarge(t *testing.T) {
 		t.Errorf("ω = %.15g, closed form %.15g", got, want)
 	}
 }
+
+// linop's weights are accepted as weights here.
+var (
+	_ Weight = (*linop.DiagWeight)(nil)
+	_ Weight = (*linop.SPDWeight)(nil)
+)
+
+// The numerical abscissa in linop's diagonal weight agrees with diagW.
+func TestLinopWeight(t *testing.T) {
+	d := []float64{1, 10, 0.1}
+	w2 := make([]float64, 3)
+	for i := range d {
+		w2[i] = d[i] * d[i]
+	}
+	lw, err := linop.NewDiagWeight(w2)
+	if err != nil {
+		t.Fatal(err)
+	}
+	a := op([][]float64{{-1, 20, 0}, {-0.2, -1, 0}, {0, 0, -3}})
+	x, err := NumericalAbscissa(a, lw)
+	if err != nil {
+		t.Fatal(err)
+	}
+	y, _ := NumericalAbscissa(a, diagW{d})
+	if relDiff(x, y) > 1e-14 {
+		t.Errorf("ω_W = %g with linop.DiagWeight, %g with diagW", x, y)
+	}
+}

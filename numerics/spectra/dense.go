@@ -54,21 +54,17 @@ func toDense(a linop.Operator) (*mat.Dense, error) {
 	return m, nil
 }
 
-// weightFactor is the part of a weighted inner product ⟨x, y⟩_W = xᵀWy,
-// W = RᵀR, that the weighted analyses need. linop's weights satisfy it.
-type weightFactor interface {
+// Weight is a weighted inner product ⟨x, y⟩_W = xᵀ W y with W = RᵀR
+// symmetric positive definite, given through its factor R. The W-norm of A
+// is the Euclidean norm of R A R⁻¹, so every weighted analysis transforms A
+// to R A R⁻¹ first. linop.DiagWeight and linop.SPDWeight implement it.
+type Weight interface {
 	Len() int
 	// Factor sets dst = R x (or Rᵀ x if trans).
 	Factor(dst, x []float64, trans bool)
 	// FactorSolve sets dst = R⁻¹ x (or R⁻ᵀ x if trans).
 	FactorSolve(dst, x []float64, trans bool)
 }
-
-// Weight is a weighted inner product ⟨x, y⟩_W = xᵀ W y with W = RᵀR
-// symmetric positive definite. The W-norm of A is the Euclidean norm of
-// R A R⁻¹, so every weighted analysis transforms A to R A R⁻¹ first.
-// linop.DiagWeight and linop.SPDWeight implement it.
-type Weight = weightFactor
 
 // weighted returns R A R⁻¹ as a dense matrix, or A itself if w is nil.
 // It panics with ErrShape if w.Len() differs from the dimension of A.

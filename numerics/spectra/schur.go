@@ -202,23 +202,3 @@ func backSolve(t []complex128, n int, z complex128, w, y []complex128) bool {
 	}
 	return true
 }
-
-// forwardSolveH sets y = (zI − T)⁻ᴴ q for upper-triangular T (so (zI − T)ᴴ
-// is lower triangular), overwriting q. It returns false on a zero pivot.
-func forwardSolveH(t []complex128, n int, z complex128, y, q []complex128) bool {
-	for j := 0; j < n; j++ {
-		d := cmplx.Conj(z - t[j*n+j])
-		if d == 0 {
-			return false
-		}
-		yj := q[j] / d
-		y[j] = yj
-		row := t[j*n+j+1 : j*n+n]
-		qs := q[j+1 : n]
-		for i, tji := range row {
-			// q_i −= conj(−T_ji) y_j
-			qs[i] += cmplx.Conj(tji) * yj
-		}
-	}
-	return true
-}
