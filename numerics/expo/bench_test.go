@@ -76,6 +76,7 @@ func BenchmarkHeat2D(b *testing.B) {
 		// At N = 1e6 the polynomial methods need ~1e5 products for t = 0.01;
 		// the slice t = 1e-4 is timed and its cost scales linearly in t.
 		{1000, 1e-4, MethodTaylor, true},
+		{1000, 0.01, MethodKrylov, true},
 	} {
 		form := "kronsum"
 		if c.csr {
