@@ -6,6 +6,7 @@ import (
 
 	"semiflow/lang/value"
 	"semiflow/numerics/grid"
+	"semiflow/numerics/linop"
 )
 
 // GridKind tells what a 1-D grid is.
@@ -136,4 +137,49 @@ func NewTensor(x, y *Grid) *Grid {
 		panic("objects: tensor of a 2-D grid")
 	}
 	return &Grid{Kind: KindTensor, X: x, Y: y}
+}
+
+// Profile returns the points of a 1-D grid in increasing order with the
+// values of the grid function u there: the unknowns with the Dirichlet end
+// values 0 added, and for a periodic grid the point x = b repeating x = a.
+// It panics with linop.ErrShape if len(u) != Size(), and for a 2-D grid.
+func (g *Grid) Profile(u []float64) (x, v []float64) {
+	if len(u) != g.Size() {
+		panic(linop.ErrShape)
+	}
+	switch g.Kind {
+	case KindInterval:
+		iv := g.Interval
+		x, v = iv.Points(), iv.Embed(u)
+		if iv.Periodic() {
+			x = append(x[:len(v):len(v)], iv.B)
+			v = append(v, v[0])
+		}
+		return x, v
+	case KindChebyshev:
+		p := g.Cheb.Points() // decreasing
+		n := len(p)
+		x, v = make([]float64, n), make([]float64, n)
+		for j := range p {
+			x[n-1-j] = p[j]
+			if j > 0 && j < n-1 {
+				v[n-1-j] = u[j-1]
+			}
+		}
+		return x, v
+	}
+	panic("objects: Profile of a 2-D grid")
+}
+
+// MIME returns an HTML table describing the grid.
+func (g *Grid) MIME() map[string]any {
+	t := &textTable{caption: "grid", left: true}
+	t.add("unknowns", fmt.Sprint(g.Size()))
+	if g.Kind == KindTensor {
+		t.add("x", g.X.describe())
+		t.add("y", g.Y.describe())
+	} else {
+		t.add("grid", g.describe())
+	}
+	return map[string]any{"text/html": t.html()}
 }

@@ -359,3 +359,37 @@ func constVec(n int) []float64 {
 	}
 	return u
 }
+
+func TestOperatorAndGridHTML(t *testing.T) {
+	g := interval(t, 0, 1, 5, grid.DirichletEnd, 2)
+	d2, _ := Deriv(g, 2, "x")
+	a := &Operator{Op: d2, Grid: g, Label: "D2"}
+	h := a.MIME()["text/html"].(string)
+	// Closed form: tridiag(16, −32, 16) has ‖A‖₁ = ‖A‖∞ = 64.
+	for _, want := range []string{"3×3", "sparse, 7 nonzeros", "<td>64</td>", "dirichlet"} {
+		if !strings.Contains(h, want) {
+			t.Errorf("operator HTML lacks %q: %s", want, h)
+		}
+	}
+	if h := NewTensor(g, g).MIME()["text/html"].(string); !strings.Contains(h, "<td>9</td>") {
+		t.Errorf("grid HTML %s", h)
+	}
+}
+
+func TestProfile(t *testing.T) {
+	p := interval(t, 0, 1, 4, grid.PeriodicEnd, 2)
+	x, v := p.Profile([]float64{1, 2, 3, 4})
+	if len(x) != 5 || x[4] != 1 || v[4] != 1 || x[1] != 0.25 {
+		t.Errorf("periodic profile %v %v", x, v)
+	}
+	d := interval(t, 0, 1, 5, grid.DirichletEnd, 2)
+	x, v = d.Profile([]float64{1, 2, 3})
+	if len(x) != 5 || v[0] != 0 || v[4] != 0 || v[2] != 2 {
+		t.Errorf("dirichlet profile %v %v", x, v)
+	}
+	c := cheb(t, -1, 1, 4)
+	x, v = c.Profile([]float64{1, 2, 3}) // unknowns at cos(π/4), 0, cos(3π/4)
+	if x[0] != -1 || x[4] != 1 || v[0] != 0 || v[4] != 0 || v[1] != 3 || v[3] != 1 {
+		t.Errorf("chebyshev profile %v %v", x, v)
+	}
+}

@@ -285,3 +285,22 @@ func KronSum(a, b *Operator) (*Operator, error) {
 	}
 	return out, nil
 }
+
+// MIME returns an HTML table: label, size, storage, the grid, and the norms
+// ‖A‖₁ and ‖A‖∞ where one pass over the entries gives them exactly.
+func (a *Operator) MIME() map[string]any {
+	r, c := a.Op.Dims()
+	t := &textTable{caption: "operator " + a.Label, left: true}
+	t.add("size", fmt.Sprintf("%d×%d", r, c))
+	t.add("storage", structure(a.Op))
+	if a.Grid != nil {
+		t.add("grid", a.Grid.describe())
+	}
+	if n, ok := linop.Norm1(a.Op); ok {
+		t.add("‖A‖₁ (max column sum)", value.FormatNum(n))
+	}
+	if n, ok := linop.NormInf(a.Op); ok {
+		t.add("‖A‖∞ (max row sum)", value.FormatNum(n))
+	}
+	return map[string]any{"text/html": t.html()}
+}

@@ -131,10 +131,10 @@ func (s *Solution) Figure() *plot.Figure {
 	f := &plot.Figure{Title: fmt.Sprintf("%s, %s", s.Problem, S.Method)}
 	switch {
 	case s.Grid != nil && s.Grid.Dim() == 1:
-		x := s.Grid.X1()
 		f.X.Label, f.Y.Label = "x", "u(t, x)"
 		for _, i := range shown(len(S.Times), 8) {
-			f.AddLine(x, S.Values[i], "t = "+plot.FormatValue(S.Times[i]))
+			x, u := s.Grid.Profile(S.Values[i])
+			f.AddLine(x, u, "t = "+plot.FormatValue(S.Times[i]))
 		}
 	case s.Grid != nil:
 		last := len(S.Times) - 1
