@@ -25,6 +25,7 @@ var families = [][]*Builtin{
 	elementFamily,
 	vectorFamily,
 	objectFamily,
+	stabilityFamily,
 }
 
 // Example is code that must run in a fresh session, and the text/plain of

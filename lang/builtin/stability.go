@@ -1,0 +1,1108 @@
+package builtin
+
+import (
+	"context"
+	"errors"
+	"fmt"
+	"math"
+	"math/cmplx"
+	"sort"
+	"strings"
+	"time"
+
+	"gonum.org/v1/gonum/mat"
+
+	"semiflow/lang/eval"
+	"semiflow/lang/objects"
+	"semiflow/lang/value"
+	"semiflow/numerics/linop"
+	"semiflow/numerics/memguard"
+	"semiflow/numerics/spectra"
+)
+
+// DenseLimit is the largest order analysed by the dense methods (Schur
+// form, QR algorithm, dense exponentials). Larger operators use the Krylov
+// methods where the analysis has one, and are refused otherwise.
+const DenseLimit = 1500
+
+// stabilityFamily: spectra, numerical range, pseudospectra, resolvent
+// norms, transient growth and generator reports.
+var stabilityFamily = []*Builtin{
+	{
+		Name: "spectrum",
+		Params: []value.Param{
+			req("A", "an operator or a square matrix"),
+			opt("count", value.Num(0), "0 for all eigenvalues (dense method), or the number k of eigenvalues wanted"),
+			opt("near", value.None, "none for the rightmost eigenvalues, or a real shift σ for those nearest σ"),
+		},
+		Doc: "The eigenvalues λ of A (A x = λ x), ordered by decreasing real part, with the spectral abscissa α(A) = max Re λ. " +
+			"With count = 0 all of them, by the QR algorithm without balancing, each with its condition number ‖x‖‖y‖/|yᴴx| (x, y the right and left eigenvectors: a perturbation of size δ moves λ by about cond·δ); this needs order ≤ 1500. " +
+			"With count = k the k rightmost eigenvalues, or with near = σ the k nearest σ: for order ≤ 1500 selected from the dense spectrum, above by the Krylov–Schur method (Stewart 2001) on A, or on (σI − A)⁻¹ with near, each with its residual ‖Ax − λx‖/‖x‖. " +
+			"The result is a table (rows indexable as r[k, j]: k, λ, Re λ, Im λ, condition or residual) and a figure of the eigenvalues in the complex plane with the imaginary axis.",
+		Examples: []Example{
+			{"s = spectrum({-1, 2 | 0, -3}); s[0, 1]", "-1+0i"},
+			{"spectrum({0, 1 | -1, 0}, count=1)[0, 1]", "0+1i"},
+		},
+		Impl: spectrumImpl,
+	},
+	{
+		Name:   "abscissa",
+		Params: []value.Param{req("A", "an operator or a square matrix")},
+		Doc: "The spectral abscissa α(A) = max{Re λ : λ ∈ σ(A)}, the asymptotic growth rate: ‖e^{tA}‖ ≤ M_δ e^{(α+δ)t} for every δ > 0, and e^{tA} decays iff α(A) < 0. " +
+			"Dense QR for order ≤ 1500; above, the rightmost eigenvalue by shift-and-invert Krylov–Schur about σ = ω(A) + 10⁻³(1 + |ω(A)|) ≥ α(A). The result is a number with a note; q[0] is the plain number.",
+		Examples: []Example{
+			{"abscissa({-1, 5 | 0, -2})[0]", "-1"},
+		},
+		Impl: abscissaImpl,
+	},
+	{
+		Name: "numrange",
+		Params: []value.Param{
+			req("A", "an operator or a square matrix"),
+			opt("weight", value.None, stabWeightDoc),
+			opt("points", value.Num(64), "number of boundary points (angles), ≥ 3"),
+		},
+		Doc: "The numerical range (field of values) W(A) = {x*Ax : ‖x‖ = 1}, a compact convex set containing the spectrum (Toeplitz–Hausdorff). " +
+			"Its boundary is sampled at equally spaced angles θ by the top eigenvector x of the Hermitian part H_θ = (e^{−iθ}A + e^{iθ}A*)/2, whose eigenvalue h(θ) is the support function (Johnson 1978); the point x*Ax lies on ∂W(A). " +
+			"Reports the numerical abscissa ω(A) = max Re W(A) (the initial slope of ‖e^{tA}‖) and the numerical radius r(A) = max |W(A)|, with a table of the boundary points and a figure with the eigenvalues. Order ≤ 1500.",
+		Examples: []Example{
+			{"numrange({0, 2 | 0, 0}, points=8)[0, 4]", "1"},
+		},
+		Impl: numrangeImpl,
+	},
+	{
+		Name: "numabscissa",
+		Params: []value.Param{
+			req("A", "an operator or a square matrix"),
+			opt("weight", value.None, stabWeightDoc),
+		},
+		Doc: "The numerical abscissa ω(A) = λmax((A + A*)/2) = max Re W(A), in the Euclidean or a weighted inner product: the smallest ω with A − ωI dissipative, so ‖e^{tA}‖ ≤ e^{ωt} (Lumer–Phillips), and the initial slope d/dt ‖e^{tA}‖ at t = 0. " +
+			"Dense symmetric eigensolver for order ≤ 1500, shift-and-invert Lanczos above.",
+		Examples: []Example{
+			{"numabscissa({-1, 4 | 0, -1})[0]", "1"},
+		},
+		Impl: numabscissaImpl,
+	},
+	{
+		Name: "pseudospectrum",
+		Params: []value.Param{
+			req("A", "an operator or a square matrix"),
+			opt("re", value.None, "the interval [a, b] of Re z; none: the numerical range's extent widened by the largest level"),
+			opt("im", value.None, "the interval [c, d] of Im z; none: as for re"),
+			opt("levels", value.List{value.Num(1e-1), value.Num(1e-2), value.Num(1e-3)}, "the levels ε > 0 of the contour lines"),
+			opt("n", value.Num(80), "grid points along each side, 2 ≤ n ≤ 400"),
+		},
+		Doc: "The ε-pseudospectra σ_ε(A) = {z : σ_min(zI − A) ≤ ε} = {z : ‖(zI − A)⁻¹‖₂ ≥ 1/ε} on the rectangle re × im: σ_min on an n × n grid, the contour lines of the levels ε, the eigenvalues, and a table of the pseudospectral abscissae α_ε(A) = max Re σ_ε(A) with the lower bounds α_ε/ε ≤ sup_t ‖e^{tA}‖. " +
+			"For order ≤ 1500: one complex Schur form A = ZTZᴴ, then inverse Lanczos on (zI − T)ᴴ(zI − T) at every point, without balancing (Trefethen 1999), and α_ε by a boundary search. " +
+			"Above: the Krylov-projection approximation σ_min(zĨ − H̃_m) from 100 Arnoldi steps (Toh & Trefethen 1996), which lies above the true σ_min, so the computed sets lie inside the true ones and are reliable only near the outer eigenvalues; α_ε is then the rightmost grid point in the set. " +
+			"With re or im none (dense only) the region is the bounding box of W(A) widened by the largest ε, which contains every σ_ε since σ_ε(A) ⊆ W(A) + Δ_ε.",
+		Examples: []Example{
+			{"p = pseudospectrum({-1, 0 | 0, -2}, re=[-3, 0], im=[-1, 1], levels=[0.5], n=21); p[0, 1]", "-0.5"},
+		},
+		Impl: pseudospectrumImpl,
+	},
+	{
+		Name:   "psabscissa",
+		Params: []value.Param{req("A", "an operator or a square matrix"), req("eps", "the level ε > 0")},
+		Doc: "The ε-pseudospectral abscissa α_ε(A) = max{Re z : σ_min(zI − A) ≤ ε}; α_ε(A)/ε is a lower bound of sup_{t≥0} ‖e^{tA}‖ (Trefethen & Embree 2005, Thm 15.4) and α(A) ≤ α_ε(A) ≤ ω(A) + ε. " +
+			"Found from the rightmost point of σ_ε on horizontal lines through the eigenvalues and across the numerical range, refined by golden-section search; order ≤ 1500. For a normal matrix α_ε = α + ε.",
+		Examples: []Example{
+			{"psabscissa({-1, 0 | 0, -2}, 0.25)[0]", "-0.75"},
+		},
+		Impl: psabscissaImpl,
+	},
+	{
+		Name: "resolvent",
+		Params: []value.Param{
+			req("A", "an operator or a square matrix"),
+			req("z", "a real or complex point, not an eigenvalue"),
+			opt("data", value.None, "none for the norm, or a vector v for (zI − A)⁻¹v"),
+		},
+		Doc: "The resolvent R(z) = (zI − A)⁻¹. Without data, its norm ‖(zI − A)⁻¹‖₂ = 1/σ_min(zI − A), from the complex Schur form by inverse Lanczos (order ≤ 1500); for a normal A it is 1/dist(z, σ(A)). " +
+			"With data = v the complex vector x = (zI − A)⁻¹v, from a banded, sparse or dense complex LU of zI − A chosen from A's structure (any order), with one step of iterative refinement. " +
+			"A z at (or within rounding of) an eigenvalue is an error naming z.",
+		Examples: []Example{
+			{"resolvent({-1, 0 | 0, -2}, 1)[0]", "0.5"},
+			{"resolvent({2, 0 | 0, 4}, 1i, data=[1, 0])", "[-0.4-0.2i, 0+0i]"},
+		},
+		Impl: resolventImpl,
+	},
+	{
+		Name: "resolventline",
+		Params: []value.Param{
+			req("A", "an operator or a square matrix"),
+			req("re", "the real part c of the line Re z = c"),
+			opt("im", value.None, "the interval [c, d] of Im z; none: [−r, r] with r = 1.5 max(1, max |λ|)"),
+			opt("n", value.Num(200), "number of points, ≥ 2"),
+		},
+		Doc: "The resolvent norm ‖(zI − A)⁻¹‖₂ along the vertical line Re z = re at n equally spaced points Im z ∈ im, from one Schur form (inverse Lanczos at each point; order ≤ 1500). " +
+			"For re > 0, re · max ‖(zI − A)⁻¹‖ is a lower bound of the Kreiss constant, and by Hille–Yosida sup_{Re z = c} ‖(zI − A)⁻¹‖ ≤ M/(c − ω) when ‖e^{tA}‖ ≤ M e^{ωt}, c > ω. Table and figure on a logarithmic axis.",
+		Examples: []Example{
+			{"r = resolventline({-1, 0 | 0, -1}, 0, im=[-1, 1], n=3); r[1, 1]", "1"},
+		},
+		Impl: resolventlineImpl,
+	},
+	{
+		Name: "growth",
+		Params: []value.Param{
+			req("A", "an operator or a square matrix"),
+			opt("t", rangeDefault{&value.Range{Lo: 0, Hi: 10, Step: 0.1, N: 101}}, "the times t ≥ 0: a range, vector or list"),
+		},
+		Doc: "The transient growth curve ‖e^{tA}‖₂ at the times t, with its peak (refined between samples) and the optimal initial condition u0 (‖u0‖ = 1, ‖e^{t*A}u0‖ = peak), and the bounds: the initial slope ω(A) = λmax((A + Aᵀ)/2), the asymptotic rate α(A), the Kreiss constant K ≤ sup_t ‖e^{tA}‖ ≤ e·N·K (Spijker 1991) and α_ε/ε ≤ sup_t ‖e^{tA}‖ for ε = 0.1, 0.01, 0.001. " +
+			"For order ≤ 1500, e^{tA} by scaling and squaring and its largest singular value; above, a Lanczos estimate on e^{tAᵀ}e^{tA} (a lower bound up to the propagation error, no Kreiss or α_ε bounds). Table of (t, ‖e^{tA}‖) and a figure on a logarithmic axis with the bounds as horizontal lines.",
+		Examples: []Example{
+			{"g = growth({-1, 0 | 0, -2}, t=[0, 1]); g[1, 1]", "0.3678794412"},
+		},
+		Impl: growthImpl,
+	},
+	{
+		Name:   "kreiss",
+		Params: []value.Param{req("A", "an operator or a square matrix")},
+		Doc: "The Kreiss constant K(A) = sup_{Re z > 0} Re z ‖(zI − A)⁻¹‖₂, with the point where the supremum is attained. The Kreiss matrix theorem bounds K ≤ sup_{t≥0} ‖e^{tA}‖₂ ≤ e·N·K for N × N matrices (Spijker, BIT 1991). " +
+			"It is inf when α(A) ≥ 0 and 1 for a normal matrix with α(A) < 0. Order ≤ 1500.",
+		Examples: []Example{
+			{"kreiss({-1, 0 | 0, -2})[0]", "1"},
+		},
+		Impl: kreissImpl,
+	},
+	{
+		Name: "generator",
+		Params: []value.Param{
+			req("A", "an operator or a square matrix"),
+			opt("weight", value.None, stabWeightDoc),
+		},
+		Doc: "A report on A as the generator of the semigroup e^{tA}: the spectral abscissa α(A), the numerical abscissa ω(A) in the chosen inner product, Lumer–Phillips dissipativity of A − ωI (then ‖e^{tA}‖ ≤ e^{ωt}), Hille–Yosida estimates M_n = sup_{λ>ω} (λ−ω)^n ‖R(λ)^n‖ for n = 1..4 (Engel & Nagel 2000, Thm II.3.8: ‖e^{tA}‖ ≤ M e^{ωt} iff all M_n ≤ M; finitely many samples give a lower estimate of the best M), and a plain verdict with its assumptions. " +
+			"The tested ω is 0 when α(A) < 0, otherwise a tenth of the way from α(A) to ω(A). Large sparse operators (order > 1500, no weight) get the abscissae by Krylov methods and no Hille–Yosida estimates. For a rate matrix of a Markov chain see markov.",
+		Examples: []Example{
+			{"len(generator({-1, 0 | 0, -2}))", "4"},
+		},
+		Impl: generatorImpl,
+	},
+	{
+		Name:   "markov",
+		Params: []value.Param{req("Q", "a rate matrix: q_ij ≥ 0 for i ≠ j, rows summing to 0")},
+		Doc: "The continuous-time Markov chain with rate matrix Q, whose distributions evolve by p' = pQ (row vectors), p(t) = p(0)e^{tQ}: the stationary distribution π (πQ = 0, Σπ_i = 1), the spectral gap −max{Re λ : λ ∈ σ(Q), λ ≠ 0} and relaxation time 1/gap, " +
+			"the mixing time t_mix = min{t : max_i ‖e_iᵀe^{tQ} − π‖_TV ≤ 1/4} from dense exponentials by bisection, the bound ln(4/π_min)/gap (for reversible chains; Levin, Peres & Wilmer 2009) and whether detailed balance holds. " +
+			"For two states with rates a (0→1) and b (1→0): π = (b, a)/(a + b), gap = a + b. A matrix that is not a rate matrix is an error saying why.",
+		Examples: []Example{
+			{"markov({-1, 1 | 3, -3})[0, 1]", "0.75"},
+		},
+		Impl: markovImpl,
+	},
+}
+
+const stabWeightDoc = `the inner product: none (Euclidean), "grid" (the quadrature weights of A's grid, a discrete L²), a vector w > 0 (⟨x, y⟩ = Σ w_i x_i y_i) or a symmetric positive definite matrix W (⟨x, y⟩ = xᵀWy)`
+
+// Arguments.
+
+// stabOpArg is argument i as an operator.
+func stabOpArg(c *eval.Call, i int) (*objects.Operator, int, error) {
+	v, err := c.Arg(i)
+	if err != nil {
+		return nil, 0, err
+	}
+	if m, ok := v.(*value.Matrix); ok && m.Rows != m.Cols {
+		return nil, 0, value.ValueErrorf("%s: %s must be a square matrix or an operator, not a %d×%d matrix", c.Name, paramName(c, i), m.Rows, m.Cols)
+	}
+	op, err := objects.AsOperator(v)
+	if err != nil {
+		var ve *value.Error
+		if errors.As(err, &ve) {
+			return nil, 0, value.Errorf(ve.Name, "%s: %s %s", c.Name, paramName(c, i), ve.Msg)
+		}
+		return nil, 0, err
+	}
+	n, m := op.Dims()
+	if n != m {
+		return nil, 0, value.ValueErrorf("%s: %s must be square, not %d×%d", c.Name, paramName(c, i), n, m)
+	}
+	if n == 0 {
+		return nil, 0, value.ValueErrorf("%s: %s is empty (0×0)", c.Name, paramName(c, i))
+	}
+	return op, n, nil
+}
+
+// stabNeedDense refuses an order above DenseLimit for an analysis with only a
+// dense method.
+func stabNeedDense(c *eval.Call, n int, alternative string) error {
+	if n <= DenseLimit {
+		return nil
+	}
+	msg := fmt.Sprintf("%s: the operator has order %d; this analysis uses dense methods, limited to order %d", c.Name, n, DenseLimit)
+	if alternative != "" {
+		msg += "; " + alternative
+	}
+	return value.ValueErrorf("%s", msg)
+}
+
+// stabRealArg is argument i as a real number (a Quantity counts as its number).
+func stabRealArg(c *eval.Call, i int) (float64, error) {
+	v, err := c.Arg(i)
+	if err != nil {
+		return 0, err
+	}
+	if q, ok := v.(*objects.Quantity); ok {
+		v = q.X
+	}
+	n, ok := v.(value.Num)
+	if !ok {
+		return 0, value.TypeErrorf("%s: %s must be a real number, not %s", c.Name, paramName(c, i), value.TypeName(v))
+	}
+	if math.IsNaN(float64(n)) || math.IsInf(float64(n), 0) {
+		return 0, value.ValueErrorf("%s: %s must be finite, not %s", c.Name, paramName(c, i), n)
+	}
+	return float64(n), nil
+}
+
+// stabComplexArg is argument i as a complex number (a real number is allowed).
+func stabComplexArg(c *eval.Call, i int) (complex128, error) {
+	v, err := c.Arg(i)
+	if err != nil {
+		return 0, err
+	}
+	if q, ok := v.(*objects.Quantity); ok {
+		v = q.X
+	}
+	var z complex128
+	switch t := v.(type) {
+	case value.Num:
+		z = complex(float64(t), 0)
+	case value.Complex:
+		z = complex128(t)
+	default:
+		return 0, value.TypeErrorf("%s: %s must be a real or complex number, not %s", c.Name, paramName(c, i), value.TypeName(v))
+	}
+	if cmplx.IsNaN(z) || cmplx.IsInf(z) {
+		return 0, value.ValueErrorf("%s: %s must be finite, not %s", c.Name, paramName(c, i), value.FormatComplex(z))
+	}
+	return z, nil
+}
+
+// rangeDefault is a range default shown in signatures in range syntax,
+// lo .. hi by step, rather than as its entries.
+type rangeDefault struct{ *value.Range }
+
+func (r rangeDefault) String() string {
+	return value.FormatNum(r.Lo) + " .. " + value.FormatNum(r.Hi) + " by " + value.FormatNum(r.Step)
+}
+
+// stabRealsArg is argument i as a list of finite reals; ok is false when it
+// is none.
+func stabRealsArg(c *eval.Call, i int) ([]float64, bool, error) {
+	v, err := c.Arg(i)
+	if err != nil {
+		return nil, false, err
+	}
+	if v == value.None {
+		return nil, false, nil
+	}
+	if r, ok := v.(rangeDefault); ok {
+		v = r.Range
+	}
+	re, cx, err := numbers(c, paramName(c, i), v)
+	if err != nil {
+		return nil, false, err
+	}
+	if cx != nil {
+		return nil, false, value.TypeErrorf("%s: %s must be real, not complex", c.Name, paramName(c, i))
+	}
+	for _, x := range re {
+		if math.IsNaN(x) || math.IsInf(x, 0) {
+			return nil, false, value.ValueErrorf("%s: %s must hold finite numbers, not %s", c.Name, paramName(c, i), value.FormatNum(x))
+		}
+	}
+	return re, true, nil
+}
+
+// stabIntervalArg is argument i as an interval [a, b] with a < b.
+func stabIntervalArg(c *eval.Call, i int) (lo, hi float64, ok bool, err error) {
+	x, ok, err := stabRealsArg(c, i)
+	if err != nil || !ok {
+		return 0, 0, ok, err
+	}
+	if len(x) != 2 || !(x[0] < x[1]) {
+		return 0, 0, false, value.ValueErrorf("%s: %s must be an interval [a, b] with a < b, not %s", c.Name, paramName(c, i), value.RealVec(x))
+	}
+	return x[0], x[1], true, nil
+}
+
+// stabCountArg is argument i as a whole number in [lo, hi].
+func stabCountArg(c *eval.Call, i, lo, hi int) (int, error) {
+	f, err := stabRealArg(c, i)
+	if err != nil {
+		return 0, err
+	}
+	if f != math.Trunc(f) || f < float64(lo) || f > float64(hi) {
+		return 0, value.ValueErrorf("%s: %s must be a whole number from %d to %d, not %s", c.Name, paramName(c, i), lo, hi, value.FormatNum(f))
+	}
+	return int(f), nil
+}
+
+// stabWeightArg is argument i as an inner product for the operator of order n
+// (nil for the Euclidean one) with a description.
+func stabWeightArg(c *eval.Call, i int, op *objects.Operator, n int) (spectra.Weight, string, error) {
+	v, err := c.Arg(i)
+	if err != nil {
+		return nil, "", err
+	}
+	name := paramName(c, i)
+	switch t := v.(type) {
+	case value.NoneType:
+		return nil, "Euclidean inner product", nil
+	case value.Str:
+		if t != "grid" {
+			return nil, "", value.ValueErrorf(`%s: unknown %s %s; the choices are none, "grid", a vector of positive weights or a positive definite matrix`, c.Name, name, t)
+		}
+		if op.Grid == nil {
+			return nil, "", value.ValueErrorf(`%s: %s="grid" needs an operator on a grid, but A (%s) has none`, c.Name, name, op.Label)
+		}
+		w := op.Grid.QuadWeights()
+		if len(w) != n {
+			return nil, "", value.ValueErrorf("%s: the grid has %d quadrature weights but A has order %d", c.Name, len(w), n)
+		}
+		if constant(w) {
+			return nil, "discrete L² inner product of the grid (equal quadrature weights: the Euclidean norms)", nil
+		}
+		dw, err := linop.NewDiagWeight(w)
+		if err != nil {
+			return nil, "", value.ValueErrorf("%s: the grid's quadrature weights are not all positive", c.Name)
+		}
+		return dw, "discrete L² inner product of the grid (quadrature weights)", nil
+	case *value.Matrix:
+		if t.Rows != n || t.Cols != n {
+			return nil, "", value.ValueErrorf("%s: %s must be %d×%d like A, not %d×%d", c.Name, name, n, n, t.Rows, t.Cols)
+		}
+		for r := 0; r < n; r++ {
+			for s := 0; s < r; s++ {
+				if a, b := t.At(r, s), t.At(s, r); math.Abs(a-b) > 1e-12*math.Max(math.Abs(a), math.Abs(b)) {
+					return nil, "", value.ValueErrorf("%s: %s is not symmetric: W[%d, %d] = %s but W[%d, %d] = %s", c.Name, name, r, s, value.FormatNum(a), s, r, value.FormatNum(b))
+				}
+			}
+		}
+		sw, err := linop.NewSPDWeight(mat.NewSymDense(n, append([]float64(nil), t.Data...)))
+		if err != nil {
+			return nil, "", value.ValueErrorf("%s: %s is not positive definite", c.Name, name)
+		}
+		return sw, "inner product ⟨x, y⟩ = xᵀWy", nil
+	}
+	w, _, err := stabRealsArg(c, i)
+	if err != nil {
+		return nil, "", value.TypeErrorf(`%s: %s must be none, "grid", a vector or a matrix, not %s`, c.Name, name, value.TypeName(v))
+	}
+	if len(w) != n {
+		return nil, "", value.ValueErrorf("%s: %s has %d entries but A has order %d", c.Name, name, len(w), n)
+	}
+	for k, x := range w {
+		if !(x > 0) {
+			return nil, "", value.ValueErrorf("%s: %s[%d] = %s; the weights must be positive", c.Name, name, k, value.FormatNum(x))
+		}
+	}
+	if constant(w) {
+		// W = cI: ‖x‖_W = √c‖x‖, so every operator norm is the Euclidean one.
+		return nil, "weighted inner product Σ w_i x_i y_i (constant weights: the Euclidean norms)", nil
+	}
+	dw, err := linop.NewDiagWeight(w)
+	if err != nil {
+		return nil, "", value.ValueErrorf("%s: %v", c.Name, err)
+	}
+	return dw, "weighted inner product Σ w_i x_i y_i", nil
+}
+
+// constant reports whether all the positive weights are equal to
+// rounding (relative 1e-14).
+func constant(w []float64) bool {
+	for _, x := range w {
+		if math.Abs(x-w[0]) > 1e-14*w[0] {
+			return false
+		}
+	}
+	return len(w) > 0
+}
+
+// stabProgress returns a stabProgress callback that shows nothing for the first
+// second, so quick analyses (and golden scripts) stay silent.
+func stabProgress(c *eval.Call) func(done, total int) {
+	start := time.Now()
+	var show func(done, total int)
+	return func(done, total int) {
+		if show == nil {
+			if time.Since(start) < time.Second {
+				return
+			}
+			show = c.Progress()
+		}
+		show(done, total)
+	}
+}
+
+// stabNumErr turns an error from the numerics into a language error:
+// cancellation becomes Interrupted, a refused allocation a MemoryError,
+// anything else a NumericalError naming the builtin.
+func stabNumErr(c *eval.Call, err error) error {
+	switch {
+	case errors.Is(err, context.Canceled) || errors.Is(err, context.DeadlineExceeded):
+		return value.Errorf("Interrupted", "interrupted")
+	case errors.Is(err, memguard.ErrTooLarge):
+		return value.Errorf("MemoryError", "%s: %v", c.Name, err)
+	}
+	return value.Errorf("NumericalError", "%s: %v", c.Name, err)
+}
+
+// stabGuard runs f and turns a panic with one of the numerics' misuse
+// sentinels into a ValueError; the builtins validate their arguments, so
+// this is a last line of defence.
+func stabGuard(c *eval.Call, f func() error) error {
+	if err := stabGuardRaw(c, f); err != nil {
+		var ve *value.Error
+		if errors.As(err, &ve) {
+			return err
+		}
+		return stabNumErr(c, err)
+	}
+	return nil
+}
+
+// stabGuardRaw is stabGuard without the translation of numerical errors.
+func stabGuardRaw(c *eval.Call, f func() error) (err error) {
+	defer func() {
+		if r := recover(); r != nil {
+			e, ok := r.(error)
+			if !ok || !(errors.Is(e, spectra.ErrOption) || errors.Is(e, spectra.ErrShape)) {
+				panic(r)
+			}
+			err = value.ValueErrorf("%s: invalid input (%v)", c.Name, e)
+		}
+	}()
+	return f()
+}
+
+// Implementations.
+
+func spectrumImpl(c *eval.Call) (value.Value, error) {
+	op, n, err := stabOpArg(c, 0)
+	if err != nil {
+		return nil, err
+	}
+	k, err := stabCountArg(c, 1, 0, n)
+	if err != nil {
+		return nil, err
+	}
+	near, nearSet := 0.0, false
+	if v, _ := c.Arg(2); v != value.None {
+		if _, ok := v.(value.Complex); ok {
+			return nil, value.ValueErrorf("spectrum: near must be a real shift (the Krylov–Schur iteration runs in real arithmetic), not %s", v)
+		}
+		if near, err = stabRealArg(c, 2); err != nil {
+			return nil, err
+		}
+		nearSet = true
+		if k == 0 {
+			return nil, value.ValueErrorf("spectrum: near needs count = k > 0, the number of eigenvalues nearest %s", value.FormatNum(near))
+		}
+	}
+	if k == 0 {
+		if err := stabNeedDense(c, n, "give count = k for the k rightmost eigenvalues by Krylov–Schur"); err != nil {
+			return nil, err
+		}
+		var s *spectra.Spectrum
+		if err := stabGuard(c, func() (e error) { s, e = spectra.DenseSpectrum(op.Op); return }); err != nil {
+			return nil, err
+		}
+		return objects.SpectrumReport(op.Label, n, s, fmt.Sprintf("all %d eigenvalues", n)), nil
+	}
+	what := fmt.Sprintf("the %d rightmost eigenvalues", k)
+	if nearSet {
+		what = fmt.Sprintf("the %d eigenvalues nearest %s", k, value.FormatNum(near))
+	}
+	if n <= DenseLimit {
+		var s *spectra.Spectrum
+		if err := stabGuard(c, func() (e error) { s, e = spectra.DenseSpectrum(op.Op); return }); err != nil {
+			return nil, err
+		}
+		sel := stabSelectEigen(s, k, nearSet, near)
+		return objects.SpectrumReport(op.Label, n, sel, what), nil
+	}
+	if 2*k+12 >= n {
+		return nil, value.ValueErrorf("spectrum: count = %d is too many for the Krylov method on order %d", k, n)
+	}
+	o := &spectra.EigsOptions{Count: k, ShiftInvert: nearSet, Shift: near, Progress: stabProgress(c)}
+	var s *spectra.Spectrum
+	err = stabGuard(c, func() (e error) {
+		if !nearSet && hasSparseForm(op) {
+			// The rightmost eigenvalues as those nearest a shift just
+			// right of the spectrum: σ = ω(A) + 10⁻³(1 + |ω(A)|) ≥ α(A).
+			w, e := spectra.NumericalAbscissa(op.Op, nil)
+			if e != nil {
+				return e
+			}
+			o.ShiftInvert, o.Shift = true, w+1e-3*(1+math.Abs(w))
+		}
+		s, e = spectra.Rightmost(c.Ctx, op.Op, o)
+		return e
+	})
+	if err != nil {
+		return nil, err
+	}
+	sortRightmost(s)
+	r := objects.SpectrumReport(op.Label, n, s, what)
+	if !nearSet && o.ShiftInvert {
+		r.Notes = append(r.Notes, fmt.Sprintf("the rightmost eigenvalues are computed as those nearest σ = ω(A) + 10⁻³(1 + |ω(A)|) = %s ≥ α(A); with eigenvalues far up the imaginary axis, give near= to choose the shift", value.FormatNum(o.Shift)))
+	}
+	return r, nil
+}
+
+// hasSparseForm reports whether the operator has an explicit sparse form,
+// so that shift-and-invert costs one sparse factorisation.
+func hasSparseForm(op *objects.Operator) bool {
+	switch op.Op.(type) {
+	case *linop.CSR, linop.Sparser:
+		return true
+	}
+	return false
+}
+
+// sortRightmost orders a Krylov spectrum by decreasing real part, then
+// decreasing imaginary part, keeping the residuals with their values.
+func sortRightmost(s *spectra.Spectrum) {
+	idx := make([]int, len(s.Values))
+	for i := range idx {
+		idx[i] = i
+	}
+	sort.SliceStable(idx, func(a, b int) bool {
+		x, y := s.Values[idx[a]], s.Values[idx[b]]
+		if real(x) != real(y) {
+			return real(x) > real(y)
+		}
+		return imag(x) > imag(y)
+	})
+	vals := make([]complex128, len(idx))
+	var res []float64
+	for k, i := range idx {
+		vals[k] = s.Values[i]
+		if i < len(s.Residual) {
+			res = append(res, s.Residual[i])
+		}
+	}
+	s.Values, s.Residual = vals, res
+}
+
+// stabSelectEigen keeps k eigenvalues of a dense spectrum: the rightmost (the
+// order of s), or those nearest σ by distance, then by decreasing real
+// part. The abscissa stays that of the whole spectrum.
+func stabSelectEigen(s *spectra.Spectrum, k int, near bool, sigma float64) *spectra.Spectrum {
+	idx := make([]int, len(s.Values))
+	for i := range idx {
+		idx[i] = i
+	}
+	if near {
+		sort.SliceStable(idx, func(a, b int) bool {
+			return cmplx.Abs(s.Values[idx[a]]-complex(sigma, 0)) < cmplx.Abs(s.Values[idx[b]]-complex(sigma, 0))-1e-14
+		})
+	}
+	idx = idx[:k]
+	out := &spectra.Spectrum{Abscissa: s.Abscissa, Accuracy: s.Accuracy,
+		Method: s.Method + "; selected from the whole dense spectrum"}
+	for _, i := range idx {
+		out.Values = append(out.Values, s.Values[i])
+		if i < len(s.Cond) {
+			out.Cond = append(out.Cond, s.Cond[i])
+		}
+	}
+	return out
+}
+
+func abscissaImpl(c *eval.Call) (value.Value, error) {
+	op, n, err := stabOpArg(c, 0)
+	if err != nil {
+		return nil, err
+	}
+	q := &objects.Quantity{Symbol: "α(A)", What: "spectral abscissa max Re λ"}
+	if n <= DenseLimit {
+		var s *spectra.Spectrum
+		if err := stabGuard(c, func() (e error) { s, e = spectra.DenseSpectrum(op.Op); return }); err != nil {
+			return nil, err
+		}
+		q.X = value.Num(s.Abscissa)
+		q.Method, q.Accuracy = s.Method, s.Accuracy
+		return q, nil
+	}
+	var s *spectra.Spectrum
+	var w float64
+	err = stabGuard(c, func() (e error) {
+		if w, e = spectra.NumericalAbscissa(op.Op, nil); e != nil {
+			return e
+		}
+		sigma := w + 1e-3*(1+math.Abs(w))
+		s, e = spectra.Rightmost(c.Ctx, op.Op, &spectra.EigsOptions{Count: 4, ShiftInvert: true, Shift: sigma, Progress: stabProgress(c)})
+		return e
+	})
+	if err != nil {
+		return nil, err
+	}
+	q.X = value.Num(s.Abscissa)
+	q.Method = fmt.Sprintf("rightmost of the 4 eigenvalues nearest σ = ω(A) + 10⁻³(1 + |ω(A)|) = %s ≥ α(A), by shift-and-invert Krylov–Schur", value.FormatNum(w+1e-3*(1+math.Abs(w))))
+	q.Accuracy = s.Accuracy
+	return q, nil
+}
+
+func numrangeImpl(c *eval.Call) (value.Value, error) {
+	op, n, err := stabOpArg(c, 0)
+	if err != nil {
+		return nil, err
+	}
+	if err := stabNeedDense(c, n, "numabscissa gives ω(A) for large operators"); err != nil {
+		return nil, err
+	}
+	w, _, err := stabWeightArg(c, 1, op, n)
+	if err != nil {
+		return nil, err
+	}
+	pts, err := stabCountArg(c, 2, 3, 4096)
+	if err != nil {
+		return nil, err
+	}
+	var nr *spectra.NumericalRange
+	var eigs []complex128
+	err = stabGuard(c, func() (e error) {
+		if nr, e = spectra.NumRange(op.Op, w, pts); e != nil {
+			return e
+		}
+		s, e := spectra.DenseSpectrum(op.Op)
+		if e == nil {
+			eigs = s.Values
+		}
+		return nil
+	})
+	if err != nil {
+		return nil, err
+	}
+	return objects.NumRangeReport(op.Label, n, nr, eigs), nil
+}
+
+func numabscissaImpl(c *eval.Call) (value.Value, error) {
+	op, n, err := stabOpArg(c, 0)
+	if err != nil {
+		return nil, err
+	}
+	w, ip, err := stabWeightArg(c, 1, op, n)
+	if err != nil {
+		return nil, err
+	}
+	var om float64
+	if err := stabGuard(c, func() (e error) { om, e = spectra.NumericalAbscissa(op.Op, w); return }); err != nil {
+		return nil, err
+	}
+	q := &objects.Quantity{X: value.Num(om), Symbol: "ω(A)", What: "numerical abscissa λmax((A + A*)/2), " + ip}
+	if w != nil {
+		q.Symbol, q.What = "ω_W(A)", "numerical abscissa λmax((B + Bᵀ)/2), B = RAR⁻¹, W = RᵀR, "+ip
+	}
+	if n <= DenseLimit {
+		q.Method = "largest eigenvalue of the symmetric part (dense symmetric QR)"
+		q.Accuracy = "about 1e-15·‖A‖"
+	} else {
+		q.Method = "largest eigenvalue of the symmetric part by Lanczos (shift-and-invert when A is sparse)"
+		q.Accuracy = "Ritz residual below 1e-10·|ω|"
+	}
+	return q, nil
+}
+
+func pseudospectrumImpl(c *eval.Call) (value.Value, error) {
+	op, n, err := stabOpArg(c, 0)
+	if err != nil {
+		return nil, err
+	}
+	re0, re1, reSet, err := stabIntervalArg(c, 1)
+	if err != nil {
+		return nil, err
+	}
+	im0, im1, imSet, err := stabIntervalArg(c, 2)
+	if err != nil {
+		return nil, err
+	}
+	levels, _, err := stabRealsArg(c, 3)
+	if err != nil {
+		return nil, err
+	}
+	if len(levels) == 0 {
+		return nil, value.ValueErrorf("pseudospectrum: levels must hold at least one ε > 0")
+	}
+	for _, e := range levels {
+		if !(e > 0) {
+			return nil, value.ValueErrorf("pseudospectrum: every level ε must be positive, not %s", value.FormatNum(e))
+		}
+	}
+	m, err := stabCountArg(c, 4, 2, 400)
+	if err != nil {
+		return nil, err
+	}
+	dense := n <= DenseLimit
+	if (!reSet || !imSet) && !dense {
+		return nil, value.ValueErrorf("pseudospectrum: for order %d (above %d) give the region re=[a, b] and im=[c, d]", n, DenseLimit)
+	}
+	if !reSet || !imSet {
+		var nr *spectra.NumericalRange
+		if err := stabGuard(c, func() (e error) { nr, e = spectra.NumRange(op.Op, nil, 64); return }); err != nil {
+			return nil, err
+		}
+		lo, hi, blo, bhi := math.Inf(1), math.Inf(-1), math.Inf(1), math.Inf(-1)
+		for _, z := range nr.Boundary {
+			lo, hi = math.Min(lo, real(z)), math.Max(hi, real(z))
+			blo, bhi = math.Min(blo, imag(z)), math.Max(bhi, imag(z))
+		}
+		// The sampled boundary lies inside W(A); the support values bound it.
+		pad := 0.0
+		for _, l := range levels {
+			pad = math.Max(pad, l)
+		}
+		pad += 0.02 * math.Max(hi-lo, bhi-blo)
+		if pad == 0 {
+			pad = 1
+		}
+		if !reSet {
+			re0, re1 = lo-pad, hi+pad
+		}
+		if !imSet {
+			im0, im1 = blo-pad, bhi+pad
+		}
+	}
+	reg := spectra.Region{Re0: re0, Re1: re1, Im0: im0, Im1: im1, NRe: m, NIm: m}
+	opts := &spectra.GridOptions{Levels: levels, Progress: stabProgress(c)}
+	var ps *spectra.Pseudospectra
+	alpha := make([]float64, len(levels))
+	pts := make([]complex128, len(levels))
+	how := ""
+	err = stabGuard(c, func() (e error) {
+		if dense {
+			if ps, e = spectra.Pseudo(c.Ctx, op.Op, reg, opts); e != nil {
+				return e
+			}
+			for k, eps := range levels {
+				a, e := spectra.PseudoAbscissa(c.Ctx, op.Op, eps)
+				if e != nil {
+					return e
+				}
+				alpha[k], pts[k] = a.Alpha, a.Z
+				how = a.Method
+			}
+			return nil
+		}
+		if ps, e = spectra.PseudoKrylov(c.Ctx, op.Op, reg, min(100, n-1), opts); e != nil {
+			return e
+		}
+		for k, eps := range levels {
+			alpha[k], pts[k] = math.NaN(), complex(math.NaN(), 0)
+			for i, x := range ps.Re {
+				for j, y := range ps.Im {
+					if ps.At(i, j) <= eps && !(x <= alpha[k]) {
+						alpha[k], pts[k] = x, complex(x, y)
+					}
+				}
+			}
+		}
+		how = "rightmost grid point with σ_min ≤ ε (Krylov approximation from inside: a lower estimate, at most one grid step accurate; nan when no grid point is in σ_ε)"
+		return nil
+	})
+	if err != nil {
+		return nil, err
+	}
+	return objects.PseudoReport(op.Label, n, ps, alpha, pts, how), nil
+}
+
+func psabscissaImpl(c *eval.Call) (value.Value, error) {
+	op, n, err := stabOpArg(c, 0)
+	if err != nil {
+		return nil, err
+	}
+	eps, err := stabRealArg(c, 1)
+	if err != nil {
+		return nil, err
+	}
+	if !(eps > 0) {
+		return nil, value.ValueErrorf("psabscissa: eps must be positive, not %s", value.FormatNum(eps))
+	}
+	if err := stabNeedDense(c, n, "pseudospectrum with re and im gives a Krylov estimate"); err != nil {
+		return nil, err
+	}
+	var a *spectra.AbscissaResult
+	if err := stabGuard(c, func() (e error) { a, e = spectra.PseudoAbscissa(c.Ctx, op.Op, eps); return }); err != nil {
+		return nil, err
+	}
+	return &objects.Quantity{X: value.Num(a.Alpha), Symbol: "α_ε(A)", What: "ε-pseudospectral abscissa, ε = " + value.FormatNum(eps),
+		Where: "attained at z = " + value.FormatComplex(a.Z), Method: a.Method, Accuracy: a.Accuracy}, nil
+}
+
+// stabSingularTol is the relative σ_min below which zI − A counts as singular.
+const stabSingularTol = 1e-14
+
+func resolventImpl(c *eval.Call) (value.Value, error) {
+	op, n, err := stabOpArg(c, 0)
+	if err != nil {
+		return nil, err
+	}
+	z, err := stabComplexArg(c, 1)
+	if err != nil {
+		return nil, err
+	}
+	zs := value.FormatComplex(z)
+	if imag(z) == 0 {
+		zs = value.FormatNum(real(z))
+	}
+	data, _ := c.Arg(2)
+	if data != value.None {
+		var b []complex128
+		switch t := data.(type) {
+		case *value.Vec:
+			b = t.Complex128()
+		case *value.Range:
+			b = t.Vec().Complex128()
+		default:
+			return nil, value.TypeErrorf("resolvent: data must be a vector, not %s", value.TypeName(data))
+		}
+		if len(b) != n {
+			return nil, value.ValueErrorf("resolvent: data has %d entries but A has order %d", len(b), n)
+		}
+		var x []complex128
+		var res float64
+		err := stabGuardRaw(c, func() (e error) { x, res, e = spectra.ResolventApply(op.Op, z, b); return })
+		var ve *value.Error
+		switch {
+		case err == nil:
+		case errors.As(err, &ve), errors.Is(err, context.Canceled), errors.Is(err, memguard.ErrTooLarge):
+			return nil, stabNumErr(c, err)
+		default:
+			return nil, value.Errorf("NumericalError", "resolvent: zI − A is singular at z = %s: z is an eigenvalue of A or within rounding of one (%s)", zs, strings.TrimPrefix(err.Error(), "spectra: "))
+		}
+		if !(res <= 1e-6) {
+			return nil, value.Errorf("NumericalError", "resolvent: zI − A is numerically singular at z = %s: relative residual %s after refinement", zs, value.FormatNum(res))
+		}
+		for i := range x {
+			x[i] = stabCleanPart(x[i])
+		}
+		return value.ComplexVec(x), nil
+	}
+	if err := stabNeedDense(c, n, "data=v gives (zI − A)⁻¹v for any order"); err != nil {
+		return nil, err
+	}
+	var s *spectra.Schur
+	if err := stabGuard(c, func() (e error) { s, e = spectra.NewSchur(op.Op); return }); err != nil {
+		return nil, err
+	}
+	nrm := s.ResolventNorm(z)
+	scale := 1.0
+	for i := 0; i < n; i++ {
+		for j := i; j < n; j++ {
+			scale = math.Max(scale, cmplx.Abs(s.T[i*n+j]))
+		}
+	}
+	scale = math.Max(scale, cmplx.Abs(z))
+	if math.IsInf(nrm, 1) || math.IsNaN(nrm) || 1/nrm <= stabSingularTol*scale {
+		return nil, value.Errorf("NumericalError", "resolvent: zI − A is singular at z = %s: z is an eigenvalue of A (σ_min(zI − A) = %s)", zs, value.FormatNum(1/nrm))
+	}
+	return &objects.Quantity{X: value.Num(nrm), Symbol: "‖(zI − A)⁻¹‖₂", What: "resolvent norm at z = " + zs,
+		Method:   "1/σ_min(zI − T) by inverse Lanczos on the complex Schur form A = ZTZᴴ (no balancing)",
+		Accuracy: "relative about 1e-10"}, nil
+}
+
+// stabCleanPart sets to 0 a part of z below 1e-15 of |z| (rounding noise).
+func stabCleanPart(z complex128) complex128 {
+	a := cmplx.Abs(z)
+	re, im := real(z), imag(z)
+	if math.Abs(re) <= 1e-15*a {
+		re = 0
+	}
+	if math.Abs(im) <= 1e-15*a {
+		im = 0
+	}
+	return complex(re, im)
+}
+
+func resolventlineImpl(c *eval.Call) (value.Value, error) {
+	op, n, err := stabOpArg(c, 0)
+	if err != nil {
+		return nil, err
+	}
+	x, err := stabRealArg(c, 1)
+	if err != nil {
+		return nil, err
+	}
+	im0, im1, imSet, err := stabIntervalArg(c, 2)
+	if err != nil {
+		return nil, err
+	}
+	m, err := stabCountArg(c, 3, 2, 100000)
+	if err != nil {
+		return nil, err
+	}
+	if err := stabNeedDense(c, n, ""); err != nil {
+		return nil, err
+	}
+	var s *spectra.Schur
+	if err := stabGuard(c, func() (e error) { s, e = spectra.NewSchur(op.Op); return }); err != nil {
+		return nil, err
+	}
+	if !imSet {
+		r := 1.0
+		for _, z := range s.Eigenvalues() {
+			r = math.Max(r, cmplx.Abs(z))
+		}
+		im0, im1 = -1.5*r, 1.5*r
+	}
+	var p *spectra.ResolventProfile
+	err = stabGuard(c, func() (e error) {
+		p, e = s.ResolventLine(c.Ctx, x, im0, im1, m, &spectra.GridOptions{Progress: stabProgress(c)})
+		return
+	})
+	if err != nil {
+		return nil, err
+	}
+	return objects.ResolventLineReport(op.Label, n, x, p), nil
+}
+
+// stabGrowthEps are the levels of the lower bounds α_ε/ε in growth.
+var stabGrowthEps = []float64{1e-1, 1e-2, 1e-3}
+
+func growthImpl(c *eval.Call) (value.Value, error) {
+	op, n, err := stabOpArg(c, 0)
+	if err != nil {
+		return nil, err
+	}
+	ts, _, err := stabRealsArg(c, 1)
+	if err != nil {
+		return nil, err
+	}
+	if len(ts) == 0 {
+		return nil, value.ValueErrorf("growth: t must hold at least one time")
+	}
+	for _, t := range ts {
+		if t < 0 {
+			return nil, value.ValueErrorf("growth: the times must be ≥ 0, not %s", value.FormatNum(t))
+		}
+	}
+	var g *spectra.Growth
+	err = stabGuard(c, func() (e error) {
+		if n <= DenseLimit {
+			g, e = spectra.GrowthCurve(c.Ctx, op.Op, ts, &spectra.GrowthOptions{Eps: stabGrowthEps, Progress: stabProgress(c)})
+		} else {
+			if g, e = spectra.GrowthEstimate(c.Ctx, op.Op, ts, 0, 0, stabProgress(c)); e != nil {
+				return e
+			}
+			// The slopes the estimate leaves out, by the sparse methods.
+			w, e := spectra.NumericalAbscissa(op.Op, nil)
+			if e != nil {
+				return e
+			}
+			g.InitialSlope = w
+			if hasSparseForm(op) {
+				s, e := spectra.Rightmost(c.Ctx, op.Op, &spectra.EigsOptions{Count: 4, ShiftInvert: true, Shift: w + 1e-3*(1+math.Abs(w))})
+				if e != nil {
+					return e
+				}
+				g.Abscissa = s.Abscissa
+			}
+		}
+		return
+	})
+	if err != nil {
+		return nil, err
+	}
+	if g.Kreiss != nil && g.Kreiss.K < 1 {
+		h := *g
+		h.Kreiss = stabKreissFloor(g.Kreiss)
+		h.Upper = math.E * float64(n) * h.Kreiss.K
+		g = &h
+	}
+	return objects.GrowthReport(op.Label, n, g), nil
+}
+
+func kreissImpl(c *eval.Call) (value.Value, error) {
+	op, n, err := stabOpArg(c, 0)
+	if err != nil {
+		return nil, err
+	}
+	if err := stabNeedDense(c, n, ""); err != nil {
+		return nil, err
+	}
+	var k *spectra.KreissResult
+	if err := stabGuard(c, func() (e error) { k, e = spectra.Kreiss(c.Ctx, op.Op); return }); err != nil {
+		return nil, err
+	}
+	atInf := k.K < 1
+	k = stabKreissFloor(k)
+	q := &objects.Quantity{X: value.Num(k.K), Symbol: "K(A)", What: "Kreiss constant sup_{Re z > 0} Re z ‖(zI − A)⁻¹‖₂",
+		Method: k.Method, Accuracy: k.Accuracy}
+	switch {
+	case atInf:
+		q.Where = fmt.Sprintf("attained as z → +∞ (x‖(xI − A)⁻¹‖ → 1); K ≤ sup ‖e^{tA}‖ ≤ e·N·K = %s", value.FormatNum(math.E*float64(n)*k.K))
+	case !math.IsInf(k.K, 1):
+		q.Where = "attained near z = " + objects.Approx(k.Z) + fmt.Sprintf("; K ≤ sup ‖e^{tA}‖ ≤ e·N·K = %s", value.FormatNum(math.E*float64(n)*k.K))
+	default:
+		q.Where = "α(A) ≥ 0: the resolvent norm is unbounded in the right half plane"
+	}
+	return q, nil
+}
+
+// stabKreissFloor applies K(A) ≥ lim_{x→+∞} x‖(xI − A)⁻¹‖ = 1 (x(xI − A)⁻¹ →
+// I), which a search over a bounded range of Re z can miss: for a normal
+// A with α(A) < 0 the supremum 1 is approached only as z → +∞.
+func stabKreissFloor(k *spectra.KreissResult) *spectra.KreissResult {
+	if !(k.K < 1) {
+		return k
+	}
+	out := *k
+	out.K = 1
+	out.Z = complex(math.Inf(1), 0)
+	out.Method += "; raised to the limit 1 = lim_{x→+∞} x‖(xI − A)⁻¹‖, which exceeds the searched values"
+	return &out
+}
+
+func generatorImpl(c *eval.Call) (value.Value, error) {
+	op, n, err := stabOpArg(c, 0)
+	if err != nil {
+		return nil, err
+	}
+	w, ip, err := stabWeightArg(c, 1, op, n)
+	if err != nil {
+		return nil, err
+	}
+	if n > DenseLimit && w != nil {
+		return nil, value.ValueErrorf("generator: a weight needs the dense methods (order ≤ %d); A has order %d", DenseLimit, n)
+	}
+	if n > DenseLimit {
+		if _, ok := op.Op.(linop.Sparser); !ok {
+			if _, ok := op.Op.(*linop.CSR); !ok {
+				return nil, value.ValueErrorf("generator: A has order %d and no sparse form; the dense methods are limited to order %d", n, DenseLimit)
+			}
+		}
+	}
+	var g *spectra.GeneratorReport
+	err = stabGuard(c, func() (e error) {
+		g, e = spectra.Generator(c.Ctx, op.Op, &spectra.GeneratorOptions{Weight: w, Progress: stabProgress(c)})
+		return
+	})
+	if err != nil {
+		return nil, err
+	}
+	return objects.GeneratorReport(op.Label, ip, g), nil
+}
+
+func markovImpl(c *eval.Call) (value.Value, error) {
+	op, n, err := stabOpArg(c, 0)
+	if err != nil {
+		return nil, err
+	}
+	if err := stabNeedDense(c, n, ""); err != nil {
+		return nil, err
+	}
+	var m *spectra.MarkovReport
+	err = stabGuardRaw(c, func() (e error) { m, e = spectra.Markov(c.Ctx, op.Op); return })
+	var ve *value.Error
+	switch {
+	case err == nil:
+	case errors.As(err, &ve), errors.Is(err, context.Canceled), errors.Is(err, memguard.ErrTooLarge):
+		return nil, stabNumErr(c, err)
+	default:
+		why := strings.TrimPrefix(strings.TrimPrefix(err.Error(), "spectra: "), "not a rate matrix: ")
+		return nil, value.ValueErrorf("markov: Q is not the rate matrix of a Markov chain with a unique stationary distribution (q_ij ≥ 0 for i ≠ j, rows summing to 0): %s", why)
+	}
+	return objects.MarkovReport(op.Label, m), nil
+}
