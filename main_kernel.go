@@ -47,13 +47,10 @@ func cmdKernel(args []string) int {
 		return 1
 	}
 	k, err := kernel.New(kernel.Config{
-		Conn:    ci,
-		Eval:    langEvaluator{run.NewSession()},
-		Version: version,
-		Banner:  "Semiflow " + version + " — linear evolution operators and their semigroups",
-		HelpLinks: []kernel.HelpLink{
-			{Text: "Semiflow language reference", URL: "https://semiflow.invalid/docs/reference"},
-		},
+		Conn:            ci,
+		Eval:            langEvaluator{run.NewSession()},
+		Version:         version,
+		Banner:          "Semiflow " + version + " — linear evolution operators and their semigroups",
 		HandleInterrupt: true,
 	})
 	if err != nil {

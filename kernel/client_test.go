@@ -3,7 +3,6 @@ package kernel
 import (
 	"context"
 	"encoding/json"
-	"io"
 	"sync"
 	"testing"
 	"time"
@@ -15,7 +14,7 @@ import (
 
 // client is a loopback Jupyter client over real zmq4 sockets.
 type client struct {
-	t       *testing.T
+	t       testing.TB
 	signer  *wire.Signer
 	session string
 	ctx     context.Context
@@ -35,7 +34,7 @@ type recvd struct {
 }
 
 // startKernel runs a kernel on free loopback ports with a fake evaluator.
-func startKernel(t *testing.T, tweak func(*Config)) (*Kernel, *client, chan bool) {
+func startKernel(t testing.TB, tweak func(*Config)) (*Kernel, *client, chan bool) {
 	t.Helper()
 	cfg := Config{
 		Conn:    wire.ConnectionInfo{Transport: "tcp", IP: "127.0.0.1", Key: "secret-key", SignatureScheme: "hmac-sha256"},
@@ -69,14 +68,14 @@ func startKernel(t *testing.T, tweak func(*Config)) (*Kernel, *client, chan bool
 	return k, c, done
 }
 
-type testLog struct{ t *testing.T }
+type testLog struct{ t testing.TB }
 
 func (l testLog) Write(p []byte) (int, error) {
 	l.t.Log(string(p))
 	return len(p), nil
 }
 
-func dial(t *testing.T, ci wire.ConnectionInfo) *client {
+func dial(t testing.TB, ci wire.ConnectionInfo) *client {
 	t.Helper()
 	ctx, cancel := context.WithCancel(context.Background())
 	c := &client{t: t, signer: wire.NewSigner(ci.Key), session: wire.NewID(), ctx: ctx, cancel: cancel}
@@ -259,5 +258,3 @@ func types(ms []*wire.Message) []string {
 	}
 	return s
 }
-
-var _ = io.Discard

@@ -11,7 +11,7 @@ import (
 )
 
 // dialWithID is a client with only a shell socket of the given identity.
-func dialWithID(t *testing.T, ci wire.ConnectionInfo, id string) *client {
+func dialWithID(t testing.TB, ci wire.ConnectionInfo, id string) *client {
 	t.Helper()
 	ctx, cancel := context.WithCancel(context.Background())
 	c := &client{t: t, signer: wire.NewSigner(ci.Key), session: wire.NewID(), ctx: ctx, cancel: cancel}
