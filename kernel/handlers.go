@@ -21,18 +21,25 @@ func (k *Kernel) executor() {
 			q, k.pending = k.pending[0], k.pending[1:]
 		} else {
 			select {
-			case m := <-k.queue:
-				q = queued{m: m}
+			case q = <-k.queue:
 			case <-k.ctx.Done():
 				return
 			}
 		}
-		k.handle(k.shell, q.m, q.abort)
+		k.handle(q.s, q.m, q.abort)
 	}
 }
 
 // handleControl serves the control channel directly, ahead of the queue.
+// Requests that touch the session (execute, complete, inspect, is_complete,
+// history) join the execution queue instead, so that the control channel
+// stays free for interrupts; their replies still go out on control.
 func (k *Kernel) handleControl(m *wire.Message) {
+	switch m.Header.MsgType {
+	case wire.ExecuteRequest, wire.CompleteRequest, wire.InspectRequest, wire.IsCompleteRequest, wire.HistoryRequest:
+		k.enqueue(k.control, m)
+		return
+	}
 	if m.Header.MsgType == wire.InterruptRequest {
 		k.publish(m, wire.Status, map[string]any{"execution_state": "busy"})
 		k.Interrupt()
@@ -238,8 +245,8 @@ func (k *Kernel) userExpression(expr string) map[string]any {
 func (k *Kernel) abortQueued() {
 	for {
 		select {
-		case m := <-k.queue:
-			k.pending = append(k.pending, queued{m: m})
+		case q := <-k.queue:
+			k.pending = append(k.pending, q)
 		default:
 			for i := range k.pending {
 				if k.pending[i].m.Header.MsgType == wire.ExecuteRequest {

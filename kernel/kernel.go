@@ -78,7 +78,7 @@ type Kernel struct {
 	ctx    context.Context
 	cancel context.CancelFunc
 
-	queue   chan *wire.Message
+	queue   chan queued
 	pending []queued // drained behind a failure; executed or aborted first
 	iopubCh chan [][]byte
 	iopubWG sync.WaitGroup
@@ -99,6 +99,7 @@ type Kernel struct {
 
 type queued struct {
 	m     *wire.Message
+	s     *sock // where the reply goes
 	abort bool
 }
 
@@ -134,7 +135,7 @@ func New(cfg Config) (*Kernel, error) {
 		session:  wire.NewID(),
 		ident:    wire.NewID(),
 		log:      log.New(cfg.Log, "semiflow kernel: ", log.LstdFlags|log.Lmicroseconds),
-		queue:    make(chan *wire.Message, 256),
+		queue:    make(chan queued, 256),
 		iopubCh:  make(chan [][]byte, cfg.IOPubQueue),
 		shutdown: make(chan bool, 1),
 	}
@@ -223,12 +224,7 @@ func (k *Kernel) Run(ctx context.Context) (restart bool, err error) {
 	k.iopubWG.Add(1)
 	go k.iopubLoop()
 	go k.heartbeat()
-	go k.readLoop(k.shell, func(m *wire.Message) {
-		select {
-		case k.queue <- m:
-		case <-k.ctx.Done():
-		}
-	})
+	go k.readLoop(k.shell, func(m *wire.Message) { k.enqueue(k.shell, m) })
 	go k.readLoop(k.control, k.handleControl)
 	go k.readLoop(k.stdin, func(m *wire.Message) {
 		k.log.Printf("stdin: ignoring %s (allow_stdin is not supported)", m.Header.MsgType)
@@ -250,6 +246,14 @@ func (k *Kernel) Run(ctx context.Context) (restart bool, err error) {
 	time.Sleep(50 * time.Millisecond)
 	k.closeSockets()
 	return restart, err
+}
+
+// enqueue puts a request on the execution queue; its reply goes to s.
+func (k *Kernel) enqueue(s *sock, m *wire.Message) {
+	select {
+	case k.queue <- queued{m: m, s: s}:
+	case <-k.ctx.Done():
+	}
 }
 
 // Interrupt cancels the running cell, if any. It is what interrupt_request

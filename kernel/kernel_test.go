@@ -367,6 +367,25 @@ func TestInterruptRequest(t *testing.T) {
 	}
 }
 
+// A session request sent on control while a cell runs waits in the queue
+// and does not block the control channel: the interrupt still gets through.
+func TestControlExecuteDoesNotBlockInterrupt(t *testing.T) {
+	_, c, _ := startKernel(t, nil)
+	long := exec("sleep 60000")
+	long["stop_on_error"] = false
+	id := c.send(c.shell, wire.ExecuteRequest, long)
+	c.waitFor(func(r recvd) bool { return r.pid == id && r.m.Header.MsgType == wire.ExecuteInput }, wait)
+	ctl := c.send(c.control, wire.ExecuteRequest, exec("on control"))
+	time.Sleep(20 * time.Millisecond)
+	sent := time.Now()
+	c.reply(c.send(c.control, wire.InterruptRequest, map[string]any{}), wait)
+	checkInterrupted(t, c, id, sent)
+	r := c.waitFor(func(r recvd) bool { return r.from == "control" && r.pid == ctl }, wait)
+	if r == nil || content(r)["status"] != "ok" {
+		t.Fatalf("execute on control: %v", r)
+	}
+}
+
 func TestInterruptSIGINT(t *testing.T) {
 	_, c, _ := startKernel(t, func(cfg *Config) { cfg.HandleInterrupt = true })
 	id := c.send(c.shell, wire.ExecuteRequest, exec("sleep 60000"))
