@@ -43,7 +43,7 @@ var propagateFamily = []*Builtin{
 		Name: "propagate",
 		Params: []value.Param{
 			req("A", "the generator: a square operator or matrix"),
-			req("u0", "the initial value: a vector, or a function of x (x, y) sampled on A's grid"),
+			req("u0", "the initial value: a vector, a number (constant), or a function of x (x, y) sampled on A's grid"),
 			req("t", "the output times t ≥ 0: a number, vector or range"),
 			opt("method", value.Str(expo.MethodAuto), `"auto", "dense", "taylor", "krylov", "contour", "resolvent-powers" or "kronecker"`),
 			opt("tol", value.Num(1e-8), "relative accuracy asked: ‖error‖∞ ≲ tol·‖u0‖∞"),
@@ -208,6 +208,8 @@ func propagateImpl(c *eval.Call) (value.Value, error) {
 			return nil, value.TypeErrorf("propagate: u0 must be real; propagate the real and imaginary parts separately")
 		}
 		u0 = append([]float64(nil), re...)
+	case value.Num:
+		u0 = constVec(n, float64(v))
 	case value.Callable:
 		if a.Grid == nil {
 			return nil, value.TypeErrorf("propagate: u0 is a function but the operator has no grid to sample it on; give a vector")
@@ -216,7 +218,7 @@ func propagateImpl(c *eval.Call) (value.Value, error) {
 			return nil, err
 		}
 	default:
-		return nil, value.TypeErrorf("propagate: u0 must be a vector (or a function on the operator's grid), not %s", value.TypeName(v))
+		return nil, value.TypeErrorf("propagate: u0 must be a vector, a number or a function on the operator's grid, not %s", value.TypeName(v))
 	}
 	if len(u0) != n {
 		return nil, value.ValueErrorf("propagate: the operator is %d×%d but u0 has %d entries", n, n, len(u0))
