@@ -136,7 +136,7 @@ var stabilityFamily = []*Builtin{
 			opt("n", value.Num(200), "number of points, ≥ 2"),
 		},
 		Doc: "The resolvent norm ‖(zI − A)⁻¹‖₂ along the vertical line Re z = re at n equally spaced points Im z ∈ im, from one Schur form (inverse Lanczos at each point; order ≤ 1500). " +
-			"For re > 0, re · max ‖(zI − A)⁻¹‖ is a lower bound of the Kreiss constant, and by Hille–Yosida sup_{Re z = c} ‖(zI − A)⁻¹‖ ≤ M/(c − ω) when ‖e^{tA}‖ ≤ M e^{ωt}, c > ω. Table and figure on a logarithmic axis.",
+			"For re > 0, re · max ‖(zI − A)⁻¹‖ is a lower bound of the Kreiss constant, and by Hille–Yosida sup_{Re z = c} ‖(zI − A)⁻¹‖ ≤ M/(c − ω) when ‖e^{tA}‖ ≤ M e^{ωt}, c > ω. Table and figure (logarithmic axis when the norms span a factor 10).",
 		Examples: []Example{
 			{"r = resolventline({-1, 0 | 0, -1}, 0, im=[-1, 1], n=3); r[1, 1]", "1"},
 		},
@@ -149,7 +149,7 @@ var stabilityFamily = []*Builtin{
 			opt("t", rangeDefault{&value.Range{Lo: 0, Hi: 10, Step: 0.1, N: 101}}, "the times t ≥ 0: a range, vector or list"),
 		},
 		Doc: "The transient growth curve ‖e^{tA}‖₂ at the times t, with its peak (refined between samples) and the optimal initial condition u0 (‖u0‖ = 1, ‖e^{t*A}u0‖ = peak), and the bounds: the initial slope ω(A) = λmax((A + Aᵀ)/2), the asymptotic rate α(A), the Kreiss constant K ≤ sup_t ‖e^{tA}‖ ≤ e·N·K (Spijker 1991) and α_ε/ε ≤ sup_t ‖e^{tA}‖ for ε = 0.1, 0.01, 0.001. " +
-			"For order ≤ 1500, e^{tA} by scaling and squaring and its largest singular value; above, a Lanczos estimate on e^{tAᵀ}e^{tA} (a lower bound up to the propagation error, no Kreiss or α_ε bounds). Table of (t, ‖e^{tA}‖) and a figure on a logarithmic axis with the bounds as horizontal lines.",
+			"For order ≤ 1500, e^{tA} by scaling and squaring and its largest singular value; above, a Lanczos estimate on e^{tAᵀ}e^{tA} (a lower bound up to the propagation error, no Kreiss or α_ε bounds). Table of (t, ‖e^{tA}‖) and a figure (logarithmic axis when the values span a factor 10) with the bounds as horizontal lines and the initial slope e^{ωt}.",
 		Examples: []Example{
 			{"g = growth({-1, 0 | 0, -2}, t=[0, 1]); g[1, 1]", "0.3678794412"},
 		},
@@ -1082,7 +1082,43 @@ func generatorImpl(c *eval.Call) (value.Value, error) {
 	if err != nil {
 		return nil, err
 	}
-	return objects.GeneratorReport(op.Label, ip, g), nil
+	r := objects.GeneratorReport(op.Label, ip, g)
+	if n <= DenseLimit && looksLikeRates(op) {
+		r.Notes = append(r.Notes, "A has the form of a rate matrix (q_ij ≥ 0 off the diagonal, rows summing to 0): markov(A) reports the chain; its probability row vectors evolve by p' = pA, i.e. by the adjoint of A acting on columns")
+	}
+	return r, nil
+}
+
+// looksLikeRates reports whether the dense form of A has non-negative
+// off-diagonal entries and zero row sums (to 1e-12 of the largest entry).
+func looksLikeRates(op *objects.Operator) bool {
+	d, err := linop.ToDense(op.Op)
+	if err != nil {
+		return false
+	}
+	n, _ := d.Dims()
+	scale := 0.0
+	for i := 0; i < n; i++ {
+		for j := 0; j < n; j++ {
+			scale = math.Max(scale, math.Abs(d.At(i, j)))
+		}
+	}
+	if scale == 0 {
+		return false
+	}
+	for i := 0; i < n; i++ {
+		sum := 0.0
+		for j := 0; j < n; j++ {
+			if i != j && d.At(i, j) < 0 {
+				return false
+			}
+			sum += d.At(i, j)
+		}
+		if math.Abs(sum) > 1e-12*scale*float64(n) {
+			return false
+		}
+	}
+	return true
 }
 
 func markovImpl(c *eval.Call) (value.Value, error) {

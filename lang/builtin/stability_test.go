@@ -52,7 +52,7 @@ func TestStabilityDisplays(t *testing.T) {
 		{"numrange(A, points=16)", "numerical range", true, []string{"boundary of W(A)", "ω(A) = 1"}},
 		{"pseudospectrum(A, n=24)", "pseudospectra", true, []string{"ε = 0.1", "ε = 0.01", "eigenvalues"}},
 		{"resolventline(A, 0.5, n=20)", "along Re z = 0.5", true, nil},
-		{"growth(A, t=0 .. 4 by 0.25)", "transient growth", true, []string{"upper bound e·N·K", "lower bound Kreiss K", "e^{ωt}"}},
+		{"growth(A, t=0 .. 4 by 0.25)", "transient growth", true, []string{"upper bound e·N·K", "lower bound Kreiss K", "exp(ωt)"}},
 		{"generator(A)", "generator report", false, nil},
 		{"markov({-1, 1 | 3, -3})", "Markov chain", false, nil},
 	}

@@ -191,6 +191,18 @@ func PseudoReport(label string, n int, ps *spectra.Pseudospectra, abscissae []fl
 	return r
 }
 
+// spansDecade reports whether the finite positive values span at least a
+// factor 10, so that a logarithmic axis shows them better than a linear one.
+func spansDecade(x []float64) bool {
+	lo, hi := math.Inf(1), 0.0
+	for _, v := range x {
+		if v > 0 && !math.IsInf(v, 0) {
+			lo, hi = math.Min(lo, v), math.Max(hi, v)
+		}
+	}
+	return hi >= 10*lo
+}
+
 func minFinite(x []float64) float64 {
 	m := math.Inf(1)
 	for _, v := range x {
@@ -222,7 +234,7 @@ func ResolventLineReport(label string, n int, c float64, p *spectra.ResolventPro
 	f := &plot.Figure{Title: "‖(zI − A)⁻¹‖₂ on Re z = " + plot.FormatValue(c), DropNonPositive: true}
 	f.X.Label = "Im z"
 	f.Y.Label = "‖(zI − A)⁻¹‖₂"
-	f.Y.Log = true
+	f.Y.Log = spansDecade(p.Norm)
 	f.AddLine(y, p.Norm, "")
 	f.Legend = plot.LegendNone
 	r.Figure = f
@@ -263,11 +275,11 @@ func GrowthReport(label string, n int, g *spectra.Growth) *Analysis {
 	for k, t := range g.T {
 		r.Rows = append(r.Rows, []value.Value{num(t), num(g.Norm[k])})
 	}
-	f := &plot.Figure{Title: "‖e^{tA}‖₂ for " + label, DropNonPositive: true}
+	f := &plot.Figure{Title: "‖exp(tA)‖₂ for " + label, DropNonPositive: true}
 	f.X.Label = "t"
-	f.Y.Label = "‖e^{tA}‖₂"
-	f.Y.Log = true
-	f.AddLine(g.T, g.Norm, "‖e^{tA}‖₂")
+	f.Y.Label = "‖exp(tA)‖₂"
+	f.Y.Log = spansDecade(append([]float64{g.Upper}, g.Norm...))
+	f.AddLine(g.T, g.Norm, "‖exp(tA)‖₂")
 	// The initial slope: e^{ωt} while it stays below twice the peak.
 	if w := g.InitialSlope; w > 0 && len(g.T) > 1 {
 		var xs, ys []float64
@@ -277,7 +289,7 @@ func GrowthReport(label string, n int, g *spectra.Growth) *Analysis {
 			}
 		}
 		if len(xs) > 1 {
-			f.AddLine(xs, ys, "e^{ωt}, ω = "+plot.FormatValue(w)).Dash = plot.Dashed
+			f.AddLine(xs, ys, "exp(ωt), ω = "+plot.FormatValue(w)).Dash = plot.Dashed
 		}
 	}
 	if lowerName != "" && bestLower > 0 && !math.IsInf(bestLower, 0) {
