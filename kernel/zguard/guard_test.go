@@ -323,3 +323,10 @@ func TestStalledSubscriberBounded(t *testing.T) {
 	}
 	t.Logf("dropped %d of %d messages; heap %d → %d MiB", st.DroppedMessages, n, before.HeapInuse>>20, after.HeapInuse>>20)
 }
+
+func TestDefaultLimits(t *testing.T) {
+	tr := New("tcp", Limits{}, nil)
+	if tr.lim.MaxFrame != 256<<20 || tr.lim.Handshake != 5*time.Second || tr.lim.MaxQueue != 64<<20 {
+		t.Errorf("defaults = %+v", tr.lim)
+	}
+}
