@@ -9,7 +9,7 @@
 set -u
 here="$(cd "$(dirname "$0")" && pwd)"
 root="$(cd "$here/../.." && pwd)"
-py=/usr/bin/python3
+py="${SEMIFLOW_PYTHON:-/usr/bin/python3}" # Debian's, which has the Jupyter modules
 
 if ! "$py" -c 'import jupyter_kernel_test, jupyter_client, jupyter_console, nbclient, nbformat' 2>/dev/null; then
 	echo "run_jupyter_tests: $py lacks jupyter_kernel_test/jupyter_client/jupyter_console/nbclient/nbformat"
