@@ -4,6 +4,7 @@ import (
 	"fmt"
 	"math"
 	"math/cmplx"
+	"sort"
 	"strconv"
 	"strings"
 
@@ -178,15 +179,52 @@ func PseudoReport(label string, n int, ps *spectra.Pseudospectra, abscissae []fl
 	f.X.Min, f.X.Max = re[0], re[len(re)-1]
 	f.Y.Min, f.Y.Max = im[0], im[len(im)-1]
 	levels := make([]float64, len(ps.Contours))
-	lines := make([][]plot.Polyline, len(ps.Contours))
 	for k, c := range ps.Contours {
 		levels[k] = c.Level
-		for _, l := range c.Lines {
-			lines[k] = append(lines[k], plot.Polyline{X: l.Re, Y: l.Im, Closed: l.Closed})
+	}
+	// σ_min as a heat map on a logarithmic colour scale spanning a decade
+	// beyond the levels on either side, so the contours sit inside it. The
+	// contour lines are traced on log₁₀ σ_min (marching squares with linear
+	// interpolation of the logarithm, which varies more evenly than σ).
+	z := make([][]float64, len(re))
+	logz := make([][]float64, len(re))
+	for i := range re {
+		z[i] = ps.Sigma[i*len(im) : (i+1)*len(im)]
+		logz[i] = make([]float64, len(im))
+		for j, v := range z[i] {
+			logz[i][j] = math.Log10(v)
 		}
 	}
-	f.AddContours(levels, lines, "ε")
+	loglev := make([]float64, len(levels))
+	for k, l := range levels {
+		loglev[k] = math.Log10(l)
+	}
+	lines := plot.Contours(logz, re, im, loglev)
+	lo, hi := math.Inf(1), 0.0
+	for _, l := range levels {
+		lo, hi = math.Min(lo, l), math.Max(hi, l)
+	}
+	hm := f.AddHeatMap(z, re[0], re[len(re)-1], im[0], im[len(im)-1], "σ_min(zI − A)")
+	hm.Log, hm.Min, hm.Max = true, lo/10, hi*10
+	cs := f.AddContours(levels, lines, "ε")
+	// Colours that stand out on the heat map: darker for the larger levels
+	// (drawn over the pale part of the map), lighter for the smaller ones.
+	order := make([]int, len(levels))
+	for i := range order {
+		order[i] = i
+	}
+	sort.SliceStable(order, func(a, b int) bool { return levels[order[a]] > levels[order[b]] })
+	contourColors := []string{"#7f0000", "#d7301f", "#fc8d59", "#fdd49e", "#ffffff"}
+	cs.Colors = make([]string, len(levels))
+	for rank, i := range order {
+		cs.Colors[i] = contourColors[min(rank, len(contourColors)-1)]
+	}
 	addEigenvalues(f, ps.Eigenvalues, "eigenvalues")
+	if n := len(f.Series); n > 0 && len(ps.Eigenvalues) > 0 {
+		if p, ok := f.Series[n-1].(*plot.Points); ok {
+			p.Color = "#f0027f"
+		}
+	}
 	r.Figure = f
 	return r
 }

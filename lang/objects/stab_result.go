@@ -37,6 +37,10 @@ type Analysis struct {
 // Fact is one labelled line of a report.
 type Fact struct{ Label, Value string }
 
+// MaxRowsHTML is the number of table rows above which the HTML form shows
+// the first MaxRowsHTML − 50 and the last 50 rows only.
+const MaxRowsHTML = 500
+
 // MaxRowsShown is the number of table rows above which the text/plain form
 // shows the first and last rows only.
 const MaxRowsShown = 20
@@ -209,7 +213,13 @@ func (r *Analysis) MIME() map[string]any {
 			sb.WriteString(`<th>` + e(c) + `</th>`)
 		}
 		sb.WriteString(`</tr></thead><tbody>`)
-		for _, row := range r.Rows {
+		for i, row := range r.Rows {
+			if n := len(r.Rows); n > MaxRowsHTML && i >= MaxRowsHTML-50 && i < n-50 {
+				if i == MaxRowsHTML-50 {
+					fmt.Fprintf(&sb, `<tr><td colspan="%d">⋮ rows %d to %d of %d not shown (index the result for them)</td></tr>`, len(r.Columns), i, n-51, n)
+				}
+				continue
+			}
 			sb.WriteString(`<tr>`)
 			for _, c := range row {
 				sb.WriteString(`<td style="text-align:right">` + e(c.String()) + `</td>`)
