@@ -26,6 +26,7 @@ var families = [][]*Builtin{
 	vectorFamily,
 	objectFamily,
 	stabilityFamily,
+	figureFamily,
 }
 
 // Example is code that must run in a fresh session, and the text/plain of
