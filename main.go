@@ -11,10 +11,12 @@ package main
 import (
 	"fmt"
 	"os"
+
+	"semiflow/lang/display"
 )
 
 // version is the semiflow release recorded in outputs and kernel_info.
-const version = "0.1.0"
+const version = display.Version
 
 func main() {
 	os.Exit(dispatch(os.Args[1:]))

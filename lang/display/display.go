@@ -22,6 +22,24 @@ func Bundle(v value.Value) map[string]any {
 	return b
 }
 
-// Metadata returns the display metadata for v (empty for now; values with
-// figures will report sizes here).
-func Metadata(v value.Value) map[string]any { return map[string]any{} }
+// Version is the semiflow release recorded in every result's metadata.
+const Version = "0.1.0"
+
+// Metadata returns the display metadata for v: under the key "semiflow",
+// the release that computed it, the value's type and, for a
+// value.Recorder, its record (method, tolerance, error estimate, work).
+// Bundle(nil)-like values (nil, None) have empty metadata.
+func Metadata(v value.Value) map[string]any {
+	if v == nil || v == value.None {
+		return map[string]any{}
+	}
+	m := map[string]any{"version": Version, "type": v.Type()}
+	if r, ok := v.(value.Recorder); ok {
+		for k, x := range r.Record() {
+			if k != "version" && k != "type" {
+				m[k] = x
+			}
+		}
+	}
+	return map[string]any{"semiflow": m}
+}

@@ -72,6 +72,45 @@ func (s *Solution) summary() *textTable {
 	return t
 }
 
+// Record is the solution's computation record for the display metadata:
+// method, reason, tolerance, error estimates (∞-norm, one per output time),
+// work and wall time, and the cross-check when one was run.
+func (s *Solution) Record() map[string]any {
+	S := s.S
+	r := map[string]any{
+		"method":       S.Method,
+		"reason":       S.Reason,
+		"tolerance":    S.Tol,
+		"errest":       finiteOrNil(S.MaxErrEst()),
+		"errest_times": finiteList(S.ErrEst),
+		"times":        finiteList(S.Times),
+		"matvecs":      S.MatVecs,
+		"solves":       S.Solves,
+		"seconds":      S.Elapsed.Seconds(),
+		"problem":      s.Problem,
+	}
+	if c := S.Cross; c != nil {
+		r["crosscheck"] = map[string]any{"method": c.Method, "maxdiff": finiteOrNil(c.MaxDiff), "errest": finiteOrNil(c.ErrEst)}
+	}
+	return r
+}
+
+// finiteOrNil keeps JSON valid: nan and ±inf become null.
+func finiteOrNil(x float64) any {
+	if math.IsNaN(x) || math.IsInf(x, 0) {
+		return nil
+	}
+	return x
+}
+
+func finiteList(xs []float64) []any {
+	out := make([]any, len(xs))
+	for i, x := range xs {
+		out[i] = finiteOrNil(x)
+	}
+	return out
+}
+
 // perTime is the table of output times with the error estimates.
 func (s *Solution) perTime() *textTable {
 	t := &textTable{head: []string{"t", "error estimate", "‖u(t)‖∞"}}

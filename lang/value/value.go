@@ -66,6 +66,14 @@ type Displayer interface {
 	MIME() map[string]any
 }
 
+// Recorder is implemented by results that carry a record of how they were
+// computed (method, tolerance, error estimate, work). The record goes into
+// the display metadata, so a saved notebook keeps it beside the output.
+type Recorder interface {
+	Value
+	Record() map[string]any
+}
+
 // Param is one parameter of a function signature.
 type Param struct {
 	Name     string
