@@ -1,0 +1,277 @@
+// notebook_check.js opens a notebook in a running classic Jupyter notebook
+// server under headless Chromium, runs all its cells through the Cell menu
+// with the Semiflow kernel, and checks what a reader would see: inline SVG
+// figures (an svg element from an image/svg+xml output, or one inside an HTML
+// output), HTML tables, no error output, SVG text inside its figure, figures
+// that fit the output area, and outputs that survive saving. It saves a
+// full-page screenshot and ends with the line 'checks: N passed, N failed'.
+//
+// Started by run_browser_test.sh, which owns the server and the temporary
+// directories:
+//   node notebook_check.js --url URL --token T --notebook NAME.ipynb
+//     --chromium PATH --profile DIR --screenshot FILE.png [--timeout SECONDS]
+'use strict';
+
+const fs = require('fs');
+const path = require('path');
+const { chromium } = require('playwright-core');
+
+function parseArgs(argv) {
+  const opts = { timeout: '140' };
+  for (let i = 0; i < argv.length; i += 2) {
+    if (!argv[i].startsWith('--') || i + 1 >= argv.length) {
+      throw new Error(`bad argument ${argv[i]}`);
+    }
+    opts[argv[i].slice(2)] = argv[i + 1];
+  }
+  for (const k of ['url', 'token', 'notebook', 'chromium', 'profile', 'screenshot']) {
+    if (!opts[k]) throw new Error(`missing --${k}`);
+  }
+  opts.timeout = Number(opts.timeout) * 1000;
+  return opts;
+}
+
+const results = [];
+function check(name, ok, detail) {
+  results.push({ name, ok });
+  console.log(`${ok ? 'PASS' : 'FAIL'} ${name}${detail ? ': ' + detail : ''}`);
+  return ok;
+}
+
+function summary() {
+  const passed = results.filter((r) => r.ok).length;
+  const failed = results.length - passed;
+  console.log(`checks: ${passed} passed, ${failed} failed`);
+  return failed;
+}
+
+// Polls fn in the page until it returns a truthy value or ms pass; returns the
+// last value (falsy on time-out).
+async function pollPage(page, fn, arg, ms, every = 250) {
+  const end = Date.now() + ms;
+  let v;
+  for (;;) {
+    v = await page.evaluate(fn, arg);
+    if (v || Date.now() > end) return v;
+    await page.waitForTimeout(every);
+  }
+}
+
+// The state of the kernel as the page shows it.
+function kernelState() {
+  const nb = window.Jupyter && window.Jupyter.notebook;
+  const icon = document.getElementById('kernel_indicator_icon');
+  const name = document.querySelector('.kernel_indicator_name');
+  const modal = document.querySelector('.modal.in .modal-body');
+  return {
+    loaded: !!(nb && nb._fully_loaded),
+    connected: !!(nb && nb.kernel && nb.kernel.is_connected()),
+    kernel: nb && nb.kernel ? nb.kernel.name : null,
+    display: name ? name.textContent.trim() : '',
+    idle: !!(icon && icon.classList.contains('kernel_idle_icon')),
+    dead: !!(icon && icon.classList.contains('kernel_dead_icon')),
+    dialog: modal ? modal.textContent.trim().slice(0, 300) : '',
+  };
+}
+
+// The code cells' prompts: '*' while queued or running, a number when done,
+// null when never run.
+function cellPrompts() {
+  return Jupyter.notebook
+    .get_cells()
+    .filter((c) => c.cell_type === 'code')
+    .map((c) => (c.input_prompt_number === undefined ? null : c.input_prompt_number));
+}
+
+// What the output area shows, counted per kind, and every SVG text or figure
+// that does not fit.
+function inspectOutputs() {
+  const slack = 0.5; // px, for anti-aliased edges
+  const out = { svgs: 0, svgFromSvg: 0, svgInHtml: 0, tables: 0, errors: [], clipped: [], wide: [], texts: 0, figureSizes: [] };
+  const cells = Jupyter.notebook.get_cells().filter((c) => c.cell_type === 'code');
+  cells.forEach((cell, k) => {
+    const el = cell.element[0];
+    for (const e of el.querySelectorAll('.output_error')) {
+      out.errors.push(`cell ${k + 1}: ${e.textContent.trim().slice(0, 300)}`);
+    }
+    out.tables += [...el.querySelectorAll('.output_html table')].filter((t) => t.rows.length >= 2).length;
+    for (const sub of el.querySelectorAll('.output_subarea')) {
+      for (const svg of sub.querySelectorAll('svg')) {
+        if (svg.parentElement.closest('svg')) continue; // nested svg
+        if (sub.classList.contains('output_svg')) out.svgFromSvg++;
+        else out.svgInHtml++;
+        out.svgs++;
+        const box = svg.getBoundingClientRect();
+        const area = sub.getBoundingClientRect();
+        out.figureSizes.push(`${Math.round(box.width)}×${Math.round(box.height)}`);
+        if (box.width < 20 || box.height < 20) {
+          out.wide.push(`cell ${k + 1}: figure ${out.svgs} is ${box.width}×${box.height} px`);
+        }
+        if (box.right > area.right + slack || sub.scrollWidth > sub.clientWidth + 1) {
+          out.wide.push(
+            `cell ${k + 1}: figure ${out.svgs} is ${Math.round(box.width)} px wide in an output area of ${Math.round(area.width)} px`,
+          );
+        }
+        for (const t of svg.querySelectorAll('text')) {
+          const r = t.getBoundingClientRect();
+          if (r.width === 0 && r.height === 0) continue; // empty text
+          out.texts++;
+          if (
+            r.left < box.left - slack ||
+            r.top < box.top - slack ||
+            r.right > box.right + slack ||
+            r.bottom > box.bottom + slack
+          ) {
+            const f = (x) => x.toFixed(1);
+            out.clipped.push(
+              `cell ${k + 1}, figure ${out.svgs}: "${t.textContent.trim().slice(0, 40)}" at ` +
+                `[${f(r.left - box.left)}, ${f(r.top - box.top)}, ${f(r.right - box.left)}, ${f(r.bottom - box.top)}] ` +
+                `outside ${f(box.width)}×${f(box.height)}`,
+            );
+          }
+        }
+      }
+    }
+  });
+  return out;
+}
+
+async function main() {
+  const opts = parseArgs(process.argv.slice(2));
+  const deadline = Date.now() + opts.timeout;
+  const left = () => Math.max(1000, deadline - Date.now());
+
+  const context = await chromium.launchPersistentContext(opts.profile, {
+    executablePath: opts.chromium,
+    headless: true,
+    args: [
+      '--headless',
+      '--no-sandbox',
+      '--disable-gpu',
+      '--disable-background-networking',
+      '--disable-component-update',
+      '--disable-sync',
+      '--no-first-run',
+    ],
+    viewport: { width: 1280, height: 900 },
+  });
+  const pageErrors = [];
+  try {
+    const page = context.pages()[0] || (await context.newPage());
+    page.on('pageerror', (e) => pageErrors.push(String(e.message || e).slice(0, 200)));
+    page.setDefaultTimeout(30000);
+
+    const url = `${opts.url}/notebooks/${encodeURIComponent(opts.notebook)}?token=${opts.token}`;
+    const resp = await page.goto(url, { waitUntil: 'load', timeout: Math.min(30000, left()) });
+    if (!check('page loads', resp && resp.ok(), `HTTP ${resp ? resp.status() : 'none'} for /notebooks/${opts.notebook}`)) return;
+
+    const ready = await pollPage(
+      page,
+      (fn) => {
+        const s = eval(`(${fn})`)();
+        return s.dialog || s.dead || (s.loaded && s.connected && s.idle) ? s : null;
+      },
+      kernelState.toString(),
+      Math.min(60000, left()),
+    );
+    const state = ready || (await page.evaluate(kernelState));
+    if (
+      !check(
+        'kernel Semiflow starts and is idle',
+        !!ready && !state.dialog && !state.dead && state.kernel === 'semiflow' && state.display === 'Semiflow',
+        `kernel=${state.kernel} shown as "${state.display}" idle=${state.idle} dead=${state.dead}` +
+          (state.dialog ? ` dialog: ${state.dialog}` : ''),
+      )
+    )
+      return;
+
+    const nCode = (await page.evaluate(cellPrompts)).length;
+    const t0 = Date.now();
+    // Cell → Run All, as a person would.
+    await page.click('#celllink');
+    await page.click('#run_all_cells > a');
+    const done = await pollPage(
+      page,
+      (fn) => {
+        const prompts = eval(`(${fn})`)();
+        const icon = document.getElementById('kernel_indicator_icon');
+        const idle = icon && icon.classList.contains('kernel_idle_icon');
+        return idle && prompts.length > 0 && !prompts.includes('*') ? prompts : null;
+      },
+      cellPrompts.toString(),
+      left() - 8000,
+    );
+    const runSecs = ((Date.now() - t0) / 1000).toFixed(1);
+    const prompts = done || (await page.evaluate(cellPrompts));
+    check(
+      'Run All finishes (no In [*])',
+      !!done,
+      done ? `${nCode} code cells in ${runSecs} s` : `still running after ${runSecs} s: prompts ${JSON.stringify(prompts)}`,
+    );
+    const unrun = prompts.map((p, k) => (typeof p === 'number' ? null : k + 1)).filter((k) => k !== null);
+    check('every code cell ran', unrun.length === 0, unrun.length ? `cells without a count: ${unrun.join(', ')}` : `${nCode} cells`);
+
+    const out = await page.evaluate(inspectOutputs);
+    check('no error output', out.errors.length === 0, out.errors.join(' | '));
+    check(
+      'at least one inline SVG figure',
+      out.svgs >= 1,
+      `${out.svgFromSvg} from image/svg+xml outputs, ${out.svgInHtml} inside HTML outputs` +
+        (out.svgs ? `; sizes ${out.figureSizes.join(', ')} px` : '; a bundle with both text/html and image/svg+xml shows only its HTML'),
+    );
+    check('at least one HTML table', out.tables >= 1, `${out.tables} tables`);
+    check(
+      'SVG text inside its figure',
+      out.svgs >= 1 && out.texts >= 1 && out.clipped.length === 0,
+      out.clipped.length ? out.clipped.slice(0, 10).join(' | ') : `${out.texts} text elements checked`,
+    );
+    check('figures fit the output area', out.svgs >= 1 && out.wide.length === 0, out.wide.join(' | '));
+
+    // Save, then read the notebook back through the contents API.
+    await page.evaluate(() => Jupyter.notebook.save_notebook());
+    const saved = await page.evaluate(
+      async ([name, token]) => {
+        const r = await fetch(`/api/contents/${encodeURIComponent(name)}?type=notebook&content=1&token=${token}`);
+        if (!r.ok) return { status: r.status };
+        const nb = (await r.json()).content;
+        const code = nb.cells.filter((c) => c.cell_type === 'code');
+        const kinds = new Set();
+        for (const c of code) for (const o of c.outputs) for (const k of Object.keys(o.data || {})) kinds.add(k);
+        return { status: r.status, counted: code.every((c) => c.execution_count !== null), kinds: [...kinds] };
+      },
+      [opts.notebook, opts.token],
+    );
+    check(
+      'saved notebook keeps its outputs',
+      saved.status === 200 && saved.counted && saved.kinds.includes('image/svg+xml') && saved.kinds.includes('text/html'),
+      `status ${saved.status}, all counted ${saved.counted}, MIME types ${(saved.kinds || []).join(' ')}`,
+    );
+
+    // The classic notebook scrolls inside #site; let the page grow so the
+    // screenshot shows every cell.
+    await page.addStyleTag({
+      content:
+        'html, body { height: auto !important; overflow: visible !important; position: static !important; }' +
+        ' #site { height: auto !important; overflow: visible !important; display: block !important; }' +
+        ' #header { position: static !important; }',
+    });
+    await page.waitForTimeout(300);
+    fs.mkdirSync(path.dirname(opts.screenshot), { recursive: true });
+    await page.screenshot({ path: opts.screenshot, fullPage: true, timeout: Math.min(30000, left()) });
+    const size = fs.statSync(opts.screenshot).size;
+    check('full-page screenshot', size > 10000, `${opts.screenshot} (${Math.round(size / 1024)} kB)`);
+  } finally {
+    if (pageErrors.length) console.log(`note: page script errors: ${pageErrors.slice(0, 5).join(' | ')}`);
+    await context.close();
+  }
+}
+
+main()
+  .catch((e) => {
+    // eslint-disable-next-line no-control-regex
+    const msg = String((e && e.message) || e).replace(/\x1b\[[0-9;]*m/g, '');
+    check('browser session', false, msg.split('\n').slice(0, 4).join(' '));
+  })
+  .finally(() => {
+    process.exitCode = summary() > 0 || results.length === 0 ? 1 : 0;
+  });
