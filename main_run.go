@@ -3,6 +3,8 @@ package main
 import (
 	"bufio"
 	"context"
+	"crypto/sha256"
+	"encoding/hex"
 	"encoding/json"
 	"errors"
 	"fmt"
@@ -10,6 +12,7 @@ import (
 	"os"
 	"os/signal"
 	"path/filepath"
+	"regexp"
 	"strings"
 	"sync"
 
@@ -53,74 +56,101 @@ func tracebackOf(err error) []string {
 	return []string{err.Error()}
 }
 
-// cmdRun evaluates a script (.sf) or the code cells of a notebook (.ipynb)
-// in one session, printing every displayed value. On the first error it
-// prints FILE:LINE:COL: message, the source line and a caret line, and
-// returns 1.
+// errorNameOf returns the error's class (the notebook's ename).
+func errorNameOf(err error) string {
+	var n interface{ ErrorName() string }
+	if errors.As(err, &n) {
+		return n.ErrorName()
+	}
+	return "Error"
+}
+
+const runUsage = `usage: semiflow run [--allow-errors] [-o OUT.ipynb] FILE
+  FILE.sf      evaluate a script, printing each statement's value
+  FILE.ipynb   execute the notebook's code cells in order in one session and
+               write the notebook back (to OUT.ipynb with -o) with outputs
+`
+
+// cmdRun evaluates a script (.sf) or a notebook (.ipynb).
+//
+// A script's statements run in one session and every displayed value is
+// printed; on the first error it prints FILE:LINE:COL: message, the source
+// line and a caret line, and returns 1.
+//
+// A notebook's code cells run in order in one session, every cell even
+// after an error, and the notebook is written back in place (or to the -o
+// file) with the outputs, as nbformat 4.5. The exit status is 1 when a
+// cell failed, unless --allow-errors is given.
 func cmdRun(args []string) int {
-	if len(args) != 1 {
-		fmt.Fprintln(os.Stderr, "usage: semiflow run FILE")
+	var path, outPath string
+	allowErrors := false
+	for i := 0; i < len(args); i++ {
+		switch a := args[i]; {
+		case a == "--allow-errors" || a == "-allow-errors":
+			allowErrors = true
+		case a == "-o" || a == "--output" || a == "-output":
+			if i+1 == len(args) {
+				fmt.Fprint(os.Stderr, "semiflow run: -o needs a file name\n"+runUsage)
+				return 2
+			}
+			i++
+			outPath = args[i]
+		case strings.HasPrefix(a, "-o="), strings.HasPrefix(a, "--output="):
+			outPath = a[strings.IndexByte(a, '=')+1:]
+		case a == "-h" || a == "--help" || a == "-help":
+			fmt.Print(runUsage)
+			return 0
+		case strings.HasPrefix(a, "-") && a != "-":
+			fmt.Fprintf(os.Stderr, "semiflow run: unknown flag %s\n%s", a, runUsage)
+			return 2
+		default:
+			if path != "" {
+				fmt.Fprint(os.Stderr, "semiflow run: one file at a time\n"+runUsage)
+				return 2
+			}
+			path = a
+		}
+	}
+	if path == "" {
+		fmt.Fprint(os.Stderr, runUsage)
 		return 2
 	}
 	ctx, stop := signal.NotifyContext(context.Background(), os.Interrupt)
 	defer stop()
-	return runFile(ctx, args[0], os.Stdout, os.Stderr)
+	if isNotebook(path) {
+		if outPath == "" {
+			outPath = path
+		}
+		return runNotebook(ctx, path, outPath, allowErrors, os.Stderr)
+	}
+	if outPath != "" || allowErrors {
+		fmt.Fprint(os.Stderr, "semiflow run: -o and --allow-errors apply to notebooks (.ipynb) only\n")
+		return 2
+	}
+	return runFile(ctx, path, os.Stdout, os.Stderr)
 }
 
-// runFile is cmdRun with its context and output streams given.
+func isNotebook(path string) bool { return strings.EqualFold(filepath.Ext(path), ".ipynb") }
+
+// runFile evaluates a script in one session, printing every displayed
+// value, and stops at the first error (status 1).
 func runFile(ctx context.Context, path string, stdout, stderr io.Writer) int {
 	src, err := os.ReadFile(path)
 	if err != nil {
 		fmt.Fprintln(stderr, "semiflow:", err)
 		return 1
 	}
-	type cell struct{ name, src string }
-	var cells []cell
-	if strings.EqualFold(filepath.Ext(path), ".ipynb") {
-		var nb struct {
-			Cells []struct {
-				CellType string          `json:"cell_type"`
-				Source   json.RawMessage `json:"source"`
-			} `json:"cells"`
-		}
-		if err := json.Unmarshal(src, &nb); err != nil {
-			fmt.Fprintf(stderr, "semiflow: %s: not a notebook: %v\n", path, err)
-			return 1
-		}
-		n := 0
-		for _, c := range nb.Cells {
-			if c.CellType != "code" {
-				continue
-			}
-			n++
-			var text string
-			var lines []string
-			if json.Unmarshal(c.Source, &text) != nil {
-				if err := json.Unmarshal(c.Source, &lines); err != nil {
-					fmt.Fprintf(stderr, "semiflow: %s: code cell %d: bad source\n", path, n)
-					return 1
-				}
-				text = strings.Join(lines, "")
-			}
-			cells = append(cells, cell{fmt.Sprintf("%s[%d]", path, n), text})
-		}
-	} else {
-		cells = []cell{{path, string(src)}}
-	}
-
 	s := run.NewSession()
 	out := termOutput{stdout, stderr}
-	for _, c := range cells {
-		data, _, err := s.ExecuteNamed(ctx, c.name, c.src, out)
-		if err != nil {
-			for _, l := range tracebackOf(err) {
-				fmt.Fprintln(stderr, l)
-			}
-			return 1
+	data, _, err := s.ExecuteNamed(ctx, path, string(src), out)
+	if err != nil {
+		for _, l := range tracebackOf(err) {
+			fmt.Fprintln(stderr, l)
 		}
-		if data != nil {
-			out.Display(data, nil, "", false)
-		}
+		return 1
+	}
+	if data != nil {
+		out.Display(data, nil, "", false)
 	}
 	return 0
 }
@@ -192,4 +222,334 @@ func cmdRepl() int {
 			out.Display(data, nil, "", false)
 		}
 	}
+}
+
+// The notebook's language, as the kernel reports it in kernel_info.
+var (
+	nbKernelspec   = map[string]any{"name": "semiflow", "display_name": "Semiflow", "language": "semiflow"}
+	nbLanguageInfo = map[string]any{"name": "semiflow", "version": version, "mimetype": "text/x-semiflow", "file_extension": ".sf"}
+)
+
+// nbOutput collects the outputs of one code cell in nbformat 4 form, as a
+// notebook front end would save them: consecutive stream texts of the same
+// name merged, displays with an id updated in place (wherever they are in
+// the notebook), clear_output honoured.
+type nbOutput struct {
+	outputs   []map[string]any
+	clearWait bool
+	ids       map[string][]map[string]any // display id → the outputs showing it
+}
+
+func (o *nbOutput) pending() {
+	if o.clearWait {
+		o.clearWait = false
+		o.outputs = nil
+	}
+}
+
+func (o *nbOutput) Stream(name, text string) {
+	o.pending()
+	if n := len(o.outputs); n > 0 {
+		last := o.outputs[n-1]
+		if last["output_type"] == "stream" && last["name"] == name {
+			last["text"] = last["text"].(string) + text
+			return
+		}
+	}
+	o.outputs = append(o.outputs, map[string]any{"output_type": "stream", "name": name, "text": text})
+}
+
+func (o *nbOutput) Display(data, metadata map[string]any, displayID string, update bool) {
+	md := outputMetadata(data, metadata)
+	if update {
+		for _, out := range o.ids[displayID] {
+			out["data"] = data
+			out["metadata"] = md
+		}
+		return
+	}
+	o.pending()
+	out := map[string]any{"output_type": "display_data", "data": data, "metadata": md}
+	o.outputs = append(o.outputs, out)
+	if displayID != "" {
+		o.ids[displayID] = append(o.ids[displayID], out)
+	}
+}
+
+func (o *nbOutput) Clear(wait bool) {
+	if wait {
+		o.clearWait = true
+		return
+	}
+	o.outputs = nil
+	o.clearWait = false
+}
+
+// Page shows pager text as a display: a saved notebook has no pager.
+func (o *nbOutput) Page(data map[string]any) { o.Display(data, nil, "", false) }
+
+// mdNote finds the method and accuracy lines of a report's text/plain form
+// (see lang/objects.Analysis).
+var mdNote = regexp.MustCompile(`(?m)^  (method|accuracy): (.*)$`)
+
+// outputMetadata is an output's metadata: the value's own (display.Metadata:
+// under "semiflow" the release, the type and, for results that record it,
+// method, tolerance and error estimates), with the release always present
+// and, for reports that state them only in their text, the method and the
+// accuracy.
+func outputMetadata(data, metadata map[string]any) map[string]any {
+	md := map[string]any{}
+	for k, v := range metadata {
+		md[k] = v
+	}
+	sf := map[string]any{}
+	if old, ok := md["semiflow"].(map[string]any); ok {
+		for k, v := range old {
+			sf[k] = v
+		}
+	}
+	if _, ok := sf["version"]; !ok {
+		sf["version"] = version
+	}
+	if text, ok := data["text/plain"].(string); ok {
+		for _, m := range mdNote.FindAllStringSubmatch(text, 2) {
+			if _, seen := sf[m[1]]; !seen {
+				sf[m[1]] = strings.TrimSpace(m[2])
+			}
+		}
+	}
+	md["semiflow"] = sf
+	return md
+}
+
+// runNotebook executes the code cells of the notebook at path in one
+// session and writes it, with the outputs, to outPath. Errors are recorded
+// as error outputs and reported on stderr; the status is 1 when a cell
+// failed (0 with allowErrors) and when the notebook cannot be read or
+// written.
+func runNotebook(ctx context.Context, path, outPath string, allowErrors bool, stderr io.Writer) int {
+	src, err := os.ReadFile(path)
+	if err != nil {
+		fmt.Fprintln(stderr, "semiflow:", err)
+		return 1
+	}
+	nb, err := decodeNotebook(src)
+	if err != nil {
+		fmt.Fprintf(stderr, "semiflow: %s: %v\n", path, err)
+		return 1
+	}
+	cells := nb["cells"].([]any)
+
+	s := run.NewSession()
+	ids := map[string][]map[string]any{}
+	count, failed := 0, 0
+	for i, c := range cells {
+		cell := c.(map[string]any)
+		if cell["cell_type"] != "code" {
+			continue
+		}
+		text := joinSource(cell["source"])
+		cell["outputs"] = []any{}
+		cell["execution_count"] = nil
+		if strings.TrimSpace(text) == "" {
+			continue // as front ends do: an empty cell is not executed
+		}
+		count++
+		cell["execution_count"] = count
+		out := &nbOutput{ids: ids}
+		name := fmt.Sprintf("cell[%d]", count)
+		data, md, err := s.ExecuteNamed(ctx, name, text, out)
+		out.pending()
+		if err != nil {
+			failed++
+			tb := tracebackOf(err)
+			fmt.Fprintf(stderr, "%s: cell %d (In [%d]) failed:\n", path, i+1, count)
+			for _, l := range tb {
+				fmt.Fprintln(stderr, "  "+l)
+			}
+			out.outputs = append(out.outputs, map[string]any{"output_type": "error",
+				"ename": errorNameOf(err), "evalue": err.Error(), "traceback": tb})
+		} else if data != nil {
+			out.outputs = append(out.outputs, map[string]any{"output_type": "execute_result",
+				"execution_count": count, "data": data, "metadata": outputMetadata(data, md)})
+		}
+		outs := make([]any, len(out.outputs))
+		for k, o := range out.outputs {
+			outs[k] = o
+		}
+		cell["outputs"] = outs
+		if ctx.Err() != nil {
+			fmt.Fprintln(stderr, "semiflow: interrupted; the remaining cells are not run")
+			break
+		}
+	}
+
+	// Multi-line strings are written as lists of lines, as nbformat does.
+	for _, c := range cells {
+		cell := c.(map[string]any)
+		cell["source"] = splitLines(joinSource(cell["source"]))
+		if outs, ok := cell["outputs"].([]any); ok {
+			for _, o := range outs {
+				out := o.(map[string]any)
+				if t, ok := out["text"].(string); ok {
+					out["text"] = splitLines(t)
+				}
+				if d, ok := out["data"].(map[string]any); ok {
+					d2 := map[string]any{}
+					for k, v := range d {
+						if s, ok := v.(string); ok && !isJSONMime(k) {
+							d2[k] = splitLines(s)
+						} else {
+							d2[k] = v
+						}
+					}
+					out["data"] = d2
+				}
+			}
+		}
+	}
+	if err := writeNotebook(outPath, nb); err != nil {
+		fmt.Fprintln(stderr, "semiflow:", err)
+		return 1
+	}
+	fmt.Fprintf(stderr, "semiflow: wrote %s: %d code cells run, %d failed\n", outPath, count, failed)
+	if failed > 0 && !allowErrors {
+		return 1
+	}
+	return 0
+}
+
+// isJSONMime reports whether a MIME type's data is JSON, which nbformat
+// stores as it is rather than as lines of text.
+func isJSONMime(mime string) bool {
+	return mime == "application/json" || strings.HasSuffix(mime, "+json")
+}
+
+// decodeNotebook reads an nbformat 4 notebook and brings it to 4.5: every
+// cell gets an id (kept when it has one), the metadata names the semiflow
+// kernel and language, and attachments, metadata and sources are kept.
+func decodeNotebook(src []byte) (map[string]any, error) {
+	d := json.NewDecoder(strings.NewReader(string(src)))
+	d.UseNumber()
+	var nb map[string]any
+	if err := d.Decode(&nb); err != nil {
+		return nil, fmt.Errorf("not a notebook: %v", err)
+	}
+	if v, _ := nb["nbformat"].(json.Number); v.String() != "4" {
+		return nil, fmt.Errorf("not an nbformat 4 notebook (nbformat %v)", nb["nbformat"])
+	}
+	cells, ok := nb["cells"].([]any)
+	if !ok {
+		return nil, errors.New("not a notebook: no cells list")
+	}
+	nb["nbformat_minor"] = 5
+	md, _ := nb["metadata"].(map[string]any)
+	if md == nil {
+		md = map[string]any{}
+	}
+	md["kernelspec"] = nbKernelspec
+	md["language_info"] = nbLanguageInfo
+	nb["metadata"] = md
+
+	used := map[string]bool{}
+	for _, c := range cells {
+		if cell, ok := c.(map[string]any); ok {
+			if id, ok := cell["id"].(string); ok && validCellID.MatchString(id) && !used[id] {
+				used[id] = true
+			} else {
+				delete(cell, "id")
+			}
+		}
+	}
+	for i, c := range cells {
+		cell, ok := c.(map[string]any)
+		if !ok {
+			return nil, fmt.Errorf("cell %d is not an object", i+1)
+		}
+		switch cell["cell_type"] {
+		case "code", "markdown", "raw":
+		default:
+			return nil, fmt.Errorf("cell %d: unknown cell_type %v", i+1, cell["cell_type"])
+		}
+		if _, ok := cell["metadata"].(map[string]any); !ok {
+			cell["metadata"] = map[string]any{}
+		}
+		if _, ok := cell["id"]; !ok {
+			// A stable id from the cell's position and text, so that running a
+			// notebook twice gives the same file.
+			for salt := 0; ; salt++ {
+				h := sha256.Sum256([]byte(fmt.Sprintf("%d\x00%d\x00%s", i, salt, joinSource(cell["source"]))))
+				id := hex.EncodeToString(h[:4])
+				if !used[id] {
+					used[id] = true
+					cell["id"] = id
+					break
+				}
+			}
+		}
+	}
+	return nb, nil
+}
+
+var validCellID = regexp.MustCompile(`^[a-zA-Z0-9-_]{1,64}$`)
+
+// joinSource returns a cell's source, stored as a string or a list of lines.
+func joinSource(v any) string {
+	switch s := v.(type) {
+	case string:
+		return s
+	case []any:
+		var b strings.Builder
+		for _, l := range s {
+			if t, ok := l.(string); ok {
+				b.WriteString(t)
+			}
+		}
+		return b.String()
+	}
+	return ""
+}
+
+// splitLines splits text after each newline, as nbformat stores multi-line
+// strings: joining the lines gives the text back.
+func splitLines(s string) []string {
+	lines := strings.SplitAfter(s, "\n")
+	if lines[len(lines)-1] == "" {
+		lines = lines[:len(lines)-1]
+	}
+	if lines == nil {
+		lines = []string{}
+	}
+	return lines
+}
+
+// writeNotebook writes nb as nbformat's writer does (keys sorted, one-space
+// indent, a final newline), through a temporary file renamed into place.
+func writeNotebook(path string, nb map[string]any) error {
+	var b strings.Builder
+	enc := json.NewEncoder(&b)
+	enc.SetEscapeHTML(false)
+	enc.SetIndent("", " ")
+	if err := enc.Encode(nb); err != nil {
+		return err
+	}
+	tmp, err := os.CreateTemp(filepath.Dir(path), ".semiflow-*.ipynb")
+	if err != nil {
+		return err
+	}
+	if _, err := tmp.WriteString(b.String()); err != nil {
+		tmp.Close()
+		os.Remove(tmp.Name())
+		return err
+	}
+	if err := tmp.Close(); err != nil {
+		os.Remove(tmp.Name())
+		return err
+	}
+	if st, err := os.Stat(path); err == nil {
+		os.Chmod(tmp.Name(), st.Mode().Perm())
+	} else {
+		os.Chmod(tmp.Name(), 0o644)
+	}
+	return os.Rename(tmp.Name(), path)
 }
