@@ -2,6 +2,7 @@ package main
 
 import (
 	"context"
+	"encoding/json"
 	"os"
 	"path/filepath"
 	"strings"
@@ -26,14 +27,220 @@ func TestRunFile(t *testing.T) {
 	if errs.String() != want {
 		t.Errorf("stderr = %q, want %q", errs.String(), want)
 	}
+}
 
-	nb := filepath.Join(dir, "n.ipynb")
-	os.WriteFile(nb, []byte(`{"cells": [{"cell_type": "markdown", "source": "x"},
-		{"cell_type": "code", "source": ["a = 2\n", "a + 1"]},
-		{"cell_type": "code", "source": "print(a * 10)"}]}`), 0o644)
-	out.Reset()
+// readNB reads a notebook written by runNotebook.
+func readNB(t *testing.T, path string) map[string]any {
+	t.Helper()
+	b, err := os.ReadFile(path)
+	if err != nil {
+		t.Fatal(err)
+	}
+	var nb map[string]any
+	if err := json.Unmarshal(b, &nb); err != nil {
+		t.Fatalf("%s: %v", path, err)
+	}
+	return nb
+}
+
+func cellsOf(nb map[string]any) []map[string]any {
+	var cs []map[string]any
+	for _, c := range nb["cells"].([]any) {
+		cs = append(cs, c.(map[string]any))
+	}
+	return cs
+}
+
+func outputsOf(c map[string]any) []map[string]any {
+	var os []map[string]any
+	for _, o := range c["outputs"].([]any) {
+		os = append(os, o.(map[string]any))
+	}
+	return os
+}
+
+// text joins a multi-line field stored as nbformat does (string or lines).
+func text(v any) string { return joinSource(v) }
+
+func TestRunNotebook(t *testing.T) {
+	dir := t.TempDir()
+	in := filepath.Join(dir, "in.ipynb")
+	src := `{"nbformat": 4, "nbformat_minor": 4, "metadata": {"title": "kept"},
+	 "cells": [
+	  {"cell_type": "markdown", "metadata": {}, "source": "# notes"},
+	  {"cell_type": "code", "metadata": {"tags": ["x"]}, "execution_count": 7, "outputs": [{"output_type": "stream", "name": "stdout", "text": "old"}],
+	   "source": ["a = 2\n", "print(\"a is\", a)\n", "print(\"twice\")\n", "a + 1"]},
+	  {"cell_type": "code", "metadata": {}, "source": "  \n"},
+	  {"cell_type": "code", "metadata": {}, "source": "show(1, id=\"p\"); show(2, id=\"p\"); [a, a]"},
+	  {"cell_type": "code", "metadata": {}, "source": "a + kapa"},
+	  {"cell_type": "code", "metadata": {}, "source": "propagate({-1}, [1], [0, 1])"}
+	 ]}`
+	if err := os.WriteFile(in, []byte(src), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	out := filepath.Join(dir, "out.ipynb")
+	var errs strings.Builder
+	if rc := runNotebook(context.Background(), in, out, false, &errs); rc != 1 {
+		t.Errorf("exit status %d with a failing cell, want 1", rc)
+	}
+	if !strings.Contains(errs.String(), "unknown name kapa") {
+		t.Errorf("stderr does not report the error: %q", errs.String())
+	}
+	if b, _ := os.ReadFile(in); string(b) != src {
+		t.Error("the input notebook was changed although -o was given")
+	}
+	nb := readNB(t, out)
+	if nb["nbformat"].(float64) != 4 || nb["nbformat_minor"].(float64) != 5 {
+		t.Errorf("nbformat %v.%v, want 4.5", nb["nbformat"], nb["nbformat_minor"])
+	}
+	md := nb["metadata"].(map[string]any)
+	ks := md["kernelspec"].(map[string]any)
+	if md["title"] != "kept" || ks["name"] != "semiflow" || ks["display_name"] != "Semiflow" || ks["language"] != "semiflow" {
+		t.Errorf("metadata = %v", md)
+	}
+	if li := md["language_info"].(map[string]any); li["name"] != "semiflow" || li["version"] != version {
+		t.Errorf("language_info = %v", li)
+	}
+	cs := cellsOf(nb)
+	ids := map[string]bool{}
+	for i, c := range cs {
+		id, _ := c["id"].(string)
+		if !validCellID.MatchString(id) || ids[id] {
+			t.Errorf("cell %d: id %q missing, invalid or repeated", i, id)
+		}
+		ids[id] = true
+	}
+	if text(cs[0]["source"]) != "# notes" || cs[0]["outputs"] != nil {
+		t.Errorf("markdown cell changed: %v", cs[0])
+	}
+
+	// Cell 1: merged stdout, then the result with its execution count.
+	o := outputsOf(cs[1])
+	if len(o) != 2 || o[0]["output_type"] != "stream" || text(o[0]["text"]) != "a is 2\ntwice\n" {
+		t.Fatalf("cell 1 outputs = %v", o)
+	}
+	if o[1]["output_type"] != "execute_result" || o[1]["execution_count"].(float64) != 1 ||
+		cs[1]["execution_count"].(float64) != 1 || text(o[1]["data"].(map[string]any)["text/plain"]) != "3" {
+		t.Errorf("cell 1 result = %v", o[1])
+	}
+	if sf := o[1]["metadata"].(map[string]any)["semiflow"].(map[string]any); sf["version"] != version {
+		t.Errorf("result metadata = %v", o[1]["metadata"])
+	}
+	if tags := cs[1]["metadata"].(map[string]any)["tags"]; tags == nil {
+		t.Error("cell metadata lost")
+	}
+	// Cell 2 is empty: not executed.
+	if cs[2]["execution_count"] != nil || len(outputsOf(cs[2])) != 0 {
+		t.Errorf("empty cell = %v", cs[2])
+	}
+	// Cell 3: one display, updated in place, then the result.
+	o = outputsOf(cs[3])
+	if len(o) != 2 || o[0]["output_type"] != "display_data" || text(o[0]["data"].(map[string]any)["text/plain"]) != "2" ||
+		cs[3]["execution_count"].(float64) != 2 {
+		t.Errorf("cell 3 outputs = %v", o)
+	}
+	// Cell 4: the error.
+	o = outputsOf(cs[4])
+	if len(o) != 1 || o[0]["output_type"] != "error" || o[0]["ename"] != "NameError" ||
+		!strings.Contains(o[0]["evalue"].(string), "kapa") || len(o[0]["traceback"].([]any)) < 2 {
+		t.Errorf("cell 4 outputs = %v", o)
+	}
+	// Cell 5 runs after the error; its metadata records how it was computed.
+	o = outputsOf(cs[5])
+	if len(o) != 1 || o[0]["output_type"] != "execute_result" {
+		t.Fatalf("cell 5 outputs = %v", o)
+	}
+	data := o[0]["data"].(map[string]any)
+	if _, ok := data["text/html"]; !ok {
+		t.Errorf("solution without text/html: %v", data)
+	}
+	sf := o[0]["metadata"].(map[string]any)["semiflow"].(map[string]any)
+	if sf["method"] == nil || sf["tolerance"] == nil || sf["errest"] == nil || sf["version"] != version {
+		t.Errorf("solution metadata = %v", sf)
+	}
+
+	// --allow-errors: status 0; in place; running twice gives the same ids.
+	if rc := runNotebook(context.Background(), out, out, true, &errs); rc != 0 {
+		t.Errorf("--allow-errors: exit status %d", rc)
+	}
+	nb2 := readNB(t, out)
+	for i, c := range cellsOf(nb2) {
+		if c["id"] != cs[i]["id"] {
+			t.Errorf("cell %d: id changed from %v to %v", i, cs[i]["id"], c["id"])
+		}
+	}
+
+	// Not a notebook.
+	bad := filepath.Join(dir, "bad.ipynb")
+	os.WriteFile(bad, []byte(`{"nbformat": 3, "worksheets": []}`), 0o644)
 	errs.Reset()
-	if rc := runFile(context.Background(), nb, &out, &errs); rc != 0 || out.String() != "3\n20\n" {
-		t.Errorf("notebook: rc %d, stdout %q, stderr %q", rc, out.String(), errs.String())
+	if rc := runNotebook(context.Background(), bad, bad, false, &errs); rc != 1 || !strings.Contains(errs.String(), "nbformat 4") {
+		t.Errorf("nbformat 3: rc %d, stderr %q", rc, errs.String())
+	}
+}
+
+func TestRunArgs(t *testing.T) {
+	for _, args := range [][]string{{}, {"a.sf", "b.sf"}, {"-o"}, {"--bogus", "a.ipynb"}, {"-o", "x.ipynb", "a.sf"}} {
+		if rc := cmdRun(args); rc != 2 {
+			t.Errorf("cmdRun(%q) = %d, want 2", args, rc)
+		}
+	}
+}
+
+// TestExampleNotebooks runs every notebook in notebooks/ as `semiflow run`
+// does and checks that no cell fails, that every code cell shows
+// something, and that the notebook has figures and HTML tables.
+func TestExampleNotebooks(t *testing.T) {
+	paths, _ := filepath.Glob("notebooks/*.ipynb")
+	if len(paths) < 4 {
+		t.Fatalf("%d notebooks in notebooks/, want at least 4", len(paths))
+	}
+	for _, p := range paths {
+		t.Run(filepath.Base(p), func(t *testing.T) {
+			t.Parallel()
+			out := filepath.Join(t.TempDir(), "out.ipynb")
+			var errs strings.Builder
+			if rc := runNotebook(context.Background(), p, out, false, &errs); rc != 0 {
+				t.Fatalf("exit status %d: %s", rc, errs.String())
+			}
+			nb := readNB(t, out)
+			svg, html, md := 0, 0, 0
+			for i, c := range cellsOf(nb) {
+				if c["cell_type"] == "markdown" {
+					md++
+					continue
+				}
+				if c["cell_type"] != "code" {
+					continue
+				}
+				o := outputsOf(c)
+				if len(o) == 0 {
+					t.Errorf("code cell %d has no output", i)
+				}
+				for _, x := range o {
+					switch x["output_type"] {
+					case "error":
+						t.Errorf("code cell %d failed: %v", i, x["evalue"])
+					case "execute_result", "display_data":
+						d := x["data"].(map[string]any)
+						if s := text(d["image/svg+xml"]); s != "" {
+							if !strings.HasPrefix(strings.TrimSpace(s), "<svg") || !strings.HasSuffix(strings.TrimSpace(s), "</svg>") {
+								t.Errorf("code cell %d: malformed SVG", i)
+							}
+							svg++
+						}
+						if strings.Contains(text(d["text/html"]), "<table") {
+							html++
+						}
+						if x["metadata"].(map[string]any)["semiflow"] == nil {
+							t.Errorf("code cell %d: output without semiflow metadata", i)
+						}
+					}
+				}
+			}
+			if svg == 0 || html == 0 || md < 3 {
+				t.Errorf("%d SVG figures, %d HTML tables, %d Markdown cells", svg, html, md)
+			}
+		})
 	}
 }
