@@ -147,8 +147,9 @@ var stabilityFamily = []*Builtin{
 		Params: []value.Param{
 			req("A", "an operator or a square matrix"),
 			opt("t", rangeDefault{&value.Range{Lo: 0, Hi: 10, Step: 0.1, N: 101}}, "the times t ≥ 0: a range, vector or list"),
+			opt("bounds", value.Str("auto"), `which bounds to compute: "all" (Kreiss constant and α_ε/ε), "fast" (α_ε/ε only), "none", or "auto": all for order ≤ 50, fast up to 300, none above`),
 		},
-		Doc: "The transient growth curve ‖e^{tA}‖₂ at the times t, with its peak (refined between samples) and the optimal initial condition u0 (‖u0‖ = 1, ‖e^{t*A}u0‖ = peak), and the bounds: the initial slope ω(A) = λmax((A + Aᵀ)/2), the asymptotic rate α(A), the Kreiss constant K ≤ sup_t ‖e^{tA}‖ ≤ e·N·K (Spijker 1991) and α_ε/ε ≤ sup_t ‖e^{tA}‖ for ε = 0.1, 0.01, 0.001. " +
+		Doc: "The transient growth curve ‖e^{tA}‖₂ at the times t, with its peak (refined between samples) and the optimal initial condition u0 (‖u0‖ = 1, ‖e^{t*A}u0‖ = peak), and the bounds: the initial slope ω(A) = λmax((A + Aᵀ)/2), the asymptotic rate α(A), the Kreiss constant K ≤ sup_t ‖e^{tA}‖ ≤ e·N·K (Spijker 1991) and α_ε/ε ≤ sup_t ‖e^{tA}‖ for ε = 0.1, 0.01, 0.001 (the option bounds chooses which; the Kreiss constant costs most). " +
 			"For order ≤ 1500, e^{tA} by scaling and squaring and its largest singular value; above, a Lanczos estimate on e^{tAᵀ}e^{tA} (a lower bound up to the propagation error, no Kreiss or α_ε bounds). Table of (t, ‖e^{tA}‖) and a figure (logarithmic axis when the values span a factor 10) with the bounds as horizontal lines and the initial slope e^{ωt}.",
 		Examples: []Example{
 			{"g = growth({-1, 0 | 0, -2}, t=[0, 1]); g[1, 1]", "0.3678794412"},
@@ -978,10 +979,33 @@ func growthImpl(c *eval.Call) (value.Value, error) {
 			return nil, value.ValueErrorf("growth: the times must be ≥ 0, not %s", value.FormatNum(t))
 		}
 	}
+	bv, _ := c.Arg(2)
+	bounds, ok := bv.(value.Str)
+	if !ok {
+		return nil, value.TypeErrorf(`growth: bounds must be a string: "auto", "all", "fast" or "none", not %s`, value.TypeName(bv))
+	}
+	switch bounds {
+	case "auto":
+		switch {
+		case n <= 50:
+			bounds = "all"
+		case n <= 300:
+			bounds = "fast"
+		default:
+			bounds = "none"
+		}
+	case "all", "fast", "none":
+	default:
+		return nil, value.ValueErrorf(`growth: unknown bounds %s; the choices are "auto", "all", "fast" and "none"`, bounds)
+	}
+	gopt := &spectra.GrowthOptions{Eps: stabGrowthEps, NoKreiss: bounds != "all", Progress: stabProgress(c)}
+	if bounds == "none" {
+		gopt.Eps = nil
+	}
 	var g *spectra.Growth
 	err = stabGuard(c, func() (e error) {
 		if n <= DenseLimit {
-			g, e = spectra.GrowthCurve(c.Ctx, op.Op, ts, &spectra.GrowthOptions{Eps: stabGrowthEps, Progress: stabProgress(c)})
+			g, e = spectra.GrowthCurve(c.Ctx, op.Op, ts, gopt)
 		} else {
 			if g, e = spectra.GrowthEstimate(c.Ctx, op.Op, ts, 0, 0, stabProgress(c)); e != nil {
 				return e
@@ -1011,7 +1035,16 @@ func growthImpl(c *eval.Call) (value.Value, error) {
 		h.Upper = math.E * float64(n) * h.Kreiss.K
 		g = &h
 	}
-	return objects.GrowthReport(op.Label, n, g), nil
+	r := objects.GrowthReport(op.Label, n, g)
+	switch {
+	case n > DenseLimit:
+		r.Notes = append(r.Notes, "the Kreiss and α_ε/ε bounds need the dense methods and are not computed above order 1500")
+	case bounds == "fast":
+		r.Notes = append(r.Notes, `the Kreiss constant (and with it the upper bound e·N·K) was not computed: it is the costliest bound; kreiss(A) or bounds="all" computes it`)
+	case bounds == "none":
+		r.Notes = append(r.Notes, `the Kreiss and α_ε/ε bounds were not computed; bounds="fast" or "all" computes them`)
+	}
+	return r, nil
 }
 
 func kreissImpl(c *eval.Call) (value.Value, error) {
