@@ -8,7 +8,7 @@ import (
 )
 
 // Benchmarks of the stability builtins through the language, on a
-// convection–diffusion operator 0.01u” − u' (Dirichlet, second order) of
+// convection–diffusion operator 0.01 d²u/dx² − du/dx (Dirichlet, second order) of
 // order 100 made dense, and on the sparse Dirichlet Laplacian of order
 // 9999. Run with
 //
