@@ -247,8 +247,11 @@ async function main() {
       `status ${saved.status}, all counted ${saved.counted}, MIME types ${(saved.kinds || []).join(' ')}`,
     );
 
-    // The classic notebook scrolls inside #site; let the page grow so the
-    // screenshot shows every cell.
+    // The classic notebook scrolls long outputs in a box and the page inside
+    // #site; unscroll both so the screenshot shows every output in full.
+    await page.evaluate(() =>
+      Jupyter.notebook.get_cells().forEach((c) => c.output_area && c.output_area.unscroll_area()),
+    );
     await page.addStyleTag({
       content:
         'html, body { height: auto !important; overflow: visible !important; position: static !important; }' +
