@@ -133,14 +133,17 @@ func (s *Solution) String() string {
 // SVG figure: the profiles at the output times on a 1-D grid, a heat map
 // of the last time on a 2-D grid, and the components against t otherwise.
 func (s *Solution) MIME() map[string]any {
-	out := map[string]any{
-		"text/html": "<div>" + s.summary().html() + s.perTime().html() + "</div>",
-	}
+	html := "<div>" + s.summary().html() + s.perTime().html()
+	out := map[string]any{}
 	if f := s.Figure(); f != nil {
 		if svg, err := f.SVG(); err == nil {
 			out["image/svg+xml"] = string(svg)
+			// Front ends and nbconvert show one MIME type per output and
+			// prefer text/html, so the HTML carries the figure too.
+			html += `<div class="semiflow-figure">` + string(svg) + `</div>`
 		}
 	}
+	out["text/html"] = html + "</div>"
 	return out
 }
 

@@ -243,6 +243,9 @@ func (r *Analysis) MIME() map[string]any {
 			sb.WriteString(`<p><i>figure not drawn:</i> ` + e(err.Error()) + `</p>`)
 		} else {
 			out["image/svg+xml"] = string(svg)
+			// Front ends and nbconvert show one MIME type per output and
+			// prefer text/html, so the HTML carries the figure too.
+			sb.WriteString(`<div class="semiflow-figure">` + string(svg) + `</div>`)
 		}
 	}
 	sb.WriteString(`</div>`)
