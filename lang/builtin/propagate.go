@@ -132,6 +132,9 @@ func numericsError(c *eval.Call, err error) error {
 	for _, p := range []string{"expo: numerical failure: ", "expo: method not applicable: ", "expo: "} {
 		msg = strings.TrimPrefix(msg, p)
 	}
+	for _, p := range []string{": expo: numerical failure", ": expo: method not applicable"} {
+		msg = strings.TrimSuffix(msg, p)
+	}
 	return value.ValueErrorf("%s: %s", c.Name, msg)
 }
 
@@ -151,11 +154,17 @@ func semigroupImpl(c *eval.Call) (value.Value, error) {
 	if err != nil {
 		return nil, err
 	}
-	ta := mat.NewDense(n, n, m.Data)
+	ta := mat.NewDense(n, n, append([]float64(nil), m.Data...))
 	ta.Scale(t, ta)
+	if k := firstNonFinite(ta.RawMatrix().Data); k >= 0 && firstNonFinite(m.Data) < 0 {
+		return nil, value.ValueErrorf("semigroup: t·A overflows double precision (t = %s, entry (%d, %d) of A is %s)", value.FormatNum(t), k/n, k%n, value.FormatNum(m.Data[k]))
+	}
 	var e mat.Dense
-	if _, err := expo.Exp(&e, ta); err != nil {
+	if _, err := expo.ExpContext(c.Ctx, &e, ta); err != nil {
 		return nil, numericsError(c, err)
+	}
+	if k := firstNonFinite(e.RawMatrix().Data); k >= 0 {
+		return nil, value.ValueErrorf("semigroup: e^{tA} overflows double precision (entry (%d, %d) is %s)", k/n, k%n, value.FormatNum(e.RawMatrix().Data[k]))
 	}
 	out := value.NewMatrix(n, n)
 	for i := 0; i < n; i++ {
@@ -223,6 +232,9 @@ func propagateImpl(c *eval.Call) (value.Value, error) {
 	if len(u0) != n {
 		return nil, value.ValueErrorf("propagate: the operator is %d×%d but u0 has %d entries", n, n, len(u0))
 	}
+	if k := firstNonFinite(u0); k >= 0 {
+		return nil, value.ValueErrorf("propagate: the initial value must be finite; u0[%d] = %s", k, value.FormatNum(u0[k]))
+	}
 	// Times.
 	var times []float64
 	switch v := c.Args[2].(type) {
@@ -249,6 +261,9 @@ func propagateImpl(c *eval.Call) (value.Value, error) {
 			return nil, value.ValueErrorf("propagate: times must be finite and ≥ 0; t[%d] = %s", k, value.FormatNum(t))
 		}
 		tmax = math.Max(tmax, t)
+	}
+	if nrm, ok := cheapNormInf(a.Op); ok && !math.IsInf(nrm, 0) && !math.IsNaN(nrm) && math.IsInf(tmax*nrm, 0) {
+		return nil, value.ValueErrorf("propagate: t·A overflows double precision (t = %s, ‖A‖∞ = %s)", value.FormatNum(tmax), value.FormatNum(nrm))
 	}
 	if err := c.CheckSize(float64(len(times))*float64(n), "propagate: the solution"); err != nil {
 		return nil, err
@@ -291,6 +306,9 @@ func propagateImpl(c *eval.Call) (value.Value, error) {
 	switch f := c.Args[5].(type) {
 	case value.NoneType:
 	case value.Num:
+		if math.IsNaN(float64(f)) || math.IsInf(float64(f), 0) {
+			return nil, value.ValueErrorf("propagate: the forcing must be finite, not %s", value.FormatNum(float64(f)))
+		}
 		forcing = &expo.Forcing{Const: constVec(n, float64(f))}
 		forceDesc = " + f"
 	case *value.Vec, *value.Range:
@@ -301,17 +319,20 @@ func propagateImpl(c *eval.Call) (value.Value, error) {
 		if cx != nil || len(re) != n {
 			return nil, value.ValueErrorf("propagate: the forcing vector must be real, one entry per unknown (%d), not %d entries", n, len(re)+len(cx))
 		}
+		if k := firstNonFinite(re); k >= 0 {
+			return nil, value.ValueErrorf("propagate: the forcing must be finite; forcing[%d] = %s", k, value.FormatNum(re[k]))
+		}
 		forcing = &expo.Forcing{Const: append([]float64(nil), re...)}
 		forceDesc = " + f"
 	case value.Callable:
-		if _, err := callVector(c, "forcing", f, n, value.Num(0)); err != nil {
+		if _, err := callForcing(c, f, n, 0); err != nil {
 			return nil, err
 		}
 		forcing = &expo.Forcing{Func: func(t float64, dst []float64) {
 			if callErr != nil {
 				return
 			}
-			u, err := callVector(c, "forcing", f, n, value.Num(t))
+			u, err := callForcing(c, f, n, t)
 			if err != nil {
 				callErr = err
 				return
@@ -331,6 +352,9 @@ func propagateImpl(c *eval.Call) (value.Value, error) {
 		case expo.MethodResolvent:
 			opts.ResolventSteps = steps
 		case expo.MethodContour:
+			if steps > maxContourNodes {
+				return nil, value.ValueErrorf("propagate: the contour method takes at most %d nodes, not steps = %d (it converges like 3.89^(−N): about 30 nodes reach double precision)", maxContourNodes, steps)
+			}
 			if steps%2 != 0 {
 				return nil, value.ValueErrorf("propagate: the contour method needs an even number of nodes, not steps = %d", steps)
 			}
@@ -419,7 +443,52 @@ func propagateImpl(c *eval.Call) (value.Value, error) {
 	if err != nil {
 		return nil, numericsError(c, err)
 	}
+	for i, u := range sol.Values {
+		if k := firstNonFinite(u); k >= 0 {
+			return nil, value.ValueErrorf("propagate: the solution is not finite at t = %s (entry %d is %s): e^{tA}u0 overflows double precision",
+				value.FormatNum(sol.Times[i]), k, value.FormatNum(u[k]))
+		}
+	}
 	return &objects.Solution{S: sol, Grid: a.Grid, Problem: problem, Label: a.Label}, nil
+}
+
+// maxContourNodes bounds the quadrature nodes of the contour method: each
+// node is one shifted factorisation, and 3.89^(−N) convergence reaches the
+// unit roundoff near N = 28.
+const maxContourNodes = 512
+
+// cheapNormInf returns ‖A‖∞ for the stored forms whose entries are at hand
+// (dense, sparse, diagonal), and false for the others.
+func cheapNormInf(op linop.Operator) (float64, bool) {
+	switch op.(type) {
+	case *linop.Dense, *linop.CSR, *linop.Diag:
+		return linop.NormInf(op)
+	}
+	return 0, false
+}
+
+// firstNonFinite returns the index of the first NaN or ±Inf entry of u, or
+// −1 when every entry is finite.
+func firstNonFinite(u []float64) int {
+	for k, x := range u {
+		if math.IsNaN(x) || math.IsInf(x, 0) {
+			return k
+		}
+	}
+	return -1
+}
+
+// callForcing calls the forcing function f at time t and checks that it
+// returns n finite values.
+func callForcing(c *eval.Call, f value.Value, n int, t float64) ([]float64, error) {
+	u, err := callVector(c, "forcing", f, n, value.Num(t))
+	if err != nil {
+		return nil, err
+	}
+	if k := firstNonFinite(u); k >= 0 {
+		return nil, value.ValueErrorf("propagate: the forcing must be finite, but at t = %s entry %d is %s", value.FormatNum(t), k, value.FormatNum(u[k]))
+	}
+	return u, nil
 }
 
 func constVec(n int, x float64) []float64 {

@@ -120,6 +120,11 @@ func taylorRun(ctx context.Context, c *counted, mu float64, tn *taylorNorms, u0 
 	prev := 0.0
 	for i, t := range times {
 		m, s := taylorDegree(c, tn, t-prev)
+		if s == 0 {
+			// No degree keeps the number of steps below 2⁵²: ‖hA‖₁ is
+			// beyond what scaling can bring into the Taylor region.
+			return errorf("taylor: ‖hA‖₁ = %g over the step to t = %g is too large for the Taylor method", math.Abs(t-prev)*tn.norm1, t)
+		}
 		plans[i] = plan{m, s}
 		total += m * s
 		prev = t

@@ -4,6 +4,8 @@ import (
 	"fmt"
 
 	"gonum.org/v1/gonum/mat"
+
+	"semiflow/numerics/memguard"
 )
 
 // KronSum is the Kronecker sum X ⊕ Y = X ⊗ I_ny + I_nx ⊗ Y of a square
@@ -111,6 +113,11 @@ func (k *KronSum) ToCSR() (*CSR, error) {
 	}
 	y, err := ToCSR(k.Y)
 	if err != nil {
+		return nil, err
+	}
+	// X ⊗ I and I ⊗ Y hold nnz(X)·ny and nx·nnz(Y) entries (value and
+	// column index each); their sum is built from both.
+	if err := memguard.Check(2*(x.NNZ()*ny+nx*y.NNZ()), 16, "sparse form of a Kronecker sum"); err != nil {
 		return nil, err
 	}
 	return AddCSR(1, Kron(x, Identity(ny)), 1, Kron(Identity(nx), y)), nil
