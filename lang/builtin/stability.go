@@ -741,16 +741,13 @@ func pseudospectrumImpl(c *eval.Call) (value.Value, error) {
 		return nil, value.ValueErrorf("pseudospectrum: for order %d (above %d) give the region re=[a, b] and im=[c, d]", n, DenseLimit)
 	}
 	if !reSet || !imSet {
+		// The bounding box of W(A) from its support function at the angles
+		// 0, π/2, π, 3π/2: Re W ⊆ [−h(π), h(0)], Im W ⊆ [−h(3π/2), h(π/2)].
 		var nr *spectra.NumericalRange
-		if err := stabGuard(c, func() (e error) { nr, e = spectra.NumRange(op.Op, nil, 64); return }); err != nil {
+		if err := stabGuard(c, func() (e error) { nr, e = spectra.NumRange(op.Op, nil, 4); return }); err != nil {
 			return nil, err
 		}
-		lo, hi, blo, bhi := math.Inf(1), math.Inf(-1), math.Inf(1), math.Inf(-1)
-		for _, z := range nr.Boundary {
-			lo, hi = math.Min(lo, real(z)), math.Max(hi, real(z))
-			blo, bhi = math.Min(blo, imag(z)), math.Max(bhi, imag(z))
-		}
-		// The sampled boundary lies inside W(A); the support values bound it.
+		lo, hi, blo, bhi := -nr.Support[2], nr.Support[0], -nr.Support[3], nr.Support[1]
 		pad := 0.0
 		for _, l := range levels {
 			pad = math.Max(pad, l)
