@@ -174,9 +174,9 @@ func (s *Solution) Figure() *plot.Figure {
 	switch {
 	case s.Grid != nil && s.Grid.Dim() == 1:
 		f.X.Label, f.Y.Label = "x", "u(t, x)"
-		for _, i := range shown(len(S.Times), 8) {
+		for k, i := range shown(len(S.Times), 8) {
 			x, u := s.Grid.Profile(S.Values[i])
-			f.AddLine(x, u, "t = "+plot.FormatValue(S.Times[i]))
+			cycleDash(f.AddLine(x, u, "t = "+plot.FormatValue(S.Times[i])), k)
 		}
 	case s.Grid != nil:
 		last := len(S.Times) - 1
@@ -204,19 +204,27 @@ func (s *Solution) Figure() *plot.Figure {
 			for k, i := range order {
 				y[k] = S.Values[i][j]
 			}
-			f.AddLine(ts, y, fmt.Sprintf("u_%d", j))
+			cycleDash(f.AddLine(ts, y, fmt.Sprintf("u_%d", j)), j)
 		}
 	default:
 		f.X.Label, f.Y.Label = "index i", "u_i"
-		for _, i := range shown(len(S.Times), 8) {
+		for k, i := range shown(len(S.Times), 8) {
 			idx := make([]float64, len(S.Values[i]))
 			for j := range idx {
 				idx[j] = float64(j)
 			}
-			f.AddLine(idx, S.Values[i], "t = "+plot.FormatValue(S.Times[i]))
+			cycleDash(f.AddLine(idx, S.Values[i], "t = "+plot.FormatValue(S.Times[i])), k)
 		}
 	}
 	return f
+}
+
+// cycleDash dashes the k-th line once the palette's colours repeat, so
+// that two curves of the same colour stay apart.
+func cycleDash(l *plot.Line, k int) {
+	if (k/len(plot.Palette))%2 == 1 {
+		l.Dash = plot.Dashed
+	}
 }
 
 // cellEdges returns the outer edges of cells centred on the (monotone)
