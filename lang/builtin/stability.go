@@ -172,6 +172,7 @@ var stabilityFamily = []*Builtin{
 		Params: []value.Param{
 			req("A", "an operator or a square matrix"),
 			opt("weight", value.None, stabWeightDoc),
+			opt("omega", value.None, "the growth rate ω to test in ‖e^{tA}‖ ≤ M e^{ωt}; none: 0 when α(A) < 0, else a tenth of the way from α(A) to ω(A)"),
 		},
 		Doc: "A report on A as the generator of the semigroup e^{tA}: the spectral abscissa α(A), the numerical abscissa ω(A) in the chosen inner product, Lumer–Phillips dissipativity of A − ωI (then ‖e^{tA}‖ ≤ e^{ωt}), Hille–Yosida estimates M_n = sup_{λ>ω} (λ−ω)^n ‖R(λ)^n‖ for n = 1..4 (Engel & Nagel 2000, Thm II.3.8: ‖e^{tA}‖ ≤ M e^{ωt} iff all M_n ≤ M; finitely many samples give a lower estimate of the best M), and a plain verdict with its assumptions. " +
 			"The tested ω is 0 when α(A) < 0, otherwise a tenth of the way from α(A) to ω(A). Large sparse operators (order > 1500, no weight) get the abscissae by Krylov methods and no Hille–Yosida estimates. For a rate matrix of a Markov chain see markov.",
@@ -1116,15 +1117,44 @@ func generatorImpl(c *eval.Call) (value.Value, error) {
 			}
 		}
 	}
+	gopt := &spectra.GeneratorOptions{Weight: w, Progress: stabProgress(c)}
+	if v, _ := c.Arg(2); v != value.None {
+		om, err := stabRealArg(c, 2)
+		if err != nil {
+			return nil, err
+		}
+		gopt.Omega, gopt.OmegaSet = om, true
+	}
 	var g *spectra.GeneratorReport
-	err = stabGuard(c, func() (e error) {
-		g, e = spectra.Generator(c.Ctx, op.Op, &spectra.GeneratorOptions{Weight: w, Progress: stabProgress(c)})
-		return
+	retried := ""
+	err = stabGuardRaw(c, func() (e error) {
+		g, e = spectra.Generator(c.Ctx, op.Op, gopt)
+		if e == nil || gopt.OmegaSet || c.Ctx.Err() != nil || !errors.Is(e, spectra.ErrNumerical) {
+			return e
+		}
+		// The default ω can sit on an eigenvalue (α(A) = ω(A), as for a
+		// rate matrix), where the sampled resolvents are singular: test
+		// ω(A) + 10⁻³(1 + |ω(A)|) instead, at which A − ωI is dissipative.
+		wa, e2 := spectra.NumericalAbscissa(op.Op, w)
+		if e2 != nil {
+			return e
+		}
+		gopt.Omega, gopt.OmegaSet = wa+1e-3*(1+math.Abs(wa)), true
+		retried = fmt.Sprintf("the default growth rate ω met a singular resolvent (%s); the report tests ω = ω(A) + 10⁻³(1 + |ω(A)|) instead", strings.TrimPrefix(e.Error(), "spectra: numerical failure: "))
+		g, e = spectra.Generator(c.Ctx, op.Op, gopt)
+		return e
 	})
 	if err != nil {
-		return nil, err
+		return nil, stabNumErr(c, err)
 	}
 	r := objects.GeneratorReport(op.Label, ip, g)
+	if nrm, ok := linop.NormInf(op.Op); ok && g.SpectralAbscissa != 0 && math.Abs(g.SpectralAbscissa) <= 1e-12*math.Max(nrm, 1) {
+		r.Facts[0].Value = "0 to rounding (computed " + value.FormatNum(g.SpectralAbscissa) + ")"
+		r.Notes = append(r.Notes, "α(A) is zero to rounding (|α| ≤ 1e-12·‖A‖∞): e^{tA} neither decays nor grows along the rightmost eigenvector, whatever the sign of the computed α in the verdict")
+	}
+	if retried != "" {
+		r.Notes = append(r.Notes, retried)
+	}
 	if n <= DenseLimit && looksLikeRates(op) {
 		r.Notes = append(r.Notes, "A has the form of a rate matrix (q_ij ≥ 0 off the diagonal, rows summing to 0): markov(A) reports the chain; its probability row vectors evolve by p' = pA, i.e. by the adjoint of A acting on columns")
 	}
