@@ -589,9 +589,9 @@ func sortRightmost(s *spectra.Spectrum) {
 	s.Values, s.Residual = vals, res
 }
 
-// stabSelectEigen keeps k eigenvalues of a dense spectrum: the rightmost (the
-// order of s), or those nearest σ by distance, then by decreasing real
-// part. The abscissa stays that of the whole spectrum.
+// stabSelectEigen keeps k eigenvalues of a dense spectrum: the rightmost,
+// or the k nearest σ; either way listed in the order of s (decreasing real
+// part). The abscissa stays that of the whole spectrum.
 func stabSelectEigen(s *spectra.Spectrum, k int, near bool, sigma float64) *spectra.Spectrum {
 	idx := make([]int, len(s.Values))
 	for i := range idx {
@@ -603,6 +603,7 @@ func stabSelectEigen(s *spectra.Spectrum, k int, near bool, sigma float64) *spec
 		})
 	}
 	idx = idx[:k]
+	sort.Ints(idx) // back to decreasing real part
 	out := &spectra.Spectrum{Abscissa: s.Abscissa, Accuracy: s.Accuracy,
 		Method: s.Method + "; selected from the whole dense spectrum"}
 	for _, i := range idx {
