@@ -66,4 +66,5 @@ for l in out:
     lines.append(l)
     if not l.startswith("#") and " = " not in l.split("(")[0]:
         lines.append("=> true")
-print("\n".join(lines))
+        lines.append("")  # blocks are separated by blank lines
+print("\n".join(lines).rstrip("\n"))
