@@ -77,6 +77,9 @@ var gridFamily = []*Builtin{
 			if !(a < b) || math.IsInf(a, 0) || math.IsInf(b, 0) {
 				return nil, value.ValueErrorf("chebyshev: needs finite ends a < b, got a = %s, b = %s", value.FormatNum(a), value.FormatNum(b))
 			}
+			if math.IsInf(b-a, 0) {
+				return nil, value.ValueErrorf("chebyshev: the length b − a of [%s, %s] overflows double precision", value.FormatNum(a), value.FormatNum(b))
+			}
 			if err := c.CheckSize(float64(n)*float64(n), "chebyshev: the differentiation matrix"); err != nil {
 				return nil, err
 			}
@@ -209,6 +212,26 @@ func intervalImpl(c *eval.Call) (value.Value, error) {
 	}
 	if err := c.CheckSize(float64(n), "interval: the grid"); err != nil {
 		return nil, err
+	}
+	// The fewest points the stencils of the order need: the central
+	// stencil and its one-sided closures (order + 3 points) at ends, the
+	// central stencil alone (order + 1) on a periodic grid.
+	least := order + 3
+	if ends == "periodic" {
+		least = order + 1
+	}
+	if n < least && ends == "periodic" {
+		return nil, value.ValueErrorf("interval: periodic grid of %d points for order %d (at least %d)", n, order, least)
+	}
+	if n < least {
+		return nil, value.ValueErrorf("interval: %d points for a derivative of order %d (at least %d)", n, order, least)
+	}
+	cells := float64(n - 1)
+	if ends == "periodic" {
+		cells = float64(n)
+	}
+	if h := (b - a) / cells; math.IsInf(b-a, 0) || math.IsInf(1/(h*h), 0) {
+		return nil, value.ValueErrorf("interval: the spacing h = (b − a)/%s is out of range for differences (1/h² must be finite); got a = %s, b = %s", value.FormatNum(cells), value.FormatNum(a), value.FormatNum(b))
 	}
 	var e grid.End
 	switch ends {

@@ -121,6 +121,14 @@ var operatorFamily = []*Builtin{
 					return nil, err
 				}
 			}
+			if k := firstNonFinite(d); k >= 0 {
+				x, y := g.Coords()
+				at := "x = " + value.FormatNum(x[k])
+				if y != nil {
+					at = "(x, y) = (" + value.FormatNum(x[k]) + ", " + value.FormatNum(y[k]) + ")"
+				}
+				return nil, value.ValueErrorf("coef: the coefficient must be finite, but at unknown %d, %s, it is %s", k, at, value.FormatNum(d[k]))
+			}
 			return &objects.Operator{Op: &linop.Diag{D: d}, Grid: g, Label: label}, nil
 		},
 	},
@@ -133,6 +141,11 @@ var operatorFamily = []*Builtin{
 			{"operator({1, 2 | 3, 4})", "operator matrix: 2×2, dense"},
 		},
 		Impl: func(c *eval.Call) (value.Value, error) {
+			if m, ok := c.Args[0].(*value.Matrix); ok && m.Rows == m.Cols {
+				if k := firstNonFinite(m.Data); k >= 0 {
+					return nil, value.ValueErrorf("operator: an operator needs finite entries; M[%d, %d] = %s", k/m.Cols, k%m.Cols, value.FormatNum(m.Data[k]))
+				}
+			}
 			return argOperator(c, 0)
 		},
 	},
@@ -454,6 +467,16 @@ func chainImpl(c *eval.Call) (value.Value, error) {
 		}
 		ts[k] = linop.Transition{From: int(re[0]), To: int(re[1]), Rate: re[2]}
 	}
+	// Q_ii = −Σ_j Q_ij must be a finite number.
+	out := map[int]float64{}
+	for k, t := range ts {
+		if t.Rate >= 0 && !math.IsInf(t.Rate, 0) {
+			out[t.From] += t.Rate
+			if math.IsInf(out[t.From], 0) {
+				return nil, value.ValueErrorf("chain: transition %d (%d → %d): the total rate out of state %d overflows double precision", k, t.From, t.To, t.From)
+			}
+		}
+	}
 	q, err := linop.RateMatrix(n, ts)
 	if err != nil {
 		return nil, value.ValueErrorf("chain: %s", strings.TrimPrefix(err.Error(), "linop: not the generator of a Markov chain: "))
@@ -465,6 +488,22 @@ func readmmImpl(c *eval.Call) (value.Value, error) {
 	path, err := argString(c, 0)
 	if err != nil {
 		return nil, err
+	}
+	if path == "" {
+		return nil, value.Errorf("IOError", "readmm: the path is empty")
+	}
+	// A directory, pipe or device is refused before it is opened: opening
+	// a pipe without a writer would block, and a device may never end.
+	st, err := os.Stat(path)
+	if err != nil {
+		return nil, value.Errorf("IOError", "readmm: %s", ioMessage(err))
+	}
+	if !st.Mode().IsRegular() {
+		what := "not a regular file"
+		if st.IsDir() {
+			what = "a directory"
+		}
+		return nil, value.Errorf("IOError", "readmm: %s: is %s", path, what)
 	}
 	f, err := os.Open(path)
 	if err != nil {
@@ -481,6 +520,9 @@ func readmmImpl(c *eval.Call) (value.Value, error) {
 	}
 	if err := c.CheckSize(float64(len(m.V)), "readmm: the matrix"); err != nil {
 		return nil, err
+	}
+	if m.Rows == 0 || m.Cols == 0 {
+		return nil, value.ValueErrorf("readmm: %s: the matrix is %d×%d; an operator needs at least one row and one column", path, m.Rows, m.Cols)
 	}
 	label := filepath.Base(path)
 	if m.Format == mmio.Array {
@@ -502,6 +544,9 @@ func ioMessage(err error) string {
 }
 
 func writeFile(c *eval.Call, path string, write func(w *bufio.Writer) error) error {
+	if path == "" {
+		return value.Errorf("IOError", "%s: the path is empty", c.Name)
+	}
 	f, err := os.Create(path)
 	if err != nil {
 		return value.Errorf("IOError", "%s: %s", c.Name, ioMessage(err))
@@ -538,7 +583,26 @@ func writemmImpl(c *eval.Call) (value.Value, error) {
 	} else if s, err := linop.ToCSR(a.Op); err == nil {
 		sp = s
 	} else if d, err = linop.ToDense(a.Op); err != nil {
-		return nil, value.ValueErrorf("writemm: %v", err)
+		return nil, value.ValueErrorf("writemm: %s", strings.TrimPrefix(err.Error(), "memguard: "))
+	}
+	// The Matrix Market format has no NaN or infinity.
+	if sp != nil {
+		for i := 0; i < sp.Rows; i++ {
+			for p := sp.RowPtr[i]; p < sp.RowPtr[i+1]; p++ {
+				if v := sp.Val[p]; math.IsNaN(v) || math.IsInf(v, 0) {
+					return nil, value.ValueErrorf("writemm: entry (%d, %d) is %s; Matrix Market files hold finite numbers only", i, sp.ColIdx[p], value.FormatNum(v))
+				}
+			}
+		}
+	} else {
+		r, k := d.Dims()
+		for i := 0; i < r; i++ {
+			for j := 0; j < k; j++ {
+				if v := d.At(i, j); math.IsNaN(v) || math.IsInf(v, 0) {
+					return nil, value.ValueErrorf("writemm: entry (%d, %d) is %s; Matrix Market files hold finite numbers only", i, j, value.FormatNum(v))
+				}
+			}
+		}
 	}
 	err = writeFile(c, path, func(w *bufio.Writer) error {
 		var err error

@@ -198,7 +198,10 @@ var vectorFamily = []*Builtin{
 				return nil, err
 			}
 			if n < 1 {
-				return nil, value.ValueErrorf("span: n must be at least 1")
+				return nil, value.ValueErrorf("span: n must be at least 1, not %d", n)
+			}
+			if math.IsNaN(a) || math.IsInf(a, 0) || math.IsNaN(b) || math.IsInf(b, 0) || math.IsInf(b-a, 0) {
+				return nil, value.ValueErrorf("span: needs finite end points a finite distance apart, got a = %s, b = %s", value.FormatNum(a), value.FormatNum(b))
 			}
 			out := make([]float64, n)
 			if n == 1 {
