@@ -4,12 +4,13 @@
 // figures (an svg element from an image/svg+xml output, or one inside an HTML
 // output), HTML tables, no error output, SVG text inside its figure, figures
 // that fit the output area, and outputs that survive saving. It saves a
-// full-page screenshot and ends with the line 'checks: N passed, N failed'.
+// full-page screenshot of each notebook and ends with the line 'checks: N passed, N failed'.
 //
 // Started by run_browser_test.sh, which owns the server and the temporary
 // directories:
-//   node notebook_check.js --url URL --token T --notebook NAME.ipynb
-//     --chromium PATH --profile DIR --screenshot FILE.png [--timeout SECONDS]
+//   node notebook_check.js --url URL --token T --notebooks A.ipynb[,B.ipynb...]
+//     --chromium PATH --profile DIR --artifacts DIR [--timeout SECONDS]
+// Each notebook gets its own page, kernel and screenshot DIR/NAME.png.
 'use strict';
 
 const fs = require('fs');
@@ -24,7 +25,7 @@ function parseArgs(argv) {
     }
     opts[argv[i].slice(2)] = argv[i + 1];
   }
-  for (const k of ['url', 'token', 'notebook', 'chromium', 'profile', 'screenshot']) {
+  for (const k of ['url', 'token', 'notebooks', 'chromium', 'profile', 'artifacts']) {
     if (!opts[k]) throw new Error(`missing --${k}`);
   }
   opts.timeout = Number(opts.timeout) * 1000;
@@ -45,13 +46,28 @@ function summary() {
   return failed;
 }
 
+// bounded settles like p, or rejects once ms have passed: a page that stops
+// answering must not hang the test.
+function bounded(p, ms, what) {
+  let timer;
+  const limit = new Promise((_, reject) => {
+    timer = setTimeout(() => reject(new Error(`${what}: no answer within ${ms / 1000} s`)), ms);
+  });
+  return Promise.race([p, limit]).finally(() => clearTimeout(timer));
+}
+
+// ev evaluates fn(arg) in the page, within 20 s.
+function ev(page, fn, arg) {
+  return bounded(page.evaluate(fn, arg), 20000, 'page script');
+}
+
 // Polls fn in the page until it returns a truthy value or ms pass; returns the
 // last value (falsy on time-out).
 async function pollPage(page, fn, arg, ms, every = 250) {
   const end = Date.now() + ms;
   let v;
   for (;;) {
-    v = await page.evaluate(fn, arg);
+    v = await ev(page, fn, arg);
     if (v || Date.now() > end) return v;
     await page.waitForTimeout(every);
   }
@@ -83,11 +99,13 @@ function cellPrompts() {
     .map((c) => (c.input_prompt_number === undefined ? null : c.input_prompt_number));
 }
 
-// What the output area shows, counted per kind, and every SVG text or figure
-// that does not fit.
+// What the output area shows, counted per kind; every SVG text or figure
+// that does not fit; ids (clip paths, gradients) that several figures share,
+// which makes a later figure draw with an earlier one's definitions.
 function inspectOutputs() {
   const slack = 0.5; // px, for anti-aliased edges
-  const out = { svgs: 0, svgFromSvg: 0, svgInHtml: 0, tables: 0, errors: [], clipped: [], wide: [], texts: 0, figureSizes: [] };
+  const out = { svgs: 0, svgFromSvg: 0, svgInHtml: 0, tables: 0, errors: [], clipped: [], wide: [], texts: 0, figureSizes: [], ids: 0, duplicateIds: [] };
+  const idOwner = new Map(); // id → index of the first figure that has it
   const cells = Jupyter.notebook.get_cells().filter((c) => c.cell_type === 'code');
   cells.forEach((cell, k) => {
     const el = cell.element[0];
@@ -111,6 +129,12 @@ function inspectOutputs() {
           out.wide.push(
             `cell ${k + 1}: figure ${out.svgs} is ${Math.round(box.width)} px wide in an output area of ${Math.round(area.width)} px`,
           );
+        }
+        for (const x of svg.querySelectorAll('[id]')) {
+          out.ids++;
+          const first = idOwner.get(x.id);
+          if (first === undefined) idOwner.set(x.id, out.svgs);
+          else if (first !== out.svgs && !out.duplicateIds.includes(x.id)) out.duplicateIds.push(x.id);
         }
         for (const t of svg.querySelectorAll('text')) {
           const r = t.getBoundingClientRect();
@@ -136,34 +160,18 @@ function inspectOutputs() {
   return out;
 }
 
-async function main() {
-  const opts = parseArgs(process.argv.slice(2));
-  const deadline = Date.now() + opts.timeout;
-  const left = () => Math.max(1000, deadline - Date.now());
-
-  const context = await chromium.launchPersistentContext(opts.profile, {
-    executablePath: opts.chromium,
-    headless: true,
-    args: [
-      '--headless',
-      '--no-sandbox',
-      '--disable-gpu',
-      '--disable-background-networking',
-      '--disable-component-update',
-      '--disable-sync',
-      '--no-first-run',
-    ],
-    viewport: { width: 1280, height: 900 },
-  });
+// Runs one notebook in a new page and checks it; per-notebook failures are
+// recorded and the next notebook still runs.
+async function checkNotebook(context, opts, name, prefix, left) {
   const pageErrors = [];
+  const page = await context.newPage();
+  page.on('pageerror', (e) => pageErrors.push(String(e.message || e).slice(0, 200)));
+  page.setDefaultTimeout(30000);
+  const c = (what, ok, detail) => check(prefix + what, ok, detail);
   try {
-    const page = context.pages()[0] || (await context.newPage());
-    page.on('pageerror', (e) => pageErrors.push(String(e.message || e).slice(0, 200)));
-    page.setDefaultTimeout(30000);
-
-    const url = `${opts.url}/notebooks/${encodeURIComponent(opts.notebook)}?token=${opts.token}`;
+    const url = `${opts.url}/notebooks/${encodeURIComponent(name)}?token=${opts.token}`;
     const resp = await page.goto(url, { waitUntil: 'load', timeout: Math.min(30000, left()) });
-    if (!check('page loads', resp && resp.ok(), `HTTP ${resp ? resp.status() : 'none'} for /notebooks/${opts.notebook}`)) return;
+    if (!c('page loads', resp && resp.ok(), `HTTP ${resp ? resp.status() : 'none'} for /notebooks/${name}`)) return;
 
     const ready = await pollPage(
       page,
@@ -174,9 +182,9 @@ async function main() {
       kernelState.toString(),
       Math.min(60000, left()),
     );
-    const state = ready || (await page.evaluate(kernelState));
+    const state = ready || (await ev(page, kernelState));
     if (
-      !check(
+      !c(
         'kernel Semiflow starts and is idle',
         !!ready && !state.dialog && !state.dead && state.kernel === 'semiflow' && state.display === 'Semiflow',
         `kernel=${state.kernel} shown as "${state.display}" idle=${state.idle} dead=${state.dead}` +
@@ -185,7 +193,7 @@ async function main() {
     )
       return;
 
-    const nCode = (await page.evaluate(cellPrompts)).length;
+    const nCode = (await ev(page, cellPrompts)).length;
     const t0 = Date.now();
     // Cell → Run All, as a person would.
     await page.click('#celllink');
@@ -202,46 +210,51 @@ async function main() {
       left() - 8000,
     );
     const runSecs = ((Date.now() - t0) / 1000).toFixed(1);
-    const prompts = done || (await page.evaluate(cellPrompts));
-    check(
+    const prompts = done || (await ev(page, cellPrompts));
+    c(
       'Run All finishes (no In [*])',
       !!done,
       done ? `${nCode} code cells in ${runSecs} s` : `still running after ${runSecs} s: prompts ${JSON.stringify(prompts)}`,
     );
     const unrun = prompts.map((p, k) => (typeof p === 'number' ? null : k + 1)).filter((k) => k !== null);
-    check('every code cell ran', unrun.length === 0, unrun.length ? `cells without a count: ${unrun.join(', ')}` : `${nCode} cells`);
+    c('every code cell ran', unrun.length === 0, unrun.length ? `cells without a count: ${unrun.join(', ')}` : `${nCode} cells`);
 
-    const out = await page.evaluate(inspectOutputs);
-    check('no error output', out.errors.length === 0, out.errors.join(' | '));
-    check(
+    const out = await ev(page, inspectOutputs);
+    c('no error output', out.errors.length === 0, out.errors.join(' | '));
+    c(
       'at least one inline SVG figure',
       out.svgs >= 1,
       `${out.svgFromSvg} from image/svg+xml outputs, ${out.svgInHtml} inside HTML outputs` +
         (out.svgs ? `; sizes ${out.figureSizes.join(', ')} px` : '; a bundle with both text/html and image/svg+xml shows only its HTML'),
     );
-    check('at least one HTML table', out.tables >= 1, `${out.tables} tables`);
-    check(
+    c('at least one HTML table', out.tables >= 1, `${out.tables} tables`);
+    c(
       'SVG text inside its figure',
       out.svgs >= 1 && out.texts >= 1 && out.clipped.length === 0,
       out.clipped.length ? out.clipped.slice(0, 10).join(' | ') : `${out.texts} text elements checked`,
     );
-    check('figures fit the output area', out.svgs >= 1 && out.wide.length === 0, out.wide.join(' | '));
+    c('figures fit the output area', out.svgs >= 1 && out.wide.length === 0, out.wide.join(' | '));
+    c(
+      'SVG ids unique on the page',
+      out.svgs >= 1 && out.duplicateIds.length === 0,
+      out.duplicateIds.length ? `shared by several figures: ${out.duplicateIds.slice(0, 10).join(', ')}` : `${out.ids} ids`,
+    );
 
     // Save, then read the notebook back through the contents API.
-    await page.evaluate(() => Jupyter.notebook.save_notebook());
-    const saved = await page.evaluate(
-      async ([name, token]) => {
-        const r = await fetch(`/api/contents/${encodeURIComponent(name)}?type=notebook&content=1&token=${token}`);
+    await ev(page, () => Jupyter.notebook.save_notebook());
+    const saved = await ev(page, 
+      async ([nbName, token]) => {
+        const r = await fetch(`/api/contents/${encodeURIComponent(nbName)}?type=notebook&content=1&token=${token}`);
         if (!r.ok) return { status: r.status };
         const nb = (await r.json()).content;
-        const code = nb.cells.filter((c) => c.cell_type === 'code');
+        const code = nb.cells.filter((x) => x.cell_type === 'code');
         const kinds = new Set();
-        for (const c of code) for (const o of c.outputs) for (const k of Object.keys(o.data || {})) kinds.add(k);
-        return { status: r.status, counted: code.every((c) => c.execution_count !== null), kinds: [...kinds] };
+        for (const x of code) for (const o of x.outputs) for (const k of Object.keys(o.data || {})) kinds.add(k);
+        return { status: r.status, counted: code.every((x) => x.execution_count !== null), kinds: [...kinds] };
       },
-      [opts.notebook, opts.token],
+      [name, opts.token],
     );
-    check(
+    c(
       'saved notebook keeps its outputs',
       saved.status === 200 && saved.counted && saved.kinds.includes('image/svg+xml') && saved.kinds.includes('text/html'),
       `status ${saved.status}, all counted ${saved.counted}, MIME types ${(saved.kinds || []).join(' ')}`,
@@ -249,8 +262,8 @@ async function main() {
 
     // The classic notebook scrolls long outputs in a box and the page inside
     // #site; unscroll both so the screenshot shows every output in full.
-    await page.evaluate(() =>
-      Jupyter.notebook.get_cells().forEach((c) => c.output_area && c.output_area.unscroll_area()),
+    await ev(page, () =>
+      Jupyter.notebook.get_cells().forEach((x) => x.output_area && x.output_area.unscroll_area()),
     );
     await page.addStyleTag({
       content:
@@ -259,13 +272,57 @@ async function main() {
         ' #header { position: static !important; }',
     });
     await page.waitForTimeout(300);
-    fs.mkdirSync(path.dirname(opts.screenshot), { recursive: true });
-    await page.screenshot({ path: opts.screenshot, fullPage: true, timeout: Math.min(30000, left()) });
-    const size = fs.statSync(opts.screenshot).size;
-    check('full-page screenshot', size > 10000, `${opts.screenshot} (${Math.round(size / 1024)} kB)`);
+    const shot = path.join(opts.artifacts, name.replace(/\.ipynb$/, '') + '.png');
+    fs.mkdirSync(opts.artifacts, { recursive: true });
+    await page.screenshot({ path: shot, fullPage: true, timeout: Math.min(30000, left()) });
+    const size = fs.statSync(shot).size;
+    c('full-page screenshot', size > 10000, `${shot} (${Math.round(size / 1024)} kB)`);
   } finally {
-    if (pageErrors.length) console.log(`note: page script errors: ${pageErrors.slice(0, 5).join(' | ')}`);
-    await context.close();
+    if (pageErrors.length) console.log(`note: ${prefix}page script errors: ${pageErrors.slice(0, 5).join(' | ')}`);
+    // Stop this notebook's kernel so the next one starts from nothing.
+    await ev(page, () => Jupyter.notebook.session && Jupyter.notebook.session.delete()).catch(() => {});
+    await bounded(page.close(), 10000, 'closing the page').catch(() => {});
+  }
+}
+
+async function main() {
+  const opts = parseArgs(process.argv.slice(2));
+  const deadline = Date.now() + opts.timeout;
+  // Last resort: exit, which makes playwright kill the browser it started.
+  setTimeout(() => {
+    check('time limit', false, `not finished within ${opts.timeout / 1000 + 3} s`);
+    summary();
+    process.exit(1);
+  }, opts.timeout + 3000).unref();
+  const left = () => Math.max(1000, deadline - Date.now());
+  const names = opts.notebooks.split(',').filter((x) => x);
+
+  const context = await chromium.launchPersistentContext(opts.profile, {
+    executablePath: opts.chromium,
+    headless: true,
+    args: [
+      '--headless',
+      '--no-sandbox',
+      '--disable-gpu',
+      '--disable-background-networking',
+      '--disable-component-update',
+      '--disable-sync',
+      '--no-first-run',
+    ],
+    viewport: { width: 1280, height: 900 },
+  });
+  try {
+    for (const name of names) {
+      if (deadline - Date.now() < 5000) {
+        check(`${name}: started`, false, 'no time left');
+        continue;
+      }
+      const t0 = Date.now();
+      await checkNotebook(context, opts, name, names.length > 1 ? `${name}: ` : '', left);
+      console.log(`time: ${name} ${((Date.now() - t0) / 1000).toFixed(1)} s`);
+    }
+  } finally {
+    await bounded(context.close(), 15000, 'closing the browser').catch((e) => console.log(`note: ${e.message}`));
   }
 }
 

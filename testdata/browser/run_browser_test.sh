@@ -8,12 +8,14 @@
 # under headless Chromium (playwright-core driving /usr/bin/chromium; no browser
 # is ever downloaded). The script runs every cell through the Cell menu and
 # checks for inline SVG figures, HTML tables, no error output, unclipped SVG
-# text and outputs that survive saving; it writes a full-page screenshot to
-# $ARTIFACT_DIR (default testdata/browser/artifacts/).
+# text, SVG ids unique on the page and outputs that survive saving; it writes
+# a full-page screenshot of
+# each notebook to $ARTIFACT_DIR (default testdata/browser/artifacts/).
 #
 # Environment:
 #   CI=true            missing chromium, node, npm or the notebook server is a failure, not a skip
-#   NOTEBOOK=path      the notebook to run (default: notebooks/shear_transient_growth.ipynb,
+#   NOTEBOOK=paths     the notebooks to run, separated by spaces, or "all" for every
+#                      notebooks/*.ipynb (default: notebooks/shear_transient_growth.ipynb,
 #                      else the first notebooks/*.ipynb, else testdata/browser/smoke.ipynb)
 #   SEMIFLOW_BIN=path  use this binary instead of building one
 #   SEMIFLOW_PYTHON    the interpreter that has the notebook server (default /usr/bin/python3)
@@ -75,6 +77,11 @@ cleanup() {
 		kill -9 "$server_pid" 2>/dev/null
 		wait "$server_pid" 2>/dev/null
 	fi
+	# A browser left behind by a killed node process: its processes are the
+	# ones whose command line names this run's own profile directory.
+	for pid in $(pgrep -f -- "--user-data-dir=$tmp/profile" 2>/dev/null); do
+		kill -9 "$pid" 2>/dev/null
+	done
 	rm -rf "$tmp"
 }
 trap cleanup EXIT
@@ -90,20 +97,28 @@ export JUPYTER_DATA_DIR="$tmp/data" JUPYTER_PATH="$tmp/data" JUPYTER_CONFIG_DIR=
 	JUPYTER_RUNTIME_DIR="$tmp/runtime" IPYTHONDIR="$tmp/ipython" JUPYTER_PLATFORM_DIRS=1 PYTHONDONTWRITEBYTECODE=1
 "$tmp/semiflow" install --user >/dev/null || fail "semiflow install failed"
 
-nb="${NOTEBOOK:-}"
-if [ -z "$nb" ]; then
+case "${NOTEBOOK:-}" in
+"")
 	if [ -f "$root/notebooks/shear_transient_growth.ipynb" ]; then
-		nb="$root/notebooks/shear_transient_growth.ipynb"
+		notebooks="$root/notebooks/shear_transient_growth.ipynb"
 	else
-		nb="$(ls "$root"/notebooks/*.ipynb 2>/dev/null | head -1)"
-		[ -n "$nb" ] || nb="$here/smoke.ipynb"
+		notebooks="$(ls "$root"/notebooks/*.ipynb 2>/dev/null | head -1)"
+		[ -n "$notebooks" ] || notebooks="$here/smoke.ipynb"
 	fi
-fi
-[ -f "$nb" ] || fail "notebook $nb not found"
+	;;
+all)
+	notebooks="$(ls "$root"/notebooks/*.ipynb 2>/dev/null)"
+	[ -n "$notebooks" ] || fail "no notebooks/*.ipynb"
+	;;
+*) notebooks="$NOTEBOOK" ;;
+esac
 mkdir -p "$tmp/nb"
-name="$(basename "$nb")"
-# Outputs and execution counts cleared, so whatever the page shows was computed now.
-"$py" - "$nb" "$tmp/nb/$name" <<'EOF' || fail "cannot clear the outputs of $nb"
+names=""
+for nb in $notebooks; do
+	[ -f "$nb" ] || fail "notebook $nb not found"
+	name="$(basename "$nb")"
+	# Outputs and execution counts cleared, so whatever the page shows was computed now.
+	"$py" - "$nb" "$tmp/nb/$name" <<'EOF' || fail "cannot clear the outputs of $nb"
 import sys, warnings, nbformat
 warnings.simplefilter("ignore")  # missing cell ids in older notebooks
 nb = nbformat.read(sys.argv[1], as_version=4)
@@ -113,7 +128,9 @@ for cell in nb.cells:
         cell.execution_count = None
 nbformat.write(nb, sys.argv[2])
 EOF
-echo "run_browser_test: notebook ${nb#"$root"/}"
+	echo "run_browser_test: notebook ${nb#"$root"/}"
+	names="${names:+$names,}$name"
+done
 
 port="$("$py" -c 'import socket; s = socket.socket(); s.bind(("127.0.0.1", 0)); print(s.getsockname()[1]); s.close()')"
 token="$("$py" -c 'import secrets; print(secrets.token_hex(24))')"
@@ -139,10 +156,11 @@ done
 
 mkdir -p "$artifacts"
 (cd "$here" && timeout -k 5 "$limit" node notebook_check.js \
-	--url "http://127.0.0.1:$port" --token "$token" --notebook "$name" \
-	--chromium "$chromium" --profile "$tmp/profile" --screenshot "$artifacts/${name%.ipynb}.png" \
-	--timeout "$((limit - 10))") 2>&1 | tee "$tmp/check.log"
-rc=${PIPESTATUS[0]}
+	--url "http://127.0.0.1:$port" --token "$token" --notebooks "$names" \
+	--chromium "$chromium" --profile "$tmp/profile" --artifacts "$artifacts" \
+	--timeout "$((limit - 10))") >"$tmp/check.log" 2>&1
+rc=$?
+cat "$tmp/check.log"
 if [ "$rc" -eq 124 ] || [ "$rc" -eq 137 ]; then
 	echo "run_browser_test: the browser check was stopped after ${limit} s"
 fi
