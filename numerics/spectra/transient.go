@@ -63,18 +63,21 @@ func newShape(m *mat.Dense) (*shape, error) {
 // takes the longer Newton step for log σ_min (∂σ/∂x = Re(uᴴv) from the
 // singular vectors; σ_min often varies exponentially with x for strongly
 // non-normal A) and, once a step lands inside σ_ε, finishes by bisection
-// to absolute tolerance 1e-12·scale. Steps are at least 10⁻³ of the width
-// of W(A), so that a local minimum of σ slightly above ε is passed quickly.
-// When a step longer than the Lipschitz step lands where σ increases
-// leftwards, the minimum it passed is searched (golden section) for points
-// of σ_ε; a non-unimodal σ within one step could still hide a thin part of
-// σ_ε (the Lipschitz step alone cannot).
+// to absolute tolerance 1e-12·scale. A step longer than the Lipschitz
+// step σ_min − eps is never longer than eps/2: every point z0 with
+// σ_min(z0) ≤ eps/2 has the whole segment |x − Re z0| ≤ eps/2 inside σ_ε,
+// so such a step cannot jump over it, and the walk is exact for every part
+// of σ_ε that reaches down to σ_min ≤ eps/2 (for stiff operators W(A) is
+// far wider than σ_ε near the imaginary axis, so steps scaled to W(A)
+// would skip it). Only after maxWalk steps may steps grow beyond eps/2
+// (to (x − lower)/maxWalk), which bounds the work. When a step longer
+// than the Lipschitz step lands where σ increases leftwards, the minimum
+// it passed is searched (golden section) for points of σ_ε.
 func (sh *shape) rightmostOnLine(ctx context.Context, y, eps float64) (float64, error) {
 	x := sh.omega + eps
 	lower := sh.omegaLeft - eps
 	tol := 1e-12 * (math.Abs(sh.omega) + math.Abs(sh.omegaLeft) + eps)
-	minStep := 1e-3 * (sh.omega - sh.omegaLeft + 2*eps) // progress near a local minimum above ε
-	for it := 0; it < 3000; it++ {
+	for it := 0; it < 2*maxWalk; it++ {
 		if ctx.Err() != nil {
 			return 0, ctx.Err()
 		}
@@ -83,10 +86,15 @@ func (sh *shape) rightmostOnLine(ctx context.Context, y, eps float64) (float64, 
 		if gap <= tol {
 			return x, nil // on the boundary to tolerance
 		}
-		step := math.Max(gap, minStep)
+		// Longer than the Lipschitz step only by at most eps/2 (see above).
+		long := eps / 2
 		if g := real(cdot(u, v)); g > 0 {
-			step = math.Max(step, sg*math.Log(sg/eps)/g)
+			long = math.Min(long, math.Max(sg*math.Log(sg/eps)/g, 0))
 		}
+		if it >= maxWalk {
+			long = math.Max(long, (x-lower)/maxWalk)
+		}
+		step := math.Max(gap, long)
 		if x-step < lower {
 			if x-gap < lower {
 				return math.Inf(-1), nil
@@ -211,6 +219,10 @@ func (sh *shape) pseudoAbscissa(ctx context.Context, eps float64) (*AbscissaResu
 		Accuracy: "per line to relative 1e-12; the maximum over lines is local (a lower bound of α_ε, typically exact to ~1e-8 in Im z)",
 	}, nil
 }
+
+// maxWalk is the number of walk steps per line kept no longer than eps/2
+// beyond the Lipschitz step.
+const maxWalk = 20000
 
 // maxLines bounds the eigenvalue-based starting lines of the searches.
 const maxLines = 60
