@@ -353,10 +353,9 @@ bounds α_ε/ε from pseudospectra.
 about 15 at t ≈ 40. The dashed lines are the bounds; the curve must lie above the Kreiss constant line
 at its peak, and start with slope ω(A) > 0.
 
-*Known defect:* the row for ε = 0.001 reports an α_ε to the left of the rightmost eigenvalue, which
-cannot be (σ_ε contains a disc of radius ε round every eigenvalue, and here ‖(0·I − A)⁻¹‖ ≈ 1655 > 1/ε,
-so 0 ∈ σ_ε and α_ε ≥ 0). The search for α_ε misses the set at that level for this defective matrix; read
-that row as "not computed". The curve and the other bounds are unaffected.
+**A check on the ε rows.** σ_ε contains every z with ‖(zI − A)⁻¹‖ ≥ 1/ε. Here
+‖(0·I − A)⁻¹‖ ≈ 1655 > 1/0.001, so 0 ∈ σ_ε for ε = 0.001 and α_ε must be ≥ 0 although every
+eigenvalue is negative — the cell after the growth curve computes both numbers.
 
 **Closed form to check it.** Since A = X ⊕ L, e^{tA} = e^{tX} ⊗ e^{tL} and ‖e^{tA}‖ =
 ‖[[1, −t], [0, 1]]‖ · ‖e^{tL}‖ ≈ (t/2 + √(1 + t²/4)) · e^{−νπ²t/4}; this is maximal near
@@ -365,6 +364,10 @@ t ≈ 4/(νπ²) ≈ 40.5, with a value of about 15.
     code("""
 gr = growth(A, t=0 .. 120 by 4)
 gr
+"""),
+    code("""
+resolvent(A, 0)                     # > 1/0.001, so 0 lies in the 0.001-pseudospectrum
+psabscissa(A, 0.001)                # hence α_ε ≥ 0 for ε = 0.001
 """),
     code("""
 model(t) = (t / 2 + sqrt(1 + t^2 / 4)) * exp(-nu * pi^2 * t / 4)
