@@ -95,14 +95,17 @@ func (s *Session) ExecuteNamed(ctx context.Context, name, src string, out Output
 			return nil, nil, err
 		}
 		s.publish(st)
-		b := display.Bundle(v)
+		b, md, err := displayGuarded(v, script.File, st)
+		if err != nil {
+			return nil, nil, err
+		}
 		if b == nil {
 			continue
 		}
 		if i == len(script.Stmts)-1 {
-			return b, display.Metadata(v), nil
+			return b, md, nil
 		}
-		out.Display(b, display.Metadata(v), "", false)
+		out.Display(b, md, "", false)
 	}
 	return nil, nil, nil
 }
@@ -154,6 +157,24 @@ func (discard) Page(map[string]any)                                  {}
 // execGuarded runs one statement and turns a panic (a bug, or misuse
 // inside a builtin) into an InternalError at the statement, so a session
 // survives it. Tests treat InternalError as a failure.
+// displayGuarded renders v's MIME bundle and metadata, turning a panic in a
+// value's display into an InternalError at the statement (the statement's
+// effect on the session is kept; only its display failed).
+func displayGuarded(v value.Value, f *syntax.File, st syntax.Stmt) (b, md map[string]any, err error) {
+	defer func() {
+		if r := recover(); r != nil {
+			b, md = nil, nil
+			err = &eval.Error{Name: "InternalError", Msg: fmt.Sprintf("internal error while displaying a %s: %v (please report this input)", v.Type(), r),
+				File: f, Pos: st.Pos(), End: st.End()}
+		}
+	}()
+	b = display.Bundle(v)
+	if b == nil {
+		return nil, nil, nil
+	}
+	return b, display.Metadata(v), nil
+}
+
 func execGuarded(ctx context.Context, in *eval.Interp, f *syntax.File, st syntax.Stmt) (v value.Value, err error) {
 	defer func() {
 		if r := recover(); r != nil {

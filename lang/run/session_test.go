@@ -408,3 +408,24 @@ func TestPanicBecomesInternalError(t *testing.T) {
 		t.Errorf("err = %v, want an InternalError", err)
 	}
 }
+
+// panicky is a value whose display panics, standing for a display bug.
+type panicky struct{}
+
+func (panicky) Type() string   { return "panicky" }
+func (panicky) String() string { panic("display bug") }
+
+// TestDisplayPanicIsAnError checks that a panic while displaying a value
+// becomes an InternalError at the statement, and the session keeps its
+// variables.
+func TestDisplayPanicIsAnError(t *testing.T) {
+	f := syntax.NewFile("cell", "x")
+	script, errs := syntax.ParseFile(f)
+	if len(errs) > 0 {
+		t.Fatal(errs)
+	}
+	_, _, err := displayGuarded(panicky{}, f, script.Stmts[0])
+	if err == nil || !strings.Contains(err.Error(), "internal error while displaying a panicky") {
+		t.Fatalf("got %v", err)
+	}
+}
