@@ -2,6 +2,7 @@ package spectra
 
 import (
 	"fmt"
+	"math"
 
 	"gonum.org/v1/gonum/mat"
 
@@ -36,7 +37,7 @@ func toDense(a linop.Operator) (*mat.Dense, error) {
 	if d, ok := a.(denser); ok {
 		m, err := d.ToDense()
 		if err == nil {
-			return m, nil
+			return m, checkFinite(m)
 		}
 	}
 	m := mat.NewDense(max(r, 1), max(r, 1), nil)
@@ -51,7 +52,22 @@ func toDense(a linop.Operator) (*mat.Dense, error) {
 		x[j] = 0
 		m.SetCol(j, col)
 	}
-	return m, nil
+	return m, checkFinite(m)
+}
+
+// checkFinite returns an error naming the first NaN or infinite entry of m:
+// no spectral quantity of such a matrix means anything, and LAPACK's
+// iterations would otherwise fail with an unrelated message.
+func checkFinite(m *mat.Dense) error {
+	r, c := m.Dims()
+	for i := 0; i < r; i++ {
+		for j := 0; j < c; j++ {
+			if v := m.At(i, j); math.IsNaN(v) || math.IsInf(v, 0) {
+				return numErr("entry (%d, %d) of the operator is %v; spectral analysis needs finite entries", i, j, v)
+			}
+		}
+	}
+	return nil
 }
 
 // Weight is a weighted inner product ⟨x, y⟩_W = xᵀ W y with W = RᵀR

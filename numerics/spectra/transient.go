@@ -435,6 +435,9 @@ func GrowthCurve(ctx context.Context, a linop.Operator, times []float64, opt *Gr
 		if err != nil {
 			return 0, nil, 0, err
 		}
+		if err := checkFinite(&e); err != nil {
+			return 0, nil, 0, numErr("‖e^{tA}‖ overflows at t = %g (beyond %g); choose smaller times", t, math.MaxFloat64)
+		}
 		var svd mat.SVD
 		kind := mat.SVDNone
 		if wantVec {
