@@ -153,6 +153,7 @@ b = propagate({-1}, [0], [1, 3], nonlinear=N)`)
 type recorder struct {
 	mu     sync.Mutex
 	shown  []string
+	texts  []string
 	result chan struct{}
 }
 
@@ -161,6 +162,8 @@ func (r *recorder) Display(data, _ map[string]any, id string, update bool) {
 	r.mu.Lock()
 	defer r.mu.Unlock()
 	r.shown = append(r.shown, id)
+	t, _ := data["text/plain"].(string)
+	r.texts = append(r.texts, t)
 }
 func (r *recorder) Clear(bool)          {}
 func (r *recorder) Page(map[string]any) {}
@@ -219,6 +222,12 @@ u = sample(1, g)`)
 	defer rec.mu.Unlock()
 	if !strings.HasPrefix(rec.shown[0], "progress-propagate") {
 		t.Errorf("display ids %v, want progress-propagate-…", rec.shown)
+	}
+	// The progress display is replaced by a line saying the work was
+	// interrupted, under the same display id.
+	n := len(rec.texts)
+	if last := rec.texts[n-1]; !strings.HasSuffix(last, "— interrupted") || rec.shown[n-1] != rec.shown[0] {
+		t.Errorf("last progress update %q (id %s), want an interrupted note on %s", last, rec.shown[n-1], rec.shown[0])
 	}
 }
 

@@ -33,6 +33,14 @@ type Call struct {
 	sc       *scope
 	site     syntax.Node
 	argNodes []syntax.Node
+	progress []*progressDisplay
+}
+
+// progressDisplay is one progress display a call has shown.
+type progressDisplay struct {
+	id          string
+	shown       bool
+	done, total int
 }
 
 // Out is where the call writes output.
@@ -272,6 +280,7 @@ func (in *Interp) callArgs(sc *scope, site syntax.Node, fn value.Callable, pos [
 	case Native:
 		c := &Call{Interp: in, Ctx: in.ctx, Name: name, Args: args, Rest: rest, sc: sc, site: site}
 		v, err := f.CallNative(c)
+		c.finishProgress(err)
 		if err != nil {
 			return nil, in.wrap(sc, site, err)
 		}
@@ -286,25 +295,52 @@ func (in *Interp) callArgs(sc *scope, site syntax.Node, fn value.Callable, pos [
 // Progress returns a callback for long computations, func(done, total
 // int), that shows "name: done/total (p%)" in one display updated in place,
 // at most every 200 ms and once at completion. Long builtins pass it to
-// numerics routines that accept a progress callback.
+// numerics routines that accept a progress callback. When the call returns,
+// a display that was shown is replaced: by an empty bundle when the call
+// succeeded (its result follows as the cell's output), or by a line saying
+// where the work stopped when it was interrupted or failed.
 func (c *Call) Progress() func(done, total int) {
 	in := c.Interp
 	in.progressSeq++
-	id := fmt.Sprintf("progress-%s-%d", c.Name, in.progressSeq)
+	p := &progressDisplay{id: fmt.Sprintf("progress-%s-%d", c.Name, in.progressSeq)}
+	c.progress = append(c.progress, p)
 	var last time.Time
-	shown := false
 	return func(done, total int) {
+		p.done, p.total = done, total
 		now := time.Now()
 		if done < total && now.Sub(last) < 200*time.Millisecond {
 			return
 		}
 		last = now
-		pct := 100.0
-		if total > 0 {
-			pct = 100 * float64(done) / float64(total)
-		}
-		text := fmt.Sprintf("%s: %d/%d (%.0f%%)", c.Name, done, total, pct)
-		in.Out.Display(map[string]any{"text/plain": text}, map[string]any{}, id, shown)
-		shown = true
+		in.Out.Display(map[string]any{"text/plain": progressText(c.Name, done, total)}, map[string]any{}, p.id, p.shown)
+		p.shown = true
 	}
+}
+
+func progressText(name string, done, total int) string {
+	pct := 100.0
+	if total > 0 {
+		pct = 100 * float64(done) / float64(total)
+	}
+	return fmt.Sprintf("%s: %d/%d (%.0f%%)", name, done, total, pct)
+}
+
+// finishProgress replaces the call's shown progress displays once it has
+// returned with err (see Progress).
+func (c *Call) finishProgress(err error) {
+	for _, p := range c.progress {
+		if !p.shown {
+			continue
+		}
+		text := ""
+		switch {
+		case err == nil:
+		case c.Ctx != nil && c.Ctx.Err() != nil:
+			text = progressText(c.Name, p.done, p.total) + " — interrupted"
+		default:
+			text = progressText(c.Name, p.done, p.total) + " — stopped by an error"
+		}
+		c.Interp.Out.Display(map[string]any{"text/plain": text}, map[string]any{}, p.id, true)
+	}
+	c.progress = nil
 }
