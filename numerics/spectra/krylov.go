@@ -4,8 +4,6 @@ import (
 	"context"
 	"fmt"
 	"math/cmplx"
-	"sync"
-	"sync/atomic"
 
 	"gonum.org/v1/gonum/mat"
 
@@ -54,54 +52,36 @@ func PseudoKrylov(ctx context.Context, a linop.Operator, r Region, m int, opt *G
 	}
 	re, im := r.Points()
 	p := &Pseudospectra{Re: re, Im: im, Sigma: make([]float64, len(re)*len(im)), Eigenvalues: ritz}
-	var next, done atomic.Int64
-	var mu sync.Mutex
-	var wg sync.WaitGroup
 	maxIt := make([]int, o.Workers)
 	unconv := make([]int, o.Workers)
-	for w := 0; w < o.Workers; w++ {
-		wg.Add(1)
-		go func(w int) {
-			defer wg.Done()
-			mz := make([]complex128, hm*m) // zĨ − H̃, row-major (m+1)×m
-			t := make([]complex128, m*m)   // −R, so that 0·I − t = R
-			ts := newTriSigma(t, m, o.Tol, o.MaxIter)
-			for {
-				i := int(next.Add(1) - 1)
-				if i >= len(re) || ctx.Err() != nil {
-					return
+	err := parallelEach(ctx, o.Workers, len(re), o.Progress, func(w int) func(int) {
+		mz := make([]complex128, hm*m) // zĨ − H̃, row-major (m+1)×m
+		t := make([]complex128, m*m)   // −R, so that 0·I − t = R
+		ts := newTriSigma(t, m, o.Tol, o.MaxIter)
+		return func(i int) {
+			for j := range im {
+				z := complex(re[i], im[j])
+				for k := range mz {
+					mz[k] = complex(-ks.h[k], 0)
 				}
-				for j := range im {
-					z := complex(re[i], im[j])
-					for k := range mz {
-						mz[k] = complex(-ks.h[k], 0)
-					}
-					for d := 0; d < m; d++ {
-						mz[d*m+d] += z
-					}
-					hessenbergR(mz, m)
-					for k := 0; k < m*m; k++ {
-						t[k] = -mz[k]
-					}
-					ts.st.load(t)
-					res := ts.eval(0, j > 0, false)
-					p.Sigma[i*len(im)+j] = res.sigma
-					maxIt[w] = max(maxIt[w], res.its)
-					if !res.conv {
-						unconv[w]++
-					}
+				for d := 0; d < m; d++ {
+					mz[d*m+d] += z
 				}
-				d := int(done.Add(1))
-				if o.Progress != nil {
-					mu.Lock()
-					o.Progress(d, len(re))
-					mu.Unlock()
+				hessenbergR(mz, m)
+				for k := 0; k < m*m; k++ {
+					t[k] = -mz[k]
+				}
+				ts.st.load(t)
+				res := ts.eval(0, j > 0, false)
+				p.Sigma[i*len(im)+j] = res.sigma
+				maxIt[w] = max(maxIt[w], res.its)
+				if !res.conv {
+					unconv[w]++
 				}
 			}
-		}(w)
-	}
-	wg.Wait()
-	if err := ctx.Err(); err != nil {
+		}
+	})
+	if err != nil {
 		return nil, err
 	}
 	for w := range maxIt {

@@ -4,8 +4,6 @@ import (
 	"context"
 	"fmt"
 	"runtime"
-	"sync"
-	"sync/atomic"
 
 	"semiflow/numerics/linop"
 )
@@ -120,40 +118,22 @@ func (s *Schur) Pseudo(ctx context.Context, r Region, opt *GridOptions) (*Pseudo
 	o := opt.defaults()
 	re, im := r.Points()
 	p := &Pseudospectra{Re: re, Im: im, Sigma: make([]float64, len(re)*len(im)), Eigenvalues: s.Eigenvalues()}
-	var next, done atomic.Int64
-	var mu sync.Mutex
-	var wg sync.WaitGroup
 	maxIt := make([]int, o.Workers)
 	unconv := make([]int, o.Workers)
-	for w := 0; w < o.Workers; w++ {
-		wg.Add(1)
-		go func(w int) {
-			defer wg.Done()
-			ts := newTriSigma(s.T, s.N, o.Tol, o.MaxIter)
-			for {
-				i := int(next.Add(1) - 1)
-				if i >= len(re) || ctx.Err() != nil {
-					return
-				}
-				for j := range im {
-					res := ts.eval(complex(re[i], im[j]), j > 0, false)
-					p.Sigma[i*len(im)+j] = res.sigma
-					maxIt[w] = max(maxIt[w], res.its)
-					if !res.conv {
-						unconv[w]++
-					}
-				}
-				d := int(done.Add(1))
-				if o.Progress != nil {
-					mu.Lock()
-					o.Progress(d, len(re))
-					mu.Unlock()
+	err := parallelEach(ctx, o.Workers, len(re), o.Progress, func(w int) func(int) {
+		ts := newTriSigma(s.T, s.N, o.Tol, o.MaxIter)
+		return func(i int) {
+			for j := range im {
+				res := ts.eval(complex(re[i], im[j]), j > 0, false)
+				p.Sigma[i*len(im)+j] = res.sigma
+				maxIt[w] = max(maxIt[w], res.its)
+				if !res.conv {
+					unconv[w]++
 				}
 			}
-		}(w)
-	}
-	wg.Wait()
-	if err := ctx.Err(); err != nil {
+		}
+	})
+	if err != nil {
 		return nil, err
 	}
 	for w := range maxIt {

@@ -4,8 +4,6 @@ import (
 	"context"
 	"fmt"
 	"math"
-	"sync"
-	"sync/atomic"
 
 	"semiflow/numerics/linop"
 	"semiflow/numerics/solve"
@@ -36,36 +34,18 @@ func (s *Schur) ResolventNorms(ctx context.Context, zs []complex128, opt *GridOp
 		o.Tol = 1e-10
 	}
 	p := &ResolventProfile{Z: append([]complex128(nil), zs...), Norm: make([]float64, len(zs))}
-	var next, done atomic.Int64
-	var mu sync.Mutex
-	var wg sync.WaitGroup
 	unconv := make([]int, o.Workers)
-	for w := 0; w < o.Workers; w++ {
-		wg.Add(1)
-		go func(w int) {
-			defer wg.Done()
-			ts := newTriSigma(s.T, s.N, o.Tol, o.MaxIter)
-			for {
-				k := int(next.Add(1) - 1)
-				if k >= len(zs) || ctx.Err() != nil {
-					return
-				}
-				r := ts.eval(zs[k], false, false)
-				p.Norm[k] = 1 / r.sigma
-				if !r.conv {
-					unconv[w]++
-				}
-				if o.Progress != nil {
-					d := int(done.Add(1))
-					mu.Lock()
-					o.Progress(d, len(zs))
-					mu.Unlock()
-				}
+	err := parallelEach(ctx, o.Workers, len(zs), o.Progress, func(w int) func(int) {
+		ts := newTriSigma(s.T, s.N, o.Tol, o.MaxIter)
+		return func(k int) {
+			r := ts.eval(zs[k], false, false)
+			p.Norm[k] = 1 / r.sigma
+			if !r.conv {
+				unconv[w]++
 			}
-		}(w)
-	}
-	wg.Wait()
-	if err := ctx.Err(); err != nil {
+		}
+	})
+	if err != nil {
 		return nil, err
 	}
 	nu := 0

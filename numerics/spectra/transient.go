@@ -6,8 +6,6 @@ import (
 	"math"
 	"runtime"
 	"sort"
-	"sync"
-	"sync/atomic"
 
 	"gonum.org/v1/gonum/mat"
 
@@ -511,20 +509,5 @@ func GrowthCurve(ctx context.Context, a linop.Operator, times []float64, opt *Gr
 // parallelFor calls f(0..n−1) on GOMAXPROCS goroutines, stopping early
 // when ctx is cancelled.
 func parallelFor(ctx context.Context, n int, f func(i int)) {
-	var next atomic.Int64
-	var wg sync.WaitGroup
-	for w := 0; w < runtime.GOMAXPROCS(0); w++ {
-		wg.Add(1)
-		go func() {
-			defer wg.Done()
-			for {
-				i := int(next.Add(1) - 1)
-				if i >= n || ctx.Err() != nil {
-					return
-				}
-				f(i)
-			}
-		}()
-	}
-	wg.Wait()
+	parallelEach(ctx, runtime.GOMAXPROCS(0), n, nil, func(int) func(int) { return f })
 }
