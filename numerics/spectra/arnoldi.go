@@ -173,23 +173,25 @@ type krylovSchur struct {
 	h     []float64   // (m+1)×m, row-major, stride m
 }
 
+// start allocates the m+1 basis vectors and the (m+1)×m Hessenberg matrix,
+// all zero, and sets v₀ to a unit pseudo-random vector from xorshiftFill
+// at seed. It returns the generator's state for further random vectors.
+func (ks *krylovSchur) start(seed uint64) uint64 {
+	ks.v = make([][]float64, ks.m+1)
+	for i := range ks.v {
+		ks.v[i] = make([]float64, ks.n)
+	}
+	ks.h = make([]float64, (ks.m+1)*ks.m)
+	seed = xorshiftFill(ks.v[0], seed)
+	normalise(ks.v[0])
+	return seed
+}
+
 // run returns the nev wanted Ritz values θ (a conjugate pair is kept whole,
 // so there may be nev+1) with unit Ritz vectors.
 func (ks *krylovSchur) run(ctx context.Context, nev int, tol float64, maxRestarts int, better func(x, y complex128) bool, progress func(int, int)) ([]complex128, [][]complex128, int, int, error) {
 	n, m := ks.n, ks.m
-	ks.v = make([][]float64, m+1)
-	for i := range ks.v {
-		ks.v[i] = make([]float64, n)
-	}
-	ks.h = make([]float64, (m+1)*m)
-	seed := uint64(2463534242)
-	for i := range ks.v[0] {
-		seed ^= seed << 13
-		seed ^= seed >> 7
-		seed ^= seed << 17
-		ks.v[0][i] = float64(seed>>11)/float64(1<<53) - 0.5
-	}
-	normalise(ks.v[0])
+	seed := ks.start(2463534242)
 	k := 0
 	w := make([]float64, n)
 	var t, q []float64
@@ -204,12 +206,7 @@ func (ks *krylovSchur) run(ctx context.Context, nev int, tol float64, maxRestart
 			beta := ks.orthogonalise(w, j+1, j)
 			if beta <= 1e-14*math.Max(ks.hnorm(j), 1e-300) && j+1 < m+1 {
 				// Invariant subspace: continue with a fresh orthogonal direction.
-				for i := range w {
-					seed ^= seed << 13
-					seed ^= seed >> 7
-					seed ^= seed << 17
-					w[i] = float64(seed>>11)/float64(1<<53) - 0.5
-				}
+				seed = xorshiftFill(w, seed)
 				var tmp = make([]float64, m+1)
 				ks.orthogonaliseInto(w, j+1, tmp)
 				normalise(w)

@@ -47,13 +47,7 @@ func GrowthEstimate(ctx context.Context, a linop.Operator, times []float64, iter
 		tol = 1e-8
 	}
 	v := make([]float64, n)
-	seed := uint64(521288629)
-	for i := range v {
-		seed ^= seed << 13
-		seed ^= seed >> 7
-		seed ^= seed << 17
-		v[i] = float64(seed>>11)/float64(1<<53) - 0.5
-	}
+	xorshiftFill(v, 521288629)
 	normalise(v)
 	at := transposeOp{a}
 	g := &Growth{T: append([]float64(nil), times...), Norm: make([]float64, len(times))}

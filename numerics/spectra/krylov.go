@@ -97,19 +97,7 @@ func PseudoKrylov(ctx context.Context, a linop.Operator, r Region, m int, opt *G
 // arnoldi runs m steps of Arnoldi from a fixed pseudo-random start.
 func (ks *krylovSchur) arnoldi(ctx context.Context) error {
 	n, m := ks.n, ks.m
-	ks.v = make([][]float64, m+1)
-	for i := range ks.v {
-		ks.v[i] = make([]float64, n)
-	}
-	ks.h = make([]float64, (m+1)*m)
-	seed := uint64(88172645463325252)
-	for i := range ks.v[0] {
-		seed ^= seed << 13
-		seed ^= seed >> 7
-		seed ^= seed << 17
-		ks.v[0][i] = float64(seed>>11)/float64(1<<53) - 0.5
-	}
-	normalise(ks.v[0])
+	ks.start(88172645463325252)
 	w := make([]float64, n)
 	for j := 0; j < m; j++ {
 		if err := ctx.Err(); err != nil {

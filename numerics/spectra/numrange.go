@@ -247,13 +247,7 @@ func (h *hermParts) topLanczos(th float64) (float64, []complex128, error) {
 	}
 	m := 2 * n
 	q := [][]float64{make([]float64, m)}
-	seed := uint64(7777777)
-	for i := range q[0] {
-		seed ^= seed << 13
-		seed ^= seed >> 7
-		seed ^= seed << 17
-		q[0][i] = float64(seed>>11)/float64(1<<53) - 0.5
-	}
+	xorshiftFill(q[0], 7777777)
 	normalise(q[0])
 	var alpha, beta []float64
 	var theta float64
@@ -408,13 +402,7 @@ func symTopLanczos(a linop.Operator, w Weight, maxIter int, tol float64) (float6
 		}
 	}
 	q := [][]float64{make([]float64, n)}
-	seed := uint64(99991)
-	for i := range q[0] {
-		seed ^= seed << 13
-		seed ^= seed >> 7
-		seed ^= seed << 17
-		q[0][i] = float64(seed>>11)/float64(1<<53) - 0.5
-	}
+	xorshiftFill(q[0], 99991)
 	normalise(q[0])
 	var alpha, beta []float64
 	theta := math.Inf(-1)

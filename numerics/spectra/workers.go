@@ -40,3 +40,17 @@ func parallelEach(ctx context.Context, workers, n int, progress func(done, total
 	wg.Wait()
 	return ctx.Err()
 }
+
+// xorshiftFill sets every v[i] to a pseudo-random value in [−1/2, 1/2)
+// from Marsaglia's xorshift64 generator (J. Stat. Softw. 2003, shifts
+// 13, 7, 17) started at seed, and returns the generator's state after the
+// last value so that a caller may continue the sequence.
+func xorshiftFill(v []float64, seed uint64) uint64 {
+	for i := range v {
+		seed ^= seed << 13
+		seed ^= seed >> 7
+		seed ^= seed << 17
+		v[i] = float64(seed>>11)/float64(1<<53) - 0.5
+	}
+	return seed
+}
