@@ -6,7 +6,9 @@ package display
 import "semiflow/lang/value"
 
 // Bundle returns the MIME bundle of v: "text/plain" is v.String(); a
-// value.Displayer adds its own entries (but cannot replace text/plain).
+// value.Displayer adds its own entries (but cannot replace text/plain); a
+// value.Recorder adds its record as "application/json" (machine-readable:
+// method, tolerance, error estimates, work).
 // Bundle(nil) and Bundle(value.None) are nil.
 func Bundle(v value.Value) map[string]any {
 	if v == nil || v == value.None {
@@ -16,6 +18,11 @@ func Bundle(v value.Value) map[string]any {
 	if d, ok := v.(value.Displayer); ok {
 		for k, x := range d.MIME() {
 			b[k] = x
+		}
+	}
+	if r, ok := v.(value.Recorder); ok {
+		if _, has := b["application/json"]; !has {
+			b["application/json"] = r.Record()
 		}
 	}
 	b["text/plain"] = v.String()

@@ -32,6 +32,14 @@ func TestMetadataRecordsSolution(t *testing.T) {
 	if _, err := json.Marshal(md); err != nil {
 		t.Errorf("metadata is not JSON: %v", err)
 	}
+	data, _, _ := s.Execute(context.Background(), `propagate({0, 1 | -1, 0}, [1, 0], [0, 1], tol=1e-9)`, nil)
+	j, ok := data["application/json"].(map[string]any)
+	if !ok || j["method"] != m["method"] {
+		t.Errorf("application/json %v", data["application/json"])
+	}
+	if _, err := json.Marshal(data); err != nil {
+		t.Errorf("bundle is not JSON: %v", err)
+	}
 }
 
 func TestMetadataPlainValues(t *testing.T) {
@@ -41,5 +49,28 @@ func TestMetadataPlainValues(t *testing.T) {
 	m := display.Metadata(value.Num(2))["semiflow"].(map[string]any)
 	if m["type"] != "number" || m["version"] != display.Version {
 		t.Errorf("metadata %v", m)
+	}
+}
+
+// TestAnalysisRecord checks the machine-readable form of a stability
+// report: its method and table survive as JSON.
+func TestAnalysisRecord(t *testing.T) {
+	s := run.NewSession()
+	data, md, err := s.Execute(context.Background(), `spectrum({-1, 5 | 0, -2})`, nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	j, ok := data["application/json"].(map[string]any)
+	if !ok || j["kind"] != "spectrum" || j["method"] == "" {
+		t.Fatalf("application/json %v", data["application/json"])
+	}
+	if rows, _ := j["rows"].([][]any); len(rows) != 2 {
+		t.Errorf("rows %v", j["rows"])
+	}
+	if m := md["semiflow"].(map[string]any); m["method"] != j["method"] {
+		t.Errorf("metadata %v", m)
+	}
+	if _, err := json.Marshal(data); err != nil {
+		t.Errorf("bundle is not JSON: %v", err)
 	}
 }

@@ -306,3 +306,41 @@ func (q *Quantity) Binary(op syntax.Token, y value.Value, right bool) (value.Val
 
 // Unary applies - or + to the number.
 func (q *Quantity) Unary(op syntax.Token) (value.Value, error) { return value.Unary(op, q.X) }
+
+// Record is the report's computation record for the display metadata and
+// its application/json form: kind, title, method, accuracy, notes, the
+// facts by label, and the table (at most MaxRowsHTML rows; complex entries
+// as {"re", "im"}, nan and ±inf as null).
+func (r *Analysis) Record() map[string]any {
+	facts := map[string]any{}
+	for _, f := range r.Facts {
+		facts[f.Label] = f.Value
+	}
+	n := min(len(r.Rows), MaxRowsHTML)
+	rows := make([][]any, n)
+	for i := range n {
+		row := make([]any, len(r.Rows[i]))
+		for j, v := range r.Rows[i] {
+			switch x := v.(type) {
+			case value.Num:
+				row[j] = finiteOrNil(float64(x))
+			case value.Complex:
+				row[j] = map[string]any{"re": finiteOrNil(real(complex128(x))), "im": finiteOrNil(imag(complex128(x)))}
+			default:
+				row[j] = v.String()
+			}
+		}
+		rows[i] = row
+	}
+	return map[string]any{
+		"kind":       r.Kind,
+		"title":      r.Title,
+		"method":     r.Method,
+		"accuracy":   r.Accuracy,
+		"notes":      append([]string(nil), r.Notes...),
+		"facts":      facts,
+		"columns":    append([]string(nil), r.Columns...),
+		"rows":       rows,
+		"rows_total": len(r.Rows),
+	}
+}
