@@ -93,8 +93,8 @@ else
 	(cd "$root" && go build -o "$tmp/semiflow" .) || fail "go build failed"
 fi
 
-export JUPYTER_DATA_DIR="$tmp/data" JUPYTER_PATH="$tmp/data" JUPYTER_CONFIG_DIR="$tmp/config" \
-	JUPYTER_RUNTIME_DIR="$tmp/runtime" IPYTHONDIR="$tmp/ipython" JUPYTER_PLATFORM_DIRS=1 PYTHONDONTWRITEBYTECODE=1
+. "$root/testdata/kernel/jupyter_env.sh"
+jupyter_private_dirs "$tmp"
 "$tmp/semiflow" install --user >/dev/null || fail "semiflow install failed"
 
 case "${NOTEBOOK:-}" in

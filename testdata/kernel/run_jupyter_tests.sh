@@ -11,24 +11,11 @@ here="$(cd "$(dirname "$0")" && pwd)"
 root="$(cd "$here/../.." && pwd)"
 py="${SEMIFLOW_PYTHON:-/usr/bin/python3}" # Debian's, which has the Jupyter modules
 
-if ! "$py" -c 'import jupyter_kernel_test, jupyter_client, jupyter_console, nbclient, nbformat' 2>/dev/null; then
-	echo "run_jupyter_tests: $py lacks jupyter_kernel_test/jupyter_client/jupyter_console/nbclient/nbformat"
-	echo "  (Debian: apt-get install python3-jupyter-kernel-test python3-jupyter-client jupyter-console python3-nbclient)"
-	if [ "${CI:-}" = "true" ]; then
-		echo "0 passed, 1 failed"
-		exit 1
-	fi
-	echo "0 passed, 0 failed (skipped: modules missing)"
-	exit 0
-fi
-
-tmp="$(mktemp -d)"
-trap 'rm -rf "$tmp"' EXIT
-(cd "$root" && go build -o "$tmp/semiflow" .) || { echo "0 passed, 1 failed (build)"; exit 1; }
-
-export JUPYTER_DATA_DIR="$tmp/data" JUPYTER_PATH="$tmp/data" JUPYTER_CONFIG_DIR="$tmp/config" \
-	JUPYTER_RUNTIME_DIR="$tmp/runtime" IPYTHONDIR="$tmp/ipython" JUPYTER_PLATFORM_DIRS=1 PYTHONDONTWRITEBYTECODE=1
-"$tmp/semiflow" install --user || { echo "0 passed, 1 failed (install)"; exit 1; }
+. "$here/jupyter_env.sh"
+jupyter_require_modules run_jupyter_tests \
+	"python3-jupyter-kernel-test python3-jupyter-client jupyter-console python3-nbclient" \
+	jupyter_kernel_test jupyter_client jupyter_console nbclient nbformat
+semiflow_kernel_setup
 "$py" -c 'from jupyter_client.kernelspec import KernelSpecManager as M; s = M().get_kernel_spec("semiflow"); assert s.language == "semiflow" and s.interrupt_mode == "message", s.to_dict()' \
 	|| { echo "0 passed, 1 failed (kernelspec not found by jupyter_client)"; exit 1; }
 

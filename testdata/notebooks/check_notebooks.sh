@@ -12,24 +12,11 @@ here="$(cd "$(dirname "$0")" && pwd)"
 root="$(cd "$here/../.." && pwd)"
 py="${SEMIFLOW_PYTHON:-/usr/bin/python3}" # Debian's, which has the Jupyter modules
 
-if ! "$py" -c 'import nbformat, nbclient, nbconvert, jupyter_client' 2>/dev/null; then
-	echo "check_notebooks: $py lacks nbformat/nbclient/nbconvert/jupyter_client"
-	echo "  (Debian: apt-get install python3-nbformat python3-nbclient python3-nbconvert python3-jupyter-client)"
-	if [ "${CI:-}" = "true" ]; then
-		echo "0 passed, 1 failed"
-		exit 1
-	fi
-	echo "0 passed, 0 failed (skipped: modules missing)"
-	exit 0
-fi
-
-tmp="$(mktemp -d)"
-trap 'rm -rf "$tmp"' EXIT
-(cd "$root" && go build -o "$tmp/semiflow" .) || { echo "0 passed, 1 failed (build)"; exit 1; }
-
-export JUPYTER_DATA_DIR="$tmp/data" JUPYTER_PATH="$tmp/data" JUPYTER_CONFIG_DIR="$tmp/config" \
-	JUPYTER_RUNTIME_DIR="$tmp/runtime" IPYTHONDIR="$tmp/ipython" JUPYTER_PLATFORM_DIRS=1 PYTHONDONTWRITEBYTECODE=1
-"$tmp/semiflow" install --user >/dev/null || { echo "0 passed, 1 failed (install)"; exit 1; }
+. "$root/testdata/kernel/jupyter_env.sh"
+jupyter_require_modules check_notebooks \
+	"python3-nbformat python3-nbclient python3-nbconvert python3-jupyter-client" \
+	nbformat nbclient nbconvert jupyter_client
+semiflow_kernel_setup quiet
 
 passed=0 failed=0
 pass() { passed=$((passed + 1)); echo "ok   $1"; }
