@@ -2,6 +2,7 @@ package builtin_test
 
 import (
 	"context"
+	"encoding/json"
 	"encoding/xml"
 	"errors"
 	"io"
@@ -49,5 +50,31 @@ writesvg(sp, "`+path+`")`)
 	}
 	if root != "svg" {
 		t.Errorf("root element %q, want svg", root)
+	}
+}
+
+// TestWriteAnalysisTable checks the CSV and JSON export of an analysis
+// table (closed form: the eigenvalues of the triangular matrix are its
+// diagonal, −1 and −2).
+func TestWriteAnalysisTable(t *testing.T) {
+	dir := t.TempDir()
+	csv := filepath.Join(dir, "sp.csv")
+	js := filepath.Join(dir, "sp.json")
+	s := run.NewSession()
+	exec(t, s, `sp = spectrum({-1, 5 | 0, -2})
+writecsv(sp, "`+csv+`")
+writejson(sp, "`+js+`")`)
+	b, _ := os.ReadFile(csv)
+	lines := strings.Split(strings.TrimSpace(string(b)), "\n")
+	if len(lines) != 3 || lines[0] != "k,λ,Re λ,Im λ,condition" || !strings.HasPrefix(lines[1], "0,-1+0i,-1,0,") || !strings.HasPrefix(lines[2], "1,-2+0i,-2,0,") {
+		t.Errorf("analysis CSV:\n%s", b)
+	}
+	b, _ = os.ReadFile(js)
+	var rec struct {
+		Kind string
+		Rows [][]any
+	}
+	if err := json.Unmarshal(b, &rec); err != nil || rec.Kind != "spectrum" || len(rec.Rows) != 2 {
+		t.Errorf("analysis JSON %s (%v)", b, err)
 	}
 }

@@ -300,10 +300,10 @@ var operatorFamily = []*Builtin{
 	{
 		Name: "writecsv",
 		Params: []value.Param{
-			req("x", "a vector, matrix or solution"),
+			req("x", "a vector, matrix, solution or analysis table"),
 			req("path", "the file name (overwritten)"),
 		},
-		Doc: "Writes comma-separated values: a vector as one value per line; a matrix as one line per row; a solution as one line per output time, " +
+		Doc: "Writes comma-separated values: a vector as one value per line; a matrix as one line per row; an analysis table (spectrum, growth, ...) as a header of its column names and one line per row, complex entries as a+bi; a solution as one line per output time, " +
 			"t, u_0(t), ..., u_{n−1}(t), after a header line t,u0,...,u{n−1} — in the order of the times given to propagate. Numbers are written in the shortest form that reads back exactly.",
 		Examples: []Example{
 			{`writecsv([1, 2.5], "/tmp/semiflow_writecsv_example.csv")`, ""},
@@ -317,7 +317,7 @@ var operatorFamily = []*Builtin{
 			req("path", "the file name (overwritten)"),
 		},
 		Doc: "Writes x as JSON: numbers, strings and bools as themselves, vectors and lists as arrays, a matrix as an array of rows, a complex number as {\"re\": ..., \"im\": ...}, " +
-			"a grid as {\"grid\": description, \"x\": coordinates (and \"y\")}, a solution as {\"method\", \"reason\", \"tol\", \"times\", \"values\" (one array per time), \"errest\", \"matvecs\", \"solves\"}. " +
+			"a grid as {\"grid\": description, \"x\": coordinates (and \"y\")}, an analysis result (spectrum, growth, ...) as its record {\"kind\", \"method\", \"accuracy\", \"facts\", \"columns\", \"rows\"}, a solution as {\"method\", \"reason\", \"tol\", \"times\", \"values\" (one array per time), \"errest\", \"matvecs\", \"solves\"}. " +
 			"nan and ±inf, which JSON cannot hold, are written as null. Operators are written with writemm.",
 		Examples: []Example{
 			{`writejson([1, 2, 3], "/tmp/semiflow_writejson_example.json")`, ""},
@@ -674,10 +674,49 @@ func writecsvImpl(c *eval.Call) (value.Value, error) {
 				w.WriteString(fmtFloat(x) + "\n")
 			}
 		}
+	case *objects.Analysis:
+		lines = func(w *bufio.Writer) {
+			w.WriteString(csvRow(t.Columns) + "\n")
+			for _, row := range t.Rows {
+				cells := make([]string, len(row))
+				for j, x := range row {
+					switch y := x.(type) {
+					case value.Num:
+						cells[j] = fmtFloat(float64(y))
+					case value.Complex:
+						cells[j] = fmtFloat(real(complex128(y))) + signed(imag(complex128(y))) + "i"
+					default:
+						cells[j] = x.String()
+					}
+				}
+				w.WriteString(csvRow(cells) + "\n")
+			}
+		}
 	default:
-		return nil, value.TypeErrorf("writecsv: x must be a vector, matrix or solution, not %s", value.TypeName(v))
+		return nil, value.TypeErrorf("writecsv: x must be a vector, matrix, solution or analysis table, not %s", value.TypeName(v))
 	}
 	return value.None, writeFile(c, path, func(w *bufio.Writer) error { lines(w); return nil })
+}
+
+// csvRow joins cells with commas, quoting those that hold a comma, a quote
+// or a line break (RFC 4180).
+func csvRow(cells []string) string {
+	out := make([]string, len(cells))
+	for i, c := range cells {
+		if strings.ContainsAny(c, ",\"\n\r") {
+			c = `"` + strings.ReplaceAll(c, `"`, `""`) + `"`
+		}
+		out[i] = c
+	}
+	return strings.Join(out, ",")
+}
+
+// signed writes x with its sign, for the imaginary part of a complex entry.
+func signed(x float64) string {
+	if x < 0 || math.Signbit(x) {
+		return fmtFloat(x)
+	}
+	return "+" + fmtFloat(x)
 }
 
 // jsonNum is a float that JSON-encodes nan and ±inf as null.
@@ -758,6 +797,8 @@ func toJSON(v value.Value, depth int) (any, error) {
 			"times": jsonNums(t.S.Times), "values": vals, "errest": jsonNums(t.S.ErrEst),
 			"matvecs": t.S.MatVecs, "solves": t.S.Solves,
 		}, nil
+	case *objects.Analysis:
+		return t.Record(), nil
 	case *objects.Operator:
 		return nil, value.TypeErrorf("writejson: operators are written with writemm(A, path)")
 	}
