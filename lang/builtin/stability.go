@@ -317,6 +317,26 @@ func stabRealsArg(c *eval.Call, i int) ([]float64, bool, error) {
 	return re, true, nil
 }
 
+// stabListArg is argument i as a non-empty list of finite reals, each of
+// which ok accepts. An empty list (or none) is a ValueError with the message
+// empty; a value x that ok refuses is one with the message bad, x formatted
+// in place of its %s.
+func stabListArg(c *eval.Call, i int, empty string, ok func(x float64) bool, bad string) ([]float64, error) {
+	xs, _, err := stabRealsArg(c, i)
+	if err != nil {
+		return nil, err
+	}
+	if len(xs) == 0 {
+		return nil, value.ValueErrorf("%s", empty)
+	}
+	for _, x := range xs {
+		if !ok(x) {
+			return nil, value.ValueErrorf(bad, value.FormatNum(x))
+		}
+	}
+	return xs, nil
+}
+
 // stabIntervalArg is argument i as an interval [a, b] with a < b.
 func stabIntervalArg(c *eval.Call, i int) (lo, hi float64, ok bool, err error) {
 	x, ok, err := stabRealsArg(c, i)
@@ -723,17 +743,10 @@ func pseudospectrumImpl(c *eval.Call) (value.Value, error) {
 	if err != nil {
 		return nil, err
 	}
-	levels, _, err := stabRealsArg(c, 3)
+	levels, err := stabListArg(c, 3, "pseudospectrum: levels must hold at least one ε > 0",
+		func(e float64) bool { return e > 0 }, "pseudospectrum: every level ε must be positive, not %s")
 	if err != nil {
 		return nil, err
-	}
-	if len(levels) == 0 {
-		return nil, value.ValueErrorf("pseudospectrum: levels must hold at least one ε > 0")
-	}
-	for _, e := range levels {
-		if !(e > 0) {
-			return nil, value.ValueErrorf("pseudospectrum: every level ε must be positive, not %s", value.FormatNum(e))
-		}
 	}
 	m, err := stabCountArg(c, 4, 2, 400)
 	if err != nil {
@@ -967,17 +980,10 @@ func growthImpl(c *eval.Call) (value.Value, error) {
 	if err != nil {
 		return nil, err
 	}
-	ts, _, err := stabRealsArg(c, 1)
+	ts, err := stabListArg(c, 1, "growth: t must hold at least one time",
+		func(t float64) bool { return !(t < 0) }, "growth: the times must be ≥ 0, not %s")
 	if err != nil {
 		return nil, err
-	}
-	if len(ts) == 0 {
-		return nil, value.ValueErrorf("growth: t must hold at least one time")
-	}
-	for _, t := range ts {
-		if t < 0 {
-			return nil, value.ValueErrorf("growth: the times must be ≥ 0, not %s", value.FormatNum(t))
-		}
 	}
 	w, ip, err := stabWeightArg(c, 2, op, n)
 	if err != nil {
