@@ -52,43 +52,28 @@ func PseudoKrylov(ctx context.Context, a linop.Operator, r Region, m int, opt *G
 	}
 	re, im := r.Points()
 	p := &Pseudospectra{Re: re, Im: im, Sigma: make([]float64, len(re)*len(im)), Eigenvalues: ritz}
-	maxIt := make([]int, o.Workers)
-	unconv := make([]int, o.Workers)
-	err := parallelEach(ctx, o.Workers, len(re), o.Progress, func(w int) func(int) {
+	err := p.fill(ctx, &o, func() func(complex128, bool) sigmaResult {
 		mz := make([]complex128, hm*m) // zĨ − H̃, row-major (m+1)×m
 		t := make([]complex128, m*m)   // −R, so that 0·I − t = R
 		ts := newTriSigma(t, m, o.Tol, o.MaxIter)
-		return func(i int) {
-			for j := range im {
-				z := complex(re[i], im[j])
-				for k := range mz {
-					mz[k] = complex(-ks.h[k], 0)
-				}
-				for d := 0; d < m; d++ {
-					mz[d*m+d] += z
-				}
-				hessenbergR(mz, m)
-				for k := 0; k < m*m; k++ {
-					t[k] = -mz[k]
-				}
-				ts.st.load(t)
-				res := ts.eval(0, j > 0, false)
-				p.Sigma[i*len(im)+j] = res.sigma
-				maxIt[w] = max(maxIt[w], res.its)
-				if !res.conv {
-					unconv[w]++
-				}
+		return func(z complex128, warm bool) sigmaResult {
+			for k := range mz {
+				mz[k] = complex(-ks.h[k], 0)
 			}
+			for d := 0; d < m; d++ {
+				mz[d*m+d] += z
+			}
+			hessenbergR(mz, m)
+			for k := 0; k < m*m; k++ {
+				t[k] = -mz[k]
+			}
+			ts.st.load(t)
+			return ts.eval(0, warm, false)
 		}
 	})
 	if err != nil {
 		return nil, err
 	}
-	for w := range maxIt {
-		p.MaxIter = max(p.MaxIter, maxIt[w])
-		p.Unconverged += unconv[w]
-	}
-	p.Contours = contours(re, im, p.Sigma, o.Levels)
 	p.Method = fmt.Sprintf("projection onto an Arnoldi space of dimension %d: σ_min(zĨ − H̃) of the (m+1)×m Hessenberg matrix (Toh & Trefethen 1996), Givens QR and inverse Lanczos per point", m)
 	p.Accuracy = fmt.Sprintf("APPROXIMATION FROM INSIDE: σ_min(zĨ−H̃) ≥ σ_min(zI−A), so these sets are subsets of the true pseudospectra, reliable only near the eigenvalues the Krylov space captures; per-point relative error ≲ %.0e (%d unconverged)", o.Tol/2, p.Unconverged)
 	return p, nil

@@ -118,13 +118,33 @@ func (s *Schur) Pseudo(ctx context.Context, r Region, opt *GridOptions) (*Pseudo
 	o := opt.defaults()
 	re, im := r.Points()
 	p := &Pseudospectra{Re: re, Im: im, Sigma: make([]float64, len(re)*len(im)), Eigenvalues: s.Eigenvalues()}
+	err := p.fill(ctx, &o, func() func(complex128, bool) sigmaResult {
+		ts := newTriSigma(s.T, s.N, o.Tol, o.MaxIter)
+		return func(z complex128, warm bool) sigmaResult { return ts.eval(z, warm, false) }
+	})
+	if err != nil {
+		return nil, err
+	}
+	p.Method = fmt.Sprintf("complex Schur form (no balancing), then inverse Lanczos on ((zI−T)ᴴ(zI−T))⁻¹ at each of %d×%d points, %d workers", len(re), len(im), o.Workers)
+	p.Accuracy = fmt.Sprintf("σ_min relative error ≲ %.1e where converged (Lanczos Ritz residual, or its gap-based estimate); %d of %d points unconverged after %d steps; contours by linear interpolation of log σ between grid points", o.Tol/2, p.Unconverged, len(p.Sigma), o.MaxIter)
+	return p, nil
+}
+
+// fill sets p.Sigma[i·len(p.Im)+j] to the σ_min that an evaluator returns
+// at z_ij = p.Re[i] + i·p.Im[j], one row of the grid a task for o.Workers
+// goroutines (o.Progress counts rows). Each goroutine gets its own evaluator
+// from newSigma and calls it along a row with warm = true after the first
+// point. fill then sets p.MaxIter, p.Unconverged and the contours at
+// o.Levels, and returns ctx.Err().
+func (p *Pseudospectra) fill(ctx context.Context, o *GridOptions, newSigma func() func(z complex128, warm bool) sigmaResult) error {
+	re, im := p.Re, p.Im
 	maxIt := make([]int, o.Workers)
 	unconv := make([]int, o.Workers)
 	err := parallelEach(ctx, o.Workers, len(re), o.Progress, func(w int) func(int) {
-		ts := newTriSigma(s.T, s.N, o.Tol, o.MaxIter)
+		sigma := newSigma()
 		return func(i int) {
 			for j := range im {
-				res := ts.eval(complex(re[i], im[j]), j > 0, false)
+				res := sigma(complex(re[i], im[j]), j > 0)
 				p.Sigma[i*len(im)+j] = res.sigma
 				maxIt[w] = max(maxIt[w], res.its)
 				if !res.conv {
@@ -134,16 +154,14 @@ func (s *Schur) Pseudo(ctx context.Context, r Region, opt *GridOptions) (*Pseudo
 		}
 	})
 	if err != nil {
-		return nil, err
+		return err
 	}
 	for w := range maxIt {
 		p.MaxIter = max(p.MaxIter, maxIt[w])
 		p.Unconverged += unconv[w]
 	}
 	p.Contours = contours(re, im, p.Sigma, o.Levels)
-	p.Method = fmt.Sprintf("complex Schur form (no balancing), then inverse Lanczos on ((zI−T)ᴴ(zI−T))⁻¹ at each of %d×%d points, %d workers", len(re), len(im), o.Workers)
-	p.Accuracy = fmt.Sprintf("σ_min relative error ≲ %.1e where converged (Lanczos Ritz residual, or its gap-based estimate); %d of %d points unconverged after %d steps; contours by linear interpolation of log σ between grid points", o.Tol/2, p.Unconverged, len(p.Sigma), o.MaxIter)
-	return p, nil
+	return nil
 }
 
 // sigmaMin returns σ_min(zI − A) with the right and left singular vectors
