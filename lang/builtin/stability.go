@@ -485,6 +485,22 @@ func stabGuard(c *eval.Call, f func() error) error {
 	return nil
 }
 
+// stabGuardOr runs f under stabGuardRaw. A language error, a cancellation
+// or a refused allocation comes back through stabNumErr; any other error
+// through other, which words it for the builtin.
+func stabGuardOr(c *eval.Call, f func() error, other func(err error) error) error {
+	err := stabGuardRaw(c, f)
+	var ve *value.Error
+	switch {
+	case err == nil:
+		return nil
+	case errors.As(err, &ve), errors.Is(err, context.Canceled), errors.Is(err, memguard.ErrTooLarge):
+		return stabNumErr(c, err)
+	default:
+		return other(err)
+	}
+}
+
 // stabGuardRaw is stabGuard without the translation of numerical errors.
 func stabGuardRaw(c *eval.Call, f func() error) (err error) {
 	defer func() {
@@ -877,14 +893,11 @@ func resolventImpl(c *eval.Call) (value.Value, error) {
 		}
 		var x []complex128
 		var res float64
-		err := stabGuardRaw(c, func() (e error) { x, res, e = spectra.ResolventApply(op.Op, z, b); return })
-		var ve *value.Error
-		switch {
-		case err == nil:
-		case errors.As(err, &ve), errors.Is(err, context.Canceled), errors.Is(err, memguard.ErrTooLarge):
-			return nil, stabNumErr(c, err)
-		default:
-			return nil, value.Errorf("NumericalError", "resolvent: zI − A is singular at z = %s: z is an eigenvalue of A or within rounding of one (%s)", zs, strings.TrimPrefix(err.Error(), "spectra: "))
+		err := stabGuardOr(c, func() (e error) { x, res, e = spectra.ResolventApply(op.Op, z, b); return }, func(err error) error {
+			return value.Errorf("NumericalError", "resolvent: zI − A is singular at z = %s: z is an eigenvalue of A or within rounding of one (%s)", zs, strings.TrimPrefix(err.Error(), "spectra: "))
+		})
+		if err != nil {
+			return nil, err
 		}
 		if !(res <= 1e-6) {
 			return nil, value.Errorf("NumericalError", "resolvent: zI − A is numerically singular at z = %s: relative residual %s after refinement", zs, value.FormatNum(res))
@@ -1209,15 +1222,12 @@ func markovImpl(c *eval.Call) (value.Value, error) {
 		return nil, err
 	}
 	var m *spectra.MarkovReport
-	err = stabGuardRaw(c, func() (e error) { m, e = spectra.Markov(c.Ctx, op.Op); return })
-	var ve *value.Error
-	switch {
-	case err == nil:
-	case errors.As(err, &ve), errors.Is(err, context.Canceled), errors.Is(err, memguard.ErrTooLarge):
-		return nil, stabNumErr(c, err)
-	default:
+	err = stabGuardOr(c, func() (e error) { m, e = spectra.Markov(c.Ctx, op.Op); return }, func(err error) error {
 		why := strings.TrimPrefix(strings.TrimPrefix(err.Error(), "spectra: "), "not a rate matrix: ")
-		return nil, value.ValueErrorf("markov: Q is not the rate matrix of a Markov chain with a unique stationary distribution (q_ij ≥ 0 for i ≠ j, rows summing to 0): %s", why)
+		return value.ValueErrorf("markov: Q is not the rate matrix of a Markov chain with a unique stationary distribution (q_ij ≥ 0 for i ≠ j, rows summing to 0): %s", why)
+	})
+	if err != nil {
+		return nil, err
 	}
 	return objects.MarkovReport(op.Label, m), nil
 }
