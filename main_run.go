@@ -33,8 +33,11 @@ func (t termOutput) Stream(name, text string) {
 	fmt.Fprint(t.stdout, text)
 }
 
+// Display prints a bundle's text. An update that empties a display (a
+// finished progress display) prints nothing: a terminal cannot take back
+// what it printed.
 func (t termOutput) Display(data, metadata map[string]any, displayID string, update bool) {
-	if s, ok := data["text/plain"].(string); ok {
+	if s, ok := data["text/plain"].(string); ok && !(update && s == "") {
 		fmt.Fprintln(t.stdout, s)
 	}
 }
