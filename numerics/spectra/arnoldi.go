@@ -87,7 +87,7 @@ func Rightmost(ctx context.Context, a linop.Operator, opt *EigsOptions) (*Spectr
 	method := "Krylov–Schur Arnoldi on A (wanted: largest real part)"
 	var solveErr error
 	if o.ShiftInvert {
-		f, err := solve.NewShifted(a, complex(o.Shift, 0))
+		f, err := solve.NewShiftedContext(ctx, a, complex(o.Shift, 0), solve.Options{})
 		if err != nil {
 			return nil, err
 		}
