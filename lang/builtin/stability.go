@@ -704,7 +704,7 @@ func numrangeImpl(c *eval.Call) (value.Value, error) {
 	var nr *spectra.NumericalRange
 	var eigs []complex128
 	err = stabGuard(c, func() (e error) {
-		if nr, e = spectra.NumRange(op.Op, w, pts); e != nil {
+		if nr, e = spectra.NumRangeContext(c.Ctx, op.Op, w, pts); e != nil {
 			return e
 		}
 		s, e := spectra.DenseSpectrum(op.Op)
@@ -776,7 +776,7 @@ func pseudospectrumImpl(c *eval.Call) (value.Value, error) {
 		// The bounding box of W(A) from its support function at the angles
 		// 0, π/2, π, 3π/2: Re W ⊆ [−h(π), h(0)], Im W ⊆ [−h(3π/2), h(π/2)].
 		var nr *spectra.NumericalRange
-		if err := stabGuard(c, func() (e error) { nr, e = spectra.NumRange(op.Op, nil, 4); return }); err != nil {
+		if err := stabGuard(c, func() (e error) { nr, e = spectra.NumRangeContext(c.Ctx, op.Op, nil, 4); return }); err != nil {
 			return nil, err
 		}
 		lo, hi, blo, bhi := -nr.Support[2], nr.Support[0], -nr.Support[3], nr.Support[1]

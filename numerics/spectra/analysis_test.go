@@ -2,10 +2,12 @@ package spectra
 
 import (
 	"context"
+	"errors"
 	"math"
 	"math/cmplx"
 	"math/rand/v2"
 	"testing"
+	"time"
 
 	"gonum.org/v1/gonum/mat"
 
@@ -475,5 +477,22 @@ func TestDenseSpectrumVectors(t *testing.T) {
 		if math.Sqrt(rx) > 1e-13 || math.Sqrt(ry) > 1e-13 {
 			t.Errorf("λ_%d: right residual %g, left residual %g", k, math.Sqrt(rx), math.Sqrt(ry))
 		}
+	}
+}
+
+// A cancelled context stops NumRangeContext: before the first angle, and
+// part way through a sweep of many angles (whose full run takes seconds).
+func TestNumRangeContextCancel(t *testing.T) {
+	a := grcar(100)
+	ctx, cancel := context.WithCancel(context.Background())
+	cancel()
+	if nr, err := NumRangeContext(ctx, a, nil, 16); !errors.Is(err, context.Canceled) || nr != nil {
+		t.Errorf("cancelled before the start: %v, %v", nr, err)
+	}
+	ctx, cancel = context.WithCancel(context.Background())
+	defer cancel()
+	time.AfterFunc(30*time.Millisecond, cancel)
+	if nr, err := NumRangeContext(ctx, a, nil, 4096); !errors.Is(err, context.Canceled) || nr != nil {
+		t.Errorf("cancelled during the sweep: %v, %v", nr != nil, err)
 	}
 }

@@ -1,6 +1,7 @@
 package spectra
 
 import (
+	"context"
 	"fmt"
 	"math"
 	"math/cmplx"
@@ -43,6 +44,13 @@ type NumericalRange struct {
 // is that of R A R⁻¹. It panics with ErrShape if A is not square or the
 // weight has the wrong length, and with ErrOption if nAngles < 3.
 func NumRange(a linop.Operator, w Weight, nAngles int) (*NumericalRange, error) {
+	return NumRangeContext(context.Background(), a, w, nAngles)
+}
+
+// NumRangeContext is NumRange that checks ctx before each angle and in the
+// golden-section refinement of the numerical radius, and returns ctx.Err()
+// once ctx is cancelled. It panics as NumRange does.
+func NumRangeContext(ctx context.Context, a linop.Operator, w Weight, nAngles int) (*NumericalRange, error) {
 	if nAngles < 3 {
 		panic(ErrOption)
 	}
@@ -58,6 +66,9 @@ func NumRange(a linop.Operator, w Weight, nAngles int) (*NumericalRange, error) 
 	}
 	h := newHermParts(b)
 	for k := 0; k < nAngles; k++ {
+		if err := ctx.Err(); err != nil {
+			return nil, err
+		}
 		th := 2 * math.Pi * float64(k) / float64(nAngles)
 		lam, z, err := h.top(th, true)
 		if err != nil {
@@ -76,8 +87,17 @@ func NumRange(a linop.Operator, w Weight, nAngles int) (*NumericalRange, error) 
 		}
 	}
 	d := 2 * math.Pi / float64(nAngles)
-	f := func(th float64) float64 { l, _, _ := h.top(th, false); return l }
+	f := func(th float64) float64 {
+		if ctx.Err() != nil {
+			return math.Inf(-1) // ends the search quickly; the error is returned below
+		}
+		l, _, _ := h.top(th, false)
+		return l
+	}
 	_, fr := goldenMax(f, nr.Angles[best]-d, nr.Angles[best]+d, 1e-7, 60) // r(θ) is flat at its maximum: error O(δθ²)
+	if err := ctx.Err(); err != nil {
+		return nil, err
+	}
 	nr.Radius = math.Max(fr, nr.Support[best])
 	nr.Method = fmt.Sprintf("top eigenpair of the Hermitian part H_θ = (e^{−iθ}B + e^{iθ}Bᵀ)/2 of B = %s at %d angles (real symmetric 2n×2n embedding; QR algorithm for n ≤ 64, Lanczos above); numerical radius by golden-section search in θ", map[bool]string{false: "A", true: "RAR⁻¹ (weighted inner product, W = RᵀR)"}[w != nil], nAngles)
 	nr.Accuracy = fmt.Sprintf("support values and boundary points to about n·u·‖A‖ ≈ %.1e; the polygon through the boundary points lies inside W(A), the supporting lines enclose it", float64(n)*0x1p-53*mat.Norm(b, 2))
