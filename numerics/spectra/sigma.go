@@ -30,13 +30,25 @@ type triSigma struct {
 	cold  []complex128 // fixed pseudo-random start
 	alpha []float64
 	beta  []float64
+	// mix > 0 adds mix times the unit cold start to a warm start, so that
+	// the start keeps a component along every singular vector even when
+	// the previous one is nearly orthogonal to the wanted one.
+	mix float64
 }
 
 func newTriSigma(t []complex128, n int, tol float64, maxIter int) *triSigma {
-	ts := &triSigma{t: t, n: n, tol: tol, maxIter: maxIter}
+	var st *splitTri
 	if t != nil {
-		ts.st = newSplitTri(t, n)
+		st = newSplitTri(t, n)
 	}
+	return newTriSigmaOn(st, t, n, tol, maxIter)
+}
+
+// newTriSigmaOn is newTriSigma for T already split into st (which may be
+// shared between solvers: only its work vectors are written, and those
+// are the solver's own, see splitTri.share).
+func newTriSigmaOn(st *splitTri, t []complex128, n int, tol float64, maxIter int) *triSigma {
+	ts := &triSigma{t: t, n: n, tol: tol, maxIter: maxIter, st: st}
 	ts.w = make([]complex128, n)
 	ts.y = make([]complex128, n)
 	ts.start = make([]complex128, n)
@@ -86,6 +98,8 @@ func (ts *triSigma) eval(z complex128, warm, wantVec bool) sigmaResult {
 	copy(q0, ts.start)
 	if !warm {
 		copy(q0, ts.cold)
+	} else if ts.mix > 0 {
+		caxpy(q0, complex(ts.mix/cnorm(ts.cold), 0), ts.cold)
 	}
 	scal(q0, 1/cnorm(q0))
 	ts.alpha = ts.alpha[:0]

@@ -20,7 +20,25 @@ type shape struct {
 	omega      float64 // ω(A) = max Re W(A)
 	omegaLeft  float64 // min Re W(A) = −ω(−A)
 	eigs       []complex128
-	spreadImag float64 // max |Im z| over W(A) (bounds where σ_ε can be)
+	spreadImag float64   // max |Im z| over W(A) (bounds where σ_ε can be)
+	split      *splitTri // T split once, shared by the σ_min solvers
+}
+
+// solver returns an inverse-Lanczos σ_min solver for zI − T to relative
+// tolerance tol, sharing the split T; each goroutine needs its own.
+func (sh *shape) solver(tol float64) *triSigma {
+	var st *splitTri
+	if sh.split != nil {
+		st = sh.split.share()
+	}
+	return newTriSigmaOn(st, sh.s.T, sh.s.N, tol, 300)
+}
+
+// sigmaMin is σ_min(zI − T) from a cold start with the right and left
+// singular vectors v, u (see Schur.sigmaMin).
+func (sh *shape) sigmaMin(ts *triSigma, z complex128) (float64, []complex128, []complex128) {
+	res := ts.eval(z, false, true)
+	return res.sigma, res.v, leftVector(sh.s.T, sh.s.N, z, res.v, res.sigma)
 }
 
 func newShape(m *mat.Dense) (*shape, error) {
@@ -51,7 +69,11 @@ func newShape(m *mat.Dense) (*shape, error) {
 	if n > 0 && svd.Factorize(k, mat.SVDNone) {
 		spread = svd.Values(nil)[0]
 	}
-	return &shape{s: s, omega: om, omegaLeft: -omn, eigs: s.Eigenvalues(), spreadImag: spread}, nil
+	sh := &shape{s: s, omega: om, omegaLeft: -omn, eigs: s.Eigenvalues(), spreadImag: spread}
+	if n > 0 {
+		sh.split = newSplitTri(s.T, n)
+	}
+	return sh, nil
 }
 
 // rightmostOnLine returns the largest x with σ_min((x + iy)I − A) ≤ eps, or
@@ -75,11 +97,12 @@ func (sh *shape) rightmostOnLine(ctx context.Context, y, eps float64) (float64, 
 	x := sh.omega + eps
 	lower := sh.omegaLeft - eps
 	tol := 1e-12 * (math.Abs(sh.omega) + math.Abs(sh.omegaLeft) + eps)
+	ts := sh.solver(1e-12)
 	for it := 0; it < 2*maxWalk; it++ {
 		if ctx.Err() != nil {
 			return 0, ctx.Err()
 		}
-		sg, v, u := sh.s.sigmaMin(complex(x, y), 1e-12)
+		sg, v, u := sh.sigmaMin(ts, complex(x, y))
 		gap := sg - eps
 		if gap <= tol {
 			return x, nil // on the boundary to tolerance
@@ -100,16 +123,16 @@ func (sh *shape) rightmostOnLine(ctx context.Context, y, eps float64) (float64, 
 			step = x - lower
 		}
 		xn := x - step
-		sn, vn, un := sh.s.sigmaMin(complex(xn, y), 1e-12)
+		sn, vn, un := sh.sigmaMin(ts, complex(xn, y))
 		if sn <= eps {
-			return sh.bisect(y, eps, xn, x, tol), nil
+			return sh.bisect(ts, y, eps, xn, x, tol), nil
 		}
 		if step > gap && real(cdot(un, vn)) < 0 {
 			// σ increases leftwards at xn: a minimum lies in (xn, x), which
 			// the Newton step passed over; look for σ_ε there.
-			xm, fm := goldenMax(func(t float64) float64 { return -sh.s.SigmaMin(complex(t, y), 1e-12) }, xn, x, 1e-10, 80)
+			xm, fm := goldenMax(func(t float64) float64 { return -ts.eval(complex(t, y), false, false).sigma }, xn, x, 1e-10, 80)
 			if -fm <= eps {
-				return sh.bisect(y, eps, xm, x, tol), nil
+				return sh.bisect(ts, y, eps, xm, x, tol), nil
 			}
 		}
 		x = xn
@@ -118,10 +141,10 @@ func (sh *shape) rightmostOnLine(ctx context.Context, y, eps float64) (float64, 
 }
 
 // bisect finds the boundary crossing between lo (inside σ_ε) and hi (outside).
-func (sh *shape) bisect(y, eps, lo, hi, tol float64) float64 {
+func (sh *shape) bisect(ts *triSigma, y, eps, lo, hi, tol float64) float64 {
 	for hi-lo > tol {
 		mid := (lo + hi) / 2
-		if sh.s.SigmaMin(complex(mid, y), 1e-12) <= eps {
+		if ts.eval(complex(mid, y), false, false).sigma <= eps {
 			lo = mid
 		} else {
 			hi = mid
@@ -263,9 +286,14 @@ func (sh *shape) minOverLine(x float64) (float64, float64) {
 	}
 	sort.Float64s(ys)
 	ys = dedupe(ys, 1e-9*(1+sh.spreadImag))
+	// One solver per line, warm-started from the previous (nearby) point's
+	// singular vector with a little of the fixed cold start mixed in.
+	ts := sh.solver(1e-8)
+	ts.mix = 0.05
+	sigma := func(y float64) float64 { return ts.eval(complex(x, y), true, false).sigma }
 	vals := make([]float64, len(ys))
 	for k, y := range ys {
-		vals[k] = sh.s.SigmaMin(complex(x, y), 1e-8)
+		vals[k] = sigma(y)
 	}
 	order := make([]int, len(ys))
 	for i := range order {
@@ -273,7 +301,7 @@ func (sh *shape) minOverLine(x float64) (float64, float64) {
 	}
 	sort.Slice(order, func(i, j int) bool { return vals[order[i]] < vals[order[j]] })
 	bestY, bestV := ys[order[0]], vals[order[0]]
-	f := func(y float64) float64 { return -sh.s.SigmaMin(complex(x, y), 1e-8) }
+	f := func(y float64) float64 { return -sigma(y) }
 	for _, k := range order[:min(3, len(order))] {
 		lo, hi := ys[max(k-1, 0)], ys[min(k+1, len(ys)-1)]
 		if hi <= lo {

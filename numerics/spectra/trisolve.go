@@ -20,6 +20,14 @@ func newSplitTri(t []complex128, n int) *splitTri {
 	return s
 }
 
+// share returns a splitTri for the same T with its own work vectors, safe
+// to use concurrently with s.
+func (s *splitTri) share() *splitTri {
+	n := s.n
+	return &splitTri{n: n, re: s.re, im: s.im,
+		ar: make([]float64, n), ai: make([]float64, n), br: make([]float64, n), bi: make([]float64, n)}
+}
+
 // applyInv sets x = ((zI − T)ᴴ(zI − T))⁻¹ x: a forward solve with
 // (zI − T)ᴴ followed by a back solve with zI − T. It returns false if
 // zI − T has a zero diagonal entry.
