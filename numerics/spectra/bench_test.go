@@ -127,3 +127,21 @@ func BenchmarkPseudoKrylov1e5(b *testing.B) {
 		}
 	}
 }
+
+// BenchmarkKreiss200 is the Kreiss constant alone of G − 2I, G the 200×200
+// Grcar matrix (K ≈ 1.697e12).
+func BenchmarkKreiss200(b *testing.B) {
+	a := grcar(200)
+	for i := 0; i < 200; i++ {
+		a.m.Set(i, i, a.m.At(i, i)-2)
+	}
+	for i := 0; i < b.N; i++ {
+		k, err := Kreiss(bg, a)
+		if err != nil {
+			b.Fatal(err)
+		}
+		if i == 0 {
+			b.Logf("K = %.12g at z = %.6g", k.K, k.Z)
+		}
+	}
+}
