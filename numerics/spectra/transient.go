@@ -288,18 +288,27 @@ func (sh *shape) minOverLine(x float64) (float64, float64) {
 	ys = dedupe(ys, 1e-9*(1+sh.spreadImag))
 	// One solver per line, warm-started from the previous (nearby) point's
 	// singular vector with a little of the fixed cold start mixed in.
+	// The scan only ranks the samples (to 5e-7): the best three are
+	// evaluated again to 5e-9 before they are compared or refined.
 	ts := sh.solver(1e-8)
 	ts.mix = 0.05
 	sigma := func(y float64) float64 { return ts.eval(complex(x, y), true, false).sigma }
+	scan := sh.solver(1e-6)
+	scan.mix = 0.05
 	vals := make([]float64, len(ys))
 	for k, y := range ys {
-		vals[k] = sigma(y)
+		vals[k] = scan.eval(complex(x, y), true, false).sigma
 	}
 	order := make([]int, len(ys))
 	for i := range order {
 		order[i] = i
 	}
 	sort.Slice(order, func(i, j int) bool { return vals[order[i]] < vals[order[j]] })
+	for _, k := range order[:min(3, len(order))] {
+		vals[k] = sigma(ys[k])
+	}
+	top := order[:min(3, len(order))]
+	sort.Slice(top, func(i, j int) bool { return vals[top[i]] < vals[top[j]] })
 	bestY, bestV := ys[order[0]], vals[order[0]]
 	f := func(y float64) float64 { return -sigma(y) }
 	for _, k := range order[:min(3, len(order))] {
