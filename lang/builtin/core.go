@@ -230,42 +230,9 @@ var coreFamily = []*Builtin{
 				}
 				out[k] = r
 			}
-			return collect(out), nil
+			return value.Collect(out), nil
 		},
 	},
-}
-
-// collect turns a list of results into a vector when all are numbers.
-func collect(l value.List) value.Value {
-	real, cplx := true, true
-	for _, v := range l {
-		switch v.(type) {
-		case value.Num:
-		case value.Complex:
-			real = false
-		default:
-			real, cplx = false, false
-		}
-	}
-	switch {
-	case real:
-		out := make([]float64, len(l))
-		for i, v := range l {
-			out[i] = float64(v.(value.Num))
-		}
-		return value.RealVec(out)
-	case cplx:
-		out := make([]complex128, len(l))
-		for i, v := range l {
-			if n, ok := v.(value.Num); ok {
-				out[i] = complex(float64(n), 0)
-			} else {
-				out[i] = complex128(v.(value.Complex))
-			}
-		}
-		return value.ComplexVec(out)
-	}
-	return l
 }
 
 func joinPrint(vals []value.Value) string {

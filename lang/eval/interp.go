@@ -264,42 +264,15 @@ func (in *Interp) knownNames(sc *scope) []string {
 }
 
 func (in *Interp) evalVector(sc *scope, e *syntax.VectorLit) (value.Value, error) {
-	elems := make([]value.Value, len(e.Elems))
-	real, cplx := true, true
+	elems := make(value.List, len(e.Elems))
 	for i, x := range e.Elems {
 		v, err := in.evalValue(sc, x)
 		if err != nil {
 			return nil, err
 		}
 		elems[i] = v
-		switch v.(type) {
-		case value.Num:
-		case value.Complex:
-			real = false
-		default:
-			real, cplx = false, false
-		}
 	}
-	switch {
-	case real:
-		out := make([]float64, len(elems))
-		for i, v := range elems {
-			out[i] = float64(v.(value.Num))
-		}
-		return value.RealVec(out), nil
-	case cplx:
-		out := make([]complex128, len(elems))
-		for i, v := range elems {
-			switch t := v.(type) {
-			case value.Num:
-				out[i] = complex(float64(t), 0)
-			case value.Complex:
-				out[i] = complex128(t)
-			}
-		}
-		return value.ComplexVec(out), nil
-	}
-	return value.List(elems), nil
+	return value.Collect(elems), nil
 }
 
 func (in *Interp) evalMatrix(sc *scope, e *syntax.MatrixLit) (value.Value, error) {

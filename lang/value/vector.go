@@ -264,3 +264,39 @@ func shownIndices(n int) []int {
 	}
 	return out
 }
+
+// Collect turns a list of values into the value a vector literal gives: a
+// real vector when every element is a Num, a complex vector when every
+// element is a Num or a Complex (with at least one Complex), and the list
+// itself otherwise.
+func Collect(l List) Value {
+	real, cplx := true, true
+	for _, v := range l {
+		switch v.(type) {
+		case Num:
+		case Complex:
+			real = false
+		default:
+			real, cplx = false, false
+		}
+	}
+	switch {
+	case real:
+		out := make([]float64, len(l))
+		for i, v := range l {
+			out[i] = float64(v.(Num))
+		}
+		return RealVec(out)
+	case cplx:
+		out := make([]complex128, len(l))
+		for i, v := range l {
+			if n, ok := v.(Num); ok {
+				out[i] = complex(float64(n), 0)
+			} else {
+				out[i] = complex128(v.(Complex))
+			}
+		}
+		return ComplexVec(out)
+	}
+	return l
+}
