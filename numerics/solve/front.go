@@ -344,25 +344,10 @@ func factorMultifrontal(ctx context.Context, a *linop.CSR, z complex128, q []int
 				}
 			}
 			if best != p {
-				rp, rb := F[p*f:(p+1)*f], F[best*f:(best+1)*f]
-				for j := range rp {
-					rp[j], rb[j] = rb[j], rp[j]
-				}
+				swapRows(F, f, p, best)
 				rowList[p], rowList[best] = rowList[best], rowList[p]
 			}
-			inv := 1 / F[p*f+p]
-			urow := F[p*f+p+1 : p*f+nfs]
-			for i := p + 1; i < f; i++ {
-				l := F[i*f+p] * inv
-				F[i*f+p] = l
-				if l == 0 {
-					continue
-				}
-				row := F[i*f+p+1 : i*f+nfs]
-				for j, u := range urow {
-					row[j] -= l * u
-				}
-			}
+			eliminateBelow(F, f, p, f, nfs)
 			k++
 			cand = max(cand, k)
 		}

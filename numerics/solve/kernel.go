@@ -31,3 +31,33 @@ func rankUpdate(row, l, u []complex128, stride int) {
 		}
 	}
 }
+
+// swapRows exchanges rows i and j (each of length stride) of the row-major
+// array a.
+func swapRows(a []complex128, stride, i, j int) {
+	ri, rj := a[i*stride:(i+1)*stride], a[j*stride:(j+1)*stride]
+	for k := range ri {
+		ri[k], rj[k] = rj[k], ri[k]
+	}
+}
+
+// eliminateBelow performs one step of Gaussian elimination on the
+// row-major array a (row stride stride) with pivot a[p, p]: for each row
+// i = p+1..rows−1 it stores the multiplier l = a[i, p]/a[p, p] in a[i, p] and
+// sets a[i, p+1:end] −= l · a[p, p+1:end]. It is the unblocked panel step of
+// the dense and multifrontal factorisations.
+func eliminateBelow(a []complex128, stride, p, rows, end int) {
+	inv := 1 / a[p*stride+p]
+	urow := a[p*stride+p+1 : p*stride+end]
+	for i := p + 1; i < rows; i++ {
+		l := a[i*stride+p] * inv
+		a[i*stride+p] = l
+		if l == 0 {
+			continue
+		}
+		row := a[i*stride+p+1 : i*stride+end]
+		for j, u := range urow {
+			row[j] -= l * u
+		}
+	}
+}

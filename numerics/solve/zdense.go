@@ -62,24 +62,9 @@ func FactorZDenseContext(ctx context.Context, n int, a []complex128, progress fu
 				return nil, &SingularError{Pivot: k, N: n, Method: "dense"}
 			}
 			if p != k {
-				rk, rp := a[k*n:(k+1)*n], a[p*n:(p+1)*n]
-				for j := range rk {
-					rk[j], rp[j] = rp[j], rk[j]
-				}
+				swapRows(a, n, k, p)
 			}
-			inv := 1 / a[k*n+k]
-			urow := a[k*n+k+1 : k*n+k1]
-			for i := k + 1; i < n; i++ {
-				l := a[i*n+k] * inv
-				a[i*n+k] = l
-				if l == 0 {
-					continue
-				}
-				row := a[i*n+k+1 : i*n+k1]
-				for j, u := range urow {
-					row[j] -= l * u
-				}
-			}
+			eliminateBelow(a, n, k, n, k1)
 		}
 		if k1 == n {
 			break
