@@ -87,7 +87,7 @@ var coreFamily = []*Builtin{
 			if !ok {
 				return nil, value.TypeErrorf("show: id must be a string, not %s", value.TypeName(c.Args[1]))
 			}
-			b := display.Bundle(v)
+			b, md := display.Render(v)
 			if b == nil {
 				return value.None, nil
 			}
@@ -100,7 +100,7 @@ var coreFamily = []*Builtin{
 				update = in.DisplayIDs[string(id)]
 				in.DisplayIDs[string(id)] = true
 			}
-			c.Out().Display(b, display.Metadata(v), string(id), update)
+			c.Out().Display(b, md, string(id), update)
 			return value.None, nil
 		},
 	},

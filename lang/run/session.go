@@ -168,11 +168,11 @@ func displayGuarded(v value.Value, f *syntax.File, st syntax.Stmt) (b, md map[st
 				File: f, Pos: st.Pos(), End: st.End()}
 		}
 	}()
-	b = display.Bundle(v)
+	b, md = display.Render(v)
 	if b == nil {
 		return nil, nil, nil
 	}
-	return b, display.Metadata(v), nil
+	return b, md, nil
 }
 
 func execGuarded(ctx context.Context, in *eval.Interp, f *syntax.File, st syntax.Stmt) (v value.Value, err error) {
