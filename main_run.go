@@ -263,7 +263,7 @@ func (o *nbOutput) Stream(name, text string) {
 }
 
 func (o *nbOutput) Display(data, metadata map[string]any, displayID string, update bool) {
-	md := outputMetadata(data, metadata)
+	md := outputMetadata(metadata)
 	if update {
 		for _, out := range o.ids[displayID] {
 			out["data"] = data
@@ -291,16 +291,11 @@ func (o *nbOutput) Clear(wait bool) {
 // Page shows pager text as a display: a saved notebook has no pager.
 func (o *nbOutput) Page(data map[string]any) { o.Display(data, nil, "", false) }
 
-// mdNote finds the method and accuracy lines of a report's text/plain form
-// (see lang/objects.Analysis).
-var mdNote = regexp.MustCompile(`(?m)^  (method|accuracy): (.*)$`)
-
 // outputMetadata is an output's metadata: the value's own (display.Metadata:
 // under "semiflow" the release, the type and, for results that record it,
 // method, tolerance and error estimates), with the release always present
-// and, for reports that state them only in their text, the method and the
-// accuracy.
-func outputMetadata(data, metadata map[string]any) map[string]any {
+// (also on stream-like displays that carry no metadata).
+func outputMetadata(metadata map[string]any) map[string]any {
 	md := map[string]any{}
 	for k, v := range metadata {
 		md[k] = v
@@ -313,13 +308,6 @@ func outputMetadata(data, metadata map[string]any) map[string]any {
 	}
 	if _, ok := sf["version"]; !ok {
 		sf["version"] = version
-	}
-	if text, ok := data["text/plain"].(string); ok {
-		for _, m := range mdNote.FindAllStringSubmatch(text, 2) {
-			if _, seen := sf[m[1]]; !seen {
-				sf[m[1]] = strings.TrimSpace(m[2])
-			}
-		}
 	}
 	md["semiflow"] = sf
 	return md
@@ -374,7 +362,7 @@ func runNotebook(ctx context.Context, path, outPath string, allowErrors bool, st
 				"ename": errorNameOf(err), "evalue": err.Error(), "traceback": tb})
 		} else if data != nil {
 			out.outputs = append(out.outputs, map[string]any{"output_type": "execute_result",
-				"execution_count": count, "data": data, "metadata": outputMetadata(data, md)})
+				"execution_count": count, "data": data, "metadata": outputMetadata(md)})
 		}
 		outs := make([]any, len(out.outputs))
 		for k, o := range out.outputs {

@@ -344,3 +344,20 @@ func (r *Analysis) Record() map[string]any {
 		"rows_total": len(r.Rows),
 	}
 }
+
+// Record is the quantity's computation record: its value (a complex value as
+// {"re", "im"}, nan and ±inf as null), what it is, where it was attained,
+// the method and the accuracy.
+func (q *Quantity) Record() map[string]any {
+	r := map[string]any{"symbol": q.Symbol, "what": q.What, "method": q.Method, "accuracy": q.Accuracy}
+	switch x := q.X.(type) {
+	case value.Num:
+		r["value"] = finiteOrNil(float64(x))
+	case value.Complex:
+		r["value"] = map[string]any{"re": finiteOrNil(real(complex128(x))), "im": finiteOrNil(imag(complex128(x)))}
+	}
+	if q.Where != "" {
+		r["where"] = q.Where
+	}
+	return r
+}
