@@ -151,10 +151,9 @@ b = propagate({-1}, [0], [1, 3], nonlinear=N)`)
 
 // recorder collects display events concurrently.
 type recorder struct {
-	mu     sync.Mutex
-	shown  []string
-	texts  []string
-	result chan struct{}
+	mu    sync.Mutex
+	shown []string
+	texts []string
 }
 
 func (r *recorder) Stream(name, text string) {}

@@ -32,7 +32,6 @@ type Call struct {
 
 	sc       *scope
 	site     syntax.Node
-	argNodes []syntax.Node
 	progress []*progressDisplay
 }
 
@@ -75,11 +74,10 @@ type Closure struct {
 	names  []string
 }
 
-func (f *Closure) Type() string             { return "function" }
-func (f *Closure) String() string           { return f.Def.Text }
-func (f *Closure) Name() string             { return f.Def.Name.Name }
-func (f *Closure) Params() []value.Param    { return f.params }
-func (f *Closure) sourceFile() *syntax.File { return f.File }
+func (f *Closure) Type() string          { return "function" }
+func (f *Closure) String() string        { return f.Def.Text }
+func (f *Closure) Name() string          { return f.Def.Name.Name }
+func (f *Closure) Params() []value.Param { return f.params }
 
 // SignatureText formats a signature as name(a, b, n=50, values...).
 func SignatureText(name string, params []value.Param) string {

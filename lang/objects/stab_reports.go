@@ -6,7 +6,6 @@ import (
 	"math/cmplx"
 	"sort"
 	"strconv"
-	"strings"
 
 	"semiflow/lang/plot"
 	"semiflow/lang/value"
@@ -403,15 +402,4 @@ func MarkovReport(label string, m *spectra.MarkovReport) *Analysis {
 		r.Rows = append(r.Rows, []value.Value{num(float64(i)), num(p)})
 	}
 	return r
-}
-
-// joinNonEmpty joins the non-empty parts with "; ".
-func joinNonEmpty(parts ...string) string {
-	var out []string
-	for _, p := range parts {
-		if p != "" {
-			out = append(out, p)
-		}
-	}
-	return strings.Join(out, "; ")
 }

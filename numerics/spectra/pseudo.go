@@ -164,15 +164,6 @@ func (p *Pseudospectra) fill(ctx context.Context, o *GridOptions, newSigma func(
 	return nil
 }
 
-// sigmaMin returns σ_min(zI − A) with the right and left singular vectors
-// (v, u) of zI − T, to a relative tolerance tol.
-func (s *Schur) sigmaMin(z complex128, tol float64) (float64, []complex128, []complex128) {
-	ts := newTriSigma(s.T, s.N, tol, 300)
-	res := ts.eval(z, false, true)
-	u := leftVector(s.T, s.N, z, res.v, res.sigma)
-	return res.sigma, res.v, u
-}
-
 // SigmaMin returns σ_min(zI − A) = 1/‖(zI − A)⁻¹‖₂ to relative accuracy
 // about tol/2 (tol ≤ 0 means 1e-10).
 func (s *Schur) SigmaMin(z complex128, tol float64) float64 {
