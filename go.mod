@@ -1,12 +1,17 @@
 module semiflow
 
-go 1.26
+go 1.26.0
+
+require (
+	github.com/go-zeromq/zmq4 v0.17.0
+	golang.org/x/sys v0.50.0
+	gonum.org/v1/gonum v0.17.0
+	gonum.org/v1/netlib v0.0.0-20190313105609-8cb42192e0e0
+)
 
 require (
 	github.com/go-zeromq/goczmq/v4 v4.2.2 // indirect
-	github.com/go-zeromq/zmq4 v0.17.0 // indirect
-	github.com/google/uuid v1.6.0 // indirect
-	golang.org/x/sync v0.12.0 // indirect
+	golang.org/x/exp v0.0.0-20261113113407-e3970619a1a4 // indirect
+	golang.org/x/sync v0.24.0 // indirect
 	golang.org/x/text v0.23.0 // indirect
-	gonum.org/v1/gonum v0.17.0 // indirect
 )

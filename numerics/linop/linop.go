@@ -15,7 +15,11 @@
 //     e^{tX} U e^{tY}ᵀ.
 package linop
 
-import "errors"
+import (
+	"errors"
+
+	_ "semiflow/numerics/gemm" // registers the BLAS every dense computation uses
+)
 
 // ErrShape is the panic value for operands whose dimensions do not agree.
 var ErrShape = errors.New("linop: dimension mismatch")

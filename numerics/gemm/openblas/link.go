@@ -1,0 +1,6 @@
+//go:build openblas
+
+package openblas
+
+// #cgo LDFLAGS: -lopenblas
+import "C"
