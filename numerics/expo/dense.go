@@ -183,35 +183,21 @@ func ExpContext(ctx context.Context, dst *mat.Dense, a mat.Matrix) (ExpInfo, err
 		}
 	}
 	b := padeCoeffs(m)
-	I := mat.NewDiagDense(n, nil)
-	for i := 0; i < n; i++ {
-		I.SetDiag(i, 1)
-	}
 	var U, V mat.Dense
 	switch m {
 	case 13:
 		// U = A[A6(b13 A6 + b11 A4 + b9 A2) + b7 A6 + b5 A4 + b3 A2 + b1 I]
 		// V = A6(b12 A6 + b10 A4 + b8 A2) + b6 A6 + b4 A4 + b2 A2 + b0 I
 		var t mat.Dense
-		t.Scale(b[13], A6)
-		addScaled(&t, b[11], A4)
-		addScaled(&t, b[9], A2)
+		combine(&t, 0, []float64{b[13], b[11], b[9]}, A6, A4, A2)
 		inner := mul(A6, &t)
-		addScaled(inner, b[7], A6)
-		addScaled(inner, b[5], A4)
-		addScaled(inner, b[3], A2)
-		addScaled(inner, b[1], I)
+		addCombination(inner, b[1], []float64{b[7], b[5], b[3]}, A6, A4, A2)
 		U = *mul(A, inner)
-		t.Scale(b[12], A6)
-		addScaled(&t, b[10], A4)
-		addScaled(&t, b[8], A2)
+		combine(&t, 0, []float64{b[12], b[10], b[8]}, A6, A4, A2)
 		V = *mul(A6, &t)
-		addScaled(&V, b[6], A6)
-		addScaled(&V, b[4], A4)
-		addScaled(&V, b[2], A2)
-		addScaled(&V, b[0], I)
+		addCombination(&V, b[0], []float64{b[6], b[4], b[2]}, A6, A4, A2)
 	default:
-		pows := []*mat.Dense{nil, A2}
+		pows := []*mat.Dense{A2}
 		if m >= 5 {
 			pows = append(pows, A4)
 		}
@@ -221,14 +207,15 @@ func ExpContext(ctx context.Context, dst *mat.Dense, a mat.Matrix) (ExpInfo, err
 		if m >= 9 {
 			pows = append(pows, mul(A4, A4))
 		}
-		var odd mat.Dense
-		odd.Scale(b[1], I)
-		V.Scale(b[0], I)
-		for k := 1; 2*k <= m; k++ {
-			addScaled(&odd, b[2*k+1], pows[k])
-			addScaled(&V, b[2*k], pows[k])
+		odd := make([]float64, len(pows))
+		even := make([]float64, len(pows))
+		for k := range pows {
+			odd[k], even[k] = b[2*k+3], b[2*k+2]
 		}
-		U = *mul(A, &odd)
+		var t mat.Dense
+		combine(&t, b[1], odd, pows...)
+		U = *mul(A, &t)
+		combine(&V, b[0], even, pows...)
 	}
 	if err := ctx.Err(); err != nil {
 		return info, err
@@ -247,17 +234,21 @@ func ExpContext(ctx context.Context, dst *mat.Dense, a mat.Matrix) (ExpInfo, err
 	if tri {
 		fixTriangular(dst, diag, super, math.Ldexp(1, -s))
 	}
-	var tmp mat.Dense
+	// Square s times, alternating between dst and one scratch matrix.
+	cur, next := dst, mat.NewDense(n, n, nil)
 	for i := s - 1; i >= 0; i-- {
 		if err := ctx.Err(); err != nil {
 			return info, err
 		}
-		tmp.Mul(dst, dst)
+		next.Mul(cur, cur)
 		info.Products++
-		dst.Copy(&tmp)
+		cur, next = next, cur
 		if tri {
-			fixTriangular(dst, diag, super, math.Ldexp(1, -i))
+			fixTriangular(cur, diag, super, math.Ldexp(1, -i))
 		}
+	}
+	if cur != dst {
+		dst.Copy(cur)
 	}
 	for _, v := range dst.RawMatrix().Data {
 		if math.IsNaN(v) {
@@ -265,6 +256,46 @@ func ExpContext(ctx context.Context, dst *mat.Dense, a mat.Matrix) (ExpInfo, err
 		}
 	}
 	return info, nil
+}
+
+// combine sets d = c0 I + Σ c[k] m[k] in one pass over the entries; the
+// m[k] are n×n.
+func combine(d *mat.Dense, c0 float64, c []float64, m ...*mat.Dense) {
+	n, _ := m[0].Dims()
+	if d.IsEmpty() {
+		d.ReuseAs(n, n)
+	}
+	d.Zero()
+	addCombination(d, c0, c, m...)
+}
+
+// addCombination sets d += c0 I + Σ c[k] m[k] in one pass over the entries.
+func addCombination(d *mat.Dense, c0 float64, c []float64, m ...*mat.Dense) {
+	n, _ := d.Dims()
+	dr := d.RawMatrix()
+	rows := make([][]float64, len(m))
+	for i := 0; i < n; i++ {
+		for k, x := range m {
+			r := x.RawMatrix()
+			rows[k] = r.Data[i*r.Stride : i*r.Stride+n]
+		}
+		out := dr.Data[i*dr.Stride : i*dr.Stride+n]
+		if len(rows) == 3 { // the degree-13 case, unrolled
+			r0, r1, r2 := rows[0][:n], rows[1][:n], rows[2][:n]
+			for j := range out {
+				out[j] += c[0]*r0[j] + c[1]*r1[j] + c[2]*r2[j]
+			}
+		} else {
+			for j := range out {
+				v := out[j]
+				for k, row := range rows {
+					v += c[k] * row[j]
+				}
+				out[j] = v
+			}
+		}
+		out[i] += c0
+	}
 }
 
 // addScaled sets d += α b.
