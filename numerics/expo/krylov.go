@@ -177,8 +177,10 @@ func krylovRun(ctx context.Context, c *counted, u0 []float64, times []float64, o
 		}
 		tnow += tau
 		steps++
-		// Rounding in the orthogonalisation and the recombination.
-		errAcc += errLoc + unitRoundoff*float64(kk)*beta
+		// Rounding: a model, not a bound (common practice, no published
+		// constant): about kk·u·β for each of the products, the
+		// orthogonalisation, the small exponential and the recombination.
+		errAcc += errLoc + 4*unitRoundoff*float64(kk)*beta
 		if opts.Progress != nil {
 			opts.Progress(int(100*tnow/T), 100)
 		}
