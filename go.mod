@@ -4,6 +4,7 @@ go 1.26.0
 
 require (
 	github.com/go-zeromq/zmq4 v0.17.0
+	github.com/google/uuid v1.6.0
 	golang.org/x/sys v0.50.0
 	gonum.org/v1/gonum v0.17.0
 	gonum.org/v1/netlib v0.0.0-20190313105609-8cb42192e0e0

@@ -3,7 +3,6 @@ package wire
 import (
 	"bytes"
 	"crypto/hmac"
-	"crypto/rand"
 	"crypto/sha256"
 	"encoding/hex"
 	"encoding/json"
@@ -11,6 +10,8 @@ import (
 	"fmt"
 	"hash"
 	"time"
+
+	"github.com/google/uuid"
 )
 
 // Delimiter separates the routing identities from the message proper.
@@ -190,11 +191,4 @@ func NewHeader(msgType, session, username string) Header {
 }
 
 // NewID returns a random RFC 4122 version-4 UUID in its text form.
-func NewID() string {
-	var b [16]byte
-	_, _ = rand.Read(b[:])
-	b[6] = b[6]&0x0f | 0x40
-	b[8] = b[8]&0x3f | 0x80
-	h := hex.EncodeToString(b[:])
-	return h[0:8] + "-" + h[8:12] + "-" + h[12:16] + "-" + h[16:20] + "-" + h[20:]
-}
+func NewID() string { return uuid.NewString() }
