@@ -11,6 +11,9 @@
 //     J. Sci. Comput. 2011), cost ≈ t‖A‖₁ matrix–vector products;
 //     "krylov": Arnoldi or Lanczos with the a posteriori error estimate of
 //     Saad (SIAM J. Numer. Anal. 1992) and step-size control;
+//     "shift-invert": Arnoldi on (I − γA)⁻¹ (Moret & Novati, BIT 2004; van
+//     den Eshof & Hochbruck, SIAM J. Sci. Comput. 2006), one factorisation
+//     per step length, convergence independent of ‖A‖;
 //     "contour": trapezoidal rule on parabolic, hyperbolic or cotangent
 //     contours for sectorial A (Trefethen, Weideman & Schmelzer, BIT 2006;
 //     Weideman & Trefethen, Math. Comp. 2007), one shifted solve per node,
