@@ -39,7 +39,27 @@ const (
 var (
 	limit    atomic.Int64 // 0 means not yet initialised
 	initOnce sync.Once
+	largest  atomic.Int64 // largest side of a dense matrix checked since ResetLargest
 )
+
+// LargestSide returns the largest number of rows or columns of a dense
+// matrix checked by Dense since the last ResetLargest (refused or not).
+// Benchmarks and tests use it to show that a sparse or structured operator
+// of order N was never copied into an N×N dense matrix.
+func LargestSide() int { return int(largest.Load()) }
+
+// ResetLargest starts a new LargestSide record.
+func ResetLargest() { largest.Store(0) }
+
+func noteSide(r, c int) {
+	side := int64(max(r, c))
+	for {
+		old := largest.Load()
+		if side <= old || largest.CompareAndSwap(old, side) {
+			return
+		}
+	}
+}
 
 // TooLargeError describes a refused request.
 type TooLargeError struct {
@@ -152,6 +172,7 @@ func Dense(r, c, elemBytes int) error {
 	if r < 0 || c < 0 || elemBytes < 0 {
 		panic("memguard: negative size")
 	}
+	noteSide(r, c)
 	kind := "real"
 	if elemBytes == ComplexBytes {
 		kind = "complex"

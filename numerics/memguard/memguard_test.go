@@ -53,3 +53,18 @@ func TestFormatBytes(t *testing.T) {
 		}
 	}
 }
+
+func TestLargestSide(t *testing.T) {
+	ResetLargest()
+	_ = DenseReal(30, 7)
+	_ = DenseComplex(5, 40)
+	_ = DenseReal(1<<40, 1<<40) // refused, still recorded
+	if got := LargestSide(); got != 1<<40 {
+		t.Fatalf("LargestSide = %d, want %d", got, 1<<40)
+	}
+	ResetLargest()
+	_ = DenseReal(3, 9)
+	if got := LargestSide(); got != 9 {
+		t.Fatalf("after reset LargestSide = %d, want 9", got)
+	}
+}
