@@ -98,12 +98,3 @@ func Grcar(n int) *mat.Dense {
 	}
 	return a
 }
-
-// Norm2 returns the Euclidean norm of x.
-func Norm2(x []float64) float64 {
-	s := 0.0
-	for _, v := range x {
-		s += v * v
-	}
-	return math.Sqrt(s)
-}

@@ -13,6 +13,7 @@ import (
 	"testing"
 	"time"
 
+	"gonum.org/v1/gonum/floats"
 	"gonum.org/v1/gonum/mat"
 
 	"semiflow/numerics/expo"
@@ -85,7 +86,7 @@ func problems() []problem {
 								if err != nil {
 									return 0, "", nil, err
 								}
-								return Norm2(s.Values[0]), s.Method, s.Values[0], nil
+								return floats.Norm(s.Values[0], 2), s.Method, s.Values[0], nil
 							}
 						},
 					})

@@ -205,18 +205,7 @@ func contourRun(ctx context.Context, A linop.Operator, u0 []float64, times []flo
 // forward error of the computed solution x of (zI − A)x = b as one step of
 // iterative refinement sees it.
 func solveErrorProbe(A linop.Operator, f solve.ShiftedSolver, z complex128, x, b []complex128) (float64, error) {
-	n := len(x)
-	xr, xi := make([]float64, n), make([]float64, n)
-	for i, v := range x {
-		xr[i], xi[i] = real(v), imag(v)
-	}
-	ar, ai := make([]float64, n), make([]float64, n)
-	A.Apply(ar, xr)
-	A.Apply(ai, xi)
-	r := make([]complex128, n)
-	for i := range r {
-		r[i] = b[i] - z*x[i] + complex(ar[i], ai[i])
-	}
+	r := solve.Residual(A, z, x, b)
 	if err := f.Solve(r, r); err != nil {
 		return 0, err
 	}

@@ -262,7 +262,7 @@ func run(ctx context.Context, method string, A linop.Operator, u0 []float64, tim
 		sol.Solves, sol.Factors = w.solves, w.factors
 	case MethodShiftInv:
 		var w work
-		err = siKrylovRun(ctx, A, c, u0, st, opts, vals, errs, &w)
+		err = siKrylovRun(ctx, c, u0, st, opts, vals, errs, &w)
 		sol.Solves, sol.Factors = w.solves, w.factors
 	case MethodResolvent:
 		var w work
@@ -289,15 +289,21 @@ type work struct {
 	solves, factors int
 }
 
+// sparseForm returns A's explicit sparse form, if it has one.
+func sparseForm(A linop.Operator) (*linop.CSR, bool) {
+	s, ok := A.(linop.Sparser)
+	if !ok {
+		return nil, false
+	}
+	m, err := s.ToCSR()
+	return m, err == nil
+}
+
 // gershgorinRight returns max_i (a_ii + Σ_{j≠i}|a_ij|), an upper bound on
 // the real parts of the eigenvalues, when A has an explicit sparse form.
 func gershgorinRight(A linop.Operator) (float64, bool) {
-	s, ok := A.(linop.Sparser)
+	m, ok := sparseForm(A)
 	if !ok {
-		return 0, false
-	}
-	m, err := s.ToCSR()
-	if err != nil {
 		return 0, false
 	}
 	g := math.Inf(-1)

@@ -76,12 +76,8 @@ func factorReal(ctx context.Context, A linop.Operator, s float64) (realSolver, e
 // ω = max Re W(A) = λ_max((A + Aᵀ)/2) by Gershgorin's theorem on the
 // symmetric part, when A has a sparse form: then ‖e^{tA}‖₂ ≤ e^{ωt}.
 func abscissaBound(A linop.Operator) (float64, bool) {
-	s, ok := A.(linop.Sparser)
+	m, ok := sparseForm(A)
 	if !ok {
-		return 0, false
-	}
-	m, err := s.ToCSR()
-	if err != nil {
 		return 0, false
 	}
 	r := make([]float64, m.Rows)
@@ -126,7 +122,8 @@ func abscissaBound(A linop.Operator) (float64, bool) {
 // stays 100 times above that in siMaxDim vectors is halved. The
 // factorisation of (1/γ)I − A is kept while the step length repeats
 // (uniform output times).
-func siKrylovRun(ctx context.Context, A linop.Operator, c *counted, u0 []float64, times []float64, opts Options, vals [][]float64, errs []float64, w *work) error {
+func siKrylovRun(ctx context.Context, c *counted, u0 []float64, times []float64, opts Options, vals [][]float64, errs []float64, w *work) error {
+	A := c.a
 	n := len(u0)
 	mmax := opts.KrylovDim
 	if mmax <= 0 {
@@ -275,17 +272,14 @@ func siKrylovRun(ctx context.Context, A linop.Operator, c *counted, u0 []float64
 			}
 			prev = cf
 		}
-		if errLoc > math.Max(allowed, floor) {
-			// The best basis missed the target. Near the target it is
-			// kept (rounding limits the estimate); far from it the
-			// step is halved.
-			if errLoc > 100*math.Max(allowed, floor) {
-				if delta < 1e-9*T {
-					return errorf("shift-invert krylov: no convergence in %d vectors even for step %g at t = %g", mmax, delta, tnow)
-				}
-				delta /= 2
-				continue
+		// A best basis that missed the target is kept when near it
+		// (rounding limits the estimate); far from it the step is halved.
+		if errLoc > 100*math.Max(allowed, floor) {
+			if delta < 1e-9*T {
+				return errorf("shift-invert krylov: no convergence in %d vectors even for step %g at t = %g", mmax, delta, tnow)
 			}
+			delta /= 2
+			continue
 		}
 		for i := range u {
 			u[i] = 0

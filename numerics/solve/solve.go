@@ -27,6 +27,8 @@ import (
 	"errors"
 	"fmt"
 	"math"
+
+	"semiflow/numerics/linop"
 )
 
 // ErrSingular is matched (errors.Is) by every singularity error.
@@ -100,3 +102,21 @@ type AdjointSolver interface {
 }
 
 func abs1(z complex128) float64 { return math.Abs(real(z)) + math.Abs(imag(z)) }
+
+// Residual returns b − (zI − A)x, with the real operator A applied to the
+// real and imaginary parts of x separately.
+func Residual(a linop.Operator, z complex128, x, b []complex128) []complex128 {
+	n := len(x)
+	xr, xi := make([]float64, n), make([]float64, n)
+	for i, v := range x {
+		xr[i], xi[i] = real(v), imag(v)
+	}
+	ar, ai := make([]float64, n), make([]float64, n)
+	a.Apply(ar, xr)
+	a.Apply(ai, xi)
+	r := make([]complex128, n)
+	for i := range r {
+		r[i] = b[i] - (z*x[i] - complex(ar[i], ai[i]))
+	}
+	return r
+}

@@ -12,6 +12,7 @@ import (
 	"gonum.org/v1/gonum/mat"
 
 	"semiflow/numerics/expo"
+	"semiflow/numerics/solve"
 )
 
 var bg = context.Background()
@@ -174,7 +175,7 @@ func TestResolventNormal(t *testing.T) {
 	if err := s.ResolventSolve(x, b, z); err != nil {
 		t.Fatal(err)
 	}
-	r := shiftedResidual(a, z, x, b)
+	r := solve.Residual(a, z, x, b)
 	if cnorm(r) > 1e-14 {
 		t.Errorf("residual %g", cnorm(r))
 	}

@@ -106,31 +106,13 @@ func ResolventApply(a linop.Operator, z complex128, b []complex128) (x []complex
 	if err := f.Solve(x, b); err != nil {
 		return nil, 0, err
 	}
-	r := shiftedResidual(a, z, x, b)
+	r := solve.Residual(a, z, x, b)
 	d := make([]complex128, n)
 	if err := f.Solve(d, r); err == nil {
 		for i := range x {
 			x[i] += d[i]
 		}
-		r = shiftedResidual(a, z, x, b)
+		r = solve.Residual(a, z, x, b)
 	}
 	return x, cnorm(r) / math.Max(cnorm(b), 1e-300), nil
-}
-
-// shiftedResidual returns b − (zI − A)x for real A applied to the real and
-// imaginary parts separately.
-func shiftedResidual(a linop.Operator, z complex128, x, b []complex128) []complex128 {
-	n := len(x)
-	xr, xi := make([]float64, n), make([]float64, n)
-	for i, v := range x {
-		xr[i], xi[i] = real(v), imag(v)
-	}
-	ar, ai := make([]float64, n), make([]float64, n)
-	a.Apply(ar, xr)
-	a.Apply(ai, xi)
-	r := make([]complex128, n)
-	for i := range r {
-		r[i] = b[i] - (z*x[i] - complex(ar[i], ai[i]))
-	}
-	return r
 }
