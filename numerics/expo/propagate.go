@@ -67,6 +67,13 @@ type Solution struct {
 	Factors int           // factorisations of shifted matrices
 	Elapsed time.Duration // wall time
 
+	// TolMet reports whether the tolerance asked was met: every error
+	// estimate is at most Tol·‖u0‖_∞. When it is false, Shortfall says in
+	// one line what could not be met (the best estimate against the
+	// target); it is empty when TolMet is true.
+	TolMet    bool
+	Shortfall string
+
 	Cross *Crosscheck // set when Options.Crosscheck was asked for
 }
 
@@ -76,6 +83,28 @@ type Crosscheck struct {
 	MaxDiff float64 // max_i ‖Values[i] − other[i]‖_∞
 	ErrEst  float64 // the second method's largest error estimate
 	Elapsed time.Duration
+}
+
+// assess sets TolMet and Shortfall from the error estimates: the contract
+// is max_i ErrEst[i] ≤ Tol·‖u0‖_∞ (the accuracy Options.Tol asks for).
+func (s *Solution) assess(u0 []float64) {
+	target := s.Tol * normInf(u0)
+	worst, at := 0.0, -1
+	for i, e := range s.ErrEst {
+		if math.IsNaN(e) {
+			worst, at = math.Inf(1), i // an unknown error counts as the worst
+			break
+		}
+		if e > worst {
+			worst, at = e, i
+		}
+	}
+	s.TolMet = at < 0 || worst <= target
+	s.Shortfall = ""
+	if !s.TolMet {
+		s.Shortfall = fmt.Sprintf("tolerance %.3g not met: error estimate %.3g at t = %.6g exceeds %.3g (= tol·‖u0‖∞)",
+			s.Tol, worst, s.Times[at], target)
+	}
 }
 
 // MaxErrEst returns the largest error estimate over the output times.
@@ -126,6 +155,7 @@ func Propagate(ctx context.Context, A linop.Operator, u0 []float64, times []floa
 	}
 	sol.Method, sol.Reason, sol.Tol = method, reason, opts.Tol
 	sol.Elapsed = time.Since(start)
+	sol.assess(u0)
 	if opts.Crosscheck {
 		other := crossMethod(method, A)
 		t0 := time.Now()
