@@ -2,6 +2,7 @@ package objects
 
 import (
 	"fmt"
+	htmlpkg "html"
 	"math"
 	"time"
 
@@ -18,9 +19,32 @@ type Solution struct {
 	Grid    *Grid  // grid of the operator, or nil
 	Problem string // the equation solved, e.g. "u' = A u"
 	Label   string // label of the operator
+
+	warned bool // the shortfall was reported once as a warning
 }
 
 func (s *Solution) Type() string { return "solution" }
+
+// shortfall is the one-line statement that the tolerance asked was not
+// met, or "" when it was. The numerics set Shortfall whenever TolMet is
+// false after judging the estimates (expo.Solution.CheckTol).
+func (s *Solution) shortfall() string {
+	if s.S.TolMet || s.S.Shortfall == "" {
+		return ""
+	}
+	return s.S.Shortfall
+}
+
+// Warnings implements value.Warner: a solution that missed its tolerance
+// says so once in the output of the cell that made it, as well as in its
+// display every time.
+func (s *Solution) Warnings() []string {
+	if m := s.shortfall(); m != "" && !s.warned {
+		s.warned = true
+		return []string{"propagate: " + m}
+	}
+	return nil
+}
 
 // Len is the number of output times.
 func (s *Solution) Len() int { return len(s.S.Times) }
@@ -61,6 +85,11 @@ func (s *Solution) summary() *textTable {
 	t.add("why", S.Reason)
 	t.add("tolerance", g3(S.Tol))
 	t.add("largest error estimate", g3(S.MaxErrEst())+" (‖·‖∞)")
+	if m := s.shortfall(); m != "" {
+		t.add("tolerance met", "NO: "+m)
+	} else {
+		t.add("tolerance met", "yes")
+	}
 	t.add("matrix–vector products", fmt.Sprint(S.MatVecs))
 	t.add("shifted solves", fmt.Sprintf("%d (%d factorisations)", S.Solves, S.Factors))
 	t.add("time taken", S.Elapsed.Round(time.Microsecond).String())
@@ -88,6 +117,10 @@ func (s *Solution) Record() map[string]any {
 		"solves":       S.Solves,
 		"seconds":      S.Elapsed.Seconds(),
 		"problem":      s.Problem,
+		"tol_met":      s.shortfall() == "",
+	}
+	if m := s.shortfall(); m != "" {
+		r["shortfall"] = m
 	}
 	if c := S.Cross; c != nil {
 		r["crosscheck"] = map[string]any{"method": c.Method, "maxdiff": finiteOrNil(c.MaxDiff), "errest": finiteOrNil(c.ErrEst)}
@@ -126,14 +159,23 @@ func (s *Solution) String() string {
 		rows := append(append([][]string{}, pt.rows[:6]...), []string{"..."})
 		pt.rows = append(rows, pt.rows[len(pt.rows)-5:]...)
 	}
-	return s.summary().text() + "\n" + pt.text()
+	text := s.summary().text() + "\n" + pt.text()
+	if m := s.shortfall(); m != "" {
+		// The first line, where nobody can miss it.
+		text = "WARNING: " + m + "\n" + text
+	}
+	return text
 }
 
 // MIME returns the HTML tables and, where there is something to draw, an
 // SVG figure: the profiles at the output times on a 1-D grid, a heat map
 // of the last time on a 2-D grid, and the components against t otherwise.
 func (s *Solution) MIME() map[string]any {
-	html := "<div>" + s.summary().html() + s.perTime().html()
+	html := "<div>"
+	if m := s.shortfall(); m != "" {
+		html += `<p class="semiflow-warning"><strong>WARNING:</strong> ` + htmlpkg.EscapeString(m) + `</p>`
+	}
+	html += s.summary().html() + s.perTime().html()
 	out := map[string]any{}
 	if f := s.Figure(); f != nil {
 		if svg, err := f.SVG(); err == nil {

@@ -95,6 +95,7 @@ func (s *Session) ExecuteNamed(ctx context.Context, name, src string, out Output
 			return nil, nil, err
 		}
 		s.publish(st)
+		s.warn(st, v, out)
 		b, md, err := displayGuarded(v, script.File, st)
 		if err != nil {
 			return nil, nil, err
@@ -124,6 +125,21 @@ func (s *Session) publish(st syntax.Stmt) {
 	s.viewMu.Lock()
 	s.view[name] = s.globals[name]
 	s.viewMu.Unlock()
+}
+
+// warn emits on standard error the warnings of the value a statement
+// produced or assigned (value.Warner), one line "warning: …" each.
+func (s *Session) warn(st syntax.Stmt, v value.Value, out Output) {
+	if a, ok := st.(*syntax.AssignStmt); ok {
+		v = s.globals[a.Name.Name]
+	}
+	w, ok := v.(value.Warner)
+	if !ok {
+		return
+	}
+	for _, m := range w.Warnings() {
+		out.Stream("stderr", "warning: "+m+"\n")
+	}
 }
 
 // Names returns the names of the session's variables and user functions,

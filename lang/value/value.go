@@ -74,6 +74,17 @@ type Recorder interface {
 	Record() map[string]any
 }
 
+// Warner is implemented by results that can fall short of what was asked
+// (a tolerance not met). The session emits each warning on the cell's
+// standard error as "warning: …" when a statement produces or assigns
+// such a value, so it is seen even when the value is not displayed.
+// Warnings returns only what it has not returned before, so a value
+// assigned and then shown warns once.
+type Warner interface {
+	Value
+	Warnings() []string
+}
+
 // Param is one parameter of a function signature.
 type Param struct {
 	Name     string

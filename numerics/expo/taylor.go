@@ -105,8 +105,9 @@ func taylorDegree(c *counted, tn *taylorNorms, h float64) (m, s int) {
 // taylorRun advances u0 through the sorted nonnegative times by the
 // truncated Taylor method with scaling, interval by interval, writing
 // e^{t_i A}u0 into vals[i] and an estimate of its ∞-norm error into errs[i].
-// The per-step estimate adds the truncation tail (the last two terms, whose
-// ratio is below θ_m/m) and a rounding term u·Σ_j(1 + ‖hA/s‖₁/j)‖term_j‖;
+// The per-step estimate adds the truncation tail (the last term times
+// r/(1 − r), r = ‖hA/s‖₁/(j+1), or the last two terms when r ≥ 1) and a
+// rounding term u·Σ_j(1 + ‖hA/s‖₁/j)‖term_j‖;
 // earlier errors are carried forward multiplied by the growth of the
 // solution over the step when it grows.
 //
@@ -169,15 +170,21 @@ func taylorRun(ctx context.Context, c *counted, mu float64, tn *taylorNorms, u0 
 					if prog != nil {
 						prog(done, total)
 					}
-					fn := normInf(f)
-					if c1+c2 <= tol*fn {
-						trunc = c1 + c2
+					// The tail beyond term j is at most c2·r/(1 − r), r =
+					// ‖hA/s‖/(j+1) < 1: each term is at most r times the
+					// one before.
+					r := stepNorm / float64(j+1)
+					trunc = c1 + c2
+					if r < 1 {
+						trunc = c2 * r / (1 - r)
+					}
+					// Stop early once the last two terms are below this
+					// step's share of the tolerance (Al-Mohy & Higham 2011,
+					// Algorithm 3.2, with the tolerance split over the s
+					// steps so that their sum meets it).
+					if c1+c2 <= tol*normInf(f)/float64(s) {
 						done += m - j
 						break
-					}
-					trunc = c2 * (stepNorm / float64(j+1)) / math.Max(1e-300, 1-stepNorm/float64(j+1))
-					if stepNorm/float64(j+1) >= 1 {
-						trunc = c1 + c2
 					}
 					c1 = c2
 				}
