@@ -516,7 +516,7 @@ func TestMalformedMessages(t *testing.T) {
 // Hostile peers at the transport level: a silent connection on every port,
 // an oversize frame, and a stranger using the client's identity.
 func TestHostilePeers(t *testing.T) {
-	k, c, _ := startKernel(t, func(cfg *Config) { cfg.Limits.MaxFrame = 1 << 20 })
+	k, c, _ := startKernel(t, func(cfg *Config) { cfg.Limits.MaxMessage = 1 << 20 })
 	ci := k.Conn()
 	for _, p := range []int{ci.ShellPort, ci.ControlPort, ci.IOPubPort, ci.StdinPort, ci.HBPort} {
 		s, err := net.Dial("tcp", fmt.Sprintf("127.0.0.1:%d", p))

@@ -3,22 +3,30 @@
 //
 // zmq4 performs each incoming connection's handshake on its single accept
 // loop, allocates every frame at the length the peer announces, queues
-// messages for a slow peer without bound, and delivers a ROUTER reply to
-// every connection that announced the same identity. A Transport registered
-// with zmq4.RegisterTransport and used for listening guards against each:
+// messages for a slow peer without bound, delivers a ROUTER reply to every
+// connection that announced the same identity, and leaves open a connection
+// whose peer has the wrong socket type. A Transport registered with
+// zmq4.RegisterTransport and used for listening guards against each:
 //
 //   - The ZMTP greeting and the peer's READY command are read on a
 //     goroutine of their own, under a deadline, before zmq4 sees the
 //     connection; a silent peer delays no one and is dropped at the deadline.
-//   - Every frame header the peer sends is inspected before zmq4 reads it; a
-//     frame or a multipart message longer than the limit closes the
-//     connection before anything of that size is allocated.
+//   - Incoming messages are read whole by the guard before zmq4 sees them:
+//     frames are read as their bytes arrive, never allocated at an announced
+//     length, and charged to a Budget shared by every connection; a message
+//     of more than MaxFrames frames or MaxMessage bytes closes the
+//     connection. A complete message is passed to Limits.Check (for a
+//     kernel, the signature check); only accepted messages reach zmq4, and
+//     their bytes leave the budget.
 //   - Outgoing messages go through a bounded per-connection queue; whole
 //     messages that do not fit are dropped and counted, so a stalled reader
 //     cannot make memory grow.
 //   - A peer whose READY names an identity already in use on the same
 //     listener is given a fresh random identity, so two peers never share
 //     one another's replies.
+//   - A peer whose socket type cannot talk to the listening socket's is
+//     closed at once.
+//   - Log lines about peers are rate-limited, per connection and in all.
 //
 // Only the NULL security mechanism is supported.
 package zguard
@@ -32,6 +40,7 @@ import (
 	"fmt"
 	"io"
 	"net"
+	"strings"
 	"sync"
 	"sync/atomic"
 	"time"
@@ -44,42 +53,74 @@ type Limits struct {
 	// Handshake bounds the time from accept to a complete peer READY
 	// command (default 5 s).
 	Handshake time.Duration
-	// MaxFrame is the largest frame, and the largest multipart message,
-	// accepted from a peer (default 256 MiB).
-	MaxFrame uint64
+	// MaxFrames is the most frames one incoming message may have (default
+	// 64: a Jupyter message has six plus routing identities and buffers).
+	MaxFrames int
+	// MaxMessage is the most bytes, all frames together, of one incoming
+	// message (default 32 MiB).
+	MaxMessage uint64
+	// Budget is shared by every connection of the Transports given it:
+	// the bytes of incoming messages not yet accepted by Check. Nil gives
+	// the Transport a budget of its own of DefaultBudget bytes.
+	Budget *Budget
+	// Check, if set, sees every complete incoming message before zmq4
+	// does; a message it refuses is dropped and counted, and the error
+	// logged (rate-limited). Check runs on the connection's reader
+	// goroutine, for many connections at once.
+	Check func(frames [][]byte) error
 	// MaxQueue is the number of bytes of outgoing messages that may wait
 	// for one slow peer (default 64 MiB).
 	MaxQueue int
 }
 
+// Default limits.
+const (
+	DefaultMaxFrames  = 64
+	DefaultMaxMessage = 32 << 20
+)
+
 // Stats counts what a Transport has refused or dropped.
 type Stats struct {
 	HandshakeFailures int64 // peers that did not complete a valid handshake in time
-	OversizeFrames    int64 // connections closed for an oversize frame or message
+	OversizeFrames    int64 // connections closed for a message of too many bytes or frames
+	OverBudget        int64 // connections closed because the shared budget was spent
+	Rejected          int64 // complete messages refused by Limits.Check
+	Incompatible      int64 // connections closed because the peer's socket type does not fit
 	DroppedMessages   int64 // outgoing messages dropped because a peer's queue was full
 	RenamedIdentities int64 // peers given a fresh identity because theirs was in use
+	SuppressedLogs    int64 // log lines about peers left out by the rate limit
 }
 
 // Transport implements transport.Transport for tcp and unix sockets.
 type Transport struct {
 	network string
 	lim     Limits
-	logf    func(format string, args ...any)
+	log     *rateLog
 
 	handshakeFailures atomic.Int64
 	oversizeFrames    atomic.Int64
+	overBudget        atomic.Int64
+	rejected          atomic.Int64
+	incompatible      atomic.Int64
 	droppedMessages   atomic.Int64
 	renamedIDs        atomic.Int64
 }
 
 // New returns a guarded transport over network ("tcp" or "unix"). logf
-// receives one line per refused peer; nil discards them.
+// receives lines about refused peers, at most 3 per peer and 20 in all per
+// 10 s, then a line saying how many were left out; nil discards them.
 func New(network string, lim Limits, logf func(format string, args ...any)) *Transport {
 	if lim.Handshake <= 0 {
 		lim.Handshake = 5 * time.Second
 	}
-	if lim.MaxFrame == 0 {
-		lim.MaxFrame = 256 << 20
+	if lim.MaxFrames <= 0 {
+		lim.MaxFrames = DefaultMaxFrames
+	}
+	if lim.MaxMessage == 0 {
+		lim.MaxMessage = DefaultMaxMessage
+	}
+	if lim.Budget == nil {
+		lim.Budget = NewBudget(0)
 	}
 	if lim.MaxQueue <= 0 {
 		lim.MaxQueue = 64 << 20
@@ -87,7 +128,7 @@ func New(network string, lim Limits, logf func(format string, args ...any)) *Tra
 	if logf == nil {
 		logf = func(string, ...any) {}
 	}
-	return &Transport{network: network, lim: lim, logf: logf}
+	return &Transport{network: network, lim: lim, log: newRateLog(logf, allLines, logWindow, "lines about peers")}
 }
 
 // Stats returns the counters so far.
@@ -95,8 +136,12 @@ func (t *Transport) Stats() Stats {
 	return Stats{
 		HandshakeFailures: t.handshakeFailures.Load(),
 		OversizeFrames:    t.oversizeFrames.Load(),
+		OverBudget:        t.overBudget.Load(),
+		Rejected:          t.rejected.Load(),
+		Incompatible:      t.incompatible.Load(),
 		DroppedMessages:   t.droppedMessages.Load(),
 		RenamedIdentities: t.renamedIDs.Load(),
+		SuppressedLogs:    t.log.total.Load(),
 	}
 }
 
@@ -186,7 +231,7 @@ func (l *listener) handshake(c net.Conn) {
 	t := l.t
 	fail := func(format string, args ...any) {
 		t.handshakeFailures.Add(1)
-		t.logf("zguard: %s: "+format, append([]any{c.RemoteAddr()}, args...)...)
+		t.log.printf("zguard: %s: "+format, append([]any{c.RemoteAddr()}, args...)...)
 		c.Close()
 	}
 	_ = c.SetDeadline(time.Now().Add(t.lim.Handshake))
@@ -247,7 +292,7 @@ func (l *listener) handshake(c net.Conn) {
 			_, _ = rand.Read(fresh)
 			fresh[0] = 0 // libzmq reserves a leading zero byte for generated identities
 			t.renamedIDs.Add(1)
-			t.logf("zguard: %s: identity %q already in use on this socket; assigning a fresh one", c.RemoteAddr(), id)
+			t.log.printf("zguard: %s: identity %q already in use on this socket; assigning a fresh one", c.RemoteAddr(), id)
 			id = string(fresh)
 			props.set("Identity", id)
 		}
@@ -260,7 +305,8 @@ func (l *listener) handshake(c net.Conn) {
 	replay = append(replay, greet...)
 	replay = appendFrameHeader(replay, flagCommand, uint64(len(ready)))
 	replay = append(replay, ready...)
-	gc := newConn(c, t, replay)
+	peerType, _ := props.get("Socket-Type")
+	gc := newConn(c, t, replay, peerType)
 	if hasID && id != "" {
 		gc.release = func() {
 			l.mu.Lock()
@@ -351,4 +397,29 @@ func parseReady(b []byte) (*readyCmd, error) {
 		return nil, errors.New("READY names no Socket-Type")
 	}
 	return r, nil
+}
+
+// compatible reports whether sockets of types a and b may be connected
+// (RFC 23/ZMTP, and RFC 28, 29 and 30 for the request-reply, publish-
+// subscribe and pipeline patterns).
+func compatible(a, b string) bool {
+	ok := map[string][]string{
+		"PAIR":   {"PAIR"},
+		"PUB":    {"SUB", "XSUB"},
+		"XPUB":   {"SUB", "XSUB"},
+		"SUB":    {"PUB", "XPUB"},
+		"XSUB":   {"PUB", "XPUB"},
+		"REQ":    {"REP", "ROUTER"},
+		"REP":    {"REQ", "DEALER"},
+		"DEALER": {"REP", "DEALER", "ROUTER"},
+		"ROUTER": {"REQ", "DEALER", "ROUTER"},
+		"PUSH":   {"PULL"},
+		"PULL":   {"PUSH"},
+	}
+	for _, t := range ok[strings.ToUpper(a)] {
+		if strings.EqualFold(t, b) {
+			return true
+		}
+	}
+	return false
 }

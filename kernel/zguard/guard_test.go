@@ -4,10 +4,13 @@ import (
 	"bytes"
 	"context"
 	"encoding/binary"
+	"errors"
 	"fmt"
 	"io"
 	"net"
+	"os"
 	"runtime"
+	"sync"
 	"sync/atomic"
 	"testing"
 	"time"
@@ -204,7 +207,7 @@ func TestHandshakeDeadline(t *testing.T) {
 // A frame announcing 2^40 bytes is refused before zmq4 allocates it (without
 // the guard, zmq4 would call make([]byte, 1<<40) and the process would die).
 func TestOversizeFrameRefused(t *testing.T) {
-	tr, scheme := register(t, Limits{MaxFrame: 1 << 20})
+	tr, scheme := register(t, Limits{MaxMessage: 1 << 20})
 	router := zmq4.NewRouter(context.Background())
 	defer router.Close()
 	addr := listen(t, router, scheme)
@@ -326,7 +329,256 @@ func TestStalledSubscriberBounded(t *testing.T) {
 
 func TestDefaultLimits(t *testing.T) {
 	tr := New("tcp", Limits{}, nil)
-	if tr.lim.MaxFrame != 256<<20 || tr.lim.Handshake != 5*time.Second || tr.lim.MaxQueue != 64<<20 {
+	if tr.lim.MaxMessage != 32<<20 || tr.lim.MaxFrames != 64 || tr.lim.Budget.Limit() != 96<<20 || tr.lim.Handshake != 5*time.Second || tr.lim.MaxQueue != 64<<20 {
 		t.Errorf("defaults = %+v", tr.lim)
+	}
+}
+
+// dialAs sends a ZMTP 3.0 greeting and a READY of the given socket type and
+// returns the connection without waiting for the server's READY.
+func dialAs(t *testing.T, addr, sockType string) net.Conn {
+	t.Helper()
+	c, err := net.Dial("tcp", addr)
+	if err != nil {
+		t.Fatal(err)
+	}
+	body := (&readyCmd{keys: []string{"Socket-Type"}, vals: []string{sockType}}).encode()
+	msg := append(ourGreeting(), appendFrameHeader(nil, flagCommand, uint64(len(body)))...)
+	if _, err := c.Write(append(msg, body...)); err != nil {
+		t.Fatal(err)
+	}
+	return c
+}
+
+// closedByServer reads until the server closes c, failing the test if it
+// has not within d.
+func closedByServer(t *testing.T, c net.Conn, d time.Duration) {
+	t.Helper()
+	c.SetReadDeadline(time.Now().Add(d))
+	if _, err := io.Copy(io.Discard, c); err != nil {
+		if ne, ok := err.(net.Error); ok && ne.Timeout() {
+			t.Fatal("the server did not close the connection")
+		}
+	}
+}
+
+func openFDs(t *testing.T) int {
+	t.Helper()
+	ents, err := os.ReadDir("/proc/self/fd")
+	if err != nil {
+		t.Skip("no /proc/self/fd")
+	}
+	return len(ents)
+}
+
+// echoRouter answers every message on a ROUTER with "re:" and its last frame.
+func echoRouter(router zmq4.Socket) {
+	for {
+		m, err := router.Recv()
+		if err != nil {
+			return
+		}
+		router.Send(zmq4.NewMsgFrom(m.Frames[0], append([]byte("re:"), m.Frames[len(m.Frames)-1]...)))
+	}
+}
+
+// roundTrip checks that a well-behaved DEALER is served by the router.
+func roundTrip(t *testing.T, addr, text string) {
+	t.Helper()
+	ctx, cancel := context.WithTimeout(context.Background(), 5*time.Second)
+	defer cancel()
+	d := zmq4.NewDealer(ctx)
+	defer d.Close()
+	if err := d.Dial("tcp://" + addr); err != nil {
+		t.Fatal(err)
+	}
+	if err := d.Send(zmq4.NewMsgString(text)); err != nil {
+		t.Fatal(err)
+	}
+	m, err := d.Recv()
+	if err != nil || string(m.Frames[len(m.Frames)-1]) != "re:"+text {
+		t.Fatalf("round trip %q: %q %v", text, m.Frames, err)
+	}
+}
+
+// A peer of the wrong socket type (a PUB at a ROUTER) is closed by the
+// server: 200 of them leave no file descriptor behind. (zmq4 alone refuses
+// the peer but never closes the connection.)
+func TestWrongSocketTypeClosed(t *testing.T) {
+	tr, scheme := register(t, Limits{})
+	router := zmq4.NewRouter(context.Background())
+	defer router.Close()
+	addr := listen(t, router, scheme)
+	go echoRouter(router)
+	roundTrip(t, addr, "warm-up")
+	before := openFDs(t)
+	const n = 200
+	for range n {
+		c := dialAs(t, addr, "PUB")
+		closedByServer(t, c, 3*time.Second)
+		c.Close()
+	}
+	time.Sleep(50 * time.Millisecond)
+	if after := openFDs(t); after > before+5 {
+		t.Errorf("%d descriptors open after %d refused peers, %d before", after, n, before)
+	}
+	if st := tr.Stats(); st.Incompatible != n {
+		t.Errorf("stats = %+v, want %d incompatible", st, n)
+	}
+	roundTrip(t, addr, "after")
+}
+
+// One endless message of empty frames is cut off at MaxFrames: the
+// connection closes after 65 frames, not after memory runs out.
+func TestEmptyFrameFlood(t *testing.T) {
+	tr, scheme := register(t, Limits{})
+	router := zmq4.NewRouter(context.Background())
+	defer router.Close()
+	addr := listen(t, router, scheme)
+	go echoRouter(router)
+	c := rawPeer(t, addr, "DEALER", "")
+	defer c.Close()
+	flood := bytes.Repeat([]byte{flagMore, 0}, 64<<10) // 64 Ki empty frames per write
+	go func() {
+		for range 100 { // up to 12.5 MiB on the wire
+			if _, err := c.Write(flood); err != nil {
+				return
+			}
+		}
+	}()
+	closedByServer(t, c, 5*time.Second)
+	if st := tr.Stats(); st.OversizeFrames != 1 {
+		t.Errorf("stats = %+v, want 1 oversize", st)
+	}
+	roundTrip(t, addr, "after the flood")
+}
+
+// Many peers each announcing a frame as large as allowed and sending part
+// of it can hold no more than the shared budget between them; the largest
+// are disconnected, and a small message from a well-behaved client still
+// gets through.
+func TestBudgetSharedByPeers(t *testing.T) {
+	const budget = 4 << 20
+	b := NewBudget(budget)
+	tr, scheme := register(t, Limits{Budget: b, MaxMessage: 2 << 20})
+	router := zmq4.NewRouter(context.Background())
+	defer router.Close()
+	addr := listen(t, router, scheme)
+	go echoRouter(router)
+	const peers = 16
+	part := bytes.Repeat([]byte("z"), 1<<20)
+	var conns []net.Conn
+	for range peers {
+		c := rawPeer(t, addr, "DEALER", "")
+		defer c.Close()
+		hdr := binary.BigEndian.AppendUint64([]byte{flagLong}, 2<<20) // announces 2 MiB
+		c.Write(hdr)
+		go c.Write(part) // sends 1 MiB of it and stalls
+		conns = append(conns, c)
+	}
+	deadline := time.Now().Add(5 * time.Second)
+	for tr.Stats().OverBudget < peers-4 && time.Now().Before(deadline) {
+		time.Sleep(10 * time.Millisecond)
+	}
+	if p := b.Peak(); p > budget {
+		t.Errorf("peak buffered %d bytes, budget %d", p, budget)
+	}
+	st := tr.Stats()
+	if st.OverBudget < peers-4 {
+		t.Errorf("stats = %+v: at most 4 peers of 1 MiB fit a 4 MiB budget", st)
+	}
+	roundTrip(t, addr, "small")
+	t.Logf("peak %d KiB of a %d KiB budget; %d peers disconnected", b.Peak()>>10, budget>>10, st.OverBudget)
+}
+
+// Check sees each complete message before zmq4; refused messages never
+// reach the socket, and the log about them is rate-limited per peer.
+func TestCheckAndLogLimit(t *testing.T) {
+	var lines atomic.Int64
+	tr := New("tcp", Limits{Check: func(f [][]byte) error {
+		if string(f[len(f)-1]) == "bad" {
+			return errors.New("bad message")
+		}
+		return nil
+	}}, func(string, ...any) { lines.Add(1) })
+	name := fmt.Sprintf("zgtest%d", schemeN.Add(1))
+	if err := zmq4.RegisterTransport(name, tr); err != nil {
+		t.Fatal(err)
+	}
+	router := zmq4.NewRouter(context.Background())
+	defer router.Close()
+	addr := listen(t, router, name)
+	got := make(chan string, 100)
+	go func() {
+		for {
+			m, err := router.Recv()
+			if err != nil {
+				return
+			}
+			got <- string(m.Frames[len(m.Frames)-1])
+		}
+	}()
+	d := zmq4.NewDealer(context.Background())
+	defer d.Close()
+	if err := d.Dial("tcp://" + addr); err != nil {
+		t.Fatal(err)
+	}
+	const n = 2000
+	for range n {
+		d.Send(zmq4.NewMsgString("bad"))
+	}
+	d.Send(zmq4.NewMsgString("good"))
+	select {
+	case s := <-got:
+		if s != "good" {
+			t.Fatalf("router received %q", s)
+		}
+	case <-time.After(5 * time.Second):
+		t.Fatal("the good message did not arrive")
+	}
+	st := tr.Stats()
+	if st.Rejected != n {
+		t.Errorf("rejected %d, want %d", st.Rejected, n)
+	}
+	if l := lines.Load(); l > peerLines {
+		t.Errorf("%d log lines for one peer's %d bad messages (limit %d)", l, n, peerLines)
+	}
+	if st.SuppressedLogs != n-peerLines {
+		t.Errorf("suppressed %d lines, want %d", st.SuppressedLogs, n-peerLines)
+	}
+}
+
+// The global half of the log limit: many peers together write at most
+// allLines lines per window, then one summary line.
+func TestRateLogSummary(t *testing.T) {
+	var mu sync.Mutex
+	var lines []string
+	r := newRateLog(func(f string, a ...any) {
+		mu.Lock()
+		lines = append(lines, fmt.Sprintf(f, a...))
+		mu.Unlock()
+	}, 5, 100*time.Millisecond, "lines")
+	for i := range 1000 {
+		r.printf("line %d", i)
+	}
+	time.Sleep(250 * time.Millisecond)
+	mu.Lock()
+	defer mu.Unlock()
+	if len(lines) != 6 || lines[5] != "zguard: 995 more lines suppressed in the last 100ms" {
+		t.Errorf("lines = %q", lines)
+	}
+}
+
+func TestCompatible(t *testing.T) {
+	// RFC 23/ZMTP, section "Socket types": the valid combinations.
+	for _, p := range [][2]string{{"ROUTER", "DEALER"}, {"ROUTER", "REQ"}, {"PUB", "SUB"}, {"REP", "REQ"}, {"REP", "DEALER"}, {"PAIR", "PAIR"}} {
+		if !compatible(p[0], p[1]) || !compatible(p[1], p[0]) {
+			t.Errorf("%s and %s should fit", p[0], p[1])
+		}
+	}
+	for _, p := range [][2]string{{"ROUTER", "PUB"}, {"ROUTER", "SUB"}, {"PUB", "DEALER"}, {"REP", "REP"}, {"PUB", "PUB"}, {"ROUTER", "NONSENSE"}} {
+		if compatible(p[0], p[1]) {
+			t.Errorf("%s and %s should not fit", p[0], p[1])
+		}
 	}
 }
