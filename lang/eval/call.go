@@ -210,7 +210,7 @@ func (in *Interp) bind(sc *scope, site syntax.Node, name string, params []value.
 			for i := range names {
 				names[i] = params[i].Name
 			}
-			msg := fmt.Sprintf("%s has no parameter named %s", name, a.name.Name)
+			msg := fmt.Sprintf("%s has no parameter named %s", name, syntax.Shorten(a.name.Name, syntax.QuoteWidth))
 			if s := suggest(a.name.Name, names); s != "" {
 				msg += fmt.Sprintf("; did you mean %s?", s)
 			}

@@ -28,9 +28,9 @@ type Frame struct {
 // Error formats e as file:line:col: message.
 func (e *Error) Error() string {
 	if e.File == nil {
-		return e.Msg
+		return syntax.ClipMessage(e.Msg)
 	}
-	return fmt.Sprintf("%s: %s", e.File.Position(e.Pos), e.Msg)
+	return fmt.Sprintf("%s: %s", e.File.Position(e.Pos), syntax.ClipMessage(e.Msg))
 }
 
 // ErrorName is the error's class.
@@ -48,7 +48,7 @@ func (e *Error) Traceback() []string {
 		if f.File == nil {
 			continue
 		}
-		lines = append(lines, fmt.Sprintf("%s: in the call of %s", f.File.Position(f.Pos), f.Func))
+		lines = append(lines, fmt.Sprintf("%s: in the call of %s", f.File.Position(f.Pos), syntax.Shorten(f.Func, syntax.QuoteWidth)))
 		lines = append(lines, f.File.Excerpt(f.Pos, f.End)...)
 		if f.Repeat > 0 {
 			lines = append(lines, fmt.Sprintf("(the same call %d more times)", f.Repeat))
@@ -61,6 +61,9 @@ func (e *Error) Traceback() []string {
 // distance, if it is close: at most 1 edit for names of up to 3 letters, 2
 // up to 6 letters, 3 beyond, and fewer edits than the name has letters.
 func suggest(name string, candidates []string) string {
+	if len(name) > 4*syntax.QuoteWidth {
+		return "" // no known name is that long; spare the edit distances
+	}
 	n := len([]rune(name))
 	limit := 3
 	if n <= 3 {
@@ -73,7 +76,7 @@ func suggest(name string, candidates []string) string {
 	}
 	best, bestD := "", limit+1
 	for _, c := range candidates {
-		if c == name {
+		if c == name || abs(len([]rune(c))-n) > bestD {
 			continue
 		}
 		d := editDistance(strings.ToLower(name), strings.ToLower(c))
@@ -82,6 +85,13 @@ func suggest(name string, candidates []string) string {
 		}
 	}
 	return best
+}
+
+func abs(k int) int {
+	if k < 0 {
+		return -k
+	}
+	return k
 }
 
 // editDistance is the Levenshtein distance between a and b in code points.

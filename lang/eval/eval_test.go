@@ -1,10 +1,14 @@
 package eval
 
 import (
+	"context"
 	"flag"
 	"fmt"
 	"strings"
 	"testing"
+
+	"semiflow/lang/syntax"
+	"semiflow/lang/value"
 )
 
 var _ = flag.Bool("update", false, "unused here; accepted for go test ./lang/... -update")
@@ -45,5 +49,69 @@ func TestProgress(t *testing.T) {
 	want := []string{"progress-work-1 false work: 0/4 (0%)", "progress-work-1 true work: 4/4 (100%)"}
 	if strings.Join(out.ids, "|") != strings.Join(want, "|") {
 		t.Errorf("progress displays = %q, want %q", out.ids, want)
+	}
+}
+
+// run parses src and executes its statements, returning the first error.
+func run(t *testing.T, in *Interp, src string) error {
+	t.Helper()
+	file := syntax.NewFile("cell", src)
+	script, errs := syntax.ParseFile(file)
+	if len(errs) > 0 {
+		return errs
+	}
+	for _, st := range script.Stmts {
+		if _, err := in.Exec(context.Background(), file, st); err != nil {
+			return err
+		}
+	}
+	return nil
+}
+
+// TestNestingAcrossCalls: each expression is at most syntax.MaxDepth deep,
+// but a recursive function whose recursive call sits at the bottom of a
+// deep expression multiplies that depth by the number of calls. The
+// evaluator stops at MaxNesting expressions under evaluation with an error
+// instead of letting the goroutine's stack overflow (a fatal error).
+func TestNestingAcrossCalls(t *testing.T) {
+	in := New(nil, nil, &events{})
+	body := "f(x)" + strings.Repeat("+1", syntax.MaxDepth-10)
+	err := run(t, in, "f(x) = "+body+"\nf(1)")
+	e, ok := err.(*Error)
+	if !ok || e.Name != "RecursionError" || !strings.Contains(e.Msg, "under evaluation") {
+		t.Fatalf("deep body called recursively: %v, want the nesting RecursionError", err)
+	}
+	// The interpreter is usable afterwards.
+	if err := run(t, in, "y = 1 + 2"); err != nil || in.Globals["y"].String() != "3" {
+		t.Errorf("after the error: %v, y = %v", err, in.Globals["y"])
+	}
+}
+
+// TestLongNameMessages: a 10 MB name or line gives an error of bounded
+// size, quickly (the nearest-name search skips names that cannot be close).
+func TestLongNameMessages(t *testing.T) {
+	in := New(map[string]value.Value{"heat": value.Num(1)}, nil, &events{})
+	long := strings.Repeat("q", 10<<20)
+	for name, src := range map[string]string{
+		"name":        long,
+		"name in row": "[" + strings.Repeat("1234567890, ", 400_000) + "heta, " + strings.Repeat("1234567890, ", 400_000) + "1]",
+		"call":        long + "(1)",
+		"assign":      "x = " + long,
+	} {
+		err := run(t, in, src)
+		e, ok := err.(*Error)
+		if !ok || e.Name != "NameError" {
+			t.Fatalf("%s: %v, want a NameError", name, err)
+		}
+		out := 0
+		for _, l := range e.Traceback() {
+			out += len(l)
+		}
+		if out > 1000 {
+			t.Errorf("%s: traceback of %d bytes for a 10 MB input, want a few hundred", name, out)
+		}
+		if name == "name in row" && !strings.Contains(e.Msg, "did you mean heat?") {
+			t.Errorf("%s: %q, want the suggestion heat", name, e.Msg)
+		}
 	}
 }

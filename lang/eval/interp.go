@@ -42,6 +42,14 @@ type Limits struct {
 // DefaultLimits are the limits of a session.
 var DefaultLimits = Limits{MaxDepth: 500, MaxElements: 1 << 24}
 
+// MaxNesting bounds how many expressions may be under evaluation at once,
+// counted across user-function calls: the parser bounds one expression's
+// depth (syntax.MaxDepth) and Limits.MaxDepth bounds the calls, and this
+// bounds their product, so that no input can exhaust the goroutine's stack
+// (a fatal error that no recover catches). It costs about 1 kB of stack per
+// level.
+const MaxNesting = 20000
+
 // Interp evaluates statements. Globals holds the session variables; it is
 // changed only by statements that complete without error.
 type Interp struct {
@@ -57,7 +65,8 @@ type Interp struct {
 	ctx       context.Context
 	steps     int64
 	nextCheck int64
-	depth     int
+	depth     int // user-function calls under way
+	nest      int // expressions under evaluation (see MaxNesting)
 
 	progressSeq int
 }
@@ -96,7 +105,7 @@ func (sc *scope) local(name string) (value.Value, bool) {
 // and changes nothing.
 func (in *Interp) Exec(ctx context.Context, file *syntax.File, st syntax.Stmt) (v value.Value, err error) {
 	in.ctx = ctx
-	in.depth = 0
+	in.depth, in.nest = 0, 0
 	sc := &scope{file: file}
 	if err := in.tick(sc, st, 1); err != nil {
 		return nil, err
@@ -143,7 +152,7 @@ func exprText(f *syntax.File, n syntax.Node) string {
 	if a < 0 || b > len(f.Src) || a > b {
 		return "expression"
 	}
-	return f.Src[a:b]
+	return syntax.Shorten(f.Src[a:b], syntax.QuoteWidth)
 }
 
 // errorf returns an *Error of class name at node n.
@@ -191,6 +200,17 @@ func (in *Interp) eval(sc *scope, x syntax.Expr) (value.Value, error) {
 	if err := in.tick(sc, x, 1); err != nil {
 		return nil, err
 	}
+	if in.nest >= MaxNesting {
+		return nil, in.errorf(sc, x, "RecursionError", "more than %d expressions under evaluation at once (deep expressions inside nested calls); split the expression with intermediate names or call less deeply", MaxNesting)
+	}
+	in.nest++
+	v, err := in.evalNode(sc, x)
+	in.nest--
+	return v, err
+}
+
+// evalNode evaluates one node; eval counts the nesting around it.
+func (in *Interp) evalNode(sc *scope, x syntax.Expr) (value.Value, error) {
 	switch e := x.(type) {
 	case *syntax.NumberLit:
 		if e.Imag {
@@ -243,7 +263,7 @@ func (in *Interp) lookup(sc *scope, id *syntax.Ident, what string) (value.Value,
 			return v, nil
 		}
 	}
-	msg := fmt.Sprintf("unknown %s %s", what, id.Name)
+	msg := fmt.Sprintf("unknown %s %s", what, syntax.Shorten(id.Name, syntax.QuoteWidth))
 	if s := suggest(id.Name, in.knownNames(sc)); s != "" {
 		msg += fmt.Sprintf("; did you mean %s?", s)
 	}

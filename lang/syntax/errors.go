@@ -17,7 +17,7 @@ type Error struct {
 
 // Error formats e as name:line:col: message.
 func (e *Error) Error() string {
-	return fmt.Sprintf("%s: %s", e.File.Position(e.Pos), e.Msg)
+	return fmt.Sprintf("%s: %s", e.File.Position(e.Pos), ClipMessage(e.Msg))
 }
 
 // ErrorList is a list of syntax errors. After Sort it is ordered by position

@@ -7,9 +7,15 @@ import (
 )
 
 // MaxNesting bounds how deeply expressions may nest (brackets, unary
-// operators, powers). Deeper input is a syntax error, so neither the parser
-// nor the evaluator can exhaust the stack.
+// operators, powers). Deeper input is a syntax error, so the parser cannot
+// exhaust the stack.
 const MaxNesting = 200
+
+// MaxDepth bounds the depth of an expression's syntax tree: each bracket,
+// operator and call adds a level, so a chain 1+1+…+1 of n terms is n levels
+// deep even though it nests nothing. Deeper input is a syntax error, so the
+// evaluator and every walk over the tree stay far from the stack's limit.
+const MaxDepth = 1000
 
 // Parse parses src, named name, into a Script. The error, if not nil, is an
 // ErrorList (sorted, at most MaxErrors entries); the Script is then partial
@@ -90,6 +96,7 @@ type parser struct {
 	tok   Item
 	ahead []Item
 	nest  int
+	depth int // depth of the syntax tree of the expression parsed last
 }
 
 func (p *parser) next() {
@@ -119,9 +126,9 @@ func (p *parser) errorf(pos, end Pos, format string, args ...any) {
 func (p *parser) describe() string {
 	switch p.tok.Tok {
 	case IDENT:
-		return fmt.Sprintf("name %s", p.tok.Lit)
+		return fmt.Sprintf("name %s", Shorten(p.tok.Lit, QuoteWidth))
 	case NUMBER, IMAG:
-		return fmt.Sprintf("number %s", p.tok.Lit)
+		return fmt.Sprintf("number %s", Shorten(p.tok.Lit, QuoteWidth))
 	case STRING:
 		return "string"
 	case EOF, NEWLINE:
@@ -161,6 +168,17 @@ func (p *parser) enter() {
 
 func (p *parser) leave() { p.nest-- }
 
+// deepen sets the depth of a new node whose deepest child is d levels deep,
+// at the operator or bracket at pos. Beyond MaxDepth the parse stops, so a
+// megabyte-long chain costs no more than its first MaxDepth operators.
+func (p *parser) deepen(d int, pos Pos) {
+	p.depth = d + 1
+	if p.depth > MaxDepth {
+		p.errorf(pos, pos+1, "expression too long or nested too deeply: more than %d levels of operators, brackets and calls; split it with intermediate names", MaxDepth)
+		panic(bailout{})
+	}
+}
+
 func (p *parser) parseStmt() Stmt {
 	start := p.tok.Pos
 	x := p.parseExpr()
@@ -187,14 +205,14 @@ func (p *parser) parseStmt() Stmt {
 			} else if id, ok := a.Value.(*Ident); ok {
 				prm.Name = id
 				if len(def.Params) > 0 && def.Params[len(def.Params)-1].Default != nil {
-					p.errorf(id.Pos(), id.End(), "parameter %s without a default follows one with a default", id.Name)
+					p.errorf(id.Pos(), id.End(), "parameter %s without a default follows one with a default", Shorten(id.Name, QuoteWidth))
 				}
 			} else {
 				p.errorf(a.Value.Pos(), a.Value.End(), "a parameter must be a name, optionally with a default (k=2)")
 				continue
 			}
 			if seen[prm.Name.Name] {
-				p.errorf(prm.Name.Pos(), prm.Name.End(), "duplicate parameter %s", prm.Name.Name)
+				p.errorf(prm.Name.Pos(), prm.Name.End(), "duplicate parameter %s", Shorten(prm.Name.Name, QuoteWidth))
 			}
 			seen[prm.Name.Name] = true
 			def.Params = append(def.Params, prm)
@@ -216,9 +234,10 @@ func (p *parser) parseStmt() Stmt {
 func (p *parser) parseExpr() Expr {
 	x := p.parseAnd()
 	for p.tok.Tok == OR {
-		pos := p.tok.Pos
+		pos, d := p.tok.Pos, p.depth
 		p.next()
 		x = &BinaryExpr{X: x, OpPos: pos, Op: OR, Y: p.parseAnd()}
+		p.deepen(max(d, p.depth), pos)
 	}
 	return x
 }
@@ -226,9 +245,10 @@ func (p *parser) parseExpr() Expr {
 func (p *parser) parseAnd() Expr {
 	x := p.parseNot()
 	for p.tok.Tok == AND {
-		pos := p.tok.Pos
+		pos, d := p.tok.Pos, p.depth
 		p.next()
 		x = &BinaryExpr{X: x, OpPos: pos, Op: AND, Y: p.parseNot()}
+		p.deepen(max(d, p.depth), pos)
 	}
 	return x
 }
@@ -240,6 +260,7 @@ func (p *parser) parseNot() Expr {
 		p.enter()
 		x := p.parseNot()
 		p.leave()
+		p.deepen(p.depth, pos)
 		return &UnaryExpr{OpPos: pos, Op: NOT, X: x}
 	}
 	return p.parseCompare()
@@ -252,9 +273,10 @@ func isCompare(t Token) bool {
 func (p *parser) parseCompare() Expr {
 	x := p.parseRange()
 	if isCompare(p.tok.Tok) {
-		op, pos := p.tok.Tok, p.tok.Pos
+		op, pos, d := p.tok.Tok, p.tok.Pos, p.depth
 		p.next()
 		x = &BinaryExpr{X: x, OpPos: pos, Op: op, Y: p.parseRange()}
+		p.deepen(max(d, p.depth), pos)
 		if isCompare(p.tok.Tok) {
 			p.errorf(p.tok.Pos, p.tok.End, "comparisons do not chain: write a < b and b < c")
 		}
@@ -266,12 +288,16 @@ func (p *parser) parseRange() Expr {
 	x := p.parseSum()
 	if p.tok.Tok == DOTDOT {
 		r := &RangeExpr{Lo: x, Dots: p.tok.Pos}
+		d := p.depth
 		p.next()
 		r.Hi = p.parseSum()
+		d = max(d, p.depth)
 		if p.tok.Tok == BY {
 			p.next()
 			r.Step = p.parseSum()
+			d = max(d, p.depth)
 		}
+		p.deepen(d, r.Dots)
 		if p.tok.Tok == DOTDOT {
 			p.errorf(p.tok.Pos, p.tok.End, "a range has one '..'; the step is written a .. b by h")
 		}
@@ -286,9 +312,10 @@ func (p *parser) parseRange() Expr {
 func (p *parser) parseSum() Expr {
 	x := p.parseTerm()
 	for p.tok.Tok == ADD || p.tok.Tok == SUB {
-		op, pos := p.tok.Tok, p.tok.Pos
+		op, pos, d := p.tok.Tok, p.tok.Pos, p.depth
 		p.next()
 		x = &BinaryExpr{X: x, OpPos: pos, Op: op, Y: p.parseTerm()}
+		p.deepen(max(d, p.depth), pos)
 	}
 	return x
 }
@@ -296,9 +323,10 @@ func (p *parser) parseSum() Expr {
 func (p *parser) parseTerm() Expr {
 	x := p.parseUnary()
 	for p.tok.Tok == MUL || p.tok.Tok == QUO || p.tok.Tok == REM {
-		op, pos := p.tok.Tok, p.tok.Pos
+		op, pos, d := p.tok.Tok, p.tok.Pos, p.depth
 		p.next()
 		x = &BinaryExpr{X: x, OpPos: pos, Op: op, Y: p.parseUnary()}
+		p.deepen(max(d, p.depth), pos)
 	}
 	return x
 }
@@ -310,6 +338,7 @@ func (p *parser) parseUnary() Expr {
 		p.enter()
 		x := p.parseUnary()
 		p.leave()
+		p.deepen(p.depth, pos)
 		return &UnaryExpr{OpPos: pos, Op: op, X: x}
 	}
 	return p.parsePower()
@@ -318,11 +347,12 @@ func (p *parser) parseUnary() Expr {
 func (p *parser) parsePower() Expr {
 	x := p.parsePostfix()
 	if p.tok.Tok == POW {
-		pos := p.tok.Pos
+		pos, d := p.tok.Pos, p.depth
 		p.next()
 		p.enter()
 		y := p.parseUnary()
 		p.leave()
+		p.deepen(max(d, p.depth), pos)
 		return &BinaryExpr{X: x, OpPos: pos, Op: POW, Y: y}
 	}
 	return x
@@ -335,6 +365,7 @@ func (p *parser) parsePostfix() Expr {
 		case LPAREN:
 			p.enter()
 			call := &CallExpr{Fun: x, Lparen: p.tok.Pos}
+			d := p.depth
 			p.next()
 			for p.tok.Tok != RPAREN && p.tok.Tok != EOF {
 				a := &Arg{}
@@ -346,6 +377,7 @@ func (p *parser) parsePostfix() Expr {
 					p.errorf(p.tok.Pos, p.tok.End, "positional argument after a named argument")
 				}
 				a.Value = p.parseExpr()
+				d = max(d, p.depth)
 				call.Args = append(call.Args, a)
 				if p.tok.Tok != COMMA {
 					break
@@ -354,16 +386,19 @@ func (p *parser) parsePostfix() Expr {
 			}
 			call.Rparen = p.expectClose(RPAREN, call.Lparen)
 			p.leave()
+			p.deepen(d, call.Lparen)
 			x = call
 		case LBRACK:
 			p.enter()
 			ix := &IndexExpr{X: x, Lbrack: p.tok.Pos}
+			d := p.depth
 			p.next()
 			if p.tok.Tok == RBRACK {
 				p.errorf(p.tok.Pos, p.tok.End, "missing index inside []")
 			}
 			for p.tok.Tok != RBRACK && p.tok.Tok != EOF {
 				ix.Indices = append(ix.Indices, p.parseExpr())
+				d = max(d, p.depth)
 				if p.tok.Tok != COMMA {
 					break
 				}
@@ -371,6 +406,7 @@ func (p *parser) parsePostfix() Expr {
 			}
 			ix.Rbrack = p.expectClose(RBRACK, ix.Lbrack)
 			p.leave()
+			p.deepen(d, ix.Lbrack)
 			x = ix
 		default:
 			return x
@@ -380,6 +416,7 @@ func (p *parser) parsePostfix() Expr {
 
 func (p *parser) parseOperand() Expr {
 	it := p.tok
+	p.depth = 1
 	switch it.Tok {
 	case IDENT:
 		p.next()
@@ -389,7 +426,7 @@ func (p *parser) parseOperand() Expr {
 		raw := strings.TrimSuffix(it.Lit, "i")
 		v, err := strconv.ParseFloat(raw, 64)
 		if err != nil {
-			p.errorf(it.Pos, it.End, "number %s is out of the range of float64 (about ±1.8e308)", it.Lit)
+			p.errorf(it.Pos, it.End, "number %s is out of the range of float64 (about ±1.8e308)", Shorten(it.Lit, QuoteWidth))
 		}
 		return &NumberLit{ValuePos: it.Pos, Raw: it.Lit, Value: v, Imag: it.Tok == IMAG}
 	case STRING:
@@ -401,13 +438,16 @@ func (p *parser) parseOperand() Expr {
 		x := p.parseExpr()
 		rp := p.expectClose(RPAREN, it.Pos)
 		p.leave()
+		p.deepen(p.depth, it.Pos)
 		return &ParenExpr{Lparen: it.Pos, Rparen: rp, X: x}
 	case LBRACK:
 		p.enter()
 		p.next()
 		v := &VectorLit{Lbrack: it.Pos}
+		d := 0
 		for p.tok.Tok != RBRACK && p.tok.Tok != EOF {
 			v.Elems = append(v.Elems, p.parseExpr())
+			d = max(d, p.depth)
 			if p.tok.Tok == BAR {
 				p.errorf(p.tok.Pos, p.tok.End, "'|' separates matrix rows inside { }; a vector is written [1, 2, 3]")
 				p.next()
@@ -420,6 +460,7 @@ func (p *parser) parseOperand() Expr {
 		}
 		v.Rbrack = p.expectClose(RBRACK, it.Pos)
 		p.leave()
+		p.deepen(d, it.Pos)
 		return v
 	case LBRACE:
 		p.enter()
@@ -429,8 +470,10 @@ func (p *parser) parseOperand() Expr {
 			p.errorf(it.Pos, p.tok.End, "empty matrix: a matrix literal needs at least one entry, {1, 2 | 3, 4}")
 		}
 		row := []Expr{}
+		d := 0
 		for p.tok.Tok != RBRACE && p.tok.Tok != EOF {
 			row = append(row, p.parseExpr())
+			d = max(d, p.depth)
 			if p.tok.Tok == COMMA {
 				p.next()
 				continue
@@ -446,6 +489,7 @@ func (p *parser) parseOperand() Expr {
 		m.Rows = append(m.Rows, row)
 		m.Rbrace = p.expectClose(RBRACE, it.Pos)
 		p.leave()
+		p.deepen(d, it.Pos)
 		for i, r := range m.Rows {
 			if len(r) != len(m.Rows[0]) {
 				from, to := it.Pos, m.Rbrace+1

@@ -257,7 +257,7 @@ func (s *Scanner) number() Item {
 			end += w
 		}
 		s.errorf(Pos(start), Pos(end), "number %s is followed by %q; write %s*%s for a product (an imaginary number is written like 3i)",
-			lit, s.src[s.off:end], lit, s.src[s.off:end])
+			Shorten(lit, QuoteWidth), Shorten(s.src[s.off:end], QuoteWidth), Shorten(lit, QuoteWidth), Shorten(s.src[s.off:end], QuoteWidth))
 		s.off = end
 	}
 	return Item{Tok: tok, Pos: Pos(start), End: Pos(s.off), Lit: lit}

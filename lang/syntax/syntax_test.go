@@ -335,3 +335,103 @@ func rawLine(f *File, n int) string {
 	}
 	return f.Src[start:end]
 }
+
+// TestLongChain: a chain of operators nests nothing, yet its syntax tree is
+// as deep as it is long; a 2.5 MB chain once overflowed the evaluator's
+// stack and ended the process. Beyond MaxDepth levels it is a syntax error
+// at the operator that crosses the limit, found without building the rest.
+func TestLongChain(t *testing.T) {
+	chain := func(op string, n int) string { // n terms: n−1 operators
+		return strings.Repeat("1"+op, n-1) + "1"
+	}
+	for _, op := range []string{"+", "*", " and ", " or "} {
+		t.Run(strings.TrimSpace(op), func(t *testing.T) {
+			// MaxDepth−1 operators: a tree MaxDepth deep, accepted.
+			if _, err := Parse("t", chain(op, MaxDepth)); err != nil {
+				t.Errorf("a chain %d levels deep: %v", MaxDepth, err)
+			}
+			src := chain(op, 1_250_000)
+			_, err := Parse("t", src)
+			list, ok := err.(ErrorList)
+			if !ok || len(list) != 1 {
+				t.Fatalf("a chain of 1.25e6 terms: error %v, want one syntax error", err)
+			}
+			// The MaxDepth-th operator is the first one too many.
+			want := Pos((MaxDepth-1)*len("1"+op) + 1 + strings.Index(op, strings.TrimSpace(op)))
+			if list[0].Pos != want || !strings.Contains(list[0].Msg, "too long or nested too deeply") {
+				t.Errorf("error at %d %q, want offset %d and 'too long or nested too deeply'", list[0].Pos, list[0].Msg, want)
+			}
+		})
+	}
+	// Brackets, calls and chains add up: (chain) + … nests the chain's
+	// depth inside the outer one.
+	half := chain("+", MaxDepth/2)
+	if _, err := Parse("t", "("+half+")+"+half); err == nil {
+		t.Errorf("two chains of %d levels, one inside the other: accepted, want the depth error", MaxDepth/2)
+	}
+	if _, err := Parse("t", "f("+half+")+g["+half+"]"); err != nil {
+		t.Errorf("chains side by side are not deeper together: %v", err)
+	}
+	// A flat list is not deep however long it is.
+	if _, err := Parse("t", "["+strings.Repeat("1, ", 500_000)+"1]"); err != nil {
+		t.Errorf("a vector of 5e5 entries: %v", err)
+	}
+}
+
+// TestLongLineExcerpt: an error in a 10 MB line shows a window of
+// ExcerptWidth code points with "…" marks; the caret stays under the
+// offending character and the message keeps the true column.
+func TestLongLineExcerpt(t *testing.T) {
+	pad := `"` + strings.Repeat("é, ", 5_000_000/3) + `"`
+	for _, tc := range []struct{ name, before, after string }{
+		{"middle", "[" + pad + ", ", ", " + pad + "]"},
+		{"start", "[", ", " + pad + "]"},
+		{"end", "[" + pad + ", ", "]"},
+	} {
+		t.Run(tc.name, func(t *testing.T) {
+			src := tc.before + "zz?" + tc.after
+			f := NewFile("cell", src)
+			at := Pos(len(tc.before) + 2)
+			lines := f.Excerpt(at, at+1)
+			if n := utf8.RuneCountInString(lines[0]); n > ExcerptWidth+2 {
+				t.Fatalf("excerpt line of %d code points, want at most %d", n, ExcerptWidth+2)
+			}
+			caret := utf8.RuneCountInString(strings.TrimRight(lines[1], "^"))
+			if got := []rune(lines[0])[caret]; got != '?' {
+				t.Errorf("caret under %q, want under '?':\n%s\n%s", got, lines[0], lines[1])
+			}
+			if (tc.name != "start") != strings.HasPrefix(lines[0], "…") || (tc.name != "end") != strings.HasSuffix(lines[0], "…") {
+				t.Errorf("'…' marks wrong for a window at the %s: %q", tc.name, lines[0])
+			}
+			if p := f.Position(at); p.Column != utf8.RuneCountInString(tc.before)+3 {
+				t.Errorf("column %d, want %d", p.Column, utf8.RuneCountInString(tc.before)+3)
+			}
+			_, err := Parse("cell", src)
+			var out int
+			for _, l := range err.(ErrorList).Traceback() {
+				out += len(l)
+			}
+			if out > 2000 {
+				t.Errorf("traceback of a 10 MB line is %d bytes, want a few hundred", out)
+			}
+		})
+	}
+	// A span longer than the window is underlined up to the window's end.
+	long := NewFile("cell", strings.Repeat("a", 1000))
+	if got := long.Excerpt(10, 900); utf8.RuneCountInString(got[1]) != ExcerptWidth {
+		t.Errorf("span clipped to the window: caret line of %d, want %d", utf8.RuneCountInString(got[1]), ExcerptWidth)
+	}
+}
+
+func TestShorten(t *testing.T) {
+	if got := Shorten("heat", 10); got != "heat" {
+		t.Errorf("Shorten(heat) = %q", got)
+	}
+	got := Shorten(strings.Repeat("ab", 50), 10)
+	if got != "ababa…babab (100 characters)" {
+		t.Errorf("Shorten = %q", got)
+	}
+	if got := ClipMessage(strings.Repeat("x", 3*MessageWidth)); utf8.RuneCountInString(got) > MessageWidth+60 || !strings.Contains(got, "message cut") {
+		t.Errorf("ClipMessage kept %d code points", utf8.RuneCountInString(got))
+	}
+}
