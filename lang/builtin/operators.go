@@ -10,6 +10,7 @@ import (
 	"path/filepath"
 	"strconv"
 	"strings"
+	"syscall"
 
 	"gonum.org/v1/gonum/mat"
 
@@ -489,25 +490,9 @@ func readmmImpl(c *eval.Call) (value.Value, error) {
 	if err != nil {
 		return nil, err
 	}
-	if path == "" {
-		return nil, value.Errorf("IOError", "readmm: the path is empty")
-	}
-	// A directory, pipe or device is refused before it is opened: opening
-	// a pipe without a writer would block, and a device may never end.
-	st, err := os.Stat(path)
+	f, err := openRegular(c.Name, path, os.O_RDONLY)
 	if err != nil {
-		return nil, value.Errorf("IOError", "readmm: %s", ioMessage(err))
-	}
-	if !st.Mode().IsRegular() {
-		what := "not a regular file"
-		if st.IsDir() {
-			what = "a directory"
-		}
-		return nil, value.Errorf("IOError", "readmm: %s: is %s", path, what)
-	}
-	f, err := os.Open(path)
-	if err != nil {
-		return nil, value.Errorf("IOError", "readmm: %s", ioMessage(err))
+		return nil, err
 	}
 	defer f.Close()
 	m, err := mmio.Read(bufio.NewReader(f))
@@ -543,13 +528,68 @@ func ioMessage(err error) string {
 	return err.Error()
 }
 
-func writeFile(c *eval.Call, path string, write func(w *bufio.Writer) error) error {
+// openRegular opens path for the builtin name with flag (os.O_RDONLY, or
+// os.O_WRONLY|os.O_CREATE|os.O_TRUNC) and refuses anything but a regular
+// file: a directory, a device (which may never end) or a FIFO or socket
+// (whose open, read or write can block the session forever when nobody is
+// at the other end). The check runs twice: on the path before opening, and
+// on the opened file (Fstat) after an open with O_NONBLOCK, so that a FIFO
+// put in place between the two cannot block either.
+func openRegular(name, path string, flag int) (*os.File, error) {
 	if path == "" {
-		return value.Errorf("IOError", "%s: the path is empty", c.Name)
+		return nil, value.Errorf("IOError", "%s: the path is empty", name)
 	}
-	f, err := os.Create(path)
+	if st, err := os.Stat(path); err == nil {
+		if err := regular(name, path, st); err != nil {
+			return nil, err
+		}
+	} else if flag&os.O_CREATE == 0 || !errors.Is(err, os.ErrNotExist) {
+		return nil, value.Errorf("IOError", "%s: %s", name, ioMessage(err))
+	}
+	f, err := os.OpenFile(path, flag|syscall.O_NONBLOCK, 0o666)
 	if err != nil {
-		return value.Errorf("IOError", "%s: %s", c.Name, ioMessage(err))
+		if errors.Is(err, syscall.ENXIO) { // a FIFO with no reader, opened for writing
+			return nil, value.Errorf("IOError", "%s: %s: is a FIFO (named pipe); only regular files are read and written", name, path)
+		}
+		return nil, value.Errorf("IOError", "%s: %s", name, ioMessage(err))
+	}
+	st, err := f.Stat()
+	if err == nil {
+		err = regular(name, path, st)
+	}
+	if err != nil {
+		f.Close()
+		if _, ok := err.(*value.Error); !ok {
+			err = value.Errorf("IOError", "%s: %s", name, ioMessage(err))
+		}
+		return nil, err
+	}
+	return f, nil
+}
+
+// regular refuses a file that is not a regular one, naming what it is.
+func regular(name, path string, st os.FileInfo) error {
+	if st.Mode().IsRegular() {
+		return nil
+	}
+	what := "not a regular file"
+	switch m := st.Mode(); {
+	case m.IsDir():
+		what = "a directory"
+	case m&os.ModeNamedPipe != 0:
+		what = "a FIFO (named pipe)"
+	case m&os.ModeSocket != 0:
+		what = "a socket"
+	case m&os.ModeDevice != 0:
+		what = "a device"
+	}
+	return value.Errorf("IOError", "%s: %s: is %s; only regular files are read and written", name, path, what)
+}
+
+func writeFile(c *eval.Call, path string, write func(w *bufio.Writer) error) error {
+	f, err := openRegular(c.Name, path, os.O_WRONLY|os.O_CREATE|os.O_TRUNC)
+	if err != nil {
+		return err
 	}
 	w := bufio.NewWriter(f)
 	if err := write(w); err != nil {
