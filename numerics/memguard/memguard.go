@@ -164,6 +164,38 @@ func Check(count, elemBytes int, what string) error {
 	return CheckBytes(int64(lo), what)
 }
 
+// Bytes returns an error if need bytes, given as a float64 so that sums of
+// products of sizes read from input cannot overflow, exceed the limit. A
+// NaN or negative need is refused as well (it can only come from an
+// overflowed size). what names the request in the message.
+func Bytes(need float64, what string) error {
+	if l := Limit(); !(need >= 0 && need <= float64(l)) {
+		return &TooLargeError{What: what, Need: need, Limit: l}
+	}
+	return nil
+}
+
+// Floats checks n float64 values (work vectors, a Krylov basis, a copy)
+// for a request named what, e.g. "Krylov basis (31 vectors of order
+// 10000000000)". Every allocation whose size comes from an operator's order
+// or from input goes through Floats, Complexes, Bytes or Dense first.
+// Floats panics if n is negative.
+func Floats(n int, what string) error { return Check(n, RealBytes, what) }
+
+// Complexes checks n complex128 values, as Floats.
+func Complexes(n int, what string) error { return Check(n, ComplexBytes, what) }
+
+// Vectors checks k work vectors of order n with elements of elemBytes
+// bytes (RealBytes or ComplexBytes), naming them "<what> (k vectors of
+// order n)". The product is formed in floating point, so no order
+// overflows it. Vectors panics if k, n or elemBytes is negative.
+func Vectors(k, n, elemBytes int, what string) error {
+	if k < 0 || n < 0 || elemBytes < 0 {
+		panic("memguard: negative size")
+	}
+	return Bytes(float64(k)*float64(n)*float64(elemBytes), fmt.Sprintf("%s (%d vectors of order %d)", what, k, n))
+}
+
 // Dense checks an r×c dense matrix with elements of elemBytes bytes
 // (RealBytes or ComplexBytes). The message reads, for example,
 // "dense 200000×200000 complex matrix needs 596 GiB; limit is 12 GiB".

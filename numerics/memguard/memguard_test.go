@@ -2,6 +2,7 @@ package memguard
 
 import (
 	"errors"
+	"math"
 	"strings"
 	"testing"
 )
@@ -66,5 +67,34 @@ func TestLargestSide(t *testing.T) {
 	_ = DenseReal(3, 9)
 	if got := LargestSide(); got != 9 {
 		t.Fatalf("after reset LargestSide = %d, want 9", got)
+	}
+}
+
+// TestWorkVectors: the helpers for work vectors and other sizes taken from
+// an operator's order or from input. By arithmetic: 3 vectors of order
+// 10¹⁰ × 8 B = 2.4e11 B ≈ 224 GiB; 10¹⁰ complex values = 1.6e11 B ≈ 149 GiB.
+func TestWorkVectors(t *testing.T) {
+	old := SetLimit(12 << 30)
+	defer SetLimit(old)
+	err := Vectors(3, 1e10, RealBytes, "Krylov basis")
+	if want := "Krylov basis (3 vectors of order 10000000000) needs 224 GiB; limit is 12 GiB"; err == nil || err.Error() != want {
+		t.Errorf("Vectors: %v, want %q", err, want)
+	}
+	if err := Complexes(1e10, "shifted solution"); !errors.Is(err, ErrTooLarge) || !strings.Contains(err.Error(), "needs 149 GiB") {
+		t.Errorf("Complexes: %v, want 149 GiB refused", err)
+	}
+	if err := Floats(1e6, "work vector"); err != nil {
+		t.Errorf("8 MB refused: %v", err)
+	}
+	if err := Vectors(1<<40, 1<<40, ComplexBytes, "overflowing"); !errors.Is(err, ErrTooLarge) {
+		t.Errorf("an order whose product overflows int64: %v", err)
+	}
+	for _, need := range []float64{-1, math.NaN(), math.Inf(1)} {
+		if err := Bytes(need, "odd"); !errors.Is(err, ErrTooLarge) {
+			t.Errorf("Bytes(%v) = %v, want a refusal", need, err)
+		}
+	}
+	if err := Bytes(12<<30, "exactly the limit"); err != nil {
+		t.Errorf("the limit itself refused: %v", err)
 	}
 }

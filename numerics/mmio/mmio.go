@@ -195,6 +195,9 @@ func Read(r io.Reader) (*Matrix, error) {
 	if h.Symmetry != General && m.Rows != m.Cols {
 		return fail("%s matrix of size %d×%d is not square", h.Symmetry, m.Rows, m.Cols)
 	}
+	if err := checkDeclared(h, dims, lr.line); err != nil {
+		return nil, err
+	}
 	parse := func(s string) (float64, error) {
 		if h.Field == Integer {
 			v, err := strconv.ParseInt(s, 10, 64)
@@ -219,9 +222,6 @@ func Read(r io.Reader) (*Matrix, error) {
 	}
 	if h.Format == Coordinate {
 		nnz := dims[2]
-		if err := memguard.Check(nnz, 48, fmt.Sprintf("coordinate matrix with %d entries", nnz)); err != nil {
-			return nil, err
-		}
 		nf := 3
 		if h.Field == Pattern {
 			nf = 2
@@ -259,9 +259,6 @@ func Read(r io.Reader) (*Matrix, error) {
 			push(i-1, j-1, v)
 		}
 	} else {
-		if err := memguard.DenseReal(m.Rows, m.Cols); err != nil {
-			return nil, err
-		}
 		// Column-major; symmetric: lower triangle with diagonal; skew: strictly lower.
 		for j := 0; j < m.Cols; j++ {
 			i0 := 0
@@ -300,6 +297,39 @@ func Read(r io.Reader) (*Matrix, error) {
 		return nil, err
 	}
 	return m, nil
+}
+
+// Bytes per entry of what Read and then Matrix.CSR or Matrix.Dense build:
+// the triplet (row, column, value) as read, and the CSR entry (column,
+// value) or the dense entry.
+const (
+	tripletBytes = 24
+	csrBytes     = 16
+)
+
+// checkDeclared asks the memory guard, before any entry is read, for what
+// the size line on line declares: the triplets as read (twice the entries
+// for symmetric storage) and the CSR form with its row pointers, or the
+// dense matrix. A header declaring 10¹²×10¹² thus fails at once instead of
+// when the row pointers are allocated. Entries are still stored as they
+// arrive, so a header that declares more entries than the file holds costs
+// only what the file holds.
+func checkDeclared(h Header, dims []int, line int) error {
+	r, c := float64(dims[0]), float64(dims[1])
+	var need float64
+	var what string
+	if h.Format == Coordinate {
+		entries := float64(dims[2])
+		if h.Symmetry != General {
+			entries *= 2
+		}
+		need = entries*(tripletBytes+csrBytes) + (r+1)*memguard.RealBytes
+		what = fmt.Sprintf("the %d×%d coordinate matrix with %d entries declared on line %d", dims[0], dims[1], dims[2], line)
+	} else {
+		need = r * c * (tripletBytes + memguard.RealBytes)
+		what = fmt.Sprintf("the %d×%d array matrix declared on line %d", dims[0], dims[1], line)
+	}
+	return memguard.Bytes(need, what)
 }
 
 func article(field string) string {
