@@ -14,6 +14,7 @@ import (
 //	sleep MS        wait (cancellable), then value "slept"
 //	stubborn MS     wait ignoring cancellation
 //	print TEXT / warn TEXT / show TEXT / page TEXT / clear
+//	lines N         N lines "line 1" … "line N" on stdout, one call each, then value "done"
 //	update ID TEXT  a display with id ID, then an update of it
 //	set NAME VALUE / get NAME
 //	fail            an evaluation error
@@ -50,6 +51,12 @@ func (f *fakeEval) Execute(ctx context.Context, code string, out Output) (map[st
 		case <-ctx.Done():
 			return nil, nil, ctx.Err()
 		}
+	case "lines":
+		n, _ := strconv.Atoi(arg)
+		for i := 1; i <= n; i++ {
+			out.Stream("stdout", "line "+strconv.Itoa(i)+"\n")
+		}
+		return plain("done"), nil, nil
 	case "print":
 		out.Stream("stdout", arg+"\n")
 		return nil, nil, nil

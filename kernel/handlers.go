@@ -6,6 +6,7 @@ import (
 	"fmt"
 	"path"
 	"runtime/debug"
+	"strings"
 	"sync"
 	"time"
 	"unicode/utf8"
@@ -13,20 +14,22 @@ import (
 	"semiflow/kernel/wire"
 )
 
-// executor runs shell requests one at a time, in arrival order.
+// executor runs shell requests one at a time, in arrival order. An
+// execute request that arrived before a failure with stop_on_error was
+// reported is aborted; one that arrived after runs.
 func (k *Kernel) executor() {
 	for {
-		var q queued
-		if len(k.pending) > 0 {
-			q, k.pending = k.pending[0], k.pending[1:]
-		} else {
+		q, ok := k.queue.pop()
+		if !ok {
 			select {
-			case q = <-k.queue:
+			case <-k.queue.ready:
+				continue
 			case <-k.ctx.Done():
 				return
 			}
 		}
-		k.handle(q.s, q.m, q.abort)
+		abort := q.seq <= k.abortUpTo && q.m.Header.MsgType == wire.ExecuteRequest
+		k.handle(q.s, q.m, abort)
 	}
 }
 
@@ -34,10 +37,10 @@ func (k *Kernel) executor() {
 // Requests that touch the session (execute, complete, inspect, is_complete,
 // history) join the execution queue instead, so that the control channel
 // stays free for interrupts; their replies still go out on control.
-func (k *Kernel) handleControl(m *wire.Message) {
+func (k *Kernel) handleControl(m *wire.Message, seq int64) {
 	switch m.Header.MsgType {
 	case wire.ExecuteRequest, wire.CompleteRequest, wire.InspectRequest, wire.IsCompleteRequest, wire.HistoryRequest:
-		k.enqueue(k.control, m)
+		k.enqueue(k.control, m, seq)
 		return
 	}
 	if m.Header.MsgType == wire.InterruptRequest {
@@ -200,6 +203,11 @@ func (k *Kernel) execute(s *sock, m *wire.Message) error {
 		k.history = append(k.history, histEntry{line: count, input: c.Code, output: plainText(data)})
 	}
 	if err != nil {
+		if stopOnError {
+			// Before the failure is reported: a request sent in answer to
+			// it cannot have arrived yet.
+			k.abortUpTo = k.arrived.Load()
+		}
 		ename, evalue, tb := describe(err)
 		if !c.Silent {
 			k.publish(m, wire.Error, map[string]any{"ename": ename, "evalue": evalue, "traceback": tb})
@@ -207,9 +215,6 @@ func (k *Kernel) execute(s *sock, m *wire.Message) error {
 		reply := errorContent(ename, evalue, tb)
 		reply["execution_count"] = count
 		k.send(s, m, wire.ExecuteReply, reply)
-		if stopOnError {
-			k.abortQueued()
-		}
 		return nil
 	}
 	if data != nil && !c.Silent {
@@ -238,24 +243,6 @@ func (k *Kernel) userExpression(expr string) map[string]any {
 		data = map[string]any{"text/plain": ""}
 	}
 	return map[string]any{"status": "ok", "data": data, "metadata": orMap(md)}
-}
-
-// abortQueued marks every shell request already waiting as aborted
-// (stop_on_error); requests arriving later run normally.
-func (k *Kernel) abortQueued() {
-	for {
-		select {
-		case q := <-k.queue:
-			k.pending = append(k.pending, q)
-		default:
-			for i := range k.pending {
-				if k.pending[i].m.Header.MsgType == wire.ExecuteRequest {
-					k.pending[i].abort = true
-				}
-			}
-			return
-		}
-	}
 }
 
 // run evaluates code with a cancellable context, turning a panic into an
@@ -506,15 +493,34 @@ func (k *Kernel) historyReq(s *sock, m *wire.Message) error {
 
 // output publishes what a running cell emits, with the request as parent.
 // After close it ignores everything (a stray goroutine of a finished cell).
+//
+// Stream text is coalesced: it collects for up to streamDelay, or up to
+// streamChunk bytes, and goes out as one message, so a cell printing a
+// line at a time sends few messages. The kernel's stream bucket bounds the
+// rate; lines beyond it are left out and a line in the stream itself says
+// how many. Every other message goes out in order, after the stream text
+// before it, and is never dropped.
 type output struct {
 	k      *Kernel
 	parent *wire.Message
 	silent bool
 
-	mu     sync.Mutex
-	closed bool
-	pages  []any
+	mu      sync.Mutex
+	closed  bool
+	pages   []any
+	name    string // stream of buf
+	buf     []byte
+	lastNL  bool  // the last text sent on name ended a line
+	omitted int64 // lines left out since the last marker
+	omitB   int64 // and their bytes
+	timer   *time.Timer
 }
+
+// Coalescing of stream output.
+const (
+	streamDelay = 50 * time.Millisecond
+	streamChunk = 64 << 10
+)
 
 func (o *output) emit(msgType string, content map[string]any) {
 	o.mu.Lock()
@@ -522,6 +528,7 @@ func (o *output) emit(msgType string, content map[string]any) {
 	if o.closed || o.silent {
 		return
 	}
+	o.flushLocked(true)
 	o.k.publish(o.parent, msgType, content)
 }
 
@@ -529,7 +536,73 @@ func (o *output) Stream(name, text string) {
 	if name != "stdout" && name != "stderr" {
 		name = "stdout"
 	}
-	o.emit(wire.Stream, map[string]any{"name": name, "text": text})
+	o.mu.Lock()
+	defer o.mu.Unlock()
+	if o.closed || o.silent || text == "" {
+		return
+	}
+	if name != o.name {
+		o.flushLocked(true)
+		o.name, o.lastNL = name, true
+	}
+	keep := o.k.stream.take(len(text))
+	if keep < len(text) {
+		// Whole lines only: cut after the last newline that fits.
+		keep = strings.LastIndexByte(text[:keep], '\n') + 1
+		rest := text[keep:]
+		n := int64(strings.Count(rest, "\n"))
+		if !strings.HasSuffix(rest, "\n") {
+			n++
+		}
+		o.omitted += n
+		o.omitB += int64(len(rest))
+		o.k.stream.omitted.Add(n)
+		text = text[:keep]
+	}
+	if text != "" {
+		o.marker()
+		o.buf = append(o.buf, text...)
+	}
+	if len(o.buf) >= streamChunk {
+		o.flushLocked(false)
+	} else if len(o.buf) > 0 && o.timer == nil {
+		o.timer = time.AfterFunc(streamDelay, func() {
+			o.mu.Lock()
+			defer o.mu.Unlock()
+			o.timer = nil
+			if !o.closed {
+				o.flushLocked(false)
+			}
+		})
+	}
+}
+
+// marker appends to buf the line that says how many lines were left out.
+func (o *output) marker() {
+	if o.omitted == 0 {
+		return
+	}
+	if !o.lastNL && (len(o.buf) == 0 || o.buf[len(o.buf)-1] != '\n') {
+		o.buf = append(o.buf, '\n')
+	}
+	o.buf = fmt.Appendf(o.buf, "[semiflow: %d lines (%d bytes) of output left out here: more than %d KiB/s]\n",
+		o.omitted, o.omitB, int(o.k.stream.rate)>>10)
+	o.omitted, o.omitB = 0, 0
+}
+
+// flushLocked sends the collected stream text; with final, also the marker
+// of lines left out since. The caller holds o.mu.
+func (o *output) flushLocked(final bool) {
+	if final {
+		o.marker()
+	}
+	if len(o.buf) == 0 {
+		return
+	}
+	text := string(o.buf)
+	o.buf = o.buf[:0]
+	o.lastNL = text[len(text)-1] == '\n'
+	o.k.publish(o.parent, wire.Stream, map[string]any{"name": o.name, "text": text})
 }
 
 func (o *output) Display(data, metadata map[string]any, displayID string, update bool) {
@@ -558,10 +631,18 @@ func (o *output) Page(data map[string]any) {
 	}
 }
 
+// close sends what stream text is left and ignores everything after.
 func (o *output) close() {
 	o.mu.Lock()
+	defer o.mu.Unlock()
+	if !o.silent && !o.closed {
+		o.flushLocked(true)
+	}
+	if o.timer != nil {
+		o.timer.Stop()
+		o.timer = nil
+	}
 	o.closed = true
-	o.mu.Unlock()
 }
 
 func (o *output) payloads() []any {

@@ -5,8 +5,10 @@
 //
 // Sockets are github.com/go-zeromq/zmq4 sockets over the guarded transport of
 // package zguard, so a misbehaving peer cannot stall the accept loop, force
-// a huge allocation, grow the send queue without bound or steal another
-// peer's replies.
+// a huge allocation, grow the send queue without bound, steal another
+// peer's replies or keep a refused connection open. The signature of every
+// message on shell, control and stdin is checked by the transport, before
+// zmq4 buffers it, and a signature seen before (a replay) is refused.
 package kernel
 
 import (
@@ -44,19 +46,29 @@ type Config struct {
 	Banner          string
 	HelpLinks       []HelpLink
 	Log             io.Writer     // diagnostics; default os.Stderr
-	Limits          zguard.Limits // transport limits
+	Limits          zguard.Limits // transport limits of shell, control and stdin (Check is the kernel's own)
 	IOPubQueue      int           // iopub messages waiting to be sent (default 1024)
 	InterruptGrace  time.Duration // how long an interrupted cell may take to stop (default 0.5 s)
 	HandleInterrupt bool          // treat SIGINT as interrupt_request
+	// StreamRate and StreamBurst bound a cell's stream output: up to
+	// StreamBurst bytes at once, then StreamRate bytes a second; lines
+	// beyond are left out and a line in the stream says how many
+	// (defaults 1 MiB/s and 4 MiB).
+	StreamRate, StreamBurst int
+	// Replays is how many recent signatures are remembered to refuse a
+	// message sent twice (default 65536).
+	Replays int
 }
 
 // Stats counts what the kernel refused or dropped.
 type Stats struct {
-	Transport     zguard.Stats
-	BadSignatures int64 // messages dropped for a wrong, empty or missing signature
-	Malformed     int64 // messages that could not be decoded
-	IOPubDropped  int64 // iopub messages dropped because the queue was full
-	Panics        int64 // evaluator panics turned into error replies
+	Transport     zguard.Stats // both transports (signed and unsigned sockets) together
+	BufferedPeak  int64        // most bytes of unauthenticated messages buffered at once
+	BadSignatures int64        // messages dropped for a wrong or empty signature
+	Malformed     int64        // messages that could not be decoded
+	Replayed      int64        // messages dropped because their signature was seen before
+	StreamOmitted int64        // lines of stream output left out by the rate limit (and said so)
+	Panics        int64        // evaluator panics turned into error replies
 }
 
 // ErrConfig reports a Config without a connection or evaluator.
@@ -70,7 +82,11 @@ type Kernel struct {
 	session string
 	ident   string
 	log     *log.Logger
-	trans   *zguard.Transport
+	trans   *zguard.Transport // shell, control and stdin: messages checked before zmq4 sees them
+	utrans  *zguard.Transport // iopub and heartbeat: small unsigned messages
+	budget  *zguard.Budget
+	replays *sigSet
+	stream  *bucket
 
 	shell, control, stdin *sock
 	iopub, hb             zmq4.Socket
@@ -78,10 +94,13 @@ type Kernel struct {
 	ctx    context.Context
 	cancel context.CancelFunc
 
-	queue   chan queued
-	pending []queued // drained behind a failure; executed or aborted first
-	iopubCh chan [][]byte
-	iopubWG sync.WaitGroup
+	queue   fifo
+	arrived atomic.Int64 // requests received so far on shell and control
+	// abortUpTo: execute requests that arrived at or before this count are
+	// aborted (set when a failure with stop_on_error is reported).
+	abortUpTo int64
+	iopubCh   chan [][]byte
+	iopubWG   sync.WaitGroup
 
 	mu         sync.Mutex
 	cellCancel context.CancelFunc
@@ -94,13 +113,13 @@ type Kernel struct {
 	shutdown chan bool // restart flag
 	stopOnce sync.Once
 
-	badSig, malformed, iopubDropped, panics atomic.Int64
+	badSig, malformed, replayed, panics atomic.Int64
 }
 
 type queued struct {
-	m     *wire.Message
-	s     *sock // where the reply goes
-	abort bool
+	m   *wire.Message
+	s   *sock // where the reply goes
+	seq int64 // arrival order
 }
 
 type sock struct {
@@ -125,6 +144,15 @@ func New(cfg Config) (*Kernel, error) {
 	if cfg.InterruptGrace <= 0 {
 		cfg.InterruptGrace = 500 * time.Millisecond
 	}
+	if cfg.StreamRate <= 0 {
+		cfg.StreamRate = 1 << 20
+	}
+	if cfg.StreamBurst <= 0 {
+		cfg.StreamBurst = 4 << 20
+	}
+	if cfg.Replays <= 0 {
+		cfg.Replays = 65536
+	}
 	if cfg.Conn.Transport == "" {
 		cfg.Conn.Transport = "tcp"
 	}
@@ -135,36 +163,53 @@ func New(cfg Config) (*Kernel, error) {
 		session:  wire.NewID(),
 		ident:    wire.NewID(),
 		log:      log.New(cfg.Log, "semiflow kernel: ", log.LstdFlags|log.Lmicroseconds),
-		queue:    make(chan queued, 256),
 		iopubCh:  make(chan [][]byte, cfg.IOPubQueue),
 		shutdown: make(chan bool, 1),
+		replays:  newSigSet(cfg.Replays),
+		stream:   newBucket(cfg.StreamRate, cfg.StreamBurst),
 	}
+	k.queue.init()
 	network, prefix := "tcp", "sfz"
 	if cfg.Conn.Transport == "ipc" {
 		network, prefix = "unix", "sfzipc"
 	}
-	k.trans = zguard.New(network, cfg.Limits, k.log.Printf)
-	scheme := fmt.Sprintf("%s%d", prefix, schemeN.Add(1))
+	lim := cfg.Limits
+	if lim.Budget == nil {
+		lim.Budget = zguard.NewBudget(0)
+	}
+	k.budget = lim.Budget
+	lim.Check = k.check
+	k.trans = zguard.New(network, lim, k.log.Printf)
+	// Heartbeat pings and iopub subscriptions are a few bytes, unsigned.
+	ulim := zguard.Limits{Handshake: lim.Handshake, MaxFrames: 8, MaxMessage: unsignedMax, Budget: lim.Budget, MaxQueue: lim.MaxQueue}
+	k.utrans = zguard.New(network, ulim, k.log.Printf)
+	n := schemeN.Add(1)
+	scheme, uscheme := fmt.Sprintf("%s%d", prefix, n), fmt.Sprintf("%s%du", prefix, n)
 	if err := zmq4.RegisterTransport(scheme, k.trans); err != nil {
 		return nil, err
 	}
+	if err := zmq4.RegisterTransport(uscheme, k.utrans); err != nil {
+		return nil, err
+	}
 	k.ctx, k.cancel = context.WithCancel(context.Background())
-	zlog := zmq4.WithLogger(log.New(cfg.Log, "semiflow kernel: zmq4: ", log.LstdFlags))
+	// zmq4 writes a line for every connection it refuses: at most 20 per 10 s.
+	zlog := zmq4.WithLogger(log.New(newLimitedWriter(cfg.Log, 20, 10*time.Second), "semiflow kernel: zmq4: ", log.LstdFlags))
 	k.shell = &sock{Socket: zmq4.NewRouter(k.ctx, zlog), name: "shell"}
 	k.control = &sock{Socket: zmq4.NewRouter(k.ctx, zlog), name: "control"}
 	k.stdin = &sock{Socket: zmq4.NewRouter(k.ctx, zlog), name: "stdin"}
 	k.iopub = zmq4.NewPub(k.ctx, zlog)
 	k.hb = zmq4.NewRep(k.ctx, zlog)
 	binds := []struct {
-		s    zmq4.Socket
-		port *int
+		s      zmq4.Socket
+		port   *int
+		scheme string
 	}{
-		{k.shell, &k.cfg.Conn.ShellPort}, {k.control, &k.cfg.Conn.ControlPort}, {k.stdin, &k.cfg.Conn.StdinPort},
-		{k.iopub, &k.cfg.Conn.IOPubPort}, {k.hb, &k.cfg.Conn.HBPort},
+		{k.shell, &k.cfg.Conn.ShellPort, scheme}, {k.control, &k.cfg.Conn.ControlPort, scheme}, {k.stdin, &k.cfg.Conn.StdinPort, scheme},
+		{k.iopub, &k.cfg.Conn.IOPubPort, uscheme}, {k.hb, &k.cfg.Conn.HBPort, uscheme},
 	}
 	for _, b := range binds {
 		ep := k.cfg.Conn.Endpoint(*b.port)
-		ep = scheme + ep[strings.Index(ep, "://"):]
+		ep = b.scheme + ep[strings.Index(ep, "://"):]
 		if err := b.s.Listen(ep); err != nil {
 			k.closeSockets()
 			return nil, fmt.Errorf("kernel: %w", err)
@@ -184,14 +229,52 @@ func (k *Kernel) Conn() wire.ConnectionInfo { return k.cfg.Conn }
 
 // Stats returns the kernel's counters so far.
 func (k *Kernel) Stats() Stats {
+	a, b := k.trans.Stats(), k.utrans.Stats()
 	return Stats{
-		Transport:     k.trans.Stats(),
+		Transport: zguard.Stats{
+			HandshakeFailures: a.HandshakeFailures + b.HandshakeFailures,
+			OversizeFrames:    a.OversizeFrames + b.OversizeFrames,
+			OverBudget:        a.OverBudget + b.OverBudget,
+			Rejected:          a.Rejected + b.Rejected,
+			Incompatible:      a.Incompatible + b.Incompatible,
+			DroppedMessages:   a.DroppedMessages + b.DroppedMessages,
+			RenamedIdentities: a.RenamedIdentities + b.RenamedIdentities,
+			SuppressedLogs:    a.SuppressedLogs + b.SuppressedLogs,
+		},
+		BufferedPeak:  k.budget.Peak(),
 		BadSignatures: k.badSig.Load(),
 		Malformed:     k.malformed.Load(),
-		IOPubDropped:  k.iopubDropped.Load(),
+		Replayed:      k.replayed.Load(),
+		StreamOmitted: k.stream.omitted.Load(),
 		Panics:        k.panics.Load(),
 	}
 }
+
+// unsignedMax is the largest message accepted on iopub and heartbeat.
+const unsignedMax = 64 << 10
+
+// check is the transport's Check for shell, control and stdin: a message
+// reaches zmq4 only with a good signature never seen before.
+func (k *Kernel) check(frames [][]byte) error {
+	d, err := k.signer.Check(frames)
+	switch {
+	case err == nil:
+	case errors.Is(err, wire.ErrSignature):
+		k.badSig.Add(1)
+		return err
+	default:
+		k.malformed.Add(1)
+		return err
+	}
+	if k.signer.Enabled() && !k.replays.add(frames[d+1]) {
+		k.replayed.Add(1)
+		return errReplay
+	}
+	return nil
+}
+
+// errReplay refuses a message whose signature has been seen before.
+var errReplay = errors.New("kernel: a message with this signature was received before (a replay); dropped")
 
 func (k *Kernel) closeSockets() {
 	for _, s := range []zmq4.Socket{k.shell, k.control, k.stdin, k.iopub, k.hb} {
@@ -224,9 +307,9 @@ func (k *Kernel) Run(ctx context.Context) (restart bool, err error) {
 	k.iopubWG.Add(1)
 	go k.iopubLoop()
 	go k.heartbeat()
-	go k.readLoop(k.shell, func(m *wire.Message) { k.enqueue(k.shell, m) })
+	go k.readLoop(k.shell, func(m *wire.Message, seq int64) { k.enqueue(k.shell, m, seq) })
 	go k.readLoop(k.control, k.handleControl)
-	go k.readLoop(k.stdin, func(m *wire.Message) {
+	go k.readLoop(k.stdin, func(m *wire.Message, _ int64) {
 		k.log.Printf("stdin: ignoring %s (allow_stdin is not supported)", m.Header.MsgType)
 	})
 	go k.executor()
@@ -248,12 +331,11 @@ func (k *Kernel) Run(ctx context.Context) (restart bool, err error) {
 	return restart, err
 }
 
-// enqueue puts a request on the execution queue; its reply goes to s.
-func (k *Kernel) enqueue(s *sock, m *wire.Message) {
-	select {
-	case k.queue <- queued{m: m, s: s}:
-	case <-k.ctx.Done():
-	}
+// enqueue puts a request on the execution queue; its reply goes to s. The
+// queue has no bound: only authenticated requests reach it, and a reader
+// that never waits numbers requests in the order they arrived.
+func (k *Kernel) enqueue(s *sock, m *wire.Message, seq int64) {
+	k.queue.push(queued{m: m, s: s, seq: seq})
 }
 
 // Interrupt cancels the running cell, if any. It is what interrupt_request
@@ -289,7 +371,7 @@ func (k *Kernel) heartbeat() {
 // readLoop receives from s, decodes and checks each message and hands the
 // good ones to handle. Bad messages are logged and dropped, or answered with
 // an error reply when their header is good enough to reply to.
-func (k *Kernel) readLoop(s *sock, handle func(*wire.Message)) {
+func (k *Kernel) readLoop(s *sock, handle func(*wire.Message, int64)) {
 	for {
 		zm, err := s.Recv()
 		if err != nil {
@@ -299,6 +381,7 @@ func (k *Kernel) readLoop(s *sock, handle func(*wire.Message)) {
 			time.Sleep(10 * time.Millisecond)
 			continue
 		}
+		seq := k.arrived.Add(1)
 		m, err := wire.Decode(zm.Frames, k.signer)
 		switch {
 		case err == nil:
@@ -316,7 +399,7 @@ func (k *Kernel) readLoop(s *sock, handle func(*wire.Message)) {
 			k.log.Printf("%s: dropping an undecodable message: %v", s.name, err)
 			continue
 		}
-		handle(m)
+		handle(m, seq)
 	}
 }
 
@@ -356,8 +439,8 @@ func (k *Kernel) encode(parent *wire.Message, ids [][]byte, msgType string, cont
 	return wire.Encode(m, k.signer)
 }
 
-// publish queues an iopub message. Status messages wait for room (up to a
-// second); others are dropped and counted when the queue is full.
+// publish queues an iopub message, waiting for room: nothing is dropped
+// here (stream output is bounded before it gets here, see output).
 func (k *Kernel) publish(parent *wire.Message, msgType string, content any) {
 	topic := []byte("kernel." + k.ident + "." + msgType)
 	frames, err := k.encode(parent, [][]byte{topic}, msgType, content)
@@ -366,20 +449,9 @@ func (k *Kernel) publish(parent *wire.Message, msgType string, content any) {
 		return
 	}
 	defer func() { recover() }() // the channel is closed at shutdown
-	if msgType == wire.Status {
-		select {
-		case k.iopubCh <- frames:
-		case <-time.After(time.Second):
-			k.iopubDropped.Add(1)
-		}
-		return
-	}
 	select {
 	case k.iopubCh <- frames:
-	default:
-		if n := k.iopubDropped.Add(1); n == 1 || n%1000 == 0 {
-			k.log.Printf("iopub: queue full, %d messages dropped so far", n)
-		}
+	case <-k.ctx.Done():
 	}
 }
 

@@ -97,11 +97,10 @@ func (s *Signer) Verify(sig []byte, parts ...[]byte) bool {
 	return hmac.Equal(got, s.mac(parts))
 }
 
-// Decode parses the frames of one message and checks its signature. It
-// never panics on hostile input. The header must be a JSON object with a
-// non-empty msg_id and msg_type; the other three JSON frames are checked
-// only for being valid JSON (an empty frame is read as {}).
-func Decode(frames [][]byte, s *Signer) (*Message, error) {
+// Check finds the delimiter among frames and verifies the signature of the
+// four JSON frames after it, without parsing them. It returns the
+// delimiter's index, or ErrNoDelimiter, ErrShort or ErrSignature.
+func (s *Signer) Check(frames [][]byte) (delim int, err error) {
 	d := -1
 	for i, f := range frames {
 		if string(f) == Delimiter {
@@ -110,19 +109,33 @@ func Decode(frames [][]byte, s *Signer) (*Message, error) {
 		}
 	}
 	if d < 0 {
-		return nil, ErrNoDelimiter
+		return d, ErrNoDelimiter
 	}
 	rest := frames[d+1:]
 	if len(rest) < 5 {
-		return nil, fmt.Errorf("%w: got %d", ErrShort, len(rest))
+		return d, fmt.Errorf("%w: got %d", ErrShort, len(rest))
 	}
-	sig, hdr, parent, meta, content := rest[0], rest[1], rest[2], rest[3], rest[4]
+	sig := rest[0]
 	if s.Enabled() && len(sig) == 0 {
-		return nil, fmt.Errorf("%w: empty signature", ErrSignature)
+		return d, fmt.Errorf("%w: empty signature", ErrSignature)
 	}
-	if !s.Verify(sig, hdr, parent, meta, content) {
-		return nil, fmt.Errorf("%w: HMAC does not match", ErrSignature)
+	if !s.Verify(sig, rest[1], rest[2], rest[3], rest[4]) {
+		return d, fmt.Errorf("%w: HMAC does not match", ErrSignature)
 	}
+	return d, nil
+}
+
+// Decode parses the frames of one message and checks its signature. It
+// never panics on hostile input. The header must be a JSON object with a
+// non-empty msg_id and msg_type; the other three JSON frames are checked
+// only for being valid JSON (an empty frame is read as {}).
+func Decode(frames [][]byte, s *Signer) (*Message, error) {
+	d, err := s.Check(frames)
+	if err != nil {
+		return nil, err
+	}
+	rest := frames[d+1:]
+	hdr, parent, meta, content := rest[1], rest[2], rest[3], rest[4]
 	m := &Message{
 		Identities: frames[:d],
 		RawHeader:  hdr,
