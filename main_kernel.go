@@ -2,9 +2,11 @@ package main
 
 import (
 	"context"
+	"errors"
 	"flag"
 	"fmt"
 	"os"
+	"time"
 
 	"semiflow/install"
 	"semiflow/kernel"
@@ -57,7 +59,15 @@ func cmdKernel(args []string) int {
 		fmt.Fprintln(os.Stderr, "semiflow kernel:", err)
 		return 1
 	}
-	if _, err := k.Run(context.Background()); err != nil {
+	// A kernel whose parent (the notebook server) has gone exits too.
+	ctx, orphaned := context.WithCancelCause(context.Background())
+	defer orphaned(nil)
+	go kernel.WatchParent(ctx, time.Second, func(why string) { orphaned(errors.New(why)) })
+	if _, err := k.Run(ctx); err != nil {
+		if cause := context.Cause(ctx); cause != nil && !errors.Is(cause, context.Canceled) {
+			fmt.Fprintf(os.Stderr, "semiflow kernel: %v; exiting\n", cause)
+			return 0
+		}
 		fmt.Fprintln(os.Stderr, "semiflow kernel:", err)
 		return 1
 	}
