@@ -255,7 +255,7 @@ var operatorFamily = []*Builtin{
 	{
 		Name:   "ratematrix",
 		Params: []value.Param{req("M", "a square matrix or operator")},
-		Doc: "Checks that M is the generator of a continuous-time Markov chain — off-diagonal entries ≥ 0 and every row sum |Σ_j M_ij| ≤ 10⁻¹² max(1, Σ_j |M_ij|) — and returns it as an operator. " +
+		Doc: "Checks that M is the generator of a continuous-time Markov chain — off-diagonal entries ≥ 0 and every row sum zero within rounding, |Σ_j M_ij| ≤ n·u·Σ_j |M_ij| (n the order, u = 2⁻⁵³) — and returns it as an operator. " +
 			"The error names the first offending row and entry.",
 		Examples: []Example{
 			{"ratematrix({-2, 2 | 0.5, -0.5}) * [1, 1]", "[0, 0]"},
@@ -269,7 +269,7 @@ var operatorFamily = []*Builtin{
 			if err != nil {
 				return nil, err
 			}
-			if err := linop.CheckGenerator(q, 1e-12); err != nil {
+			if err := linop.CheckGenerator(q); err != nil {
 				return nil, value.ValueErrorf("ratematrix: %s", strings.TrimPrefix(err.Error(), "linop: not the generator of a Markov chain: "))
 			}
 			return &objects.Operator{Op: a.Op, Grid: a.Grid, Label: "rate matrix"}, nil

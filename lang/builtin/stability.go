@@ -7,6 +7,7 @@ import (
 	"math"
 	"math/cmplx"
 	"sort"
+	"strconv"
 	"strings"
 	"time"
 
@@ -37,6 +38,7 @@ var stabilityFamily = []*Builtin{
 		},
 		Doc: "The eigenvalues λ of A (A x = λ x), ordered by decreasing real part, with the spectral abscissa α(A) = max Re λ. " +
 			"With count = 0 all of them, by the QR algorithm without balancing, each with its condition number ‖x‖‖y‖/|yᴴx| (x, y the right and left eigenvectors: a perturbation of size δ moves λ by about cond·δ); this needs order ≤ 1500. " +
+			"Eigenvalues with condition above 1/√u ≈ 9.5e7 (u = 2⁻⁵³) are flagged as defective or nearly so: for them the first-order bound cond·n·u·‖A‖_F does not hold (an m×m Jordan block moves by (δ‖A‖^{m−1})^{1/m}) and the report points to pseudospectrum instead. " +
 			"With count = k the k rightmost eigenvalues, or with near = σ the k nearest σ: for order ≤ 1500 selected from the dense spectrum, above by the Krylov–Schur method (Stewart 2001) on A, or on (σI − A)⁻¹ with near, each with its residual ‖Ax − λx‖/‖x‖. " +
 			"The result is a table (rows indexable as r[k, j]: k, λ, Re λ, Im λ, condition or residual) and a figure of the eigenvalues in the complex plane with the imaginary axis.",
 		Examples: []Example{
@@ -49,7 +51,8 @@ var stabilityFamily = []*Builtin{
 		Name:   "abscissa",
 		Params: []value.Param{req("A", "an operator or a square matrix")},
 		Doc: "The spectral abscissa α(A) = max{Re λ : λ ∈ σ(A)}, the asymptotic growth rate: ‖e^{tA}‖ ≤ M_δ e^{(α+δ)t} for every δ > 0, and e^{tA} decays iff α(A) < 0. " +
-			"Dense QR for order ≤ 1500; above, the rightmost eigenvalue by shift-and-invert Krylov–Schur about σ = ω(A) + 10⁻³(1 + |ω(A)|) ≥ α(A). The result is a number with a note; q[0] is the plain number.",
+			"Dense QR for order ≤ 1500; above, the rightmost eigenvalue by shift-and-invert Krylov–Schur about σ = ω(A) + 10⁻³(1 + |ω(A)|) ≥ α(A). The result is a number with a note; q[0] is the plain number. " +
+			"A dense α(A) within n·u·‖A‖_F × (condition of the rightmost eigenvalue) of 0 is noted as zero within rounding; a defective rightmost eigenvalue is noted as such.",
 		Examples: []Example{
 			{"abscissa({-1, 5 | 0, -2})[0]", "-1"},
 		},
@@ -77,7 +80,7 @@ var stabilityFamily = []*Builtin{
 			opt("weight", value.None, stabWeightDoc),
 		},
 		Doc: "The numerical abscissa ω(A) = λmax((A + A*)/2) = max Re W(A), in the Euclidean or a weighted inner product: the smallest ω with A − ωI dissipative, so ‖e^{tA}‖ ≤ e^{ωt} (Lumer–Phillips), and the initial slope d/dt ‖e^{tA}‖ at t = 0. " +
-			"Dense symmetric eigensolver for order ≤ 1500, shift-and-invert Lanczos above.",
+			"Dense symmetric eigensolver for order ≤ 1500, shift-and-invert Lanczos above. Its accuracy is τ = n·u·‖A‖_F (u = 2⁻⁵³; in the inner product's coordinates); a value within τ of 0 is noted as zero within rounding: A is then dissipative within rounding.",
 		Examples: []Example{
 			{"numabscissa({-1, 4 | 0, -1})[0]", "1"},
 		},
@@ -175,7 +178,9 @@ var stabilityFamily = []*Builtin{
 			opt("omega", value.None, "the growth rate ω to test in ‖e^{tA}‖ ≤ M e^{ωt}; none: 0 when α(A) < 0, else a tenth of the way from α(A) to ω(A)"),
 		},
 		Doc: "A report on A as the generator of the semigroup e^{tA}: the spectral abscissa α(A), the numerical abscissa ω(A) in the chosen inner product, Lumer–Phillips dissipativity of A − ωI (then ‖e^{tA}‖ ≤ e^{ωt}), Hille–Yosida estimates M_n = sup_{λ>ω} (λ−ω)^n ‖R(λ)^n‖ for n = 1..4 (Engel & Nagel 2000, Thm II.3.8: ‖e^{tA}‖ ≤ M e^{ωt} iff all M_n ≤ M; finitely many samples give a lower estimate of the best M), and a plain verdict with its assumptions. " +
-			"The tested ω is 0 when α(A) < 0, otherwise a tenth of the way from α(A) to ω(A). Large sparse operators (order > 1500, no weight) get the abscissae by Krylov methods and no Hille–Yosida estimates. For a rate matrix of a Markov chain see markov.",
+			"The tested ω is 0 when α(A) < 0, otherwise a tenth of the way from α(A) to ω(A). Large sparse operators (order > 1500, no weight) get the abscissae by Krylov methods and no Hille–Yosida estimates. For a rate matrix of a Markov chain see markov. " +
+			"Signs respect rounding: with τ = n·u·‖A‖_F (u = 2⁻⁵³), ω(A) ≤ ω + τ is reported as dissipative within rounding (then ‖e^{tA}‖ ≤ e^{(ω+2τ)t}), and |α(A)| within τ × the condition of the rightmost eigenvalue (√(τ‖A‖_F) if it is defective) as zero within rounding, either taken as 0 for the default ω. " +
+			"The Hille–Yosida λ run from ω + 10⁻²(ω − α) to ω + 10⁶·max(‖A‖_F, …), and each M_n is at least 1, the exact limit as λ → ∞; a dissipative A has M = 1 exactly.",
 		Examples: []Example{
 			{"len(generator({-1, 0 | 0, -2}))", "4"},
 		},
@@ -186,7 +191,8 @@ var stabilityFamily = []*Builtin{
 		Params: []value.Param{req("Q", "a rate matrix: q_ij ≥ 0 for i ≠ j, rows summing to 0")},
 		Doc: "The continuous-time Markov chain with rate matrix Q, whose distributions evolve by p' = pQ (row vectors), p(t) = p(0)e^{tQ}: the stationary distribution π (πQ = 0, Σπ_i = 1), the spectral gap −max{Re λ : λ ∈ σ(Q), λ ≠ 0} and relaxation time 1/gap, " +
 			"the mixing time t_mix = min{t : max_i ‖e_iᵀe^{tQ} − π‖_TV ≤ 1/4} from dense exponentials by bisection, the bound ln(4/π_min)/gap (for reversible chains; Levin, Peres & Wilmer 2009) and whether detailed balance holds. " +
-			"For two states with rates a (0→1) and b (1→0): π = (b, a)/(a + b), gap = a + b. A matrix that is not a rate matrix is an error saying why.",
+			"For two states with rates a (0→1) and b (1→0): π = (b, a)/(a + b), gap = a + b. A matrix that is not a rate matrix (a negative rate, or a row sum beyond the rounding n·u·Σ_j|q_ij|) is an error saying why. " +
+			"A reversible chain (always a birth–death one) has its gap from the symmetric D^{1/2}QD^{-1/2} = [√(q_ij q_ji)], D = diag(π), by a symmetric eigensolver (tridiagonal for birth–death), exact to n·u·‖S‖_F however strongly graded Q is; a birth–death π comes from the products of the rates. The gap is shown with its error bound.",
 		Examples: []Example{
 			{"markov({-1, 1 | 3, -3})[0, 1]", "0.75"},
 		},
@@ -664,6 +670,11 @@ func abscissaImpl(c *eval.Call) (value.Value, error) {
 		}
 		q.X = value.Num(s.Abscissa)
 		q.Method, q.Accuracy = s.Method, s.Accuracy
+		if tol, ill := s.AbscissaError(); ill {
+			q.Where = fmt.Sprintf("the rightmost eigenvalue is defective or nearly so: α(A) is known only to about %s (see pseudospectrum(A))", fmtTol(tol))
+		} else if s.Abscissa != 0 && math.Abs(s.Abscissa) <= tol {
+			q.Where = fmt.Sprintf("zero within rounding: |α(A)| ≤ %s = n·u·‖A‖_F × condition of the rightmost eigenvalue", fmtTol(tol))
+		}
 		return q, nil
 	}
 	var s *spectra.Spectrum
@@ -736,12 +747,23 @@ func numabscissaImpl(c *eval.Call) (value.Value, error) {
 	if w != nil {
 		q.Symbol, q.What = "ω_W(A)", "numerical abscissa λmax((B + Bᵀ)/2), B = RAR⁻¹, W = RᵀR, "+ip
 	}
+	tau, terr := spectra.RoundingThreshold(op.Op, w)
 	if n <= DenseLimit {
 		q.Method = "largest eigenvalue of the symmetric part (dense symmetric QR)"
 		q.Accuracy = "about 1e-15·‖A‖"
+		if terr == nil {
+			q.Accuracy = fmt.Sprintf("to τ = n·u·‖A‖_F = %s (symmetric eigenproblem)", fmtTol(tau))
+		}
 	} else {
 		q.Method = "largest eigenvalue of the symmetric part by Lanczos (shift-and-invert when A is sparse)"
 		q.Accuracy = "Ritz residual below 1e-10·|ω|"
+		if terr == nil {
+			tau += 1e-10 * math.Abs(om)
+			q.Accuracy = fmt.Sprintf("to τ = n·u·‖A‖_F + 10⁻¹⁰|ω| = %s (rounding and Ritz residual)", fmtTol(tau))
+		}
+	}
+	if terr == nil && om != 0 && math.Abs(om) <= tau {
+		q.Where = fmt.Sprintf("zero within rounding (|ω(A)| ≤ τ = %s): A is dissipative within rounding in this inner product, ‖e^{tA}‖ ≤ e^{2τt}", fmtTol(tau))
 	}
 	return q, nil
 }
@@ -1168,10 +1190,6 @@ func generatorImpl(c *eval.Call) (value.Value, error) {
 		return nil, stabNumErr(c, err)
 	}
 	r := objects.GeneratorReport(op.Label, ip, g)
-	if nrm, ok := linop.NormInf(op.Op); ok && g.SpectralAbscissa != 0 && math.Abs(g.SpectralAbscissa) <= 1e-12*math.Max(nrm, 1) {
-		r.Facts[0].Value = "0 to rounding (computed " + value.FormatNum(g.SpectralAbscissa) + ")"
-		r.Notes = append(r.Notes, "α(A) is zero to rounding (|α| ≤ 1e-12·‖A‖∞): e^{tA} neither decays nor grows along the rightmost eigenvector, whatever the sign of the computed α in the verdict")
-	}
 	if retried != "" {
 		r.Notes = append(r.Notes, retried)
 	}
@@ -1181,36 +1199,18 @@ func generatorImpl(c *eval.Call) (value.Value, error) {
 	return r, nil
 }
 
-// looksLikeRates reports whether the dense form of A has non-negative
-// off-diagonal entries and zero row sums (to 1e-12 of the largest entry).
+// fmtTol formats an error allowance to 2 significant digits.
+func fmtTol(x float64) string { return strconv.FormatFloat(x, 'g', 2, 64) }
+
+// looksLikeRates reports whether A is a non-zero rate matrix by
+// linop.CheckGenerator (off-diagonal entries ≥ 0, row sums zero within
+// rounding).
 func looksLikeRates(op *objects.Operator) bool {
 	d, err := linop.ToDense(op.Op)
-	if err != nil {
+	if err != nil || mat.Norm(d, 1) == 0 {
 		return false
 	}
-	n, _ := d.Dims()
-	scale := 0.0
-	for i := 0; i < n; i++ {
-		for j := 0; j < n; j++ {
-			scale = math.Max(scale, math.Abs(d.At(i, j)))
-		}
-	}
-	if scale == 0 {
-		return false
-	}
-	for i := 0; i < n; i++ {
-		sum := 0.0
-		for j := 0; j < n; j++ {
-			if i != j && d.At(i, j) < 0 {
-				return false
-			}
-			sum += d.At(i, j)
-		}
-		if math.Abs(sum) > 1e-12*scale*float64(n) {
-			return false
-		}
-	}
-	return true
+	return linop.CheckGenerator(linop.CSRFromDense(d, 0)) == nil
 }
 
 func markovImpl(c *eval.Call) (value.Value, error) {

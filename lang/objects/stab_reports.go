@@ -6,6 +6,7 @@ import (
 	"math/cmplx"
 	"sort"
 	"strconv"
+	"strings"
 
 	"semiflow/lang/plot"
 	"semiflow/lang/value"
@@ -104,6 +105,18 @@ func SpectrumReport(label string, n int, s *spectra.Spectrum, what string) *Anal
 			extra = s.Residual[k]
 		}
 		r.Rows = append(r.Rows, []value.Value{num(float64(k)), value.Complex(z), num(real(z)), num(imag(z)), num(extra)})
+	}
+	var bad []string
+	for k, c := range s.Cond {
+		if !(c <= spectra.IllCondLimit) {
+			bad = append(bad, strconv.Itoa(k))
+		}
+	}
+	if len(bad) > 0 {
+		if len(bad) > 8 {
+			bad = append(bad[:8], "…")
+		}
+		r.Notes = append(r.Notes, fmt.Sprintf("eigenvalue(s) k = %s have condition above 1/√u ≈ %s: defective or nearly so; their computed values can be off by far more than condition × n·u·‖A‖ — pseudospectrum(A) shows where they can lie", strings.Join(bad, ", "), fnum2(spectra.IllCondLimit)))
 	}
 	f := planeFigure("eigenvalues of " + label)
 	addEigenvalues(f, s.Values, "eigenvalues")
@@ -345,22 +358,45 @@ func GrowthReport(label string, n int, g *spectra.Growth) *Analysis {
 	return r
 }
 
-// GeneratorReport describes A as the generator of a semigroup.
+// GeneratorReport describes A as the generator of a semigroup. Values
+// within rounding of zero (spectra.GeneratorReport's Rounding and
+// AbscissaRounding) are shown with that allowance, never with a bare sign.
 func GeneratorReport(label string, ip string, g *spectra.GeneratorReport) *Analysis {
 	r := &Analysis{Kind: "generator", Data: g, Method: g.Method, Accuracy: g.Accuracy}
 	r.Title = fmt.Sprintf("generator report for %s (%d×%d), %s", label, g.N, g.N, ip)
-	diss := "no"
-	if g.Dissipative {
+	alpha := fnum(g.SpectralAbscissa)
+	if g.AbscissaSign == 0 {
+		alpha = fmt.Sprintf("0 within rounding (computed %s, |α| ≤ %s)", alpha, fnum2(g.AbscissaRounding))
+	}
+	if g.AbscissaIllCond {
+		alpha += "; the rightmost eigenvalue is defective or nearly so: see its pseudospectra"
+	}
+	omega := fnum(g.NumericalAbscissa)
+	if math.Abs(g.NumericalAbscissa) <= g.Rounding && g.NumericalAbscissa != 0 {
+		omega = fmt.Sprintf("0 within rounding (computed %s, |ω(A)| ≤ %s = n·u·‖A‖)", omega, fnum2(g.Rounding))
+	}
+	var diss string
+	switch {
+	case g.WithinRounding:
+		diss = fmt.Sprintf("yes, within rounding: ω(A) − ω = %s ≤ %s = n·u·‖A‖, so ‖e^{tA}‖ ≤ e^{(ω+2τ)t}, τ = %s (Lumer–Phillips)", fnum2(g.NumericalAbscissa-g.Omega), fnum2(g.Rounding), fnum2(g.Rounding))
+	case g.Dissipative:
 		diss = fmt.Sprintf("yes: A − ωI is dissipative for ω = %s, so ‖e^{tA}‖ ≤ e^{ωt} (Lumer–Phillips)", fnum(g.Omega))
-	} else {
-		diss = fmt.Sprintf("no: ω(A) = %s > ω = %s, A − ωI is not dissipative in this inner product", fnum(g.NumericalAbscissa), fnum(g.Omega))
+	default:
+		diss = fmt.Sprintf("no: ω(A) = %s > ω = %s beyond rounding (n·u·‖A‖ = %s), A − ωI is not dissipative in this inner product", fnum(g.NumericalAbscissa), fnum(g.Omega), fnum2(g.Rounding))
+	}
+	m := fnum(g.M)
+	switch {
+	case g.Dissipative:
+		m += " (exact: Lumer–Phillips)"
+	case g.M >= 1 && len(g.HY) > 0:
+		m += " (a lower estimate; at least 1, the limit as λ → ∞)"
 	}
 	r.Facts = []Fact{
-		{"spectral abscissa α(A)", fnum(g.SpectralAbscissa)},
-		{"numerical abscissa ω(A)", fnum(g.NumericalAbscissa)},
+		{"spectral abscissa α(A)", alpha},
+		{"numerical abscissa ω(A)", omega},
 		{"growth rate ω tested", fnum(g.Omega)},
 		{"dissipative (Lumer–Phillips)", diss},
-		{"Hille–Yosida estimate of M", fnum(g.M)},
+		{"Hille–Yosida estimate of M", m},
 		{"verdict", g.Verdict},
 	}
 	if g.Assumptions != "" {
@@ -368,12 +404,20 @@ func GeneratorReport(label string, ip string, g *spectra.GeneratorReport) *Analy
 	}
 	if len(g.HY) > 0 {
 		r.Columns = []string{"power n", "M_n = sup (λ−ω)^n ‖R(λ)^n‖", "at λ"}
+		far := false
 		for _, h := range g.HY {
 			r.Rows = append(r.Rows, []value.Value{num(float64(h.Power)), num(h.M), num(h.Lambda)})
+			far = far || math.IsInf(h.Lambda, 1)
+		}
+		if far {
+			r.Notes = append(r.Notes, "at λ = inf: no sample exceeded 1, the limit of (λ−ω)^n‖R(λ)^n‖ as λ → ∞")
 		}
 	}
 	return r
 }
+
+// fnum2 formats an error allowance to 2 significant digits.
+func fnum2(x float64) string { return strconv.FormatFloat(x, 'g', 2, 64) }
 
 // MarkovReport describes a continuous-time Markov chain.
 func MarkovReport(label string, m *spectra.MarkovReport) *Analysis {
@@ -384,11 +428,18 @@ func MarkovReport(label string, m *spectra.MarkovReport) *Analysis {
 		r.Title += ", Q = " + label
 	}
 	rev := "no"
-	if m.Reversible {
+	switch {
+	case m.BirthDeath:
+		rev = "yes (a birth–death chain: detailed balance π_i q_ij = π_j q_ji always holds)"
+	case m.Reversible:
 		rev = "yes (detailed balance π_i q_ij = π_j q_ji)"
 	}
+	gap := fnum(m.Gap)
+	if m.GapError > 0 && !math.IsInf(m.Gap, 0) {
+		gap += " ± " + fnum2(m.GapError)
+	}
 	r.Facts = []Fact{
-		{"spectral gap", fnum(m.Gap)},
+		{"spectral gap", gap},
 		{"relaxation time 1/gap", fnum(m.Relaxation)},
 		{"mixing time t_mix(1/4)", fnum(m.MixingTime)},
 		{"bound ln(4/π_min)/gap", fnum(m.MixingBound)},

@@ -6,7 +6,9 @@ import (
 	"math"
 
 	"gonum.org/v1/gonum/mat"
+
 	"semiflow/numerics/memguard"
+	"semiflow/numerics/roundoff"
 )
 
 // ErrGenerator is matched (errors.Is) by every rate-matrix validation error.
@@ -52,10 +54,13 @@ func RateMatrix(n int, ts []Transition) (*CSR, error) {
 }
 
 // CheckGenerator reports whether q is the generator of a continuous-time
-// Markov chain: square, off-diagonal entries non-negative, and each row sum
-// |Σ_j q_ij| ≤ tol · max(1, Σ_j |q_ij|). The error wraps ErrGenerator and
-// names the first offending row and entry.
-func CheckGenerator(q *CSR, tol float64) error {
+// Markov chain: square, entries finite, off-diagonal entries non-negative,
+// and each row sum zero within rounding, |Σ_j q_ij| ≤ n·u·Σ_j |q_ij|
+// (roundoff.Threshold: n the order, u = 2⁻⁵³; a sum of n terms rounds by
+// at most that much, so a diagonal computed as minus the sum of its row
+// always passes). The error wraps ErrGenerator and names the first
+// offending row and entry.
+func CheckGenerator(q *CSR) error {
 	if q.Rows != q.Cols {
 		return fmt.Errorf("%w: %d×%d matrix is not square", ErrGenerator, q.Rows, q.Cols)
 	}
@@ -72,21 +77,21 @@ func CheckGenerator(q *CSR, tol float64) error {
 			sum += v
 			abs += math.Abs(v)
 		}
-		if math.Abs(sum) > tol*math.Max(1, abs) {
-			return fmt.Errorf("%w: row %d sums to %g, not 0 (tolerance %g)", ErrGenerator, i, sum, tol*math.Max(1, abs))
+		if tol := roundoff.Threshold(q.Rows, abs); roundoff.Sign(sum, tol) != 0 {
+			return fmt.Errorf("%w: row %d sums to %g, not 0 within rounding (|sum| ≤ n·u·Σ|q_ij| = %.2g)", ErrGenerator, i, sum, tol)
 		}
 	}
 	return nil
 }
 
 // Stationary returns a probability vector π with π Q = 0 and Σ π_i = 1 for
-// a generator Q (checked by CheckGenerator with tolerance 1e-12), by a dense
+// a generator Q (checked by CheckGenerator), by a dense
 // solve of Qᵀ π = 0 with the last equation replaced by Σ π_i = 1. It
 // returns an error if the chain has no unique stationary distribution
 // (several closed classes make the system singular) or the dense matrix is
 // refused by the memory guard.
 func Stationary(q *CSR) ([]float64, error) {
-	if err := CheckGenerator(q, 1e-12); err != nil {
+	if err := CheckGenerator(q); err != nil {
 		return nil, err
 	}
 	n := q.Rows

@@ -73,16 +73,37 @@ func TestGeneratorValidation(t *testing.T) {
 		}
 	}
 	bad := NewCSRFromTriplets(3, 3, []int{0, 0, 1, 1, 2}, []int{0, 1, 1, 2, 0}, []float64{-1, 1, -2, 1.5, 0})
-	if err := CheckGenerator(bad, 1e-12); err == nil || !strings.Contains(err.Error(), "row 1 sums to -0.5") {
+	if err := CheckGenerator(bad); err == nil || !strings.Contains(err.Error(), "row 1 sums to -0.5") {
 		t.Errorf("row-sum error: %v", err)
 	}
 	neg := NewCSRFromTriplets(2, 2, []int{0, 0, 1, 1}, []int{0, 1, 0, 1}, []float64{1, -1, 0, 0})
-	if err := CheckGenerator(neg, 1e-12); err == nil || !strings.Contains(err.Error(), "from state 0 to state 1") {
+	if err := CheckGenerator(neg); err == nil || !strings.Contains(err.Error(), "from state 0 to state 1") {
 		t.Errorf("negative-rate error: %v", err)
 	}
 	// Two closed classes {0,1} and {2,3}: no unique stationary distribution.
 	q, _ := RateMatrix(4, []Transition{{0, 1, 1}, {1, 0, 1}, {2, 3, 1}, {3, 2, 1}})
 	if _, err := Stationary(q); !errors.Is(err, ErrGenerator) {
 		t.Errorf("reducible chain: %v", err)
+	}
+}
+
+// Rows whose sum is zero only up to the rounding of decimal rates are
+// rate-matrix rows (0.1 + 0.2 − 0.3 = 5.6e-17 in binary64, within
+// n·u·Σ|q_ij| = 3·2⁻⁵³·0.6 = 2.0e-16; Higham 2002, eq. 4.4), at every
+// scale: the same row times 1e-9 (rates per nanosecond in seconds) also
+// passes, which an absolute tolerance would get wrong in one direction or
+// the other. A residue of 1e-12 relative to the row is not rounding.
+func TestGeneratorRowRounding(t *testing.T) {
+	for _, scale := range []float64{1, 1e-9, 1e9} {
+		q := NewCSRFromTriplets(3, 3, []int{0, 0, 0, 1, 1, 2, 2}, []int{0, 1, 2, 1, 0, 2, 0},
+			[]float64{-0.3 * scale, 0.1 * scale, 0.2 * scale, -scale, scale, -scale, scale})
+		if err := CheckGenerator(q); err != nil {
+			t.Errorf("scale %g: %v", scale, err)
+		}
+		off := NewCSRFromTriplets(3, 3, []int{0, 0, 0, 1, 1, 2, 2}, []int{0, 1, 2, 1, 0, 2, 0},
+			[]float64{-0.3 * scale * (1 + 1e-12), 0.1 * scale, 0.2 * scale, -scale, scale, -scale, scale})
+		if err := CheckGenerator(off); err == nil || !strings.Contains(err.Error(), "row 0 sums to") || !strings.Contains(err.Error(), "within rounding") {
+			t.Errorf("scale %g: residue 1e-12 accepted or badly reported: %v", scale, err)
+		}
 	}
 }

@@ -8,6 +8,7 @@ import (
 
 	"semiflow/numerics/linop"
 	"semiflow/numerics/memguard"
+	"semiflow/numerics/roundoff"
 )
 
 // denser is implemented by operators that can produce their dense matrix.
@@ -106,4 +107,25 @@ func weighted(a *mat.Dense, w Weight) *mat.Dense {
 		c.SetCol(j, col)
 	}
 	return c
+}
+
+// RoundingThreshold returns τ = n·u·‖B‖_F (roundoff.Threshold) for
+// B = RAR⁻¹, or A itself when w is nil: the backward error of the dense
+// spectral methods on A in that inner product, below which the sign of ω(A)
+// (and of a well-conditioned α(A)) is not decided. A large sparse A without
+// a weight is measured in its sparse form; otherwise the dense matrix is
+// formed (with the memory guard of the dense methods). It panics with
+// ErrShape if A is not square or w does not match it.
+func RoundingThreshold(a linop.Operator, w Weight) (float64, error) {
+	n, _ := a.Dims()
+	if w == nil && n > largeGenerator {
+		if csr, err := linop.ToCSR(a); err == nil {
+			return roundoff.Threshold(n, normFrobCSR(csr)), nil
+		}
+	}
+	m, err := toDense(a)
+	if err != nil {
+		return 0, err
+	}
+	return roundoff.Threshold(n, mat.Norm(weighted(m, w), 2)), nil
 }

@@ -5,10 +5,12 @@ import (
 	"math"
 	"math/cmplx"
 	"sort"
+	"strings"
 
 	"gonum.org/v1/gonum/mat"
 
 	"semiflow/numerics/linop"
+	"semiflow/numerics/roundoff"
 )
 
 // Spectrum lists eigenvalues λ_k of A, ordered by decreasing real part
@@ -22,6 +24,11 @@ type Spectrum struct {
 	Cond []float64
 	// Residual[k] = ‖Ax − λx‖/‖x‖ for the sparse method; empty for dense.
 	Residual []float64
+	// IllCond[k] reports Cond[k] > IllCondLimit: λ_k is defective or
+	// nearly so (a Jordan block, or a cluster whose eigenvectors are
+	// nearly parallel), and the first-order bound Cond·u·‖A‖ does not
+	// describe its error; its pseudospectra do. Empty for the sparse method.
+	IllCond []bool
 	// Right and Left hold unit right and left eigenvectors in the columns
 	// (column k for Values[k]; A x = λ x, yᴴA = λ yᴴ), for the dense method;
 	// Right also for the sparse one.
@@ -29,19 +36,37 @@ type Spectrum struct {
 	// Abscissa is the spectral abscissa α(A) = max Re λ over the computed
 	// eigenvalues (over all of them for the dense method).
 	Abscissa float64
+	// Rounding is the backward error n·u·‖A‖_F of the dense method
+	// (roundoff.Threshold); 0 for the sparse one.
+	Rounding float64
 	Method   string
 	Accuracy string
 }
 
+// IllCondLimit is 1/√u ≈ 9.5e7: an eigenvalue whose condition number
+// exceeds it is treated as defective. A perturbation of size δ = u‖A‖
+// moves a simple eigenvalue by about Cond·δ, which is then above √u‖A‖ —
+// as large as for a 2×2 Jordan block, whose eigenvalue moves by
+// √(δ‖A‖) = √u‖A‖ — so the first-order bound no longer holds (Wilkinson,
+// The Algebraic Eigenvalue Problem, 1965, §2.26 and §2.22).
+const IllCondLimit = 0x1p26 * math.Sqrt2 // 1/√u = 2^26.5
+
 // DenseSpectrum computes all eigenvalues of the square operator A with
 // their condition numbers, by the QR algorithm (gonum mat.Eigen with left
 // and right eigenvectors). It panics with ErrShape if A is not square and
-// returns an error if the QR algorithm fails.
+// returns an error if the QR algorithm fails. Eigenvalues with condition
+// above IllCondLimit are flagged in IllCond and named in Accuracy, which
+// then points to pseudospectra instead of the first-order bound.
 func DenseSpectrum(a linop.Operator) (*Spectrum, error) {
 	m, err := toDense(a)
 	if err != nil {
 		return nil, err
 	}
+	return denseSpectrum(m)
+}
+
+// denseSpectrum is DenseSpectrum of the matrix m, which it does not modify.
+func denseSpectrum(m *mat.Dense) (*Spectrum, error) {
 	n, _ := m.Dims()
 	sp := &Spectrum{Abscissa: math.Inf(-1)}
 	sp.Method = "QR algorithm on the dense matrix (LAPACK Dgeev via gonum mat.Eigen), left and right eigenvectors"
@@ -86,9 +111,53 @@ func DenseSpectrum(a linop.Operator) (*Spectrum, error) {
 		}
 	}
 	sp.Abscissa = real(sp.Values[0])
-	fn := mat.Norm(m, 2) // Frobenius
-	sp.Accuracy = fmt.Sprintf("backward stable: each λ has error ≲ Cond·u·‖A‖_F ≈ Cond × %.1e (first order, simple eigenvalues); largest Cond = %.3g", 0x1p-53*fn*float64(n), maxCond)
+	tol := roundoff.Threshold(n, mat.Norm(m, 2)) // n·u·‖A‖_F
+	sp.Rounding = tol
+	sp.IllCond = make([]bool, n)
+	var bad []string
+	for k, c := range sp.Cond {
+		if !(c <= IllCondLimit) {
+			sp.IllCond[k] = true
+			if len(bad) < 6 {
+				bad = append(bad, fmt.Sprintf("k = %d (Cond = %.2g)", k, c))
+			} else if len(bad) == 6 {
+				bad = append(bad, "…")
+			}
+		}
+	}
+	if len(bad) == 0 {
+		sp.Accuracy = fmt.Sprintf("backward stable: each λ has error ≲ Cond·n·u·‖A‖_F = Cond × %.1e (first order, simple eigenvalues); largest Cond = %.3g", tol, maxCond)
+		return sp, nil
+	}
+	sp.Accuracy = fmt.Sprintf("backward stable (backward error n·u·‖A‖_F = %.1e); DEFECTIVE OR NEARLY: %d eigenvalue(s) have condition above 1/√u = %.2g: %s. "+
+		"For these the first-order bound Cond × %.1e does not hold: a perturbation δ can move an eigenvalue of an m×m Jordan block by about (δ‖A‖^{m−1})^{1/m} (√(δ‖A‖) = %.1e for m = 2); "+
+		"the pseudospectra σ_ε(A) show where they can lie. The other eigenvalues have error ≲ Cond × %.1e",
+		tol, countTrue(sp.IllCond), IllCondLimit, strings.Join(bad, ", "), tol, math.Sqrt(tol*mat.Norm(m, 2)), tol)
 	return sp, nil
+}
+
+func countTrue(b []bool) int {
+	c := 0
+	for _, v := range b {
+		if v {
+			c++
+		}
+	}
+	return c
+}
+
+// AbscissaError returns the error allowance of the dense Abscissa: Rounding
+// times the condition of the rightmost eigenvalue, or, when that is above
+// IllCondLimit (ill, defective or nearly so), √(Rounding·‖A‖_F), the
+// distance a 2×2 Jordan block's eigenvalue moves under a perturbation of
+// size Rounding (larger blocks move further). |α| within it is zero within
+// rounding. It returns (NaN, false) for a sparse spectrum.
+func (s *Spectrum) AbscissaError() (tol float64, ill bool) {
+	if len(s.Cond) == 0 {
+		return math.NaN(), false
+	}
+	fn := s.Rounding / roundoff.Threshold(len(s.Values), 1)
+	return abscissaRounding(s, s.Rounding, fn)
 }
 
 func rightOf(a, b complex128) bool {

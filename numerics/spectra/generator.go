@@ -4,12 +4,15 @@ import (
 	"context"
 	"fmt"
 	"math"
+	"math/cmplx"
 	"strings"
 
+	"gonum.org/v1/gonum/lapack/gonum"
 	"gonum.org/v1/gonum/mat"
 
 	"semiflow/numerics/expo"
 	"semiflow/numerics/linop"
+	"semiflow/numerics/roundoff"
 )
 
 // GeneratorOptions controls Generator. The zero value is usable.
@@ -32,7 +35,9 @@ type GeneratorOptions struct {
 }
 
 // HilleYosida is the estimate M_n = sup_{λ > ω} (λ−ω)^n ‖R(λ)^n‖ for one
-// power n, R(λ) = (λI − A)⁻¹, at λ = Lambda.
+// power n, R(λ) = (λI − A)⁻¹, at λ = Lambda. M is at least 1, the exact
+// limit as λ → ∞ (λ(λI − A)⁻¹ → I); Lambda is +Inf when that limit exceeds
+// every sampled value.
 type HilleYosida struct {
 	Power  int
 	M      float64
@@ -46,16 +51,31 @@ type GeneratorReport struct {
 	// ω(A) (initial growth rate, in the chosen inner product).
 	SpectralAbscissa, NumericalAbscissa float64
 	Omega                               float64 // the ω tested
-	// Dissipative reports ω(A) ≤ Omega: A − ωI is dissipative, so by
-	// Lumer–Phillips ‖e^{tA}‖ ≤ e^{ωt} (M = 1).
-	Dissipative bool
+	// Rounding is τ = n·u·‖B‖_F (roundoff.Threshold), B the operator in the
+	// chosen inner product: the error of the computed ω(A), so the sign of
+	// ω(A) − ω is decided only beyond ±τ. AbscissaRounding is the same
+	// for α(A): τ times the condition number of the rightmost eigenvalue,
+	// or √(τ‖B‖_F) when that eigenvalue is defective or nearly so
+	// (AbscissaIllCond; a 2×2 Jordan block's eigenvalue moves that far).
+	Rounding, AbscissaRounding float64
+	AbscissaIllCond            bool
+	// AbscissaSign is −1, 0 or +1: the sign of α(A) with |α| ≤
+	// AbscissaRounding counted as 0 (zero within rounding).
+	AbscissaSign int
+	// Dissipative reports ω(A) ≤ Omega + Rounding: A − ωI is dissipative
+	// (to rounding), so by Lumer–Phillips ‖e^{tA}‖ ≤ e^{ωt} (M = 1).
+	// WithinRounding reports that only the rounding allowance made it so
+	// (Omega < ω(A) ≤ Omega + Rounding).
+	Dissipative, WithinRounding bool
 	// HY holds the Hille–Yosida estimates for n = 1..Powers and M their
 	// maximum. ‖e^{tA}‖ ≤ M e^{ωt} for all t holds iff (λ−ω)^n‖R(λ)^n‖ ≤ M
 	// for all λ > ω and all n ≥ 1 (Hille–Yosida–Feller–Miyadera–Phillips,
 	// Engel & Nagel GTM 194, Thm II.3.8); finitely many n and λ give a
-	// LOWER estimate of the best M.
+	// LOWER estimate of the best M, never below the exact lower bound 1.
+	// Sampled describes the λ sampled.
 	HY          []HilleYosida
 	M           float64
+	Sampled     string
 	Verdict     string
 	Assumptions string
 	Method      string
@@ -65,11 +85,18 @@ type GeneratorReport struct {
 // largeGenerator is the order above which Generator uses sparse methods.
 const largeGenerator = 1500
 
+// hyFar is how far beyond ‖A‖ the Hille–Yosida samples reach: λ − ω up to
+// 10⁶·max(‖B‖_F, the main range), approaching the limit 1 as λ → ∞.
+const hyFar = 1e6
+
 // Generator reports on the operator A as a semigroup generator:
 // spectral and numerical abscissae, Lumer–Phillips dissipativity and
-// Hille–Yosida estimates of M for the chosen ω, and a plain verdict. It
-// panics with ErrShape on a size mismatch and with ErrOption for
-// negative Powers or Lambdas.
+// Hille–Yosida estimates of M for the chosen ω, and a plain verdict. Every
+// sign it decides is compared with the rounding threshold
+// roundoff.Threshold(n, ‖A‖_F) first: a value within it is "zero within
+// rounding" and the verdict says so with the numbers. It panics with
+// ErrShape on a size mismatch and with ErrOption for negative Powers or
+// Lambdas.
 //
 // For a sparse A of order above 1500 (without a weight) it uses sparse
 // methods only: ω(A) by shift-and-invert Lanczos on (A + Aᵀ)/2, α(A) by
@@ -101,62 +128,40 @@ func Generator(ctx context.Context, a linop.Operator, opt *GeneratorOptions) (*G
 	}
 	m := weighted(m0, o.Weight)
 	n, _ := m.Dims()
-	s, err := schurOf(m)
+	sp, err := denseSpectrum(m)
 	if err != nil {
 		return nil, err
 	}
-	rep := &GeneratorReport{N: n, SpectralAbscissa: s.abscissa()}
+	fn := mat.Norm(m, 2) // Frobenius
+	rep := &GeneratorReport{N: n, SpectralAbscissa: sp.Abscissa, Rounding: roundoff.Threshold(n, fn)}
 	if rep.NumericalAbscissa, err = numAbscissa(m); err != nil {
 		return nil, err
 	}
-	al, om := rep.SpectralAbscissa, rep.NumericalAbscissa
-	switch {
-	case o.OmegaSet:
-		rep.Omega = o.Omega
-	case al < 0:
-		rep.Omega = 0
-	case om <= al:
-		rep.Omega = om
-	default:
-		rep.Omega = al + (om-al)/10
-	}
+	al, om, tau := rep.SpectralAbscissa, rep.NumericalAbscissa, rep.Rounding
+	rep.AbscissaRounding, rep.AbscissaIllCond = sp.AbscissaError()
+	rep.AbscissaSign = roundoff.Sign(al, rep.AbscissaRounding)
+	rep.Omega = defaultOmega(o, rep)
 	w := rep.Omega
-	rep.Dissipative = om <= w
-	rep.M = 1
-	if w <= al {
+	rep.Dissipative = roundoff.Sign(om-w, tau) <= 0
+	rep.WithinRounding = rep.Dissipative && om > w
+	gap := roundoff.Sign(w-al, rep.AbscissaRounding) // ω beyond α?
+	switch {
+	case gap > 0:
+		if err := rep.hilleYosida(ctx, m, o, fn); err != nil {
+			return nil, err
+		}
+		if rep.Dissipative {
+			rep.M = 1 // Lumer–Phillips: exact; the samples can only confirm it
+		}
+	case rep.Dissipative:
+		rep.M = 1
+		rep.Sampled = "none: ω = α(A) within rounding puts the resolvent's poles on the sampling line; M = 1 comes from Lumer–Phillips"
+	case gap < 0:
 		rep.M = math.Inf(1)
-	} else {
-		s1 := w - al
-		s2 := math.Max(om-w, s1)
-		lams := make([]float64, o.Lambdas)
-		for k := range lams {
-			lams[k] = w + 1e-2*s1*math.Pow(1e4*s2/s1, float64(k)/float64(len(lams)-1))
-		}
-		rep.M = 0
-		cache := map[float64][]float64{}
-		for p := 1; p <= o.Powers; p++ {
-			if err := ctx.Err(); err != nil {
-				return nil, err
-			}
-			best := HilleYosida{Power: p}
-			for _, l := range lams {
-				vals, ok := cache[l]
-				if !ok {
-					if vals, err = resolventPowerNorms(m, l, o.Powers); err != nil {
-						return nil, err
-					}
-					cache[l] = vals
-				}
-				if v := math.Pow(l-w, float64(p)) * vals[p-1]; v > best.M {
-					best.M, best.Lambda = v, l
-				}
-			}
-			rep.HY = append(rep.HY, best)
-			rep.M = math.Max(rep.M, best.M)
-			if o.Progress != nil {
-				o.Progress(p, o.Powers)
-			}
-		}
+		rep.Sampled = "none: ω < α(A)"
+	default:
+		rep.M = math.NaN()
+		rep.Sampled = "none: ω = α(A) within rounding"
 	}
 	inner := "the Euclidean inner product"
 	if o.Weight != nil {
@@ -164,23 +169,147 @@ func Generator(ctx context.Context, a linop.Operator, opt *GeneratorOptions) (*G
 	}
 	var v strings.Builder
 	fmt.Fprintf(&v, "A (%d×%d) generates the semigroup e^{tA} (every matrix does in finite dimensions); ", n, n)
-	if al < 0 {
-		fmt.Fprintf(&v, "α(A) = %.4g < 0, so e^{tA} → 0 as t → ∞; ", al)
-	} else {
-		fmt.Fprintf(&v, "α(A) = %.4g ≥ 0, so e^{tA} does not decay; ", al)
-	}
-	if rep.Dissipative {
+	v.WriteString(rep.abscissaClause())
+	v.WriteString("; ")
+	switch {
+	case rep.WithinRounding:
+		fmt.Fprintf(&v, "A − ωI is dissipative within rounding (%s ≤ %.2g = n·u·‖A‖) in %s, so ‖e^{tA}‖ ≤ e^{(ω+2τ)t} with τ = %.2g (Lumer–Phillips, M = 1).", excess(om, w), tau, inner, tau)
+	case rep.Dissipative:
 		fmt.Fprintf(&v, "ω(A) = %.4g ≤ ω = %.4g: A − ωI is dissipative in %s, so ‖e^{tA}‖ ≤ e^{ωt} (Lumer–Phillips, M = 1).", om, w, inner)
-	} else if math.IsInf(rep.M, 1) {
-		fmt.Fprintf(&v, "ω = %.4g ≤ α(A): no bound M e^{ωt} exists for this ω.", w)
-	} else {
-		fmt.Fprintf(&v, "ω(A) = %.4g > ω = %.4g: not dissipative, transient growth is possible; Hille–Yosida gives M ≥ %.4g for ‖e^{tA}‖ ≤ M e^{%.4g t}.", om, w, rep.M, w)
+	case gap < 0:
+		fmt.Fprintf(&v, "ω = %.4g < α(A): no bound M e^{ωt} exists for this ω.", w)
+	case gap == 0:
+		fmt.Fprintf(&v, "ω = %.4g equals α(A) within rounding and A − ωI is not dissipative (%s > %.2g = n·u·‖A‖): a bound M e^{ωt} exists only if the eigenvalues on Re λ = α(A) are semisimple, which rounding cannot decide; test a larger ω.", w, excess(om, w), tau)
+	default:
+		fmt.Fprintf(&v, "not dissipative (%s > %.2g = n·u·‖A‖), transient growth is possible; Hille–Yosida gives M ≥ %.4g for ‖e^{tA}‖ ≤ M e^{%.4g t}.", excess(om, w), tau, rep.M, w)
 	}
 	rep.Verdict = v.String()
 	rep.Assumptions = "finite-dimensional operator (a discretisation): generation is automatic and the constants, not existence, are the question; constants refer to " + inner + "; Hille–Yosida values use n ≤ " + fmt.Sprint(o.Powers) + " and sampled λ, hence lower estimates of the optimal M"
-	rep.Method = fmt.Sprintf("α(A) from the Schur form, ω(A) = λmax((B+Bᵀ)/2) with B = RAR⁻¹ (W = RᵀR); Hille–Yosida: R(λ) = (λI−A)⁻¹ by LU at %d log-spaced λ > ω, its powers by products, norms by SVD", o.Lambdas)
-	rep.Accuracy = "abscissae to about n·u·‖A‖; resolvent-power norms to about u·cond(λI−A)"
+	rep.Method = "α(A) from the eigenvalues (QR algorithm) with the condition of the rightmost one, ω(A) = λmax((B+Bᵀ)/2) with B = RAR⁻¹ (W = RᵀR); Hille–Yosida: R(λ) = (λI−A)⁻¹ by LU, its powers by products, norms by SVD, at λ − ω: " + rep.Sampled
+	rep.Accuracy = fmt.Sprintf("ω(A) to τ = n·u·‖B‖_F = %.2g (symmetric eigenproblem); α(A) to %.2g (%s); signs within these are reported as zero within rounding; resolvent-power norms to about u·cond(λI−A)", tau, rep.AbscissaRounding, map[bool]string{false: "τ × condition of the rightmost eigenvalue", true: "the rightmost eigenvalue is defective or nearly so: √(τ‖B‖_F), as for a 2×2 Jordan block; larger blocks can move further — see its pseudospectra"}[rep.AbscissaIllCond])
+	if _, diag := o.Weight.(*linop.DiagWeight); o.Weight != nil && !diag {
+		rep.Accuracy += "; for a non-diagonal weight, forming B = RAR⁻¹ adds about n·u·‖R‖‖A‖‖R⁻¹‖, not included"
+	}
 	return rep, nil
+}
+
+// defaultOmega returns the ω to test: o.Omega if set; else 0 when α(A) < 0
+// beyond rounding; else ω(A) when ω(A) ≤ α(A), and otherwise a tenth of
+// the way from α(A) to ω(A) — with α(A) and ω(A) taken as 0 when they are
+// zero within rounding (so an operator with α = ω = 0 is tested at ω = 0).
+func defaultOmega(o GeneratorOptions, rep *GeneratorReport) float64 {
+	if o.OmegaSet {
+		return o.Omega
+	}
+	al, om := rep.SpectralAbscissa, rep.NumericalAbscissa
+	if rep.AbscissaSign == 0 {
+		al = 0
+	}
+	if roundoff.Sign(om, rep.Rounding) == 0 {
+		om = 0
+	}
+	switch {
+	case rep.AbscissaSign < 0:
+		return 0
+	case om <= al:
+		return om
+	}
+	return al + (om-al)/10
+}
+
+// abscissaRounding returns the error allowance for α(A) computed from the
+// spectrum sp of a matrix with backward error tau and Frobenius norm fn:
+// tau times the condition of the rightmost eigenvalue (the largest among
+// those within that allowance of α), or √(tau·fn) when it is above
+// IllCondLimit (defective or nearly so).
+func abscissaRounding(sp *Spectrum, tau, fn float64) (float64, bool) {
+	if len(sp.Values) == 0 {
+		return tau, false
+	}
+	c := 1.0
+	for k, l := range sp.Values {
+		if k > 0 && real(sp.Values[0])-real(l) > tau*c {
+			break
+		}
+		if k < len(sp.Cond) && !(sp.Cond[k] <= c) {
+			c = sp.Cond[k]
+		}
+	}
+	if !(c <= IllCondLimit) {
+		return math.Max(tau*IllCondLimit, math.Sqrt(tau*fn)), true
+	}
+	return tau * c, false
+}
+
+// excess formats ω(A) − ω for the verdict: "ω(A) = x" when ω = 0.
+func excess(om, w float64) string {
+	if w == 0 {
+		return fmt.Sprintf("ω(A) = %.2g", om)
+	}
+	return fmt.Sprintf("ω(A) − ω = %.2g", om-w)
+}
+
+// abscissaClause states the sign of α(A), or that rounding hides it.
+func (r *GeneratorReport) abscissaClause() string {
+	al, tol := r.SpectralAbscissa, r.AbscissaRounding
+	switch {
+	case r.AbscissaSign < 0:
+		return fmt.Sprintf("α(A) = %.4g < 0, so e^{tA} → 0 as t → ∞", al)
+	case r.AbscissaSign > 0:
+		return fmt.Sprintf("α(A) = %.4g > 0, so e^{tA} grows exponentially", al)
+	case r.AbscissaIllCond:
+		return fmt.Sprintf("α(A) = %.2g is zero within rounding (|α| ≤ %.2g, the rightmost eigenvalue being defective or nearly so; see its pseudospectra), so e^{tA} does not decay exponentially", al, tol)
+	}
+	return fmt.Sprintf("α(A) = %.2g is zero within rounding (|α| ≤ %.2g = n·u·‖A‖·cond), so e^{tA} neither decays nor grows exponentially", al, tol)
+}
+
+// hilleYosida samples (λ−ω)^n‖R(λ)^n‖ for n = 1..o.Powers at o.Lambdas
+// log-spaced λ − ω from 10⁻²(ω − α) to 10²·max(ω(A) − ω, ω − α), and at
+// decades beyond up to hyFar·max(‖B‖_F, that end), setting HY, M (at
+// least 1, the limit λ → ∞) and Sampled. It needs ω > α(A).
+func (rep *GeneratorReport) hilleYosida(ctx context.Context, m *mat.Dense, o GeneratorOptions, fn float64) error {
+	w, al, om := rep.Omega, rep.SpectralAbscissa, rep.NumericalAbscissa
+	s1 := w - al
+	s2 := math.Max(om-w, s1)
+	lams := make([]float64, o.Lambdas)
+	for k := range lams {
+		lams[k] = w + 1e-2*s1*math.Pow(1e4*s2/s1, float64(k)/float64(len(lams)-1))
+	}
+	top := 1e2 * s2
+	far := hyFar * math.Max(fn, top)
+	extra := 0
+	for d := top * 10; d <= far*(1+1e-12); d *= 10 {
+		lams = append(lams, w+d)
+		extra++
+	}
+	rep.Sampled = fmt.Sprintf("%d log-spaced values in [%.3g, %.3g] and %d decades beyond up to %.3g = 10⁶·max(‖B‖_F, %.3g); the sup is taken with 1, the exact limit as λ → ∞", o.Lambdas, 1e-2*s1, top, extra, far, top)
+	rep.M = 1
+	cache := map[float64][]float64{}
+	for p := 1; p <= o.Powers; p++ {
+		if err := ctx.Err(); err != nil {
+			return err
+		}
+		best := HilleYosida{Power: p, M: 1, Lambda: math.Inf(1)}
+		for _, l := range lams {
+			vals, ok := cache[l]
+			if !ok {
+				var err error
+				if vals, err = resolventPowerNorms(m, l, o.Powers); err != nil {
+					return err
+				}
+				cache[l] = vals
+			}
+			if v := math.Pow(l-w, float64(p)) * vals[p-1]; v > best.M {
+				best.M, best.Lambda = v, l
+			}
+		}
+		rep.HY = append(rep.HY, best)
+		rep.M = math.Max(rep.M, best.M)
+		if o.Progress != nil {
+			o.Progress(p, o.Powers)
+		}
+	}
+	return nil
 }
 
 // resolventPowerNorms returns ‖R(λ)^p‖₂ for p = 1..k, R(λ) = (λI − A)⁻¹.
@@ -224,6 +353,11 @@ type MarkovReport struct {
 	Stationary []float64
 	// Gap is the spectral gap −max{Re λ : λ ∈ σ(Q), λ ≠ 0}; Relaxation is 1/Gap.
 	Gap, Relaxation float64
+	// GapError bounds the error of Gap: n·u·‖S‖_F (plus the detailed-balance
+	// defect of a general reversible chain) through the symmetric S, or
+	// Cond·n·u·‖Q‖_F for a non-reversible chain (first order; +Inf when
+	// the eigenvalue is defective or nearly so).
+	GapError float64
 	// MixingTime is the least t with max_i ‖e_iᵀe^{tQ} − π‖_TV ≤ 1/4,
 	// computed from dense exponentials by bisection (relative 1e-6).
 	MixingTime float64
@@ -232,15 +366,37 @@ type MarkovReport struct {
 	// Mixing Times, 2009, Thm 12.3 and §20.3; quoted from memory); only an
 	// indication for non-reversible ones.
 	MixingBound float64
-	Reversible  bool // detailed balance π_i q_ij = π_j q_ji holds to 1e-10
-	Method      string
-	Accuracy    string
+	// Reversible: detailed balance π_i q_ij = π_j q_ji holds (to 1e-10
+	// relative); always for birth–death chains, whose transition graph is
+	// a path (Kolmogorov's criterion). BirthDeath: Q is tridiagonal.
+	Reversible, BirthDeath bool
+	Method                 string
+	Accuracy               string
 }
 
-// Markov analyses the rate matrix Q. It returns an error if Q is not a
-// rate matrix (negative off-diagonal rate or a row sum beyond 1e-10·‖Q‖) or
-// the chain has no unique stationary distribution; it panics with
-// ErrShape if Q is not square.
+// rateError is a rate-matrix validation failure (it wraps
+// linop.ErrGenerator) in this package's words.
+type rateError struct{ err error }
+
+func (e rateError) Error() string {
+	return "spectra: not a rate matrix: " + strings.TrimPrefix(e.err.Error(), linop.ErrGenerator.Error()+": ")
+}
+
+func (e rateError) Unwrap() error { return e.err }
+
+// Markov analyses the rate matrix Q. It returns an error wrapping
+// linop.ErrGenerator if Q is not a rate matrix (linop.CheckGenerator:
+// a negative off-diagonal rate, or a row sum beyond rounding) and one
+// wrapping ErrNumerical if the chain has no unique stationary
+// distribution; it panics with ErrShape if Q is not square.
+//
+// A reversible chain's spectrum is real, that of the symmetric
+// S = D^{1/2} Q D^{-1/2}, D = diag(π); detailed balance makes
+// S_ij = √(q_ij q_ji) for i ≠ j, free of π. Markov computes the gap from S
+// by a symmetric eigensolver (the tridiagonal QR iteration for a
+// birth–death chain), with absolute error about n·u·‖S‖_F whatever the
+// grading of Q; the non-symmetric QR algorithm on Q itself can be far
+// off on strongly graded chains, whose eigenvectors are very ill-conditioned.
 func Markov(ctx context.Context, q linop.Operator) (*MarkovReport, error) {
 	m, err := toDense(q)
 	if err != nil {
@@ -250,77 +406,87 @@ func Markov(ctx context.Context, q linop.Operator) (*MarkovReport, error) {
 	if n == 0 {
 		return nil, numErr("empty rate matrix")
 	}
+	if err := linop.CheckGenerator(linop.CSRFromDense(m, 0)); err != nil {
+		return nil, rateError{err}
+	}
 	scale := 0.0
 	for i := 0; i < n; i++ {
 		scale = math.Max(scale, math.Abs(m.At(i, i)))
 	}
-	for i := 0; i < n; i++ {
-		sum := 0.0
-		for j := 0; j < n; j++ {
-			v := m.At(i, j)
-			if i != j && v < 0 {
-				return nil, fmt.Errorf("spectra: not a rate matrix: q(%d,%d) = %g < 0", i, j, v)
-			}
-			sum += v
-		}
-		if math.Abs(sum) > 1e-10*math.Max(scale, 1e-300) {
-			return nil, fmt.Errorf("spectra: not a rate matrix: row %d sums to %g", i, sum)
-		}
-	}
-	// πQ = 0 with Σπ = 1: Qᵀπ = 0 with the last equation replaced by ones.
-	sys := mat.NewDense(n, n, nil)
-	sys.CloneFrom(m.T())
-	rhs := mat.NewVecDense(n, nil)
-	for j := 0; j < n; j++ {
-		sys.Set(n-1, j, 1)
-	}
-	rhs.SetVec(n-1, 1)
-	var pi mat.VecDense
-	if err := pi.SolveVec(sys, rhs); err != nil {
-		return nil, numErr("no unique stationary distribution (is the chain reducible?): %v", err)
-	}
-	rep := &MarkovReport{Stationary: make([]float64, n)}
-	piMin := math.Inf(1)
-	for i := range rep.Stationary {
-		rep.Stationary[i] = pi.AtVec(i)
-		piMin = math.Min(piMin, rep.Stationary[i])
-	}
-	if piMin <= 0 {
-		return nil, numErr("stationary distribution has a zero or negative entry (%g): the chain is not irreducible", piMin)
-	}
-	sp, err := DenseSpectrum(q)
-	if err != nil {
+	rep := &MarkovReport{BirthDeath: isBirthDeath(m)}
+	if rep.BirthDeath {
+		rep.Stationary = birthDeathStationary(m)
+	} else if rep.Stationary, err = stationaryLU(m); err != nil {
 		return nil, err
 	}
-	// The eigenvalue closest to 0 is the stationary one; the gap is set by the others.
-	iz := 0
-	for k, l := range sp.Values {
-		if math.Hypot(real(l), imag(l)) < math.Hypot(real(sp.Values[iz]), imag(sp.Values[iz])) {
-			iz = k
-		}
+	piMin := math.Inf(1)
+	for _, p := range rep.Stationary {
+		piMin = math.Min(piMin, p)
 	}
-	top := math.Inf(-1)
-	for k, l := range sp.Values {
-		if k != iz {
-			top = math.Max(top, real(l))
+	logPiMin := math.Log(piMin)
+	if rep.BirthDeath {
+		// Irreducible by construction; π_min may lie below the smallest
+		// double (a strong drift), so take it from the logarithms.
+		logPiMin = birthDeathLogPiMin(m)
+	} else if !(piMin > 0) {
+		return nil, numErr("stationary distribution has a zero or negative entry (%g): the chain is not irreducible", piMin)
+	}
+	rep.Reversible = rep.BirthDeath || detailedBalance(m, rep.Stationary, scale)
+	var gapHow string
+	if rep.Reversible {
+		vals, tol, err := reversibleSpectrum(m, rep.Stationary, rep.BirthDeath)
+		if err != nil {
+			return nil, err
+		}
+		// vals ascending; the largest is the stationary 0 (within tol).
+		rep.Gap, rep.GapError = math.Inf(1), tol
+		if n > 1 {
+			rep.Gap = -vals[n-2]
+		}
+		gapHow = fmt.Sprintf("gap from the symmetric S = D^{1/2}QD^{-1/2}, S_ij = √(q_ij q_ji) (%s), absolute error ≤ %.2g = n·u·‖S‖_F", map[bool]string{true: "tridiagonal QR iteration, LAPACK Dsterf via gonum", false: "symmetric QR algorithm, gonum EigenSym"}[rep.BirthDeath], tol)
+		if !rep.BirthDeath {
+			gapHow += " plus the detailed-balance defect"
+		}
+		if n > 1 && math.Abs(vals[n-1]) > tol {
+			gapHow += fmt.Sprintf("; WARNING: the largest eigenvalue of S is %.3g, not 0 within rounding", vals[n-1])
+		}
+	} else {
+		sp, err := denseSpectrum(m)
+		if err != nil {
+			return nil, err
+		}
+		// The eigenvalue closest to 0 is the stationary one; the gap is set by the others.
+		iz := 0
+		for k, l := range sp.Values {
+			if cmplx.Abs(l) < cmplx.Abs(sp.Values[iz]) {
+				iz = k
+			}
+		}
+		top, at := math.Inf(-1), -1
+		for k, l := range sp.Values {
+			if k != iz && real(l) > top {
+				top, at = real(l), k
+			}
+		}
+		rep.Gap = -top
+		tau := roundoff.Threshold(n, mat.Norm(m, 2))
+		rep.GapError = tau
+		if at >= 0 {
+			rep.GapError = tau * sp.Cond[at]
+			if sp.IllCond[at] {
+				rep.GapError = math.Inf(1)
+			}
+		}
+		gapHow = fmt.Sprintf("gap from all eigenvalues (non-symmetric QR algorithm: the chain is not reversible), error ≲ Cond·n·u·‖Q‖_F = %.2g", rep.GapError)
+		if math.IsInf(rep.GapError, 1) {
+			gapHow = "gap from all eigenvalues (non-symmetric QR algorithm: the chain is not reversible); the eigenvalue setting the gap is DEFECTIVE OR NEARLY (condition above 1/√u): its error is not bounded to first order — see the pseudospectra of Q"
 		}
 	}
 	if n == 1 {
-		top = math.Inf(-1)
+		rep.Gap, rep.GapError = math.Inf(1), 0
 	}
-	rep.Gap = -top
 	rep.Relaxation = 1 / rep.Gap
-	rep.MixingBound = math.Log(4/piMin) * rep.Relaxation
-	rep.Reversible = true
-	for i := 0; i < n && rep.Reversible; i++ {
-		for j := 0; j < i; j++ {
-			f, b := rep.Stationary[i]*m.At(i, j), rep.Stationary[j]*m.At(j, i)
-			if math.Abs(f-b) > 1e-10*math.Max(math.Abs(f)+math.Abs(b), scale*1e-300) && math.Abs(f-b) > 1e-14*scale {
-				rep.Reversible = false
-				break
-			}
-		}
-	}
+	rep.MixingBound = (math.Log(4) - logPiMin) * rep.Relaxation
 	dist := func(t float64) (float64, error) {
 		var tq, e mat.Dense
 		tq.Scale(t, m)
@@ -373,9 +539,148 @@ func Markov(ctx context.Context, q linop.Operator) (*MarkovReport, error) {
 		}
 		rep.MixingTime = hi
 	}
-	rep.Method = "π from Qᵀπ = 0 with Σπ = 1 (LU); gap from all eigenvalues (QR algorithm); mixing time by bisection on t of max_i ‖e_iᵀe^{tQ} − π‖_TV (expo.Exp)"
-	rep.Accuracy = fmt.Sprintf("π to about cond·u; gap to about u·‖Q‖·(eigenvalue condition); mixing time to relative 1e-6 (reversible: %v)", rep.Reversible)
+	piHow, piAcc := "π from Qᵀπ = 0 with Σπ = 1 (LU)", "π to about cond·u"
+	if rep.BirthDeath {
+		piHow, piAcc = "π from the birth–death product π_{k+1} = π_k q_{k,k+1}/q_{k+1,k}", "π to relative 2n·u"
+	}
+	rep.Method = piHow + "; " + gapHow + "; mixing time by bisection on t of max_i ‖e_iᵀe^{tQ} − π‖_TV (expo.Exp)"
+	rep.Accuracy = fmt.Sprintf("%s; gap ± %.2g; mixing time to relative 1e-6 (reversible: %v)", piAcc, rep.GapError, rep.Reversible)
 	return rep, nil
+}
+
+// isBirthDeath reports whether the rate matrix m is tridiagonal with every
+// neighbouring rate positive (an irreducible birth–death chain).
+func isBirthDeath(m *mat.Dense) bool {
+	n, _ := m.Dims()
+	for i := 0; i < n; i++ {
+		for j := 0; j < n; j++ {
+			if d := i - j; (d > 1 || d < -1) && m.At(i, j) != 0 {
+				return false
+			}
+		}
+		if i+1 < n && !(m.At(i, i+1) > 0 && m.At(i+1, i) > 0) {
+			return false
+		}
+	}
+	return true
+}
+
+// birthDeathStationary returns π of an irreducible birth–death chain by
+// detailed balance, π_{k+1} = π_k q_{k,k+1}/q_{k+1,k}, normalised; the
+// products are kept as logarithms relative to the largest, so no π_k
+// overflows, and every entry has relative error about 2n·u.
+func birthDeathStationary(m *mat.Dense) []float64 {
+	lp, logZ := birthDeathLogPi(m)
+	pi := make([]float64, len(lp))
+	for k := range pi {
+		pi[k] = math.Exp(lp[k] - logZ)
+	}
+	return pi
+}
+
+// birthDeathLogPi returns log π_k + log Z for the unnormalised products
+// (π_0 = 1) and log Z, Z = Σ π_k, summed relative to the largest term.
+func birthDeathLogPi(m *mat.Dense) ([]float64, float64) {
+	n, _ := m.Dims()
+	lp := make([]float64, n)
+	top := 0.0
+	for k := 0; k+1 < n; k++ {
+		lp[k+1] = lp[k] + math.Log(m.At(k, k+1)) - math.Log(m.At(k+1, k))
+		top = math.Max(top, lp[k+1])
+	}
+	sum := 0.0
+	for _, l := range lp {
+		sum += math.Exp(l - top)
+	}
+	return lp, top + math.Log(sum)
+}
+
+// birthDeathLogPiMin returns log min_k π_k of a birth–death chain, finite
+// even when π_min underflows.
+func birthDeathLogPiMin(m *mat.Dense) float64 {
+	lp, logZ := birthDeathLogPi(m)
+	lo := math.Inf(1)
+	for _, l := range lp {
+		lo = math.Min(lo, l)
+	}
+	return lo - logZ
+}
+
+// stationaryLU returns π with πQ = 0, Σπ = 1: Qᵀπ = 0 with the last
+// equation replaced by ones, solved by LU.
+func stationaryLU(m *mat.Dense) ([]float64, error) {
+	n, _ := m.Dims()
+	sys := mat.NewDense(n, n, nil)
+	sys.CloneFrom(m.T())
+	rhs := mat.NewVecDense(n, nil)
+	for j := 0; j < n; j++ {
+		sys.Set(n-1, j, 1)
+	}
+	rhs.SetVec(n-1, 1)
+	var pi mat.VecDense
+	if err := pi.SolveVec(sys, rhs); err != nil {
+		return nil, numErr("no unique stationary distribution (is the chain reducible?): %v", err)
+	}
+	return pi.RawVector().Data, nil
+}
+
+// detailedBalance reports whether π_i q_ij = π_j q_ji for all i ≠ j, to
+// relative 1e-10 (or 1e-14 of the largest rate).
+func detailedBalance(m *mat.Dense, pi []float64, scale float64) bool {
+	n, _ := m.Dims()
+	for i := 0; i < n; i++ {
+		for j := 0; j < i; j++ {
+			f, b := pi[i]*m.At(i, j), pi[j]*m.At(j, i)
+			if math.Abs(f-b) > 1e-10*math.Max(math.Abs(f)+math.Abs(b), scale*1e-300) && math.Abs(f-b) > 1e-14*scale {
+				return false
+			}
+		}
+	}
+	return true
+}
+
+// reversibleSpectrum returns the eigenvalues (ascending) of the symmetric
+// S = D^{1/2} Q D^{-1/2}, D = diag(π), of a reversible rate matrix m,
+// formed as S_ii = q_ii, S_ij = √(q_ij q_ji) (detailed balance), and an
+// absolute error bound: n·u·‖S‖_F, plus for a general chain ‖E‖_F with
+// E_ij = √(π_i/π_j) q_ij − S_ij, the detailed-balance defect (S is then
+// the symmetric part of a matrix similar to Q up to E). For a birth–death
+// chain (tri) it uses the tridiagonal QR iteration.
+func reversibleSpectrum(m *mat.Dense, pi []float64, tri bool) ([]float64, float64, error) {
+	n, _ := m.Dims()
+	if tri {
+		d := make([]float64, n)
+		e := make([]float64, max(n-1, 1))
+		fro := 0.0
+		for k := 0; k < n; k++ {
+			d[k] = m.At(k, k)
+			fro = math.Hypot(fro, d[k])
+			if k+1 < n {
+				e[k] = math.Sqrt(m.At(k, k+1)) * math.Sqrt(m.At(k+1, k))
+				fro = math.Hypot(fro, math.Sqrt2*e[k])
+			}
+		}
+		if !(gonum.Implementation{}).Dsterf(n, d, e) {
+			return nil, 0, numErr("tridiagonal QR iteration did not converge for the %d-state birth–death chain", n)
+		}
+		return d, roundoff.Threshold(n, fro), nil
+	}
+	s := mat.NewSymDense(n, nil)
+	defect := 0.0
+	for i := 0; i < n; i++ {
+		s.SetSym(i, i, m.At(i, i))
+		for j := 0; j < i; j++ {
+			v := math.Sqrt(m.At(i, j)) * math.Sqrt(m.At(j, i))
+			s.SetSym(i, j, v)
+			defect = math.Hypot(defect, math.Sqrt(pi[i]/pi[j])*m.At(i, j)-v)
+			defect = math.Hypot(defect, math.Sqrt(pi[j]/pi[i])*m.At(j, i)-v)
+		}
+	}
+	var es mat.EigenSym
+	if !es.Factorize(s, false) {
+		return nil, 0, numErr("symmetric QR algorithm did not converge for the %d-state reversible chain", n)
+	}
+	return es.Values(nil), roundoff.Threshold(n, mat.Norm(s, 2)) + defect, nil
 }
 
 func generatorSparse(ctx context.Context, a *linop.CSR, o GeneratorOptions) (*GeneratorReport, error) {
@@ -389,38 +694,53 @@ func generatorSparse(ctx context.Context, a *linop.CSR, o GeneratorOptions) (*Ge
 	if err != nil {
 		return nil, err
 	}
+	fn := normFrobCSR(a)
 	rep := &GeneratorReport{N: n, SpectralAbscissa: sp.Abscissa, NumericalAbscissa: om}
-	al := sp.Abscissa
-	switch {
-	case o.OmegaSet:
-		rep.Omega = o.Omega
-	case al < 0:
-		rep.Omega = 0
-	case om <= al:
-		rep.Omega = om
-	default:
-		rep.Omega = al + (om-al)/10
+	// ω(A) carries the Ritz residual (relative 1e-12) besides the rounding.
+	rep.Rounding = roundoff.Threshold(n, fn) + 1e-12*math.Abs(om)
+	rep.AbscissaRounding = rep.Rounding
+	for k := range sp.Values {
+		if k < len(sp.Residual) && real(sp.Values[k]) == sp.Abscissa {
+			rep.AbscissaRounding = math.Max(rep.AbscissaRounding, sp.Residual[k])
+		}
 	}
-	rep.Dissipative = om <= rep.Omega
+	rep.AbscissaSign = roundoff.Sign(sp.Abscissa, rep.AbscissaRounding)
+	tau := rep.Rounding
+	rep.Omega = defaultOmega(o, rep)
+	rep.Dissipative = roundoff.Sign(om-rep.Omega, tau) <= 0
+	rep.WithinRounding = rep.Dissipative && om > rep.Omega
 	rep.M = math.NaN()
 	if rep.Dissipative {
 		rep.M = 1
 	}
+	rep.Sampled = "none: large operator"
 	var v strings.Builder
 	fmt.Fprintf(&v, "A (%d×%d, sparse) generates the semigroup e^{tA}; ", n, n)
-	if al < 0 {
-		fmt.Fprintf(&v, "α(A) ≈ %.4g < 0 (rightmost computed eigenvalue), so e^{tA} → 0 as t → ∞; ", al)
-	} else {
-		fmt.Fprintf(&v, "α(A) ≈ %.4g ≥ 0, so e^{tA} does not decay; ", al)
+	v.WriteString(strings.Replace(rep.abscissaClause(), "α(A) =", "α(A) ≈", 1))
+	if rep.AbscissaSign < 0 {
+		v.WriteString(" (rightmost computed eigenvalue)")
 	}
-	if rep.Dissipative {
+	v.WriteString("; ")
+	switch {
+	case rep.WithinRounding:
+		fmt.Fprintf(&v, "A − ωI is dissipative within rounding (%s ≤ %.2g = n·u·‖A‖ + 10⁻¹²|ω(A)|), so ‖e^{tA}‖ ≤ e^{(ω+2τ)t} with τ = %.2g (Lumer–Phillips, M = 1).", excess(om, rep.Omega), tau, tau)
+	case rep.Dissipative:
 		fmt.Fprintf(&v, "ω(A) = %.4g ≤ ω = %.4g: A − ωI is dissipative, so ‖e^{tA}‖ ≤ e^{ωt} (Lumer–Phillips, M = 1).", om, rep.Omega)
-	} else {
-		fmt.Fprintf(&v, "ω(A) = %.4g > ω = %.4g: not dissipative, transient growth up to a factor M is possible (not estimated for large operators; see the growth curve).", om, rep.Omega)
+	default:
+		fmt.Fprintf(&v, "not dissipative (%s > %.2g = n·u·‖A‖ + 10⁻¹²|ω(A)|), transient growth up to a factor M is possible (not estimated for large operators; see the growth curve).", excess(om, rep.Omega), tau)
 	}
 	rep.Verdict = v.String()
 	rep.Assumptions = "finite-dimensional operator: generation is automatic; Euclidean inner product; α(A) from the eigenvalues nearest σ = ω(A)+δ, which are the rightmost unless the spectrum has far-out parts with large imaginary parts"
 	rep.Method = "ω(A): shift-and-invert Lanczos on (A+Aᵀ)/2 above its Gershgorin bound; α(A): " + sp.Method
-	rep.Accuracy = "ω(A) to relative 1e-12 (Ritz residual); " + sp.Accuracy
+	rep.Accuracy = fmt.Sprintf("ω(A) to τ = n·u·‖A‖_F + 10⁻¹²|ω(A)| = %.2g (rounding and Ritz residual); signs within it are reported as zero within rounding; ", rep.Rounding) + sp.Accuracy
 	return rep, nil
+}
+
+// normFrobCSR returns the Frobenius norm of a.
+func normFrobCSR(a *linop.CSR) float64 {
+	s := 0.0
+	for _, v := range a.Val {
+		s = math.Hypot(s, v)
+	}
+	return s
 }

@@ -1,13 +1,20 @@
 package spectra
 
 import (
+	"encoding/json"
 	"math"
+	"math/cmplx"
 	"math/rand/v2"
+	"os"
+	"path/filepath"
+	"strconv"
+	"strings"
 	"testing"
 
 	"gonum.org/v1/gonum/mat"
 
 	"semiflow/numerics/linop"
+	"semiflow/numerics/roundoff"
 )
 
 // Lumer–Phillips (Pazy 1983, Thm 1.4.3): a normal stable A has
@@ -179,5 +186,379 @@ func TestGeneratorSparse(t *testing.T) {
 	}
 	if rep.Dissipative != (omega <= 0) {
 		t.Errorf("dissipative = %v with ω(A) = %g", rep.Dissipative, omega)
+	}
+}
+
+// Hille–Yosida for a normal matrix (Engel & Nagel, GTM 194, Thm II.3.8,
+// with ‖R(λ)^n‖ = max_k |λ − λ_k|^{−n} for normal A): every quotient
+// (λ−ω)^n‖R(λ)^n‖ with ω = 0 ≥ α(A) is below 1 and tends to 1 as λ → ∞,
+// so the optimal M is exactly 1. Sampling only a bounded range of λ gave
+// 0.99; the estimate must be 1 exactly, never below.
+func TestGeneratorHilleYosidaNormalExact(t *testing.T) {
+	for _, a := range []denseOp{
+		op([][]float64{{-1, 0, 0}, {0, -2, 0}, {0, 0, -3}}),
+		op([][]float64{{-1, 2}, {-2, -1}}),
+	} {
+		rep, err := Generator(bg, a, &GeneratorOptions{Omega: 0.5, OmegaSet: true})
+		if err != nil {
+			t.Fatal(err)
+		}
+		if rep.M != 1 {
+			t.Errorf("normal A: Hille–Yosida M = %.17g, want exactly 1", rep.M)
+		}
+		for _, h := range rep.HY {
+			if h.M < 1 || h.M > 1+1e-14 {
+				t.Errorf("n = %d: M_n = %.17g, want 1 (the limit λ → ∞)", h.Power, h.M)
+			}
+		}
+		if !strings.Contains(rep.Sampled, "decades beyond") || !strings.Contains(rep.Method, rep.Sampled) {
+			t.Errorf("the sampled λ are not stated: %q", rep.Method)
+		}
+	}
+}
+
+// Hille–Yosida for the scaled Jordan block A = −I + 3N (N the 3×3 shift),
+// ω = 0: ω(A) = −1 + 3cos(π/4) > 0, so A is not dissipative; the estimates
+// are lower bounds of M = sup_t ‖e^{tA}‖ (Engel & Nagel, Thm II.3.8), at
+// least 1, and close to it. e^{tA} = e^{−t}(I + 3tN + 9t²N²/2) (the
+// exponential of a Jordan block, Higham, Functions of Matrices, 2008,
+// eq. 1.4), its 2-norm maximised over t by golden section.
+func TestGeneratorHilleYosidaJordan3(t *testing.T) {
+	J := op([][]float64{{-1, 3, 0}, {0, -1, 3}, {0, 0, -1}})
+	rep, err := Generator(bg, J, &GeneratorOptions{Omega: 0, OmegaSet: true})
+	if err != nil {
+		t.Fatal(err)
+	}
+	norm := func(t float64) float64 {
+		e := mat.NewDense(3, 3, []float64{1, 3 * t, 9 * t * t / 2, 0, 1, 3 * t, 0, 0, 1})
+		e.Scale(math.Exp(-t), e)
+		return norm2(e)
+	}
+	_, sup := goldenMax(norm, 0, 10, 1e-12, 300)
+	if rep.M < 1 || rep.M > sup*(1+1e-10) || rep.M < 0.8*sup {
+		t.Errorf("Hille–Yosida M = %g, sup ‖e^{tA}‖ = %g", rep.M, sup)
+	}
+	if rep.Dissipative || rep.AbscissaSign != -1 || relDiff(rep.NumericalAbscissa, -1+3*math.Cos(math.Pi/4)) > 1e-14 {
+		t.Errorf("dissipative %v, sign of α %d, ω(A) = %.17g", rep.Dissipative, rep.AbscissaSign, rep.NumericalAbscissa)
+	}
+	t.Logf("M = %.6g against sup ‖e^{tA}‖ = %.6g", rep.M, sup)
+}
+
+// A damped oscillator u” + C u' + K u = 0 as the first-order system
+// A = [0 I; −K −C] is dissipative in the energy inner product
+// ⟨(x,v),(y,w)⟩ = xᵀKy + vᵀw: with R = diag(K^{1/2}, I),
+// RAR⁻¹ = [0 K^{1/2}; −K^{1/2} −C], whose symmetric part is
+// diag(0, −C), so ω(A) = 0 exactly (Lumer–Phillips; Pazy 1983, §1.4).
+// The computed ω(A) is rounding (√k·1 against k/√k), of either sign; the
+// verdict must be "dissipative" in every case and say "within rounding"
+// when the computed value is positive.
+func TestGeneratorEnergyDissipative(t *testing.T) {
+	k := []float64{2, 3, 5, 7, 11, 13}
+	c := []float64{0.3, 0, 0.1, 0.7, 0, 0.2}
+	m := len(k)
+	a := mat.NewDense(2*m, 2*m, nil)
+	w := make([]float64, 2*m)
+	for i := 0; i < m; i++ {
+		a.Set(i, m+i, 1)
+		a.Set(m+i, i, -k[i])
+		a.Set(m+i, m+i, -c[i])
+		if i+1 < m { // a spring between neighbours keeps K symmetric, not diagonal
+			a.Set(m+i, i+1, 0)
+		}
+		w[i], w[m+i] = k[i], 1
+	}
+	wt, err := linop.NewDiagWeight(w)
+	if err != nil {
+		t.Fatal(err)
+	}
+	rep, err := Generator(bg, denseOp{a}, &GeneratorOptions{Weight: wt})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if rep.Omega != 0 || !rep.Dissipative || math.Abs(rep.NumericalAbscissa) > rep.Rounding {
+		t.Errorf("ω = %g, dissipative %v, ω(A) = %g (τ = %g)", rep.Omega, rep.Dissipative, rep.NumericalAbscissa, rep.Rounding)
+	}
+	if rep.NumericalAbscissa > 0 && (!rep.WithinRounding || !strings.Contains(rep.Verdict, "dissipative within rounding")) {
+		t.Errorf("ω(A) = %g > 0 but the verdict does not say within rounding: %s", rep.NumericalAbscissa, rep.Verdict)
+	}
+	if rep.M != 1 {
+		t.Errorf("M = %g, want 1 (Lumer–Phillips)", rep.M)
+	}
+	t.Logf("computed ω(A) = %.3g, τ = %.3g", rep.NumericalAbscissa, rep.Rounding)
+}
+
+// The verdict's wording at the threshold: A = [δ 1; −1 −1] has symmetric
+// part diag(δ, −1), so ω(A) = δ exactly, and α(A) = (δ−1)/2 < 0. δ = 1e-17
+// is below τ = n·u·‖A‖_F = 2·2⁻⁵³·√(3+δ²) ≈ 3.8e-16: dissipative within
+// rounding; δ = 1e-12 is not; δ = 0 is dissipative outright.
+func TestGeneratorWithinRoundingWording(t *testing.T) {
+	for _, c := range []struct {
+		delta      float64
+		diss, near bool
+		say        string
+	}{
+		{1e-17, true, true, "dissipative within rounding (ω(A) = 1e-17 ≤ 3.8e-16 = n·u·‖A‖)"},
+		{1e-12, false, false, "not dissipative (ω(A) = 1e-12 > 3.8e-16 = n·u·‖A‖)"},
+		{0, true, false, "ω(A) = 0 ≤ ω = 0: A − ωI is dissipative"},
+	} {
+		rep, err := Generator(bg, op([][]float64{{c.delta, 1}, {-1, -1}}), nil)
+		if err != nil {
+			t.Fatal(err)
+		}
+		if rep.Omega != 0 || rep.NumericalAbscissa != c.delta || rep.Dissipative != c.diss || rep.WithinRounding != c.near || !strings.Contains(rep.Verdict, c.say) {
+			t.Errorf("δ = %g: ω = %g, ω(A) = %g dissipative %v within %v\nverdict: %s\nwant: %s", c.delta, rep.Omega, rep.NumericalAbscissa, rep.Dissipative, rep.WithinRounding, rep.Verdict, c.say)
+		}
+		if c.diss && rep.M != 1 || !c.diss && !(rep.M >= 1) {
+			t.Errorf("δ = %g: M = %.17g", c.delta, rep.M)
+		}
+	}
+	// α(A) zero within rounding: the rotation generator plus 1e-17 on the
+	// diagonal has α = 5e-18, far below τ; the verdict must not call it
+	// growth, and the default ω is then 0.
+	rep, err := Generator(bg, op([][]float64{{1e-17, 1}, {-1, 0}}), nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if rep.AbscissaSign != 0 || rep.Omega != 0 || !rep.Dissipative || !strings.Contains(rep.Verdict, "is zero within rounding") {
+		t.Errorf("rotation: sign %d, ω = %g, verdict %s", rep.AbscissaSign, rep.Omega, rep.Verdict)
+	}
+}
+
+// The Jordan block J_n(λ) is defective: its left and right eigenvectors
+// e_n and e_1 are orthogonal, so the condition number is infinite
+// (Wilkinson 1965, §2.22). After a random orthogonal similarity the QR
+// algorithm returns n distinct eigenvalues about u^{1/n} apart, with
+// conditions near u^{−(n−1)/n} ≫ 1/√u. Either way every eigenvalue must be
+// flagged and the accuracy statement must not be the first-order one; a
+// symmetric matrix (condition 1) must not be flagged.
+func TestDenseSpectrumDefectiveFlag(t *testing.T) {
+	n := 4
+	j := mat.NewDense(n, n, nil)
+	for i := 0; i < n; i++ {
+		j.Set(i, i, -0.5)
+		if i+1 < n {
+			j.Set(i, i+1, 1)
+		}
+	}
+	var qr mat.QR
+	rng := rand.New(rand.NewPCG(7, 8))
+	g := mat.NewDense(n, n, nil)
+	for i := 0; i < n; i++ {
+		for k := 0; k < n; k++ {
+			g.Set(i, k, rng.NormFloat64())
+		}
+	}
+	qr.Factorize(g)
+	var q, qj, sim mat.Dense
+	qr.QTo(&q)
+	qj.Mul(q.T(), j)
+	sim.Mul(&qj, &q)
+	for name, a := range map[string]*mat.Dense{"J_4(-0.5)": j, "QᵀJ_4Q": &sim} {
+		sp, err := DenseSpectrum(denseOp{a})
+		if err != nil {
+			t.Fatal(err)
+		}
+		for k, f := range sp.IllCond {
+			if !f {
+				t.Errorf("%s: λ_%d = %v with Cond %g not flagged", name, k, sp.Values[k], sp.Cond[k])
+			}
+		}
+		if !strings.Contains(sp.Accuracy, "DEFECTIVE OR NEARLY") || !strings.Contains(sp.Accuracy, "pseudospectra") || strings.Contains(sp.Accuracy, "(first order, simple eigenvalues)") {
+			t.Errorf("%s: accuracy %q", name, sp.Accuracy)
+		}
+		rep, err := Generator(bg, denseOp{a}, &GeneratorOptions{Omega: 0, OmegaSet: true, Powers: 1, Lambdas: 4})
+		if err != nil {
+			t.Fatal(err)
+		}
+		if name != "J_4(-0.5)" && !rep.AbscissaIllCond {
+			t.Errorf("%s: α(A) = %g not marked ill-conditioned", name, rep.SpectralAbscissa)
+		}
+		if rep.AbscissaSign != -1 {
+			t.Errorf("%s: α(A) = %g (allowance %g) should still be negative", name, rep.SpectralAbscissa, rep.AbscissaRounding)
+		}
+	}
+	sym := op([][]float64{{2, -1, 0}, {-1, 2, -1}, {0, -1, 2}})
+	sp, err := DenseSpectrum(sym)
+	if err != nil {
+		t.Fatal(err)
+	}
+	for k, f := range sp.IllCond {
+		if f {
+			t.Errorf("symmetric: λ_%d flagged (Cond %g)", k, sp.Cond[k])
+		}
+	}
+	if !strings.Contains(sp.Accuracy, "first order, simple eigenvalues") {
+		t.Errorf("symmetric: accuracy %q", sp.Accuracy)
+	}
+	if want := 1 / math.Sqrt(roundoff.Unit); relDiff(IllCondLimit, want) > 1e-15 {
+		t.Errorf("IllCondLimit = %.17g, 1/√u = %.17g", IllCondLimit, want)
+	}
+}
+
+// birthDeathRef is testdata/spectra/birthdeath.json, written by
+// make_birthdeath.py with mpmath.
+type birthDeathRef struct {
+	MM1K []struct {
+		Lam, Mu     float64
+		K           int
+		Eigenvalues []float64
+	} `json:"mm1k"`
+	Graded struct {
+		N        int       `json:"n"`
+		Birth    []float64 `json:"birth"`
+		Death    []float64 `json:"death"`
+		Largest  []string  `json:"largest"`
+		Smallest string    `json:"smallest"`
+		Gap      string    `json:"gap"`
+	} `json:"graded"`
+}
+
+func readBirthDeath(t *testing.T) birthDeathRef {
+	b, err := os.ReadFile(filepath.Join("..", "..", "testdata", "spectra", "birthdeath.json"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	var r birthDeathRef
+	if err := json.Unmarshal(b, &r); err != nil {
+		t.Fatal(err)
+	}
+	return r
+}
+
+// birthDeath returns the rate matrix with rates birth[k] (k → k+1) and
+// death[k] (k+1 → k).
+func birthDeath(birth, death []float64) *mat.Dense {
+	n := len(birth) + 1
+	q := mat.NewDense(n, n, nil)
+	for k := 0; k+1 < n; k++ {
+		q.Set(k, k+1, birth[k])
+		q.Set(k+1, k, death[k])
+		q.Set(k, k, q.At(k, k)-birth[k])
+		q.Set(k+1, k+1, q.At(k+1, k+1)-death[k])
+	}
+	return q
+}
+
+// The M/M/1/K queue (states 0..K, rates λ up, μ down) has eigenvalues 0
+// and −(λ+μ) + 2√(λμ) cos(jπ/(K+1)), j = 1..K (queueing texts, e.g.
+// Kleinrock 1975; make_birthdeath.py confirms the formula against mpmath's
+// eigenvalues at 40 digits and stores them): the whole spectrum through
+// the symmetric route, and the gap (λ+μ) − 2√(λμ)cos(π/(K+1)) from Markov,
+// each within the stated error bound.
+func TestMarkovMM1KSpectrum(t *testing.T) {
+	cases := readBirthDeath(t).MM1K
+	// Beyond mpmath's reach (500 states) the formula alone: a drift of 5:1
+	// makes π span 350 decades, where the non-symmetric QR algorithm on Q
+	// misses the gap by 6% (scipy.linalg.eigvals, LAPACK dgeev).
+	cases = append(cases, struct {
+		Lam, Mu     float64
+		K           int
+		Eigenvalues []float64
+	}{5, 1, 499, nil}, struct {
+		Lam, Mu     float64
+		K           int
+		Eigenvalues []float64
+	}{1, 5, 499, nil})
+	for _, c := range cases {
+		birth, death := make([]float64, c.K), make([]float64, c.K)
+		for k := range birth {
+			birth[k], death[k] = c.Lam, c.Mu
+		}
+		q := birthDeath(birth, death)
+		gap := c.Lam + c.Mu - 2*math.Sqrt(c.Lam*c.Mu)*math.Cos(math.Pi/float64(c.K+1))
+		if c.K < 20 { // the whole report (its mixing time takes dense exponentials)
+			rep, err := Markov(bg, denseOp{q})
+			if err != nil {
+				t.Fatal(err)
+			}
+			if !rep.BirthDeath || !rep.Reversible || math.Abs(rep.Gap-gap) > rep.GapError || rep.GapError > 1e-13 {
+				t.Errorf("λ=%g μ=%g K=%d: gap %.17g ± %.2g, closed form %.17g (birth–death %v)", c.Lam, c.Mu, c.K, rep.Gap, rep.GapError, gap, rep.BirthDeath)
+			}
+		}
+		vals, tol, err := reversibleSpectrum(q, birthDeathStationary(q), true)
+		if err != nil {
+			t.Fatal(err)
+		}
+		if got := -vals[len(vals)-2]; math.Abs(got-gap) > tol {
+			t.Errorf("λ=%g μ=%g K=%d: gap %.17g, closed form %.17g, bound %.2g", c.Lam, c.Mu, c.K, got, gap, tol)
+		}
+		if want := (float64(c.K)*math.Log(c.Lam/c.Mu) - math.Log((math.Pow(c.Lam/c.Mu, float64(c.K+1))-1)/(c.Lam/c.Mu-1))); c.Lam < c.Mu && relDiff(birthDeathLogPiMin(q), want) > 1e-13 {
+			// π_K = ρ^K (1−ρ)/(1−ρ^{K+1}), ρ = λ/μ < 1: the smallest entry.
+			t.Errorf("log π_min = %.17g, closed form %.17g", birthDeathLogPiMin(q), want)
+		}
+		for i, want := range c.Eigenvalues { // mpmath, decreasing
+			if got := vals[len(vals)-1-i]; math.Abs(got-want) > tol {
+				t.Errorf("λ=%g μ=%g K=%d: eigenvalue %d = %.17g, mpmath %.17g (bound %.2g)", c.Lam, c.Mu, c.K, i, got, want, tol)
+			}
+		}
+	}
+}
+
+// A strongly graded 500-state birth–death chain (rates from 1 to 1e5, π
+// spanning about 126 decades): the four largest and the smallest
+// eigenvalue and the gap against mpmath at 50 digits (Sturm bisection on
+// the exactly formed symmetric tridiagonal, make_birthdeath.py), each
+// within the stated bound n·u·‖S‖_F. The non-symmetric QR algorithm on Q
+// is logged for comparison.
+func TestMarkovGraded500(t *testing.T) {
+	g := readBirthDeath(t).Graded
+	q := birthDeath(g.Birth, g.Death)
+	if !isBirthDeath(q) {
+		t.Fatal("not recognised as birth–death")
+	}
+	if err := linop.CheckGenerator(linop.CSRFromDense(q, 0)); err != nil {
+		t.Fatal(err)
+	}
+	pi := birthDeathStationary(q)
+	vals, tol, err := reversibleSpectrum(q, pi, true)
+	if err != nil {
+		t.Fatal(err)
+	}
+	num := func(s string) float64 {
+		x, err := strconv.ParseFloat(s, 64)
+		if err != nil {
+			t.Fatal(err)
+		}
+		return x
+	}
+	n := g.N
+	for i, s := range g.Largest {
+		if got, want := vals[n-1-i], num(s); math.Abs(got-want) > tol {
+			t.Errorf("eigenvalue %d from the top: %.17g, mpmath %.17g, bound %.2g", i, got, want, tol)
+		}
+	}
+	if got, want := vals[0], num(g.Smallest); math.Abs(got-want) > tol {
+		t.Errorf("smallest eigenvalue %.17g, mpmath %.17g, bound %.2g", got, want, tol)
+	}
+	gap := num(g.Gap)
+	if got := -vals[n-2]; math.Abs(got-gap) > tol || tol > 1e-4*gap {
+		t.Errorf("gap %.17g, mpmath %.17g, bound %.2g", got, gap, tol)
+	}
+	// π Q = 0 to rounding: the product formula's π is a left null vector.
+	res, scale := 0.0, 0.0
+	for j := 0; j < n; j++ {
+		s, a := 0.0, 0.0
+		for i := max(j-1, 0); i <= min(j+1, n-1); i++ {
+			s += pi[i] * q.At(i, j)
+			a += math.Abs(pi[i] * q.At(i, j))
+		}
+		res, scale = math.Max(res, math.Abs(s)), math.Max(scale, a)
+	}
+	if res > roundoff.Threshold(n, scale) {
+		t.Errorf("‖πQ‖∞ = %g, rounding %g", res, roundoff.Threshold(n, scale))
+	}
+	if sp, err := denseSpectrum(q); err == nil && !testing.Short() {
+		iz, top := 0, math.Inf(-1)
+		for k, l := range sp.Values {
+			if cmplx.Abs(l) < cmplx.Abs(sp.Values[iz]) {
+				iz = k
+			}
+		}
+		for k, l := range sp.Values {
+			if k != iz {
+				top = math.Max(top, real(l))
+			}
+		}
+		t.Logf("gap: symmetric route %.15g (error %.2g, bound %.2g); non-symmetric QR on Q %.15g (relative error %.2g)", -vals[n-2], math.Abs(-vals[n-2]-gap), tol, -top, math.Abs(-top-gap)/gap)
 	}
 }
