@@ -9,6 +9,7 @@ import (
 	"sync"
 
 	"semiflow/numerics/linop"
+	"semiflow/numerics/memguard"
 	"semiflow/numerics/solve"
 )
 
@@ -109,6 +110,12 @@ func contourRun(ctx context.Context, A linop.Operator, u0 []float64, times []flo
 		workers = runtime.GOMAXPROCS(0)
 	}
 	n := len(u0)
+	// The complex right side and one complex solution per worker (two
+	// reals each), the sum and the results, through the memory guard (the
+	// factorisations ask for their own).
+	if err := memguard.Vectors(3+2*workers+len(times), n, memguard.RealBytes, "contour work vectors and results"); err != nil {
+		return err
+	}
 	zs, cks := ContourNodes(shape, N)
 	total := len(times) * len(zs)
 	done := 0

@@ -7,6 +7,7 @@ import (
 	"gonum.org/v1/gonum/mat"
 
 	"semiflow/numerics/linop"
+	"semiflow/numerics/memguard"
 )
 
 // denseExpErr is the error estimate used for a computed E ≈ e^{hA} of order
@@ -147,6 +148,10 @@ func kronRun(ctx context.Context, k *linop.KronSum, u0 []float64, times []float6
 	xn := opNorm1(&counted{a: k.X})
 	yn := opNorm1(&counted{a: k.Y})
 	u0n := normInf(u0)
+	// One nx×ny temporary and the results, through the memory guard.
+	if err := memguard.Vectors(1+len(times), nx*ny, memguard.RealBytes, "Kronecker work vectors and results"); err != nil {
+		return err
+	}
 	for i, t := range times {
 		if err := ctx.Err(); err != nil {
 			return err

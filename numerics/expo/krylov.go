@@ -5,6 +5,8 @@ import (
 	"math"
 
 	"gonum.org/v1/gonum/mat"
+
+	"semiflow/numerics/memguard"
 )
 
 // krylovRun approximates e^{tA}u0 at the sorted times in the Krylov space
@@ -37,6 +39,10 @@ func krylovRun(ctx context.Context, c *counted, u0 []float64, times []float64, o
 	anorm := opNorm1(c)
 	beta0 := norm2(u0)
 	tolAbs := opts.Tol * math.Max(beta0, math.SmallestNonzeroFloat64)
+	// The basis (m+1), two more and the results, through the memory guard.
+	if err := memguard.Vectors(m+3+len(times), n, memguard.RealBytes, "Krylov work vectors and results"); err != nil {
+		return err
+	}
 	w := append([]float64(nil), u0...)
 	V := make([][]float64, m+1)
 	for i := range V {

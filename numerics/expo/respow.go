@@ -5,6 +5,7 @@ import (
 	"math"
 
 	"semiflow/numerics/linop"
+	"semiflow/numerics/memguard"
 	"semiflow/numerics/solve"
 )
 
@@ -26,6 +27,11 @@ func resolventRun(ctx context.Context, A linop.Operator, u0 []float64, times []f
 		L = 8
 	}
 	n := len(u0)
+	// The complex iterate (two reals), two rows of the extrapolation
+	// table (L+1 each) and the results, through the memory guard.
+	if err := memguard.Vectors(2+2*(L+1)+len(times), n, memguard.RealBytes, "resolvent-power work vectors and results"); err != nil {
+		return err
+	}
 	total := 0
 	for l := 0; l < L; l++ {
 		total += n0 << l

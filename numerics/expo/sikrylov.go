@@ -7,6 +7,7 @@ import (
 	"gonum.org/v1/gonum/mat"
 
 	"semiflow/numerics/linop"
+	"semiflow/numerics/memguard"
 	"semiflow/numerics/solve"
 )
 
@@ -137,6 +138,11 @@ func siKrylovRun(ctx context.Context, c *counted, u0 []float64, times []float64,
 	}
 	beta0 := norm2(u0)
 	tolAbs := opts.Tol * math.Max(beta0, math.SmallestNonzeroFloat64)
+	// The largest basis (mmax+1), three more, the complex solver's two
+	// (four reals) and the results, through the memory guard.
+	if err := memguard.Vectors(mmax+8+len(times), n, memguard.RealBytes, "shift-and-invert Krylov work vectors and results"); err != nil {
+		return err
+	}
 	u := append([]float64(nil), u0...)
 	V := make([][]float64, 0, mmax+1)
 	newVec := func(j int) []float64 {

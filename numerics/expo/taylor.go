@@ -3,6 +3,8 @@ package expo
 import (
 	"context"
 	"math"
+
+	"semiflow/numerics/memguard"
 )
 
 // taylorTheta[m] is θ_m for the truncated Taylor series T_m of degree m in
@@ -115,6 +117,10 @@ func taylorDegree(c *counted, tn *taylorNorms, h float64) (m, s int) {
 // after every step (Al-Mohy & Higham 2011, Algorithm 3.2).
 func taylorRun(ctx context.Context, c *counted, mu float64, tn *taylorNorms, u0 []float64, times []float64, tol float64, prog func(done, total int), vals [][]float64, errs []float64) error {
 	n := len(u0)
+	// Four work vectors and the results, through the memory guard.
+	if err := memguard.Vectors(4+len(times), n, memguard.RealBytes, "Taylor work vectors and results"); err != nil {
+		return err
+	}
 	type plan struct{ m, s int }
 	plans := make([]plan, len(times))
 	total := 0

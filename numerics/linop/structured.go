@@ -116,8 +116,11 @@ func (k *KronSum) ToCSR() (*CSR, error) {
 		return nil, err
 	}
 	// X ⊗ I and I ⊗ Y hold nnz(X)·ny and nx·nnz(Y) entries (value and
-	// column index each); their sum is built from both.
-	if err := memguard.Check(2*(x.NNZ()*ny+nx*y.NNZ()), 16, "sparse form of a Kronecker sum"); err != nil {
+	// column index each) and nx·ny+1 row pointers each; their sum is built
+	// from both. Formed in floating point: the order may be large.
+	n := float64(nx) * float64(ny)
+	entries := float64(x.NNZ())*float64(ny) + float64(nx)*float64(y.NNZ())
+	if err := memguard.Bytes(2*entries*16+3*(n+1)*8, fmt.Sprintf("sparse form of a Kronecker sum of order %d", nx*ny)); err != nil {
 		return nil, err
 	}
 	return AddCSR(1, Kron(x, Identity(ny)), 1, Kron(Identity(nx), y)), nil
@@ -177,6 +180,11 @@ func (s *Sum) apply(dst, x []float64, trans bool) {
 // ToCSR returns the sum in CSR form; it fails if a term has no sparse form.
 func (s *Sum) ToCSR() (*CSR, error) {
 	r, c := s.Dims()
+	// The row pointers of the accumulated sum and of the next term's sum
+	// with it, before any term is converted (each term asks for its own).
+	if err := memguard.Vectors(2, r+1, 8, fmt.Sprintf("row pointers of the sparse form of a sum of order %d", r)); err != nil {
+		return nil, err
+	}
 	acc := &CSR{Rows: r, Cols: c, RowPtr: make([]int, r+1)}
 	for _, t := range s.Terms {
 		m, err := ToCSR(t)

@@ -12,6 +12,7 @@ import (
 	"gonum.org/v1/gonum/mat"
 
 	"semiflow/numerics/linop"
+	"semiflow/numerics/memguard"
 	"semiflow/numerics/solve"
 )
 
@@ -81,6 +82,17 @@ func Rightmost(ctx context.Context, a linop.Operator, opt *EigsOptions) (*Spectr
 	nev := min(o.Count, n)
 	if nev >= m && m < n {
 		panic(ErrOption)
+	}
+	// Work vectors of order n, through the memory guard before any is
+	// made: the basis (m+1), the product, the restart's copy (≤ m), four
+	// for the residuals and the Ritz vectors (complex, ≤ nev+1) as found
+	// and as returned; four more for the complex solves of shift-invert.
+	work := 2*m + 6 + 4*(nev+1)
+	if o.ShiftInvert {
+		work += 4
+	}
+	if err := memguard.Vectors(work, n, memguard.RealBytes, "Krylov–Schur work vectors"); err != nil {
+		return nil, err
 	}
 	apply := a.Apply
 	better := func(x, y complex128) bool { return real(x) > real(y) }

@@ -7,6 +7,7 @@ import (
 
 	"semiflow/numerics/expo"
 	"semiflow/numerics/linop"
+	"semiflow/numerics/memguard"
 )
 
 // transposeOp is Aᵀ as an operator.
@@ -45,6 +46,12 @@ func GrowthEstimate(ctx context.Context, a linop.Operator, times []float64, iter
 	}
 	if tol <= 0 {
 		tol = 1e-8
+	}
+	// Work vectors of order n, through the memory guard first: the start,
+	// one Ritz vector per time and the Lanczos basis (the propagations ask
+	// for their own).
+	if err := memguard.Vectors(len(times)+iters+2, n, memguard.RealBytes, "growth-estimate work vectors"); err != nil {
+		return nil, err
 	}
 	v := make([]float64, n)
 	xorshiftFill(v, 521288629)

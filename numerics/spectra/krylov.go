@@ -8,6 +8,7 @@ import (
 	"gonum.org/v1/gonum/mat"
 
 	"semiflow/numerics/linop"
+	"semiflow/numerics/memguard"
 )
 
 // PseudoKrylov approximates the pseudospectra of a large operator A from
@@ -33,6 +34,10 @@ func PseudoKrylov(ctx context.Context, a linop.Operator, r Region, m int, opt *G
 	r.check()
 	o := opt.defaults()
 	m = min(m, n)
+	// The Arnoldi basis (m+1) and the product, through the memory guard.
+	if err := memguard.Vectors(m+2, n, memguard.RealBytes, "Arnoldi work vectors for the pseudospectra"); err != nil {
+		return nil, err
+	}
 	ks := &krylovSchur{n: n, m: m, apply: a.Apply}
 	if err := ks.arnoldi(ctx); err != nil {
 		return nil, err

@@ -9,6 +9,7 @@ import (
 	"gonum.org/v1/gonum/mat"
 
 	"semiflow/numerics/linop"
+	"semiflow/numerics/memguard"
 	"semiflow/numerics/solve"
 )
 
@@ -396,6 +397,12 @@ func (o funcOp) ApplyT(dst, x []float64) { o.f(dst, x) }
 // by Lanczos with full reorthogonalisation.
 func symTopLanczos(a linop.Operator, w Weight, maxIter int, tol float64) (float64, error) {
 	n, _ := a.Dims()
+	// Two temporaries and the basis, which grows by one vector a step:
+	// each step asks the memory guard first.
+	const what = "Lanczos work vectors for the numerical abscissa"
+	if err := memguard.Vectors(4, n, memguard.RealBytes, what); err != nil {
+		return 0, err
+	}
 	t1, t2 := make([]float64, n), make([]float64, n)
 	apply := func(dst, x []float64) {
 		// dst = (R A R⁻¹ x + R⁻ᵀ Aᵀ Rᵀ x)/2
@@ -427,6 +434,9 @@ func symTopLanczos(a linop.Operator, w Weight, maxIter int, tol float64) (float6
 	var alpha, beta []float64
 	theta := math.Inf(-1)
 	for j := 0; j < min(maxIter, n); j++ {
+		if err := memguard.Vectors(j+4, n, memguard.RealBytes, what); err != nil {
+			return 0, err
+		}
 		wv := make([]float64, n)
 		apply(wv, q[j])
 		alpha = append(alpha, floatsDot(q[j], wv))
