@@ -435,7 +435,11 @@ func MarkovReport(label string, m *spectra.MarkovReport) *Analysis {
 		rev = "yes (detailed balance π_i q_ij = π_j q_ji)"
 	}
 	gap := fnum(m.Gap)
-	if m.GapError > 0 && !math.IsInf(m.Gap, 0) {
+	switch {
+	case math.IsInf(m.Gap, 0):
+	case math.IsInf(m.GapError, 1):
+		gap += " (error not bounded: the eigenvalue setting it is defective or nearly so; see the pseudospectra of Q)"
+	case m.GapError > 0:
 		gap += " ± " + fnum2(m.GapError)
 	}
 	r.Facts = []Fact{

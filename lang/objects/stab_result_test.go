@@ -1,10 +1,12 @@
 package objects
 
 import (
+	"math"
 	"strings"
 	"testing"
 
 	"semiflow/lang/value"
+	"semiflow/numerics/spectra"
 )
 
 func testAnalysis(rows int) *Analysis {
@@ -53,5 +55,53 @@ func TestAnalysisIndex(t *testing.T) {
 	}
 	if v := r.Index(1).String(); v != "[1+0i, 1+1i]" {
 		t.Errorf("r[1] = %s", v)
+	}
+}
+
+// The generator report never shows a bare sign for a value within
+// rounding: ω(A) = 4.6e-19 against τ = 2.2e-14 (the practitioners' case)
+// reads "0 within rounding" and "yes, within rounding", and M = 1 is
+// marked exact (Lumer–Phillips).
+func TestGeneratorReportWithinRounding(t *testing.T) {
+	g := &spectra.GeneratorReport{N: 4, SpectralAbscissa: -0.5, NumericalAbscissa: 4.6e-19, Omega: 0,
+		Rounding: 2.2e-14, AbscissaRounding: 2.2e-14, AbscissaSign: -1, Dissipative: true, WithinRounding: true, M: 1,
+		Verdict: "v"}
+	r := GeneratorReport("A", "Euclidean inner product", g)
+	facts := map[string]string{}
+	for _, f := range r.Facts {
+		facts[f.Label] = f.Value
+	}
+	for label, want := range map[string]string{
+		"numerical abscissa ω(A)":      "0 within rounding (computed 4.6e-19, |ω(A)| ≤ 2.2e-14 = n·u·‖A‖)",
+		"dissipative (Lumer–Phillips)": "yes, within rounding: ω(A) − ω = 4.6e-19 ≤ 2.2e-14 = n·u·‖A‖",
+		"Hille–Yosida estimate of M":   "1 (exact: Lumer–Phillips)",
+		"spectral abscissa α(A)":       "-0.5",
+	} {
+		if !strings.HasPrefix(facts[label], want) {
+			t.Errorf("%s: %q, want it to start with %q", label, facts[label], want)
+		}
+	}
+}
+
+// Eigenvalues above spectra.IllCondLimit get a note pointing to the
+// pseudospectra; well-conditioned ones do not. A Markov gap whose error is
+// unbounded says so instead of "± +Inf".
+func TestReportsFlagDefective(t *testing.T) {
+	s := &spectra.Spectrum{Values: []complex128{-1, -1, -2}, Cond: []float64{math.Inf(1), 3e15, 2}}
+	r := SpectrumReport("J", 3, s, "all")
+	if len(r.Notes) != 1 || !strings.Contains(r.Notes[0], "k = 0, 1 have condition above 1/√u") || !strings.Contains(r.Notes[0], "pseudospectrum(A)") {
+		t.Errorf("notes %q", r.Notes)
+	}
+	s.Cond = []float64{1, 1, 1}
+	if r := SpectrumReport("D", 3, s, "all"); len(r.Notes) != 0 {
+		t.Errorf("well-conditioned spectrum flagged: %q", r.Notes)
+	}
+	m := MarkovReport("Q", &spectra.MarkovReport{Stationary: []float64{0.5, 0.5}, Gap: 2, GapError: math.Inf(1)})
+	if !strings.Contains(m.Facts[0].Value, "error not bounded") {
+		t.Errorf("gap fact %q", m.Facts[0].Value)
+	}
+	m = MarkovReport("Q", &spectra.MarkovReport{Stationary: []float64{0.5, 0.5}, Gap: 2, GapError: 4.4e-16})
+	if m.Facts[0].Value != "2 ± 4.4e-16" {
+		t.Errorf("gap fact %q", m.Facts[0].Value)
 	}
 }
