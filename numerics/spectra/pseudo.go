@@ -100,7 +100,7 @@ func (p *Pseudospectra) At(i, j int) float64 { return p.Sigma[i*len(p.Im)+j] }
 // region or options.
 func Pseudo(ctx context.Context, a linop.Operator, r Region, opt *GridOptions) (*Pseudospectra, error) {
 	r.check()
-	s, err := NewSchur(a)
+	s, err := NewSchurContext(ctx, a)
 	if err != nil {
 		return nil, err
 	}
@@ -120,6 +120,7 @@ func (s *Schur) Pseudo(ctx context.Context, r Region, opt *GridOptions) (*Pseudo
 	p := &Pseudospectra{Re: re, Im: im, Sigma: make([]float64, len(re)*len(im)), Eigenvalues: s.Eigenvalues()}
 	err := p.fill(ctx, &o, func() func(complex128, bool) sigmaResult {
 		ts := newTriSigma(s.T, s.N, o.Tol, o.MaxIter)
+		ts.done = ctx.Done()
 		return func(z complex128, warm bool) sigmaResult { return ts.eval(z, warm, false) }
 	})
 	if err != nil {
@@ -144,6 +145,9 @@ func (p *Pseudospectra) fill(ctx context.Context, o *GridOptions, newSigma func(
 		sigma := newSigma()
 		return func(i int) {
 			for j := range im {
+				if ctx.Err() != nil {
+					return
+				}
 				res := sigma(complex(re[i], im[j]), j > 0)
 				p.Sigma[i*len(im)+j] = res.sigma
 				maxIt[w] = max(maxIt[w], res.its)

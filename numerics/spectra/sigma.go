@@ -3,6 +3,7 @@ package spectra
 import (
 	"math"
 	"math/cmplx"
+	"sync/atomic"
 
 	"gonum.org/v1/gonum/mat"
 )
@@ -34,6 +35,12 @@ type triSigma struct {
 	// the start keeps a component along every singular vector even when
 	// the previous one is nearly orthogonal to the wanted one.
 	mix float64
+	// done, if not nil, stops the iteration early (unconverged) once it is
+	// closed: a cancelled context's Done channel.
+	done <-chan struct{}
+	// work, if not nil, is increased by n² for every Lanczos step (the
+	// unit of a workBudget).
+	work *atomic.Int64
 }
 
 func newTriSigma(t []complex128, n int, tol float64, maxIter int) *triSigma {
@@ -109,6 +116,9 @@ func (ts *triSigma) eval(z complex128, warm, wantVec bool) sigmaResult {
 	conv := false
 	j := 0
 	for ; j < maxIter; j++ {
+		if ts.done != nil && j > 0 && j%4 == 0 && isClosed(ts.done) {
+			break
+		}
 		qj := ts.q[j]
 		copy(ts.w, qj)
 		ts.st.applyInv(z, ts.w)
@@ -148,6 +158,9 @@ func (ts *triSigma) eval(z complex128, warm, wantVec bool) sigmaResult {
 	}
 	if j > maxIter {
 		j = maxIter
+	}
+	if ts.work != nil {
+		ts.work.Add(int64(max(j, 1)) * int64(n) * int64(n))
 	}
 	r := sigmaResult{sigma: 1 / math.Sqrt(theta), its: j, conv: conv}
 	if math.IsInf(theta, 1) || math.IsNaN(theta) {
@@ -344,4 +357,14 @@ func tridiagTop2(a, b []float64, second bool) (float64, float64, []float64) {
 		}
 	}
 	return theta, theta2, s
+}
+
+// isClosed reports whether the channel done is closed.
+func isClosed(done <-chan struct{}) bool {
+	select {
+	case <-done:
+		return true
+	default:
+		return false
+	}
 }

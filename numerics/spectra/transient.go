@@ -2,6 +2,7 @@ package spectra
 
 import (
 	"context"
+	"errors"
 	"fmt"
 	"math"
 	"runtime"
@@ -20,18 +21,23 @@ type shape struct {
 	omega      float64 // ω(A) = max Re W(A)
 	omegaLeft  float64 // min Re W(A) = −ω(−A)
 	eigs       []complex128
-	spreadImag float64   // max |Im z| over W(A) (bounds where σ_ε can be)
-	split      *splitTri // T split once, shared by the σ_min solvers
+	spreadImag float64     // max |Im z| over W(A) (bounds where σ_ε can be)
+	split      *splitTri   // T split once, shared by the σ_min solvers
+	budget     *workBudget // the work limit of the searches, nil for none
 }
 
 // solver returns an inverse-Lanczos σ_min solver for zI − T to relative
-// tolerance tol, sharing the split T; each goroutine needs its own.
-func (sh *shape) solver(tol float64) *triSigma {
+// tolerance tol, sharing the split T; each goroutine needs its own. Its
+// iterations stop early once ctx is cancelled.
+func (sh *shape) solver(ctx context.Context, tol float64) *triSigma {
 	var st *splitTri
 	if sh.split != nil {
 		st = sh.split.share()
 	}
-	return newTriSigmaOn(st, sh.s.T, sh.s.N, tol, 300)
+	ts := newTriSigmaOn(st, sh.s.T, sh.s.N, tol, 300)
+	ts.done = ctx.Done()
+	ts.work = sh.budget.counter()
+	return ts
 }
 
 // sigmaMin is σ_min(zI − T) from a cold start with the right and left
@@ -41,10 +47,28 @@ func (sh *shape) sigmaMin(ts *triSigma, z complex128) (float64, []complex128, []
 	return res.sigma, res.v, leftVector(sh.s.T, sh.s.N, z, res.v, res.sigma)
 }
 
-func newShape(m *mat.Dense) (*shape, error) {
-	s, err := schurOf(m)
-	if err != nil {
-		return nil, err
+// newShape computes the shape of A: its Schur form, both numerical
+// abscissae and the spread of W(A) in Im z. The dense factorisations cannot
+// be interrupted, so they run under abandonable: on cancellation newShape
+// returns ctx.Err() at once.
+func newShape(ctx context.Context, m *mat.Dense) (*shape, error) {
+	return newShapeWith(ctx, m, nil)
+}
+
+// newShapeWith is newShape reusing the Schur form s of m if s is not nil.
+func newShapeWith(ctx context.Context, m *mat.Dense, s *Schur) (*shape, error) {
+	n, _ := m.Dims()
+	return abandonable(ctx, denseBytes(n, 10), fmt.Sprintf("dense spectral analysis of order %d", n), func() (*shape, error) {
+		return shapeOf(m, s)
+	})
+}
+
+func shapeOf(m *mat.Dense, s *Schur) (*shape, error) {
+	if s == nil {
+		var err error
+		if s, err = schurOf(m); err != nil {
+			return nil, err
+		}
 	}
 	om, err := numAbscissa(m)
 	if err != nil {
@@ -92,15 +116,24 @@ func newShape(m *mat.Dense) (*shape, error) {
 // would skip it). Only after maxWalk steps may steps grow beyond eps/2
 // (to (x − lower)/maxWalk), which bounds the work. When a step longer
 // than the Lipschitz step lands where σ increases leftwards, the minimum
-// it passed is searched (golden section) for points of σ_ε.
-func (sh *shape) rightmostOnLine(ctx context.Context, y, eps float64) (float64, error) {
+// it passed is searched (golden section) for points of σ_ε. The walk stops
+// at floor (returning −Inf) when floor > min Re W(A) − eps: a caller that
+// only needs points right of floor saves the rest of the walk. It returns
+// ctx.Err() when cancelled and ErrBudget when sh.budget is used up.
+func (sh *shape) rightmostOnLine(ctx context.Context, y, eps, floor float64) (float64, error) {
 	x := sh.omega + eps
-	lower := sh.omegaLeft - eps
+	lower := math.Max(sh.omegaLeft-eps, floor)
+	if x < lower {
+		return math.Inf(-1), nil
+	}
 	tol := 1e-12 * (math.Abs(sh.omega) + math.Abs(sh.omegaLeft) + eps)
-	ts := sh.solver(1e-12)
+	ts := sh.solver(ctx, 1e-12)
 	for it := 0; it < 2*maxWalk; it++ {
 		if ctx.Err() != nil {
 			return 0, ctx.Err()
+		}
+		if sh.budget.exhausted() {
+			return 0, ErrBudget
 		}
 		sg, v, u := sh.sigmaMin(ts, complex(x, y))
 		gap := sg - eps
@@ -125,14 +158,22 @@ func (sh *shape) rightmostOnLine(ctx context.Context, y, eps float64) (float64, 
 		xn := x - step
 		sn, vn, un := sh.sigmaMin(ts, complex(xn, y))
 		if sn <= eps {
-			return sh.bisect(ts, y, eps, xn, x, tol), nil
+			return sh.bisect(ctx, ts, y, eps, xn, x, tol)
 		}
 		if step > gap && real(cdot(un, vn)) < 0 {
 			// σ increases leftwards at xn: a minimum lies in (xn, x), which
 			// the Newton step passed over; look for σ_ε there.
-			xm, fm := goldenMax(func(t float64) float64 { return -ts.eval(complex(t, y), false, false).sigma }, xn, x, 1e-10, 80)
+			xm, fm := goldenMax(func(t float64) float64 {
+				if ctx.Err() != nil {
+					return math.Inf(-1)
+				}
+				return -ts.eval(complex(t, y), false, false).sigma
+			}, xn, x, 1e-10, 80)
+			if err := ctx.Err(); err != nil {
+				return 0, err
+			}
 			if -fm <= eps {
-				return sh.bisect(ts, y, eps, xm, x, tol), nil
+				return sh.bisect(ctx, ts, y, eps, xm, x, tol)
 			}
 		}
 		x = xn
@@ -140,9 +181,13 @@ func (sh *shape) rightmostOnLine(ctx context.Context, y, eps float64) (float64, 
 	return 0, numErr("boundary search on Im z = %g did not converge", y)
 }
 
-// bisect finds the boundary crossing between lo (inside σ_ε) and hi (outside).
-func (sh *shape) bisect(ts *triSigma, y, eps, lo, hi, tol float64) float64 {
+// bisect finds the boundary crossing between lo (inside σ_ε) and hi
+// (outside); it returns ctx.Err() if ctx is cancelled first.
+func (sh *shape) bisect(ctx context.Context, ts *triSigma, y, eps, lo, hi, tol float64) (float64, error) {
 	for hi-lo > tol {
+		if err := ctx.Err(); err != nil {
+			return 0, err
+		}
 		mid := (lo + hi) / 2
 		if ts.eval(complex(mid, y), false, false).sigma <= eps {
 			lo = mid
@@ -150,7 +195,7 @@ func (sh *shape) bisect(ts *triSigma, y, eps, lo, hi, tol float64) float64 {
 			hi = mid
 		}
 	}
-	return lo
+	return lo, nil
 }
 
 // AbscissaResult is the ε-pseudospectral abscissa α_ε(A) = max Re σ_ε(A).
@@ -170,9 +215,14 @@ type AbscissaResult struct {
 // rightmostOnLine). The maximum over y is sought from the lines through
 // the 60 rightmost eigenvalues (each component of σ_ε contains one), the
 // real axis and 17 uniform lines over the numerical range's extent, then refined by golden-section
-// search between neighbouring lines. The result is a lower bound that is
+// search between neighbouring lines. The real axis and the line through the
+// rightmost eigenvalue are walked first; every other line only as far left
+// as the best point found on them (the walk near the boundary, where σ_min
+// is within a few ε, is the costly part, and lines whose σ_ε lies further
+// left need not reach it). The result is a lower bound that is
 // exact when the maximum is unimodal between neighbouring lines, which holds
-// for all but pathological sets; it never exceeds ω(A) + ε.
+// for all but pathological sets; it never exceeds ω(A) + ε. A cancelled
+// ctx returns ctx.Err() within one σ_min evaluation.
 func PseudoAbscissa(ctx context.Context, a linop.Operator, eps float64) (*AbscissaResult, error) {
 	if !(eps > 0) {
 		panic(ErrOption)
@@ -181,11 +231,64 @@ func PseudoAbscissa(ctx context.Context, a linop.Operator, eps float64) (*Abscis
 	if err != nil {
 		return nil, err
 	}
-	sh, err := newShape(m)
+	sh, err := newShape(ctx, m)
 	if err != nil {
 		return nil, err
 	}
 	return sh.pseudoAbscissa(ctx, eps)
+}
+
+// AbscissaOptions controls PseudoAbscissae. The zero value is usable.
+type AbscissaOptions struct {
+	// Budget, if positive, is the work budget (units of InteractiveWork)
+	// of each level on its own; a level that would need more is left out.
+	// 0 means no limit.
+	Budget float64
+	// Schur, if not nil, is the Schur form of the same A (from NewSchur),
+	// reused instead of computed again.
+	Schur *Schur
+}
+
+// PseudoAbscissae computes α_ε(A) at each level of eps as PseudoAbscissa
+// does, from one Schur form. A level that exceeds opt.Budget is nil in the
+// result, and the work spent on the levels left out is returned. It panics
+// with ErrOption if a level is not positive.
+func PseudoAbscissae(ctx context.Context, a linop.Operator, eps []float64, opt *AbscissaOptions) ([]*AbscissaResult, float64, error) {
+	var o AbscissaOptions
+	if opt != nil {
+		o = *opt
+	}
+	for _, e := range eps {
+		if !(e > 0) {
+			panic(ErrOption)
+		}
+	}
+	m, err := toDense(a)
+	if err != nil {
+		return nil, 0, err
+	}
+	if r, _ := m.Dims(); o.Schur != nil && o.Schur.N != r {
+		panic(ErrShape)
+	}
+	sh, err := newShapeWith(ctx, m, o.Schur)
+	if err != nil {
+		return nil, 0, err
+	}
+	out := make([]*AbscissaResult, len(eps))
+	skipped := 0.0
+	for k, e := range eps {
+		sh.budget = newBudget(o.Budget)
+		r, err := sh.pseudoAbscissa(ctx, e)
+		switch {
+		case errors.Is(err, ErrBudget):
+			skipped += sh.budget.spent()
+		case err != nil:
+			return nil, 0, err
+		default:
+			out[k] = r
+		}
+	}
+	return out, skipped, nil
 }
 
 func (sh *shape) pseudoAbscissa(ctx context.Context, eps float64) (*AbscissaResult, error) {
@@ -195,16 +298,40 @@ func (sh *shape) pseudoAbscissa(ctx context.Context, eps float64) (*AbscissaResu
 	}
 	sort.Float64s(ys)
 	ys = dedupe(ys, 1e-9*(sh.spreadImag+eps))
+	// First the real axis and the line through the rightmost eigenvalue
+	// (where α_ε usually is); then the other lines, each walked only as far
+	// as the best point so far (a line that does not reach it cannot hold
+	// the maximum). Both phases are deterministic.
+	first := []int{0}
+	if up := sh.lineStarts(); len(up) > 0 {
+		first = append(first, sort.SearchFloat64s(ys, up[0]))
+	}
 	xs := make([]float64, len(ys))
 	errs := make([]error, len(ys))
-	parallelFor(ctx, len(ys), func(k int) {
-		xs[k], errs[k] = sh.rightmostOnLine(ctx, ys[k], eps)
+	parallelFor(ctx, len(first), func(k int) {
+		xs[first[k]], errs[first[k]] = sh.rightmostOnLine(ctx, ys[first[k]], eps, math.Inf(-1))
 	})
+	if err := firstErr(ctx, errs); err != nil {
+		return nil, err
+	}
+	x0 := xs[first[0]]
+	for _, k := range first {
+		x0 = math.Max(x0, xs[k])
+	}
+	var rest []int
+	for k := range ys {
+		if k != first[0] && (len(first) == 1 || k != first[1]) {
+			rest = append(rest, k)
+		}
+	}
+	parallelFor(ctx, len(rest), func(k int) {
+		xs[rest[k]], errs[rest[k]] = sh.rightmostOnLine(ctx, ys[rest[k]], eps, x0)
+	})
+	if err := firstErr(ctx, errs); err != nil {
+		return nil, err
+	}
 	best := 0
 	for k := range ys {
-		if errs[k] != nil {
-			return nil, errs[k]
-		}
 		if xs[k] > xs[best] {
 			best = k
 		}
@@ -218,9 +345,23 @@ func (sh *shape) pseudoAbscissa(ctx context.Context, eps float64) (*AbscissaResu
 		hi = ys[best+1]
 	}
 	if hi > lo {
+		// Golden-section search assumes x(y) unimodal on [lo, hi], so
+		// x(y) ≥ min(x(lo), x(hi)) there: no walk needs to go further left.
+		// An end walked only to x0 is walked again in full.
+		for _, k := range []int{max(best-1, 0), min(best+1, len(ys)-1)} {
+			if math.IsInf(xs[k], -1) && !math.IsInf(x0, -1) {
+				if xs[k], errs[k] = sh.rightmostOnLine(ctx, ys[k], eps, math.Inf(-1)); errs[k] != nil {
+					return nil, errs[k]
+				}
+			}
+		}
+		floor := math.Min(xs[max(best-1, 0)], xs[min(best+1, len(ys)-1)])
 		var ferr error
 		f := func(y float64) float64 {
-			x, err := sh.rightmostOnLine(ctx, y, eps)
+			if ferr != nil {
+				return math.Inf(-1)
+			}
+			x, err := sh.rightmostOnLine(ctx, y, eps, floor)
 			if err != nil {
 				ferr = err
 			}
@@ -239,6 +380,19 @@ func (sh *shape) pseudoAbscissa(ctx context.Context, eps float64) (*AbscissaResu
 		Method:   fmt.Sprintf("rightmost σ_ε point on %d horizontal lines (through the eigenvalues and across W(A)), exact per line by a Lipschitz walk and bisection; golden-section refinement in Im z", len(ys)),
 		Accuracy: "per line to relative 1e-12; the maximum over lines is local (a lower bound of α_ε, typically exact to ~1e-8 in Im z)",
 	}, nil
+}
+
+// firstErr returns ctx.Err() or the first error in errs.
+func firstErr(ctx context.Context, errs []error) error {
+	if err := ctx.Err(); err != nil {
+		return err
+	}
+	for _, err := range errs {
+		if err != nil {
+			return err
+		}
+	}
+	return nil
 }
 
 // maxWalk is the number of walk steps per line kept no longer than eps/2
@@ -278,8 +432,9 @@ func dedupe(x []float64, tol float64) []float64 {
 // minOverLine returns min_y σ_min((x + iy)I − A) over y ≥ 0 (σ is
 // symmetric in y for real A), sampled at the eigenvalues' imaginary parts
 // and a uniform set over W(A), refined around the best three samples by
-// golden-section search.
-func (sh *shape) minOverLine(x float64) (float64, float64) {
+// golden-section search. It returns early, with a meaningless value, once
+// ctx is cancelled; the caller checks ctx.
+func (sh *shape) minOverLine(ctx context.Context, x float64) (float64, float64) {
 	ys := append([]float64{0}, sh.lineStarts()...)
 	for _, y := range linspace(0, sh.spreadImag, 25) {
 		ys = append(ys, y)
@@ -290,13 +445,21 @@ func (sh *shape) minOverLine(x float64) (float64, float64) {
 	// singular vector with a little of the fixed cold start mixed in.
 	// The scan only ranks the samples (to 5e-7): the best three are
 	// evaluated again to 5e-9 before they are compared or refined.
-	ts := sh.solver(1e-8)
+	ts := sh.solver(ctx, 1e-8)
 	ts.mix = 0.05
-	sigma := func(y float64) float64 { return ts.eval(complex(x, y), true, false).sigma }
-	scan := sh.solver(1e-6)
+	sigma := func(y float64) float64 {
+		if ctx.Err() != nil || sh.budget.exhausted() {
+			return math.Inf(1)
+		}
+		return ts.eval(complex(x, y), true, false).sigma
+	}
+	scan := sh.solver(ctx, 1e-6)
 	scan.mix = 0.05
 	vals := make([]float64, len(ys))
 	for k, y := range ys {
+		if ctx.Err() != nil || sh.budget.exhausted() {
+			return math.Inf(1), 0
+		}
 		vals[k] = scan.eval(complex(x, y), true, false).sigma
 	}
 	order := make([]int, len(ys))
@@ -354,11 +517,14 @@ func (sh *shape) kreiss(ctx context.Context) (*KreissResult, error) {
 	}
 	vals := make([]float64, len(xs))
 	parallelFor(ctx, len(xs), func(k int) {
-		s, _ := sh.minOverLine(xs[k])
+		s, _ := sh.minOverLine(ctx, xs[k])
 		vals[k] = xs[k] / s
 	})
 	if err := ctx.Err(); err != nil {
 		return nil, err
+	}
+	if sh.budget.exhausted() {
+		return nil, ErrBudget
 	}
 	best := 0
 	for k := range xs {
@@ -367,15 +533,27 @@ func (sh *shape) kreiss(ctx context.Context) (*KreissResult, error) {
 		}
 	}
 	a, b := math.Log(xs[max(best-1, 0)]), math.Log(xs[min(best+1, len(xs)-1)])
-	f := func(lx float64) float64 { x := math.Exp(lx); s, _ := sh.minOverLine(x); return x / s }
+	f := func(lx float64) float64 { x := math.Exp(lx); s, _ := sh.minOverLine(ctx, x); return x / s }
 	lx, v := goldenMax(f, a, b, 1e-6, 60) // flat at the maximum: relative error O(1e-12)
+	if err := ctx.Err(); err != nil {
+		return nil, err
+	}
+	if sh.budget.exhausted() {
+		return nil, ErrBudget
+	}
 	x := xs[best]
 	if v > vals[best] {
 		x = math.Exp(lx)
 	} else {
 		v = vals[best]
 	}
-	_, y := sh.minOverLine(x)
+	_, y := sh.minOverLine(ctx, x)
+	if err := ctx.Err(); err != nil {
+		return nil, err
+	}
+	if sh.budget.exhausted() {
+		return nil, ErrBudget
+	}
 	r.K, r.Z = v, complex(x, y)
 	return r, nil
 }
@@ -388,7 +566,7 @@ func Kreiss(ctx context.Context, a linop.Operator) (*KreissResult, error) {
 	if err != nil {
 		return nil, err
 	}
-	sh, err := newShape(m)
+	sh, err := newShape(ctx, m)
 	if err != nil {
 		return nil, err
 	}
@@ -401,6 +579,11 @@ type GrowthOptions struct {
 	Eps []float64
 	// NoKreiss skips the Kreiss constant (the most expensive bound).
 	NoKreiss bool
+	// Budget, if positive, is the work budget (in the units of
+	// InteractiveWork) of each bound on its own: the Kreiss constant and
+	// each α_ε. A bound that would need more is left out and named in
+	// Growth.Skipped; the others are still computed. 0 means no limit.
+	Budget float64
 	// Weight, if not nil, measures ‖e^{tA}‖ in the norm √(xᵀWx), W = RᵀR:
 	// ‖e^{tA}‖_W = ‖e^{tB}‖₂ with B = RAR⁻¹, and all bounds refer to B.
 	Weight Weight
@@ -430,9 +613,14 @@ type Growth struct {
 	// the asymptotic rate lim log‖e^{tA}‖/t.
 	InitialSlope, Abscissa float64
 	// Kreiss is K(A) (lower bound K ≤ sup ‖e^{tA}‖); Upper = e·N·K.
-	Kreiss      *KreissResult
-	Upper       float64
-	EpsBounds   []EpsBound
+	Kreiss    *KreissResult
+	Upper     float64
+	EpsBounds []EpsBound
+	// Skipped names the bounds left out because they exceeded
+	// GrowthOptions.Budget ("Kreiss constant", "α_ε for ε = 0.001").
+	Skipped []string
+	// SkippedWork is the work (units of InteractiveWork) spent on them.
+	SkippedWork float64
 	Method      string
 	Accuracy    string
 	ExpSquaring []int // scaling-and-squaring steps used at each time
@@ -463,7 +651,22 @@ func GrowthCurve(ctx context.Context, a linop.Operator, times []float64, opt *Gr
 	m := weighted(m0, o.Weight)
 	n, _ := m.Dims()
 	g := &Growth{T: append([]float64(nil), times...), Norm: make([]float64, len(times))}
+	// The exponential and the SVD cannot be interrupted: each time runs
+	// under abandonable, so a cancellation returns at once.
+	var normAtOnce func(t float64, wantVec bool) (float64, []float64, int, error)
 	normAt := func(t float64, wantVec bool) (float64, []float64, int, error) {
+		type res struct {
+			v  float64
+			u  []float64
+			sq int
+		}
+		r, err := abandonable(ctx, denseBytes(n, 8), fmt.Sprintf("‖e^{tA}‖ of order %d", n), func() (res, error) {
+			v, u, sq, err := normAtOnce(t, wantVec)
+			return res{v, u, sq}, err
+		})
+		return r.v, r.u, r.sq, err
+	}
+	normAtOnce = func(t float64, wantVec bool) (float64, []float64, int, error) {
 		var ta, e mat.Dense
 		ta.Scale(t, m)
 		info, err := expo.Exp(&e, &ta)
@@ -511,6 +714,9 @@ func GrowthCurve(ctx context.Context, a linop.Operator, times []float64, opt *Gr
 	if best > 0 && best+1 < len(times) {
 		f := func(t float64) float64 { v, _, _, _ := normAt(t, false); return v }
 		tp, vp := goldenMax(f, times[best-1], times[best+1], 1e-8, 60)
+		if err := ctx.Err(); err != nil {
+			return nil, err
+		}
 		if vp > g.Peak {
 			g.Peak, g.PeakTime = vp, tp
 		}
@@ -519,24 +725,43 @@ func GrowthCurve(ctx context.Context, a linop.Operator, times []float64, opt *Gr
 	if err != nil {
 		return nil, err
 	}
-	sh, err := newShape(m)
+	sh, err := newShape(ctx, m)
 	if err != nil {
 		return nil, err
 	}
 	g.InitialSlope = sh.omega
 	g.Abscissa = sh.s.abscissa()
-	if !o.NoKreiss {
-		if g.Kreiss, err = sh.kreiss(ctx); err != nil {
-			return nil, err
+	// Each bound under its own budget: one that runs out is named in
+	// Skipped and the others are still computed.
+	skip := func(what string, err error) error {
+		if !errors.Is(err, ErrBudget) {
+			return err
 		}
-		g.Upper = math.E * float64(n) * g.Kreiss.K
+		g.Skipped = append(g.Skipped, what)
+		g.SkippedWork += sh.budget.spent()
+		return nil
 	}
 	for _, eps := range o.Eps {
+		sh.budget = newBudget(o.Budget)
 		ar, err := sh.pseudoAbscissa(ctx, eps)
 		if err != nil {
-			return nil, err
+			if err := skip(fmt.Sprintf("α_ε for ε = %g", eps), err); err != nil {
+				return nil, err
+			}
+			continue
 		}
 		g.EpsBounds = append(g.EpsBounds, EpsBound{Eps: eps, Alpha: ar.Alpha, Bound: ar.Alpha / eps})
+	}
+	if !o.NoKreiss {
+		sh.budget = newBudget(o.Budget)
+		if g.Kreiss, err = sh.kreiss(ctx); err != nil {
+			g.Kreiss = nil
+			if err := skip("Kreiss constant", err); err != nil {
+				return nil, err
+			}
+		} else {
+			g.Upper = math.E * float64(n) * g.Kreiss.K
+		}
 	}
 	g.Method = "e^{tA} by scaling and squaring with Padé approximants (expo.Exp), ‖·‖₂ as the largest singular value (gonum SVD); peak refined by golden-section search; bounds: Kreiss constant K ≤ sup‖e^{tA}‖ ≤ e·N·K (Spijker, BIT 1991, N = dimension), α_ε/ε ≤ sup‖e^{tA}‖, initial slope ω(A)"
 	g.Accuracy = "‖e^{tA}‖₂ to a few units of u·‖e^{tA}‖·cond; the Kreiss constant is a local maximisation (lower estimate)"
