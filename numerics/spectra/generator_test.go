@@ -211,7 +211,7 @@ func TestGeneratorHilleYosidaNormalExact(t *testing.T) {
 				t.Errorf("n = %d: M_n = %.17g, want 1 (the limit λ → ∞)", h.Power, h.M)
 			}
 		}
-		if !strings.Contains(rep.Sampled, "decades beyond") || !strings.Contains(rep.Method, rep.Sampled) {
+		if !strings.Contains(rep.Sampled, "3 beyond up to") || !strings.Contains(rep.Method, rep.Sampled) {
 			t.Errorf("the sampled λ are not stated: %q", rep.Method)
 		}
 	}
@@ -561,4 +561,36 @@ func TestMarkovGraded500(t *testing.T) {
 		}
 		t.Logf("gap: symmetric route %.15g (error %.2g, bound %.2g); non-symmetric QR on Q %.15g (relative error %.2g)", -vals[n-2], math.Abs(-vals[n-2]-gap), tol, -top, math.Abs(-top-gap)/gap)
 	}
+}
+
+// A reversible chain that is not birth–death: the star with centre 0 and
+// m leaves, rates a (centre → each leaf) and b (leaf → centre). Its
+// eigenvalues are 0, −b (multiplicity m−1: vectors on the leaves summing
+// to 0) and −(ma + b) (the 2×2 block on centre and uniform leaves), so
+// the gap is b; a tree, hence reversible (Kolmogorov's criterion). With
+// a = 1e6, b = 1e-3 the chain is strongly graded (π_centre ≈ 1e-10); the
+// symmetric route must give the gap within its stated bound.
+func TestMarkovStarReversible(t *testing.T) {
+	m, a, b := 6, 1e6, 1e-3
+	q := mat.NewDense(m+1, m+1, nil)
+	for i := 1; i <= m; i++ {
+		q.Set(0, i, a)
+		q.Set(i, 0, b)
+		q.Set(i, i, -b)
+	}
+	q.Set(0, 0, -float64(m)*a)
+	rep, err := Markov(bg, denseOp{q})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if !rep.Reversible || rep.BirthDeath || math.Abs(rep.Gap-b) > rep.GapError || rep.GapError > 1e-6 {
+		t.Errorf("reversible %v birth–death %v gap %.17g ± %.2g, closed form %g", rep.Reversible, rep.BirthDeath, rep.Gap, rep.GapError, b)
+	}
+	if want := b / (b + float64(m)*a); relDiff(rep.Stationary[0], want) > 1e-12 {
+		t.Errorf("π_0 = %g, closed form %g", rep.Stationary[0], want)
+	}
+	if !strings.Contains(rep.Method, "symmetric QR algorithm") {
+		t.Errorf("method %q", rep.Method)
+	}
+	t.Logf("gap %.17g (error %.2g, bound %.2g)", rep.Gap, math.Abs(rep.Gap-b), rep.GapError)
 }
