@@ -341,7 +341,7 @@ func TestWrongSocketTypeNoLeak(t *testing.T) {
 
 // Unauthenticated peers cannot make the kernel's memory grow past the
 // budget: an endless message of empty frames, and 16 peers each sending
-// 8 MiB of a frame announced at 30 MiB (128 MiB in all), against a 16 MiB
+// 8 MiB of a frame announced at 15 MiB (128 MiB in all), against a 16 MiB
 // budget.
 func TestUnauthenticatedMemoryBounded(t *testing.T) {
 	const budget = 16 << 20
@@ -372,7 +372,7 @@ func TestUnauthenticatedMemoryBounded(t *testing.T) {
 		wg.Add(1)
 		go func() {
 			defer wg.Done()
-			p.Write(binary.BigEndian.AppendUint64([]byte{0x02}, 30<<20))
+			p.Write(binary.BigEndian.AppendUint64([]byte{0x02}, 15<<20))
 			p.Write(part)
 		}()
 	}
@@ -405,4 +405,20 @@ func TestUnauthenticatedMemoryBounded(t *testing.T) {
 		t.Errorf("heap grew by %d MiB under attack (budget %d MiB)", grow>>20, budget>>20)
 	}
 	t.Logf("peak buffered %d KiB; heap %d → %d MiB; %+v", st.BufferedPeak>>10, before.HeapAlloc>>20, after.HeapAlloc>>20, st.Transport)
+}
+
+// zmq4 writes a line for every connection it refuses; the kernel passes at
+// most a burst of them per window, then one line with the number left out.
+func TestLimitedWriter(t *testing.T) {
+	var lg countingLog
+	w := newLimitedWriter(&lg, 5, 100*time.Millisecond)
+	for i := range 100 {
+		fmt.Fprintf(w, "refused %d\n", i)
+	}
+	time.Sleep(250 * time.Millisecond)
+	lg.mu.Lock()
+	defer lg.mu.Unlock()
+	if lg.lines != 6 {
+		t.Errorf("%d lines for 100 writes with a burst of 5 (want 5 and a summary)", lg.lines)
+	}
 }

@@ -219,3 +219,27 @@ func TestNewID(t *testing.T) {
 		t.Errorf("ids %s %s", a, b)
 	}
 }
+
+// Check verifies frames signed by jupyter_client (wire_ref.json, made by
+// make_wire_ref.py) without parsing them, and names what is wrong otherwise.
+func TestCheckJupyterClientFrames(t *testing.T) {
+	r, frames := loadRef(t)
+	s := NewSigner(r.Key)
+	if d, err := s.Check(frames); err != nil || d != 1 {
+		t.Fatalf("Check = %d, %v; want delimiter at 1", d, err)
+	}
+	tampered := append([][]byte{}, frames...)
+	tampered[6] = []byte(`{"code":"2 + 2"}`)
+	if _, err := s.Check(tampered); !errors.Is(err, ErrSignature) {
+		t.Errorf("changed content: %v", err)
+	}
+	if _, err := s.Check(frames[:5]); !errors.Is(err, ErrShort) {
+		t.Errorf("four frames after the delimiter: %v", err)
+	}
+	if _, err := s.Check(frames[2:]); !errors.Is(err, ErrNoDelimiter) {
+		t.Errorf("no delimiter: %v", err)
+	}
+	if _, err := NewSigner(r.Key + "x").Check(frames); !errors.Is(err, ErrSignature) {
+		t.Errorf("wrong key: %v", err)
+	}
+}

@@ -2,6 +2,7 @@ package zguard
 
 import (
 	"fmt"
+	"runtime"
 	"sync"
 	"sync/atomic"
 	"time"
@@ -15,6 +16,13 @@ import (
 // is disconnected and its bytes returned, unless that peer is the one
 // asking, which is then disconnected itself: a small message from a
 // well-behaved client always displaces a large one from a flood.
+//
+// Bytes returned become garbage (a refused message, a disconnected peer,
+// the smaller buffer a frame grew out of). The collector would let them
+// pile up to about the size of the live heap before running, which under
+// a flood that keeps the budget full doubles the resident size; so once
+// half a budget of garbage has built up, a Budget starts a collection
+// itself (one at a time).
 type Budget struct {
 	limit int64
 
@@ -23,11 +31,14 @@ type Budget struct {
 	peak    int64
 	holders map[*conn]int64
 
-	evictions atomic.Int64
+	evictions  atomic.Int64
+	garbage    atomic.Int64 // bytes returned since the last collection began
+	collecting atomic.Bool
+	collects   atomic.Int64
 }
 
-// DefaultBudget is the budget of a Transport given none: 96 MiB.
-const DefaultBudget = 96 << 20
+// DefaultBudget is the budget of a Transport given none: 32 MiB.
+const DefaultBudget = 32 << 20
 
 // NewBudget returns a budget of limit bytes (DefaultBudget if limit ≤ 0).
 func NewBudget(limit int64) *Budget {
@@ -77,6 +88,7 @@ func (b *Budget) grant(g *conn, n int64) bool {
 		}
 		delete(b.holders, big)
 		b.used -= bigN
+		b.discard(bigN)
 		big.evicted.Store(true)
 		victims = append(victims, big)
 	}
@@ -110,6 +122,7 @@ func (b *Budget) give(g *conn, n int64) {
 	if n < 0 || n > h {
 		n = h
 	}
+	b.discard(n)
 	b.used -= n
 	if h == n {
 		delete(b.holders, g)
@@ -117,6 +130,23 @@ func (b *Budget) give(g *conn, n int64) {
 		b.holders[g] = h - n
 	}
 }
+
+// discard counts n bytes of garbage and starts a collection when half a
+// budget has built up.
+func (b *Budget) discard(n int64) {
+	if b.garbage.Add(n) < b.limit/2 || !b.collecting.CompareAndSwap(false, true) {
+		return
+	}
+	go func() {
+		b.garbage.Store(0)
+		runtime.GC()
+		b.collects.Add(1)
+		b.collecting.Store(false)
+	}()
+}
+
+// Collections returns how many collections the budget has started.
+func (b *Budget) Collections() int64 { return b.collects.Load() }
 
 // rateLog passes at most burst lines per window to logf and counts the
 // rest; at the end of a window in which lines were suppressed it writes one

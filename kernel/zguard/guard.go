@@ -57,7 +57,7 @@ type Limits struct {
 	// 64: a Jupyter message has six plus routing identities and buffers).
 	MaxFrames int
 	// MaxMessage is the most bytes, all frames together, of one incoming
-	// message (default 32 MiB).
+	// message (default 16 MiB).
 	MaxMessage uint64
 	// Budget is shared by every connection of the Transports given it:
 	// the bytes of incoming messages not yet accepted by Check. Nil gives
@@ -76,7 +76,7 @@ type Limits struct {
 // Default limits.
 const (
 	DefaultMaxFrames  = 64
-	DefaultMaxMessage = 32 << 20
+	DefaultMaxMessage = 16 << 20
 )
 
 // Stats counts what a Transport has refused or dropped.

@@ -329,7 +329,7 @@ func TestStalledSubscriberBounded(t *testing.T) {
 
 func TestDefaultLimits(t *testing.T) {
 	tr := New("tcp", Limits{}, nil)
-	if tr.lim.MaxMessage != 32<<20 || tr.lim.MaxFrames != 64 || tr.lim.Budget.Limit() != 96<<20 || tr.lim.Handshake != 5*time.Second || tr.lim.MaxQueue != 64<<20 {
+	if tr.lim.MaxMessage != 16<<20 || tr.lim.MaxFrames != 64 || tr.lim.Budget.Limit() != 32<<20 || tr.lim.Handshake != 5*time.Second || tr.lim.MaxQueue != 64<<20 {
 		t.Errorf("defaults = %+v", tr.lim)
 	}
 }
