@@ -497,3 +497,36 @@ func TestNumRangeContextCancel(t *testing.T) {
 		t.Errorf("cancelled during the sweep: %v, %v", nr != nil, err)
 	}
 }
+
+// The rounding thresholds by their definition: RoundingThreshold is
+// n·u·‖RAR⁻¹‖_F. For A = [−1 4; 0 −2] and W = diag(1, 4) (R = diag(1, 2))
+// RAR⁻¹ = [−1 2; 0 −2], ‖·‖_F = 3, so τ = 2·2⁻⁵³·3. A symmetric matrix has
+// every eigenvalue condition 1 (Wilkinson 1965, §2.8), so the α allowance
+// is τ itself; [−1 4; 0 −2] has eigenvalue condition √(1 + 16) for the
+// rightmost −1 (left vector (1, 4)/√17 against right e₁: |yᵀx| = 1/√17).
+func TestRoundingThresholds(t *testing.T) {
+	a := op([][]float64{{-1, 4}, {0, -2}})
+	tau, err := RoundingThreshold(a, diagW{[]float64{1, 2}}) // the factor R
+	if err != nil {
+		t.Fatal(err)
+	}
+	if want := 2 * 0x1p-53 * 3.0; relDiff(tau, want) > 1e-15 {
+		t.Errorf("τ = %g, want %g", tau, want)
+	}
+	sp, err := DenseSpectrum(a)
+	if err != nil {
+		t.Fatal(err)
+	}
+	fn := math.Sqrt(1 + 16 + 4)
+	tol, ill := sp.AbscissaError()
+	if want := 2 * 0x1p-53 * fn * math.Sqrt(17); ill || relDiff(tol, want) > 1e-12 || relDiff(sp.Rounding, 2*0x1p-53*fn) > 1e-15 {
+		t.Errorf("α allowance %g (ill %v), want %g; rounding %g", tol, ill, want, sp.Rounding)
+	}
+	sym, err := DenseSpectrum(op([][]float64{{-1, 0}, {0, -2}}))
+	if err != nil {
+		t.Fatal(err)
+	}
+	if tol, _ := sym.AbscissaError(); relDiff(tol, 2*0x1p-53*math.Sqrt(5)) > 1e-12 {
+		t.Errorf("symmetric: α allowance %g, want τ = %g", tol, 2*0x1p-53*math.Sqrt(5))
+	}
+}
