@@ -1,7 +1,6 @@
 package builtin
 
 import (
-	"fmt"
 	"math"
 	"strings"
 	"sync"
@@ -51,11 +50,15 @@ var propagateFamily = []*Builtin{
 			opt("forcing", value.None, "a source f(t) in u' = Au + f(t): a vector, a number, or a function of t returning a vector or number"),
 			opt("nonlinear", value.None, "a term N(u) (or N(u, t)) in u' = Au + N(u): a function of the vector u returning a vector"),
 			opt("crosscheck", value.Bool(false), "true to recompute with a second, independent method and report the difference"),
-			opt("steps", value.Num(0), "ETDRK4 steps over [0, max t] with a nonlinear term (0: 100); the smallest n of (I − tA/n)^(−n) for resolvent-powers; the quadrature nodes for contour"),
+			opt("steps", value.Num(0), "with a nonlinear term, a fixed number of ETDRK4 steps over [0, max t] (0: steps chosen by the error estimate to meet tol); the smallest n of (I − tA/n)^(−n) for resolvent-powers; the quadrature nodes for contour"),
+			opt("switches", value.None, "times where the forcing or the nonlinear term jumps (a source switched on or off): a number or a vector; the integration restarts there and samples each side from within"),
 		},
 		Doc: "The solution u(t) = e^{tA}u0 of u' = Au, u(0) = u0, at each output time, with an error estimate per time. " +
 			"With forcing: u(t) = e^{tA}u0 + ∫₀ᵗ e^{(t−s)A} f(s) ds (exact for constant f through the augmented matrix; a function f is interpolated piecewise and the interpolation error is added to the estimate). " +
-			"With a nonlinear term: u' = Au + N(u) by the exponential integrator ETDRK4 (Cox & Matthews, J. Comput. Phys. 2002; Kassam & Trefethen, SIAM J. Sci. Comput. 2005) with a step-doubling error estimate. " +
+			"A forcing function is assumed smooth between the switches given: a jump elsewhere is found where f is sampled (the interpolation error stops falling as the piece shrinks), resolved by shrinking pieces, and reported with the advice to give its time in switches. " +
+			"With a nonlinear term: u' = Au + N(u) by the exponential integrator ETDRK4 (Cox & Matthews, J. Comput. Phys. 2002; Kassam & Trefethen, SIAM J. Sci. Comput. 2005) with steps chosen by step doubling to meet tol (or steps fixed); the result reports the accepted and rejected steps. " +
+			"The tolerance is relative to ‖u0‖∞ for u' = Au, and to the largest ‖u‖∞ met when there is forcing or a nonlinear term (u may grow from a small or zero u0). " +
+			"crosscheck=true always runs a second, independent method: another exponential method for u' = Au and polynomial forcing, and the implicit–explicit Runge–Kutta scheme ARS(4,4,3) (Ascher, Ruuth & Spiteri, Appl. Numer. Math. 1997; A implicit, the rest explicit, its own step control) for a forcing function or a nonlinear term; when none can be run the result says why. " +
 			"Methods: dense (scaling and squaring), taylor (Al-Mohy & Higham, SIAM J. Sci. Comput. 2011), krylov (Arnoldi/Lanczos, Saad's estimate), contour (Talbot-type contours for sectorial A, one shifted solve per node), resolvent-powers ((I − tA/n)^(−n) with Richardson extrapolation), kronecker (e^{tX} ⊗ e^{tY} for X ⊕ Y); auto chooses and says why. " +
 			"The result is a solution: sol[k] is u at the k-th time, times(sol) and errest(sol) the times and estimates.",
 		Examples: []Example{
@@ -295,6 +298,22 @@ func propagateImpl(c *eval.Call) (value.Value, error) {
 	if steps < 0 {
 		return nil, value.ValueErrorf("propagate: steps must be ≥ 0, not %d", steps)
 	}
+	switches, haveSwitches, err := stabRealsArg(c, 9)
+	if err != nil {
+		return nil, err
+	}
+	for k, s := range switches {
+		if s < 0 {
+			return nil, value.ValueErrorf("propagate: switches must be times ≥ 0; switches[%d] = %s", k, value.FormatNum(s))
+		}
+	}
+	if haveSwitches {
+		_, fn := c.Args[5].(value.Callable)
+		_, nl := c.Args[6].(value.Callable)
+		if !fn && !nl {
+			return nil, value.ValueErrorf("propagate: switches applies to a forcing function of t or a nonlinear term; without them nothing jumps")
+		}
+	}
 	if _, ok := a.Op.(*linop.KronSum); method == expo.MethodKronecker && !ok {
 		return nil, value.ValueErrorf("propagate: method \"kronecker\" needs a Kronecker sum X ⊕ Y (the laplacian of a tensor grid, or kronsum(A, B)); this operator is %s", a.Structure())
 	}
@@ -329,7 +348,7 @@ func propagateImpl(c *eval.Call) (value.Value, error) {
 		if _, err := callForcing(c, f, n, 0); err != nil {
 			return nil, err
 		}
-		forcing = &expo.Forcing{Func: func(t float64, dst []float64) {
+		forcing = &expo.Forcing{Breaks: switches, Func: func(t float64, dst []float64) {
 			if callErr != nil {
 				return
 			}
@@ -389,13 +408,6 @@ func propagateImpl(c *eval.Call) (value.Value, error) {
 		if _, err := callVector(c, "nonlinear", nl, n, nlArgs(0, u0)...); err != nil {
 			return nil, err
 		}
-		if steps == 0 {
-			steps = 100
-		}
-		h := tmax / float64(steps)
-		if h == 0 {
-			h = 1
-		}
 		N := func(t float64, u, dst []float64) {
 			if callErr != nil {
 				for i := range dst {
@@ -426,15 +438,8 @@ func propagateImpl(c *eval.Call) (value.Value, error) {
 				}
 			}
 		}
-		opts.Crosscheck = false
-		sol, err = expo.ETDRK4(c.Ctx, a.Op, N, u0, times, h, opts)
+		sol, _, err = expo.ETDRK4(c.Ctx, a.Op, N, u0, times, expo.StepControl{Steps: steps, Breaks: switches}, opts)
 		problem = "u' = A u + N(u)" + forceDesc
-		if err == nil {
-			sol.Reason = fmt.Sprintf("nonlinear term: ETDRK4 with %d steps over [0, %s], error estimated by step doubling", steps, value.FormatNum(tmax))
-			if cross {
-				sol.Reason += "; no cross-check for nonlinear problems"
-			}
-		}
 	default:
 		return nil, value.TypeErrorf("propagate: nonlinear must be none or a function N(u), not %s", value.TypeName(nl))
 	}

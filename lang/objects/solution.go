@@ -93,7 +93,9 @@ func (s *Solution) summary() *textTable {
 	t.add("matrix–vector products", fmt.Sprint(S.MatVecs))
 	t.add("shifted solves", fmt.Sprintf("%d (%d factorisations)", S.Solves, S.Factors))
 	t.add("time taken", S.Elapsed.Round(time.Microsecond).String())
-	if c := S.Cross; c != nil {
+	if c := S.Cross; c != nil && c.Skipped != "" {
+		t.add("cross-check", "not run: "+c.Skipped)
+	} else if c != nil {
 		t.add("cross-check", fmt.Sprintf("%s: largest difference %s (its estimate %s, %s)", c.Method, g3(c.MaxDiff), g3(c.ErrEst), c.Elapsed.Round(time.Microsecond)))
 	} else {
 		t.add("cross-check", "not asked (crosscheck=true runs a second method)")
@@ -122,7 +124,9 @@ func (s *Solution) Record() map[string]any {
 	if m := s.shortfall(); m != "" {
 		r["shortfall"] = m
 	}
-	if c := S.Cross; c != nil {
+	if c := S.Cross; c != nil && c.Skipped != "" {
+		r["crosscheck"] = map[string]any{"method": c.Method, "skipped": c.Skipped}
+	} else if c != nil {
 		r["crosscheck"] = map[string]any{"method": c.Method, "maxdiff": finiteOrNil(c.MaxDiff), "errest": finiteOrNil(c.ErrEst)}
 	}
 	return r

@@ -148,97 +148,113 @@ func (c *etdCoeffs) step(N Nonlinear, t, h float64, u []float64, tmp *etdWork) {
 
 type etdWork struct{ v [9][]float64 }
 
+// etdStepper is ETDRK4 as a oneStepper, with its coefficients cached per
+// step length (at most etdCacheBytes of them for a dense L).
+type etdStepper struct {
+	L     linop.Operator
+	N     Nonlinear
+	cache map[float64]*etdCoeffs
+	keys  []float64
+	limit int
+	wk    etdWork
+}
+
+// etdCacheBytes bounds the memory of cached dense coefficient sets.
+const etdCacheBytes = 256 << 20
+
+func newETDStepper(L linop.Operator, N Nonlinear) *etdStepper {
+	n, _ := L.Dims()
+	s := &etdStepper{L: L, N: N, cache: map[float64]*etdCoeffs{}, limit: 64}
+	if _, ok := L.(*linop.Diag); !ok {
+		s.limit = max(3, etdCacheBytes/(6*8*n*n+1))
+	}
+	for i := range s.wk.v {
+		s.wk.v[i] = make([]float64, n)
+	}
+	return s
+}
+
+func (s *etdStepper) order() int   { return 4 }
+func (s *etdStepper) name() string { return "ETDRK4" }
+
+func (s *etdStepper) coeffs(h float64) (*etdCoeffs, error) {
+	if c, ok := s.cache[h]; ok {
+		return c, nil
+	}
+	c, err := newETDCoeffs(s.L, h)
+	if err != nil {
+		return nil, err
+	}
+	if len(s.keys) >= s.limit {
+		delete(s.cache, s.keys[0])
+		s.keys = s.keys[1:]
+	}
+	s.cache[h] = c
+	s.keys = append(s.keys, h)
+	return c, nil
+}
+
+func (s *etdStepper) step(t, h float64, u []float64, seg segment) error {
+	c, err := s.coeffs(h)
+	if err != nil {
+		return err
+	}
+	N := s.N
+	if seg.loBreak || seg.hiBreak {
+		N = func(t float64, u, dst []float64) { s.N(seg.clamp(t), u, dst) }
+	}
+	c.step(N, t, h, u, &s.wk)
+	return nil
+}
+
 // ETDRK4 integrates the semilinear problem u' = Lu + N(t, u), u(0) = u0,
 // with the fourth-order exponential time-differencing Runge–Kutta scheme of
 // Cox & Matthews (J. Comput. Phys. 2002) in the stable form of Kassam &
-// Trefethen (SIAM J. Sci. Comput. 2005), with steps no longer than h,
-// adjusted to land on each output time. The error estimate is by step
-// doubling: the reported values use steps h/2 and the estimate is
-// ‖u_h − u_{h/2}‖_∞, the error of the coarse solution. For a fourth-order
-// scheme in its asymptotic regime that is 15 times the error of the
-// reported values; the margin covers stiff steps (|hλ| ≫ 1) where the
-// asymptotic ratio does not yet hold.
+// Trefethen (SIAM J. Sci. Comput. 2005). Steps are chosen by integrate's
+// step-doubling control (see there) to meet opts.Tol relative to the
+// largest ‖u‖∞ met, or fixed by ctl.Steps; they restart at every output
+// time and at ctl.Breaks. The reported values are those of the half steps;
+// the estimate is the coarse–fine difference, about 15 times their error
+// in the asymptotic regime. Solution.TolMet says whether the estimate met
+// the tolerance; the second result gives the accepted and rejected steps.
+// With opts.Crosscheck, the problem is solved again by an implicit–explicit
+// Runge–Kutta method (see crossSemilinear).
 //
 // L may be a *linop.Diag (any order) or an operator of order ≤ 1500. It
-// panics with ErrShape on mismatched sizes and returns an error for h ≤ 0,
-// a negative time, non-finite values, or when ctx is cancelled.
-func ETDRK4(ctx context.Context, L linop.Operator, N Nonlinear, u0 []float64, times []float64, h float64, opts Options) (*Solution, error) {
+// panics with ErrShape on mismatched sizes and returns an error for a
+// negative time, non-finite values, a step-size collapse, or when ctx is
+// cancelled.
+func ETDRK4(ctx context.Context, L linop.Operator, N Nonlinear, u0 []float64, times []float64, ctl StepControl, opts Options) (*Solution, StepStats, error) {
 	n, c := L.Dims()
 	if n != c || len(u0) != n {
 		panic(ErrShape)
 	}
-	if !(h > 0) {
-		return nil, fmt.Errorf("expo: ETDRK4 step %v must be positive", h)
-	}
-	for _, t := range times {
-		if t < 0 || math.IsNaN(t) || math.IsInf(t, 0) {
-			return nil, fmt.Errorf("expo: output time %v: times must be finite and nonnegative", t)
-		}
+	if opts.Tol <= 0 {
+		opts.Tol = 1e-10
 	}
 	start := time.Now()
-	order := sortedOrder(times)
-	cache := map[float64]*etdCoeffs{}
-	coeffs := func(h float64) (*etdCoeffs, error) {
-		if c, ok := cache[h]; ok {
-			return c, nil
-		}
-		c, err := newETDCoeffs(L, h)
-		if err == nil {
-			cache[h] = c
-		}
-		return c, err
+	if _, ok := L.(*linop.Diag); !ok && n > maxETDDense {
+		return nil, StepStats{}, fmt.Errorf("expo: ETDRK4 with a non-diagonal operator of order %d needs dense φ-functions (limit %d)", n, maxETDDense)
 	}
-	var wk etdWork
-	for i := range wk.v {
-		wk.v[i] = make([]float64, n)
+	r, err := integrate(ctx, newETDStepper(L, N), u0, times, opts.Tol, ctl, opts.Progress)
+	if err != nil {
+		return nil, StepStats{}, err
 	}
-	coarse := append([]float64(nil), u0...)
-	fine := append([]float64(nil), u0...)
 	sol := &Solution{Method: "etdrk4", Tol: opts.Tol, Times: append([]float64(nil), times...),
-		Values: make([][]float64, len(times)), ErrEst: make([]float64, len(times)),
-		Reason: "semilinear problem: ETDRK4 with step doubling"}
-	prev := 0.0
-	totalSteps := 0
-	for _, k := range order {
-		totalSteps += int(math.Ceil((times[k]-prev)/h)) * 3
-		prev = times[k]
+		Values: r.vals, ErrEst: r.errs}
+	if ctl.Steps > 0 {
+		sol.Reason = fmt.Sprintf("semilinear problem: ETDRK4 with %d fixed steps (%d taken), error estimated by step doubling", ctl.Steps, r.stats.Accepted)
+	} else {
+		sol.Reason = fmt.Sprintf("semilinear problem: ETDRK4 with steps chosen by step doubling, %d accepted and %d rejected (step %.3g to %.3g)",
+			r.stats.Accepted, r.stats.Rejected, r.stats.HMin, r.stats.HMax)
 	}
-	done := 0
-	prev = 0
-	for _, k := range order {
-		t := times[k]
-		if t > prev {
-			steps := int(math.Ceil((t - prev) / h * (1 - 1e-12)))
-			hh := (t - prev) / float64(steps)
-			cc, err := coeffs(hh)
-			if err != nil {
-				return nil, err
-			}
-			cf, err := coeffs(hh / 2)
-			if err != nil {
-				return nil, err
-			}
-			for s := 0; s < steps; s++ {
-				if err := ctx.Err(); err != nil {
-					return nil, err
-				}
-				ts := prev + float64(s)*hh
-				cc.step(N, ts, hh, coarse, &wk)
-				cf.step(N, ts, hh/2, fine, &wk)
-				cf.step(N, ts+hh/2, hh/2, fine, &wk)
-				done += 3
-				if opts.Progress != nil {
-					opts.Progress(done, totalSteps)
-				}
-			}
-			if v := normInf(fine); math.IsNaN(v) || math.IsInf(v, 0) {
-				return nil, errorf("ETDRK4 solution is not finite at t = %g", t)
-			}
-		}
-		prev = t
-		sol.Values[k] = append([]float64(nil), fine...)
-		sol.ErrEst[k] = maxAbsDiff(coarse, fine)
+	if msg := roughNote(r.stats.Rough); msg != "" {
+		sol.Reason += "; " + msg
 	}
 	sol.Elapsed = time.Since(start)
-	return sol, nil
+	sol.checkTolMaxU(r.stats.Scale)
+	if opts.Crosscheck {
+		crossSemilinear(ctx, sol, L, N, u0, times, ctl, opts)
+	}
+	return sol, r.stats, nil
 }

@@ -4,7 +4,6 @@ import (
 	"context"
 	"fmt"
 	"math"
-	"time"
 
 	"gonum.org/v1/gonum/mat"
 
@@ -21,9 +20,14 @@ type Forcing struct {
 	// Func is a general forcing; it sets dst = f(t).
 	Func func(t float64, dst []float64)
 	// Degree is the interpolation degree used for Func on each piece
-	// (default 6); Pieces is the number of pieces per output interval
-	// (default 4).
+	// (default 6); Pieces is the number of pieces each stretch between
+	// stopping times starts with (default 4); pieces are halved until the
+	// interpolation error fits the tolerance.
 	Degree, Pieces int
+	// Breaks are times where Func may jump (a source switched on or off).
+	// No piece straddles one, and Func is sampled only inside pieces, so
+	// each side of a jump is interpolated from its own values.
+	Breaks []float64
 }
 
 // augmented is the operator [A, W; 0, J] of order n+p acting on [u; y],
@@ -137,9 +141,12 @@ func PropagateForced(ctx context.Context, A linop.Operator, u0 []float64, f Forc
 		if err != nil {
 			return nil, err
 		}
+		scale := normInf(u0)
 		for i := range s.Values {
 			s.Values[i] = s.Values[i][:n]
+			scale = math.Max(scale, normInf(s.Values[i]))
 		}
+		s.checkTolMaxU(scale)
 		s.Reason = fmt.Sprintf("polynomial forcing of degree %d, exact through the augmented operator of order %d; %s", len(poly)-1, n+len(poly), s.Reason)
 		if s.Cross != nil {
 			s.Cross.Method += " (augmented)"
@@ -152,125 +159,7 @@ func PropagateForced(ctx context.Context, A linop.Operator, u0 []float64, f Forc
 	return forcedFunc(ctx, A, u0, f, times, opts)
 }
 
-// forcedFunc handles a general forcing by piecewise polynomial interpolation.
-func forcedFunc(ctx context.Context, A linop.Operator, u0 []float64, f Forcing, times []float64, opts Options) (*Solution, error) {
-	start := time.Now()
-	n := len(u0)
-	q := f.Degree
-	if q <= 0 {
-		q = 6
-	}
-	pieces := f.Pieces
-	if pieces <= 0 {
-		pieces = 4
-	}
-	for _, t := range times {
-		if t < 0 || math.IsNaN(t) || math.IsInf(t, 0) {
-			return nil, fmt.Errorf("expo: output time %v: times must be finite and nonnegative", t)
-		}
-	}
-	order := sortedOrder(times)
-	out := &Solution{Times: append([]float64(nil), times...), Values: make([][]float64, len(times)), ErrEst: make([]float64, len(times)), Tol: opts.Tol}
-	u := append([]float64(nil), u0...)
-	errAcc := 0.0
-	prev := 0.0
-	// Chebyshev points of the second kind on [0, 1] and the Vandermonde
-	// matrix in s = τ/H, factored once.
-	nodes := make([]float64, q+1)
-	for i := range nodes {
-		nodes[i] = (1 - math.Cos(math.Pi*float64(i)/float64(q))) / 2
-	}
-	V := mat.NewDense(q+1, q+1, nil)
-	for i, s := range nodes {
-		p := 1.0
-		for j := 0; j <= q; j++ {
-			V.Set(i, j, p)
-			p *= s
-		}
-	}
-	var lu mat.LU
-	lu.Factorize(V)
-	fv := make([]float64, n)
-	o := opts
-	o.Crosscheck = false
-	o.Progress = nil
-	for done, k := range order {
-		t := times[k]
-		for piece := 0; piece < pieces && t > prev; piece++ {
-			ta := prev + (t-prev)*float64(piece)/float64(pieces)
-			tb := prev + (t-prev)*float64(piece+1)/float64(pieces)
-			if piece == pieces-1 {
-				tb = t
-			}
-			H := tb - ta
-			F := mat.NewDense(q+1, n, nil)
-			for i, s := range nodes {
-				f.Func(ta+s*H, fv)
-				F.SetRow(i, fv)
-			}
-			var C mat.Dense // monomial coefficients in s, one row per power
-			if err := lu.SolveTo(&C, false, F); err != nil {
-				if _, ok := err.(mat.Condition); !ok {
-					return nil, err
-				}
-			}
-			// Interpolation error at the midpoints between nodes.
-			delta := 0.0
-			for i := 0; i < q; i++ {
-				s := (nodes[i] + nodes[i+1]) / 2
-				f.Func(ta+s*H, fv)
-				p := 1.0
-				val := make([]float64, n)
-				for j := 0; j <= q; j++ {
-					for r := 0; r < n; r++ {
-						val[r] += C.At(j, r) * p
-					}
-					p *= s
-				}
-				delta = math.Max(delta, maxAbsDiff(val, fv))
-			}
-			// Σ_j c_j s^j = Σ_j w_j τ^j/j! with w_j = c_j j!/H^j.
-			w := make([][]float64, q+1)
-			fact := 1.0
-			for j := 0; j <= q; j++ {
-				if j > 0 {
-					fact *= float64(j)
-				}
-				w[j] = make([]float64, n)
-				sc := fact / math.Pow(H, float64(j))
-				for r := 0; r < n; r++ {
-					w[j][r] = C.At(j, r) * sc
-				}
-			}
-			aug := &augmented{a: A, w: w}
-			x0 := make([]float64, n+q+1)
-			copy(x0, u)
-			x0[n] = 1
-			s, err := Propagate(ctx, aug, x0, []float64{H}, o)
-			if err != nil {
-				return nil, err
-			}
-			copy(u, s.Values[0][:n])
-			errAcc += s.ErrEst[0] + 2*delta*H
-			out.MatVecs += s.MatVecs
-			out.Solves += s.Solves
-			out.Factors += s.Factors
-			out.Method = s.Method
-			out.Reason = fmt.Sprintf("general forcing: degree-%d Chebyshev interpolation on %d pieces per interval, each exact through the augmented operator; %s", q, pieces, s.Reason)
-		}
-		prev = t
-		out.Values[k] = append([]float64(nil), u...)
-		out.ErrEst[k] = errAcc
-		if opts.Progress != nil {
-			opts.Progress(done+1, len(times))
-		}
-	}
-	if out.Method == "" {
-		out.Method, out.Reason = "none", "all output times are 0"
-	}
-	out.Elapsed = time.Since(start)
-	return out, nil
-}
+// forcedFunc: see forcing_pieces.go.
 
 func maxAbsDiff(x, y []float64) float64 {
 	m := 0.0

@@ -83,6 +83,9 @@ type Crosscheck struct {
 	MaxDiff float64 // max_i ‖Values[i] − other[i]‖_∞
 	ErrEst  float64 // the second method's largest error estimate
 	Elapsed time.Duration
+	// Skipped, when not empty, says why no second method could be run;
+	// MaxDiff and ErrEst are then meaningless.
+	Skipped string
 }
 
 // CheckTol sets TolMet and Shortfall from the error estimates: the

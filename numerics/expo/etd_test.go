@@ -1,0 +1,252 @@
+package expo
+
+import (
+	"context"
+	"math"
+	"testing"
+
+	"gonum.org/v1/gonum/mat"
+
+	"semiflow/numerics/linop"
+)
+
+// etdLaplacian returns D·tridiag(1, −2, 1)/h² of order n (Dirichlet ends,
+// h = 1/(n+1)) and its grid points x_j = j·h.
+func etdLaplacian(n int, D float64) (*linop.CSR, []float64) {
+	h := 1 / float64(n+1)
+	c := D / (h * h)
+	var is, js []int
+	var vs []float64
+	x := make([]float64, n)
+	for i := 0; i < n; i++ {
+		x[i] = float64(i+1) * h
+		is, js, vs = append(is, i), append(js, i), append(vs, -2*c)
+		if i > 0 {
+			is, js, vs = append(is, i, i-1), append(js, i-1, i), append(vs, c, c)
+		}
+	}
+	return linop.NewCSRFromTriplets(n, n, is, js, vs), x
+}
+
+// checkContract asserts the estimate contract of an adaptive result: true
+// error ≤ estimate ≤ 1000·max(true error, u·scale) at each time (scale is
+// the largest ‖u‖∞, which the tolerance is relative to), and the
+// estimate within the tolerance when TolMet says so.
+func checkContract(t *testing.T, label string, s *Solution, exact func(i int) []float64, scale float64) {
+	t.Helper()
+	for i := range s.Times {
+		want := exact(i)
+		e := maxAbsDiff(s.Values[i], want)
+		floor := unitRoundoff * scale
+		if e > math.Max(s.ErrEst[i], floor) {
+			t.Errorf("%s t=%g: true error %.3g exceeds the estimate %.3g", label, s.Times[i], e, s.ErrEst[i])
+		}
+		if s.ErrEst[i] > 1000*math.Max(e, floor) {
+			t.Errorf("%s t=%g: estimate %.3g is more than 1000 times the true error %.3g", label, s.Times[i], s.ErrEst[i], e)
+		}
+	}
+	if s.TolMet != (s.MaxErrEst() <= s.Tol*scale) {
+		t.Errorf("%s: TolMet = %v but the estimate is %.3g against tol·scale = %.3g", label, s.TolMet, s.MaxErrEst(), s.Tol*scale)
+	}
+	if !s.TolMet && s.Shortfall == "" {
+		t.Errorf("%s: tolerance missed without a Shortfall", label)
+	}
+}
+
+func TestIMEXTableau(t *testing.T) {
+	// The order conditions of an IMEX Runge–Kutta pair up to order 3
+	// (Ascher, Ruuth & Spiteri 1997, §2): with weights b = last row of A
+	// (implicit) and b̂ = last row of E (explicit), Σb = 1, Σb c = 1/2,
+	// Σb c² = 1/3 and Σ b_i X_ij c_j = 1/6 for every pairing of b, b̂
+	// with X = A, E; rows sum to c.
+	b, be := imexA[4], imexE[4]
+	for i := 0; i < 5; i++ {
+		sa, se := 0.0, 0.0
+		for j := 0; j < 5; j++ {
+			sa += imexA[i][j]
+			se += imexE[i][j]
+		}
+		if math.Abs(sa-imexC[i]) > 1e-15 || math.Abs(se-imexC[i]) > 1e-15 {
+			t.Errorf("row %d sums %v, %v, want c = %v", i, sa, se, imexC[i])
+		}
+	}
+	for _, w := range [][5]float64{b, be} {
+		s0, s1, s2 := 0.0, 0.0, 0.0
+		for i := 0; i < 5; i++ {
+			s0 += w[i]
+			s1 += w[i] * imexC[i]
+			s2 += w[i] * imexC[i] * imexC[i]
+		}
+		if math.Abs(s0-1) > 1e-15 || math.Abs(s1-0.5) > 1e-15 || math.Abs(s2-1./3) > 1e-15 {
+			t.Errorf("weights %v: %v %v %v, want 1, 1/2, 1/3", w, s0, s1, s2)
+		}
+		for _, X := range [][5][5]float64{imexA, imexE} {
+			s := 0.0
+			for i := 0; i < 5; i++ {
+				for j := 0; j < 5; j++ {
+					s += w[i] * X[i][j] * imexC[j]
+				}
+			}
+			if math.Abs(s-1./6) > 1e-15 {
+				t.Errorf("Σ b X c = %v, want 1/6", s)
+			}
+		}
+	}
+}
+
+// logistic: u_i' = r_i u_i (1 − u_i) written as L = diag(r), N(u) = −r u²,
+// with the closed form u(t) = u0 e^{rt}/(1 − u0 + u0 e^{rt}).
+func logisticProblem() (r, u0 []float64, N Nonlinear, exact func(tt float64) []float64) {
+	r = []float64{1, 3, -2, 0.5}
+	u0 = []float64{0.01, 0.2, 0.9, 0.5}
+	N = func(_ float64, u, dst []float64) {
+		for i, v := range u {
+			dst[i] = -r[i] * v * v
+		}
+	}
+	exact = func(tt float64) []float64 {
+		w := make([]float64, len(r))
+		for i := range r {
+			e := math.Exp(r[i] * tt)
+			w[i] = u0[i] * e / (1 - u0[i] + u0[i]*e)
+		}
+		return w
+	}
+	return
+}
+
+func TestETDRK4AdaptiveLogistic(t *testing.T) {
+	r, u0, N, exact := logisticProblem()
+	times := []float64{0.5, 3, 8}
+	dense := mat.NewDense(len(r), len(r), nil)
+	for i, v := range r {
+		dense.Set(i, i, v)
+	}
+	for _, L := range []linop.Operator{&linop.Diag{D: r}, linop.NewDense(dense)} {
+		for _, tol := range []float64{1e-6, 1e-8, 1e-10} {
+			s, st, err := ETDRK4(context.Background(), L, N, u0, times, StepControl{}, Options{Tol: tol})
+			if err != nil {
+				t.Fatal(err)
+			}
+			scale := st.Scale
+			if want := 1.0; scale < 0.99*want {
+				t.Errorf("scale %v, want about max‖u‖ ≈ 1", scale)
+			}
+			checkContract(t, "logistic", s, func(i int) []float64 { return exact(times[i]) }, scale)
+			if !s.TolMet {
+				t.Errorf("%T tol %g: not met: %s", L, tol, s.Shortfall)
+			}
+			if st.Accepted == 0 || st.HMin <= 0 || st.HMax < st.HMin {
+				t.Errorf("step statistics %+v", st)
+			}
+			t.Logf("%T tol %g: %d accepted, %d rejected, estimate %.3g", L, tol, st.Accepted, st.Rejected, s.MaxErrEst())
+		}
+	}
+}
+
+func TestETDRK4FixedStepsFlagged(t *testing.T) {
+	// Forty fixed steps cannot reach 1e-12 on the logistic problem: the
+	// result must say so.
+	r, u0, N, exact := logisticProblem()
+	times := []float64{8}
+	s, st, err := ETDRK4(context.Background(), &linop.Diag{D: r}, N, u0, times, StepControl{Steps: 40}, Options{Tol: 1e-12})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if st.Accepted != 40 || st.Rejected != 0 {
+		t.Errorf("fixed steps: %+v", st)
+	}
+	if s.TolMet || s.Shortfall == "" {
+		t.Errorf("40 steps for tol 1e-12: TolMet %v, estimate %.3g", s.TolMet, s.MaxErrEst())
+	}
+	checkContract(t, "fixed", s, func(int) []float64 { return exact(8) }, st.Scale)
+}
+
+// rdManufactured is u_t = D u_xx + u(1 − u) + s(x, t) on (0, 1) with
+// Dirichlet ends, discretised by second differences, with s chosen so that
+// U_j(t) = e^{−t} sin(πx_j) solves the discrete system exactly: sin(πx_j)
+// is an eigenvector of the second difference with eigenvalue
+// λ = −(4D/h²) sin²(πh/2) (closed form), so s = (−1 − λ)U − U(1 − U).
+func rdManufactured(n int, D float64) (L *linop.CSR, u0 []float64, N Nonlinear, exact func(tt float64) []float64) {
+	L, x := etdLaplacian(n, D)
+	h := 1 / float64(n+1)
+	lam := -4 * D / (h * h) * math.Pow(math.Sin(math.Pi*h/2), 2)
+	exact = func(tt float64) []float64 {
+		u := make([]float64, n)
+		for j, xj := range x {
+			u[j] = math.Exp(-tt) * math.Sin(math.Pi*xj)
+		}
+		return u
+	}
+	N = func(tt float64, u, dst []float64) {
+		U := exact(tt)
+		for j, v := range u {
+			dst[j] = v*(1-v) + (-1-lam)*U[j] - U[j]*(1-U[j])
+		}
+	}
+	return L, exact(0), N, exact
+}
+
+func TestETDRK4ManufacturedReactionDiffusion(t *testing.T) {
+	L, u0, N, exact := rdManufactured(60, 0.1)
+	times := []float64{0.25, 1, 2}
+	for _, tol := range []float64{1e-6, 1e-9} {
+		s, st, err := ETDRK4(context.Background(), L, N, u0, times, StepControl{}, Options{Tol: tol, Crosscheck: true})
+		if err != nil {
+			t.Fatal(err)
+		}
+		checkContract(t, "reaction-diffusion", s, func(i int) []float64 { return exact(times[i]) }, st.Scale)
+		if !s.TolMet {
+			t.Errorf("tol %g not met: %s", tol, s.Shortfall)
+		}
+		c := s.Cross
+		if c == nil || c.Skipped != "" {
+			t.Fatalf("cross-check not run: %+v", c)
+		}
+		// Both results are within their estimates of the exact solution,
+		// so their difference is within the sum.
+		if c.MaxDiff > s.MaxErrEst()+c.ErrEst {
+			t.Errorf("cross-check difference %.3g exceeds the two estimates %.3g + %.3g", c.MaxDiff, s.MaxErrEst(), c.ErrEst)
+		}
+		t.Logf("tol %g: %d accepted, %d rejected, estimate %.3g, cross %s diff %.3g (its estimate %.3g)", tol, st.Accepted, st.Rejected, s.MaxErrEst(), c.Method, c.MaxDiff, c.ErrEst)
+	}
+}
+
+func TestIMEXAlone(t *testing.T) {
+	// The cross-check's integrator on its own against the closed forms:
+	// order 3 (halving h divides the error by about 8) and the contract.
+	r, u0, N, exact := logisticProblem()
+	st, err := newIMEXStepper(context.Background(), &linop.Diag{D: r}, N)
+	if err != nil {
+		t.Fatal(err)
+	}
+	prev := 0.0
+	for _, steps := range []int{40, 80, 160} {
+		res, err := integrate(context.Background(), st, u0, []float64{4}, 1e-8, StepControl{Steps: steps}, nil)
+		if err != nil {
+			t.Fatal(err)
+		}
+		e := maxAbsDiff(res.vals[0], exact(4))
+		if e > res.errs[0] {
+			t.Errorf("IMEX steps %d: error %.3g above estimate %.3g", steps, e, res.errs[0])
+		}
+		if prev > 0 {
+			if q := prev / e; q < 6 || q > 10 {
+				t.Errorf("IMEX steps %d: error ratio %.3g, want ≈ 8", steps, q)
+			}
+		}
+		prev = e
+	}
+	L, v0, M, ex := rdManufactured(40, 0.1)
+	st2, err := newIMEXStepper(context.Background(), L, M)
+	if err != nil {
+		t.Fatal(err)
+	}
+	res, err := integrate(context.Background(), st2, v0, []float64{1}, 1e-8, StepControl{}, nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if e := maxAbsDiff(res.vals[0], ex(1)); e > res.errs[0] || res.errs[0] > 1e-8 {
+		t.Errorf("IMEX reaction-diffusion: error %.3g, estimate %.3g", e, res.errs[0])
+	}
+}
