@@ -52,7 +52,6 @@ type conn struct {
 
 func newConn(c net.Conn, t *Transport, replay []byte, peerType string) *conn {
 	g := &conn{Conn: c, t: t, replay: replay, peerType: peerType, swallow: greetingLen, br: bufio.NewReaderSize(c, 4096)}
-	g.out.max = ^uint64(0)
 	g.cond = sync.NewCond(&g.mu)
 	go g.writer()
 	return g
@@ -233,7 +232,7 @@ func (g *conn) Write(p []byte) (int, error) {
 		p = p[k:]
 	}
 	for len(p) > 0 {
-		k, _ := g.out.feed(p)
+		k := g.out.feed(p)
 		g.pending = append(g.pending, p[:k]...)
 		p = p[k:]
 		if g.out.complete {
@@ -339,23 +338,21 @@ func (g *conn) Close() error {
 	return err
 }
 
-// scanner follows the ZMTP frame structure of a byte stream: a flags byte,
-// a one- or eight-byte size, then the body.
+// scanner follows the ZMTP frame structure of the byte stream zmq4 writes
+// (whose sizes are trusted): a flags byte, a one- or eight-byte size, then
+// the body.
 type scanner struct {
-	max      uint64 // largest frame and message accepted
-	state    int    // 0 flags, 1 short size, 2..9 long size bytes, 10 body
+	state    int // 0 flags, 1 short size, 2..9 long size bytes, 10 body
 	flags    byte
 	size     uint64
 	sizeN    int
 	body     uint64 // body bytes still to come
-	msgLen   uint64 // bytes of frame bodies so far in this message
 	complete bool   // a whole message (or command) ended at the last byte fed
 }
 
 // feed advances over p and returns how many bytes it consumed: all of p,
-// or fewer when a message completes early (complete is then set). It
-// returns an error when a frame or message announces more than max.
-func (s *scanner) feed(p []byte) (int, error) {
+// or fewer when a message completes early (complete is then set).
+func (s *scanner) feed(p []byte) int {
 	i := 0
 	for i < len(p) {
 		switch {
@@ -371,16 +368,12 @@ func (s *scanner) feed(p []byte) (int, error) {
 		case s.state == 1:
 			s.size = uint64(p[i])
 			i++
-			if err := s.sized(); err != nil {
-				return i, err
-			}
+			s.sized()
 		case s.state == 2:
 			s.size = s.size<<8 | uint64(p[i])
 			i++
 			if s.sizeN++; s.sizeN == 8 {
-				if err := s.sized(); err != nil {
-					return i, err
-				}
+				s.sized()
 			}
 		default: // body
 			k := uint64(len(p) - i)
@@ -394,36 +387,23 @@ func (s *scanner) feed(p []byte) (int, error) {
 			}
 		}
 		if s.complete {
-			return i, nil
+			return i
 		}
 	}
-	return i, nil
+	return i
 }
 
-func (s *scanner) sized() error {
-	if s.size > s.max {
-		return fmt.Errorf("%w: peer announced a frame of %d bytes (limit %d)", errOversize, s.size, s.max)
-	}
-	if s.flags&flagCommand == 0 {
-		s.msgLen += s.size
-		if s.msgLen > s.max {
-			return fmt.Errorf("%w: multipart message of over %d bytes (limit %d)", errOversize, s.msgLen, s.max)
-		}
-	}
+func (s *scanner) sized() {
 	s.body = s.size
 	s.state = 10
 	if s.body == 0 {
 		s.endFrame()
 	}
-	return nil
 }
 
 func (s *scanner) endFrame() {
 	s.state = 0
 	if s.flags&flagCommand != 0 || s.flags&flagMore == 0 {
 		s.complete = true
-		if s.flags&flagCommand == 0 {
-			s.msgLen = 0
-		}
 	}
 }
