@@ -365,7 +365,7 @@ func GeneratorReport(label string, ip string, g *spectra.GeneratorReport) *Analy
 	r := &Analysis{Kind: "generator", Data: g, Method: g.Method, Accuracy: g.Accuracy}
 	r.Title = fmt.Sprintf("generator report for %s (%d×%d), %s", label, g.N, g.N, ip)
 	alpha := fnum(g.SpectralAbscissa)
-	if g.AbscissaSign == 0 {
+	if g.AbscissaSign == 0 && g.SpectralAbscissa != 0 {
 		alpha = fmt.Sprintf("0 within rounding (computed %s, |α| ≤ %s)", alpha, fnum2(g.AbscissaRounding))
 	}
 	if g.AbscissaIllCond {

@@ -258,6 +258,8 @@ func excess(om, w float64) string {
 func (r *GeneratorReport) abscissaClause() string {
 	al, tol := r.SpectralAbscissa, r.AbscissaRounding
 	switch {
+	case al == 0 && !r.AbscissaIllCond:
+		return "α(A) = 0, so e^{tA} neither decays nor grows exponentially"
 	case r.AbscissaSign < 0:
 		return fmt.Sprintf("α(A) = %.4g < 0, so e^{tA} → 0 as t → ∞", al)
 	case r.AbscissaSign > 0:
