@@ -237,6 +237,7 @@ func (k *Kernel) Stats() Stats {
 			OverBudget:        a.OverBudget + b.OverBudget,
 			Rejected:          a.Rejected + b.Rejected,
 			Incompatible:      a.Incompatible + b.Incompatible,
+			Commands:          a.Commands + b.Commands,
 			DroppedMessages:   a.DroppedMessages + b.DroppedMessages,
 			RenamedIdentities: a.RenamedIdentities + b.RenamedIdentities,
 			SuppressedLogs:    a.SuppressedLogs + b.SuppressedLogs,
@@ -274,7 +275,7 @@ func (k *Kernel) check(frames [][]byte) error {
 }
 
 // errReplay refuses a message whose signature has been seen before.
-var errReplay = errors.New("kernel: a message with this signature was received before (a replay); dropped")
+var errReplay = errors.New("kernel: signature seen before (a replayed message)")
 
 func (k *Kernel) closeSockets() {
 	for _, s := range []zmq4.Socket{k.shell, k.control, k.stdin, k.iopub, k.hb} {

@@ -123,7 +123,10 @@ func (g *conn) next() error {
 			if err != nil {
 				return err
 			}
-			g.deliver = net.Buffers{appendFrameHeader(nil, flags&^flagLong, size), body}
+			// After the handshake zmq4 has no use for a command (it would
+			// hand one to the application as if it were a message).
+			g.t.commands.Add(1)
+			g.logf("ignoring a ZMTP command after the handshake (%q)", commandName(body))
 			return nil
 		}
 		if len(frames) == g.t.lim.MaxFrames {
@@ -165,6 +168,14 @@ func (g *conn) next() error {
 	}
 	g.deliver = d
 	return nil
+}
+
+// commandName is the name a command body starts with (RFC 23/ZMTP).
+func commandName(body []byte) string {
+	if len(body) == 0 || int(body[0]) >= len(body) {
+		return ""
+	}
+	return string(body[1 : 1+int(body[0])])
 }
 
 // header reads a frame's flags and size.

@@ -25,7 +25,8 @@
 //     listener is given a fresh random identity, so two peers never share
 //     one another's replies.
 //   - A peer whose socket type cannot talk to the listening socket's is
-//     closed at once.
+//     closed at once. Commands after the handshake (PING and the like,
+//     which zmq4 would pass on as messages) are ignored.
 //   - Log lines about peers are rate-limited, per connection and in all.
 //
 // Only the NULL security mechanism is supported.
@@ -86,6 +87,7 @@ type Stats struct {
 	OverBudget        int64 // connections closed because the shared budget was spent
 	Rejected          int64 // complete messages refused by Limits.Check
 	Incompatible      int64 // connections closed because the peer's socket type does not fit
+	Commands          int64 // ZMTP commands after the handshake, ignored
 	DroppedMessages   int64 // outgoing messages dropped because a peer's queue was full
 	RenamedIdentities int64 // peers given a fresh identity because theirs was in use
 	SuppressedLogs    int64 // log lines about peers left out by the rate limit
@@ -102,6 +104,7 @@ type Transport struct {
 	overBudget        atomic.Int64
 	rejected          atomic.Int64
 	incompatible      atomic.Int64
+	commands          atomic.Int64
 	droppedMessages   atomic.Int64
 	renamedIDs        atomic.Int64
 }
@@ -139,6 +142,7 @@ func (t *Transport) Stats() Stats {
 		OverBudget:        t.overBudget.Load(),
 		Rejected:          t.rejected.Load(),
 		Incompatible:      t.incompatible.Load(),
+		Commands:          t.commands.Load(),
 		DroppedMessages:   t.droppedMessages.Load(),
 		RenamedIdentities: t.renamedIDs.Load(),
 		SuppressedLogs:    t.log.total.Load(),

@@ -592,3 +592,39 @@ func TestMultipartOverCap(t *testing.T) {
 	}
 	roundTrip(t, addr, "after")
 }
+
+// Commands after the handshake are ignored, not passed on as messages.
+func TestCommandsIgnored(t *testing.T) {
+	tr, scheme := register(t, Limits{})
+	router := zmq4.NewRouter(context.Background())
+	defer router.Close()
+	addr := listen(t, router, scheme)
+	got := make(chan string, 10)
+	go func() {
+		for {
+			m, err := router.Recv()
+			if err != nil {
+				return
+			}
+			got <- string(m.Frames[len(m.Frames)-1])
+		}
+	}()
+	c := rawPeer(t, addr, "DEALER", "")
+	defer c.Close()
+	ping := append([]byte{4}, "PING\x00\x0a"...)
+	for range 5 {
+		c.Write(append(appendFrameHeader(nil, flagCommand, uint64(len(ping))), ping...))
+	}
+	c.Write(append(appendFrameHeader(nil, 0, 5), "hello"...))
+	select {
+	case s := <-got:
+		if s != "hello" {
+			t.Errorf("router received %q", s)
+		}
+	case <-time.After(3 * time.Second):
+		t.Fatal("no message")
+	}
+	if st := tr.Stats(); st.Commands != 5 {
+		t.Errorf("stats = %+v, want 5 commands", st)
+	}
+}
