@@ -115,3 +115,31 @@ func TestLongNameMessages(t *testing.T) {
 		}
 	}
 }
+
+// TestNestedListLimits: a list built by x = [x] a million times once made
+// its display quadratic (each level copies the text of all the levels
+// inside), and [x, x] nested fifty times has 2⁵⁰ entries to display or
+// export. Literals stop at MaxListDepth levels and at MaxElements entries
+// counted as a tree, measured without walking the shared copies.
+func TestNestedListLimits(t *testing.T) {
+	in := New(nil, nil, &events{})
+	src := "x = \"a\"\n" + strings.Repeat("x = [x, 1i]\n", value.MaxListDepth+5)
+	err := run(t, in, src)
+	if e, ok := err.(*Error); !ok || e.Name != "ValueError" || !strings.Contains(e.Msg, "lists nest at most 64 deep") {
+		t.Errorf("nesting: %v, want 'lists nest at most 64 deep'", err)
+	} else if p := e.File.Position(e.Pos); p.Line != value.MaxListDepth+2 {
+		t.Errorf("nesting error at line %d, want %d (the first list 65 deep)", p.Line, value.MaxListDepth+2)
+	}
+	in = New(nil, nil, &events{})
+	err = run(t, in, "y = \"a\"\n"+strings.Repeat("y = [y, y]\n", 50))
+	if e, ok := err.(*Error); !ok || !strings.Contains(e.Msg, "counting the entries of the lists it holds") {
+		t.Errorf("doubling: %v, want the entry limit", err)
+	} else if p := e.File.Position(e.Pos); p.Line != 25 {
+		// [y, y] nested k times holds 2^(k+1) − 2 entries as a tree: first
+		// above 2^24 at k = 24, line 25.
+		t.Errorf("doubling error at line %d, want 25", p.Line)
+	}
+	if got := fmt.Sprint(in.Globals["y"]); len(got) > 2*value.MaxListText {
+		t.Errorf("the last accepted list displays as %d bytes", len(got))
+	}
+}

@@ -292,7 +292,17 @@ func (in *Interp) evalVector(sc *scope, e *syntax.VectorLit) (value.Value, error
 		}
 		elems[i] = v
 	}
-	return value.Collect(elems), nil
+	r := value.Collect(elems)
+	if l, ok := r.(value.List); ok {
+		depth, size := value.ListShape(l, value.MaxListDepth)
+		if depth > value.MaxListDepth {
+			return nil, in.errorf(sc, e, "ValueError", "lists nest at most %d deep", value.MaxListDepth)
+		}
+		if err := in.checkSize(size, "the list, counting the entries of the lists it holds,"); err != nil {
+			return nil, in.wrap(sc, e, err)
+		}
+	}
+	return r, nil
 }
 
 func (in *Interp) evalMatrix(sc *scope, e *syntax.MatrixLit) (value.Value, error) {

@@ -18,6 +18,8 @@ import (
 //   - Vectors, ranges and lists are [a, b, c]. With more than MaxShown
 //     entries only the first headShown and last tailShown are shown, then
 //     the count: [1, 2, 3, 4, 5, 6, ..., 98, 99, 100] (100 entries).
+//   - A list's text, nested lists included, stops after MaxListText
+//     characters; the entries after that show as "…".
 //   - A matrix is shown in literal syntax, rows on their own lines with
 //     right-aligned columns; see Matrix.String.
 const (
@@ -82,6 +84,34 @@ func Quote(s string) string {
 	}
 	b.WriteByte('"')
 	return b.String()
+}
+
+// MaxListText bounds the text of a list's display, nested lists included:
+// once it is spent, the remaining entries show as "…". A list of lists
+// can hold millions of entries as a tree (see ListShape) although each
+// level shows at most MaxShown.
+const MaxListText = 10000
+
+// formatList formats l by the display rules within MaxListText.
+func formatList(l List) string {
+	budget := MaxListText
+	return formatListWithin(l, &budget)
+}
+
+func formatListWithin(l List, budget *int) string {
+	return formatSeq(len(l), func(i int) string {
+		if *budget <= 0 {
+			return "…"
+		}
+		var s string
+		if sub, ok := l[i].(List); ok {
+			s = formatListWithin(sub, budget)
+		} else {
+			s = l[i].String()
+		}
+		*budget -= len(s)
+		return s
+	})
 }
 
 func formatSeq(n int, elem func(i int) string) string {

@@ -153,9 +153,7 @@ func (x Bool) String() string {
 	return "false"
 }
 func (NoneType) String() string { return "none" }
-func (l List) String() string {
-	return formatSeq(len(l), func(i int) string { return l[i].String() })
-}
+func (l List) String() string   { return formatList(l) }
 
 func (l List) Len() int          { return len(l) }
 func (l List) Index(i int) Value { return l[i] }

@@ -85,3 +85,29 @@ func TestArithmetic(t *testing.T) {
 		t.Error("length mismatch accepted")
 	}
 }
+
+// TestListShape: depth and tree size of nested lists, shared sublists
+// measured once. By construction: [1, "a"] has depth 1 and 2 entries; the
+// list x_k = [x_{k−1}, x_{k−1}, "a"], x_0 = ["a"], has depth k+1 and
+// 4·2^k − 3 entries as a tree (s_k = 3 + 2 s_{k−1}, s_0 = 1); measuring
+// x_60 (about 4.6e18 entries as a tree) takes 61 steps.
+func TestListShape(t *testing.T) {
+	if d, s := ListShape(List{Num(1), Str("a")}, MaxListDepth); d != 1 || s != 2 {
+		t.Errorf("flat list: depth %d size %g, want 1 and 2", d, s)
+	}
+	x := List{Str("a")}
+	for k := 1; k <= 60; k++ {
+		x = List{x, x, Str("a")}
+		if k == 20 {
+			if d, s := ListShape(x, 100); d != 21 || s != 4*math.Exp2(20)-3 {
+				t.Errorf("x_20: depth %d size %g, want 21 and 4·2^20 − 3", d, s)
+			}
+		}
+	}
+	if d, s := ListShape(x, 100); d != 61 || s != 4*math.Exp2(60)-3 {
+		t.Errorf("x_60: depth %d size %g, want 61 and 4·2^60 − 3", d, s)
+	}
+	if d, _ := ListShape(x, 10); d <= 10 {
+		t.Errorf("walk stopped at 10 levels: depth %d, want above 10", d)
+	}
+}

@@ -300,3 +300,54 @@ func Collect(l List) Value {
 	}
 	return l
 }
+
+// MaxListDepth bounds how deeply list literals may nest lists, so that
+// displaying, exporting and comparing a list (all recursive) stay shallow.
+const MaxListDepth = 64
+
+// ListShape returns the nesting depth of l (1 for a list holding no lists)
+// and its size as a tree: its entries plus, recursively, those of the
+// lists it holds, a list held in several places counted in each (what a
+// display, an export or a comparison walks). A list shared by several
+// entries is measured once, so the cost is the number of distinct lists,
+// even for [x, x] nested fifty times (2⁵⁰ entries as a tree). Below
+// maxDepth levels the walk stops, reporting a depth above maxDepth.
+func ListShape(l List, maxDepth int) (depth int, size float64) {
+	type key struct {
+		p *Value
+		n int
+	}
+	type shape struct {
+		depth int
+		size  float64
+	}
+	memo := map[key]shape{}
+	var walk func(l List, level int) shape
+	walk = func(l List, level int) shape {
+		if len(l) == 0 {
+			return shape{1, 0}
+		}
+		k := key{&l[0], len(l)}
+		if s, ok := memo[k]; ok {
+			return s
+		}
+		s := shape{1, float64(len(l))}
+		for _, v := range l {
+			sub, ok := v.(List)
+			if !ok {
+				continue
+			}
+			if level >= maxDepth {
+				s.depth = maxDepth + 1
+				break
+			}
+			c := walk(sub, level+1)
+			s.depth = max(s.depth, c.depth+1)
+			s.size += c.size
+		}
+		memo[k] = s
+		return s
+	}
+	s := walk(l, 1)
+	return s.depth, s.size
+}
