@@ -6,6 +6,7 @@ import (
 	"fmt"
 	"math"
 	"math/cmplx"
+	"slices"
 	"sort"
 	"strconv"
 	"strings"
@@ -94,9 +95,10 @@ var stabilityFamily = []*Builtin{
 			opt("im", value.None, "the interval [c, d] of Im z; none: as for re"),
 			opt("levels", value.List{value.Num(1e-1), value.Num(1e-2), value.Num(1e-3)}, "the levels ε > 0 of the contour lines"),
 			opt("n", value.Num(80), "grid points along each side, 2 ≤ n ≤ 400"),
+			opt("abscissae", value.Str("auto"), `how to find α_ε (order ≤ 1500): "exact" (the boundary search, however long it takes), "grid" (the rightmost grid point in σ_ε: a lower estimate, one grid step accurate), or "auto": the boundary search within the interactive work budget (a share per level), the grid estimate for a level that would need more`),
 		},
 		Doc: "The ε-pseudospectra σ_ε(A) = {z : σ_min(zI − A) ≤ ε} = {z : ‖(zI − A)⁻¹‖₂ ≥ 1/ε} on the rectangle re × im: σ_min on an n × n grid, the contour lines of the levels ε, the eigenvalues, and a table of the pseudospectral abscissae α_ε(A) = max Re σ_ε(A) with the lower bounds α_ε/ε ≤ sup_t ‖e^{tA}‖. " +
-			"For order ≤ 1500: one complex Schur form A = ZTZᴴ, then inverse Lanczos on (zI − T)ᴴ(zI − T) at every point, without balancing (Trefethen 1999), and α_ε by a boundary search. " +
+			"For order ≤ 1500: one complex Schur form A = ZTZᴴ, then inverse Lanczos on (zI − T)ᴴ(zI − T) at every point, without balancing (Trefethen 1999), and α_ε by a boundary search (the option abscissae; by default within the interactive work budget, else the grid estimate, with a note). " +
 			"Above: the Krylov-projection approximation σ_min(zĨ − H̃_m) from 100 Arnoldi steps (Toh & Trefethen 1996), which lies above the true σ_min, so the computed sets lie inside the true ones and are reliable only near the outer eigenvalues; α_ε is then the rightmost grid point in the set. " +
 			"With re or im none (dense only) the region is the bounding box of W(A) widened by the largest ε, which contains every σ_ε since σ_ε(A) ⊆ W(A) + Δ_ε.",
 		Examples: []Example{
@@ -151,9 +153,10 @@ var stabilityFamily = []*Builtin{
 			req("A", "an operator or a square matrix"),
 			opt("t", rangeDefault{&value.Range{Lo: 0, Hi: 10, Step: 0.1, N: 101}}, "the times t ≥ 0: a range, vector or list"),
 			opt("weight", value.None, stabWeightDoc+"; the norm is then ‖x‖_W = √(xᵀWx) (order ≤ 1500)"),
-			opt("bounds", value.Str("auto"), `which bounds to compute: "all" (Kreiss constant and α_ε/ε), "fast" (α_ε/ε only), "none", or "auto": all for order ≤ 50, fast up to 300, none above`),
+			opt("bounds", value.Str("auto"), `which bounds to compute: "all" (Kreiss constant and α_ε/ε, however long they take), "fast" (α_ε/ε only), "none", or "auto": each bound within a quarter of the interactive work budget (about 2.5 s of the 2-core development machine in all), the ones that would need more left out and named`),
 		},
 		Doc: "The transient growth curve ‖e^{tA}‖₂ at the times t, with its peak (refined between samples) and the optimal initial condition u0 (‖u0‖ = 1, ‖e^{t*A}u0‖ = peak), and the bounds: the initial slope ω(A) = λmax((A + Aᵀ)/2), the asymptotic rate α(A), the Kreiss constant K ≤ sup_t ‖e^{tA}‖ ≤ e·N·K (Spijker 1991) and α_ε/ε ≤ sup_t ‖e^{tA}‖ for ε = 0.1, 0.01, 0.001 (the option bounds chooses which; the Kreiss constant costs most). " +
+			"By default (bounds = \"auto\") each of these four bounds gets a quarter of the interactive work budget, counted in n² multiply–adds so the same bounds are left out on every run; a bound that needs more is not computed, and the report says which and how to ask for it (bounds = \"all\", or kreiss(A) and psabscissa(A, ε) one at a time). " +
 			"For order ≤ 1500, e^{tA} by scaling and squaring and its largest singular value; above, a Lanczos estimate on e^{tAᵀ}e^{tA} (a lower bound up to the propagation error, no Kreiss or α_ε bounds). With a weight W the norm is ‖e^{tA}‖_W = ‖R e^{tA} R⁻¹‖₂ (W = RᵀR). Table of (t, ‖e^{tA}‖) and a figure (logarithmic axis when the values span a factor 10) with the bounds as horizontal lines and the initial slope e^{ωt}.",
 		Examples: []Example{
 			{"g = growth({-1, 0 | 0, -2}, t=[0, 1]); g[1, 1]", "0.3678794412"},
@@ -550,7 +553,7 @@ func spectrumImpl(c *eval.Call) (value.Value, error) {
 			return nil, err
 		}
 		var s *spectra.Spectrum
-		if err := stabGuard(c, func() (e error) { s, e = spectra.DenseSpectrum(op.Op); return }); err != nil {
+		if err := stabGuard(c, func() (e error) { s, e = spectra.DenseSpectrumContext(c.Ctx, op.Op); return }); err != nil {
 			return nil, err
 		}
 		return objects.SpectrumReport(op.Label, n, s, fmt.Sprintf("all %d eigenvalues", n)), nil
@@ -561,7 +564,7 @@ func spectrumImpl(c *eval.Call) (value.Value, error) {
 	}
 	if n <= DenseLimit {
 		var s *spectra.Spectrum
-		if err := stabGuard(c, func() (e error) { s, e = spectra.DenseSpectrum(op.Op); return }); err != nil {
+		if err := stabGuard(c, func() (e error) { s, e = spectra.DenseSpectrumContext(c.Ctx, op.Op); return }); err != nil {
 			return nil, err
 		}
 		sel := stabSelectEigen(s, k, nearSet, near)
@@ -665,7 +668,7 @@ func abscissaImpl(c *eval.Call) (value.Value, error) {
 	q := &objects.Quantity{Symbol: "α(A)", What: "spectral abscissa max Re λ"}
 	if n <= DenseLimit {
 		var s *spectra.Spectrum
-		if err := stabGuard(c, func() (e error) { s, e = spectra.DenseSpectrum(op.Op); return }); err != nil {
+		if err := stabGuard(c, func() (e error) { s, e = spectra.DenseSpectrumContext(c.Ctx, op.Op); return }); err != nil {
 			return nil, err
 		}
 		q.X = value.Num(s.Abscissa)
@@ -718,7 +721,7 @@ func numrangeImpl(c *eval.Call) (value.Value, error) {
 		if nr, e = spectra.NumRangeContext(c.Ctx, op.Op, w, pts); e != nil {
 			return e
 		}
-		s, e := spectra.DenseSpectrum(op.Op)
+		s, e := spectra.DenseSpectrumContext(c.Ctx, op.Op)
 		if e == nil {
 			eigs = s.Values
 		}
@@ -790,7 +793,15 @@ func pseudospectrumImpl(c *eval.Call) (value.Value, error) {
 	if err != nil {
 		return nil, err
 	}
+	av, _ := c.Arg(5)
+	absc, ok := av.(value.Str)
+	if !ok || (absc != "auto" && absc != "exact" && absc != "grid") {
+		return nil, value.ValueErrorf(`pseudospectrum: abscissae must be "auto", "exact" or "grid", not %s`, av)
+	}
 	dense := n <= DenseLimit
+	if absc == "exact" && !dense {
+		return nil, value.ValueErrorf(`pseudospectrum: abscissae="exact" needs the dense methods (order ≤ %d); A has order %d, for which α_ε is the rightmost grid point`, DenseLimit, n)
+	}
 	if (!reSet || !imSet) && !dense {
 		return nil, value.ValueErrorf("pseudospectrum: for order %d (above %d) give the region re=[a, b] and im=[c, d]", n, DenseLimit)
 	}
@@ -823,41 +834,72 @@ func pseudospectrumImpl(c *eval.Call) (value.Value, error) {
 	alpha := make([]float64, len(levels))
 	pts := make([]complex128, len(levels))
 	how := ""
+	var onGrid []string // levels whose α_ε is the grid estimate in "auto"
+	budget := spectra.InteractiveWork / float64(len(levels))
 	err = stabGuard(c, func() (e error) {
 		if dense {
-			if ps, e = spectra.Pseudo(c.Ctx, op.Op, reg, opts); e != nil {
+			s, e := spectra.NewSchurContext(c.Ctx, op.Op)
+			if e != nil {
 				return e
 			}
-			for k, eps := range levels {
-				a, e := spectra.PseudoAbscissa(c.Ctx, op.Op, eps)
-				if e != nil {
-					return e
+			if ps, e = s.Pseudo(c.Ctx, reg, opts); e != nil {
+				return e
+			}
+			stabGridAbscissae(ps, levels, alpha, pts)
+			if absc == "grid" {
+				how = "rightmost grid point with σ_min ≤ ε (a lower estimate, at most one grid step accurate; nan when no grid point is in σ_ε)"
+				return nil
+			}
+			ao := &spectra.AbscissaOptions{Schur: s}
+			if absc == "auto" {
+				ao.Budget = budget
+			}
+			rs, _, e := spectra.PseudoAbscissae(c.Ctx, op.Op, levels, ao)
+			if e != nil {
+				return e
+			}
+			for k, r := range rs {
+				if r == nil {
+					onGrid = append(onGrid, value.FormatNum(levels[k]))
+					continue
 				}
-				alpha[k], pts[k] = a.Alpha, a.Z
-				how = a.Method
+				alpha[k], pts[k] = r.Alpha, r.Z
+				how = r.Method
 			}
 			return nil
 		}
 		if ps, e = spectra.PseudoKrylov(c.Ctx, op.Op, reg, min(100, n-1), opts); e != nil {
 			return e
 		}
-		for k, eps := range levels {
-			alpha[k], pts[k] = math.NaN(), complex(math.NaN(), 0)
-			for i, x := range ps.Re {
-				for j, y := range ps.Im {
-					if ps.At(i, j) <= eps && !(x <= alpha[k]) {
-						alpha[k], pts[k] = x, complex(x, y)
-					}
-				}
-			}
-		}
+		stabGridAbscissae(ps, levels, alpha, pts)
 		how = "rightmost grid point with σ_min ≤ ε (Krylov approximation from inside: a lower estimate, at most one grid step accurate; nan when no grid point is in σ_ε)"
 		return nil
 	})
 	if err != nil {
 		return nil, err
 	}
-	return objects.PseudoReport(op.Label, n, ps, alpha, pts, how), nil
+	r := objects.PseudoReport(op.Label, n, ps, alpha, pts, how)
+	if len(onGrid) > 0 {
+		r.Notes = append(r.Notes, fmt.Sprintf(`α_ε not computed by the boundary search for ε = %s: it needs more than its share of the interactive work budget (about %.1f s here); the table gives the rightmost grid point in σ_ε instead (a lower estimate, at most one grid step accurate); ask with abscissae="exact", or psabscissa(A, ε) for one level`,
+			strings.Join(onGrid, ", "), spectra.WorkSeconds(budget)))
+	}
+	return r, nil
+}
+
+// stabGridAbscissae sets alpha[k] and pts[k] to the rightmost grid point of
+// ps with σ_min ≤ levels[k] (nan when there is none): a lower estimate of
+// α_ε, at most one grid step accurate.
+func stabGridAbscissae(ps *spectra.Pseudospectra, levels, alpha []float64, pts []complex128) {
+	for k, eps := range levels {
+		alpha[k], pts[k] = math.NaN(), complex(math.NaN(), 0)
+		for i, x := range ps.Re {
+			for j, y := range ps.Im {
+				if ps.At(i, j) <= eps && !(x <= alpha[k]) {
+					alpha[k], pts[k] = x, complex(x, y)
+				}
+			}
+		}
+	}
 }
 
 func psabscissaImpl(c *eval.Call) (value.Value, error) {
@@ -933,7 +975,7 @@ func resolventImpl(c *eval.Call) (value.Value, error) {
 		return nil, err
 	}
 	var s *spectra.Schur
-	if err := stabGuard(c, func() (e error) { s, e = spectra.NewSchur(op.Op); return }); err != nil {
+	if err := stabGuard(c, func() (e error) { s, e = spectra.NewSchurContext(c.Ctx, op.Op); return }); err != nil {
 		return nil, err
 	}
 	nrm := s.ResolventNorm(z)
@@ -986,7 +1028,7 @@ func resolventlineImpl(c *eval.Call) (value.Value, error) {
 		return nil, err
 	}
 	var s *spectra.Schur
-	if err := stabGuard(c, func() (e error) { s, e = spectra.NewSchur(op.Op); return }); err != nil {
+	if err := stabGuard(c, func() (e error) { s, e = spectra.NewSchurContext(c.Ctx, op.Op); return }); err != nil {
 		return nil, err
 	}
 	if !imSet {
@@ -1033,22 +1075,18 @@ func growthImpl(c *eval.Call) (value.Value, error) {
 		return nil, value.TypeErrorf(`growth: bounds must be a string: "auto", "all", "fast" or "none", not %s`, value.TypeName(bv))
 	}
 	switch bounds {
-	case "auto":
-		switch {
-		case n <= 50:
-			bounds = "all"
-		case n <= 300:
-			bounds = "fast"
-		default:
-			bounds = "none"
-		}
-	case "all", "fast", "none":
+	case "auto", "all", "fast", "none":
 	default:
 		return nil, value.ValueErrorf(`growth: unknown bounds %s; the choices are "auto", "all", "fast" and "none"`, bounds)
 	}
-	gopt := &spectra.GrowthOptions{Eps: stabGrowthEps, NoKreiss: bounds != "all", Weight: w, Progress: stabProgress(c)}
+	gopt := &spectra.GrowthOptions{Eps: stabGrowthEps, NoKreiss: bounds == "fast" || bounds == "none", Weight: w, Progress: stabProgress(c)}
 	if bounds == "none" {
 		gopt.Eps = nil
+	}
+	// "auto": every bound, each within a quarter of the interactive budget.
+	share := spectra.InteractiveWork / float64(len(stabGrowthEps)+1)
+	if bounds == "auto" {
+		gopt.Budget = share
 	}
 	var g *spectra.Growth
 	err = stabGuard(c, func() (e error) {
@@ -1095,6 +1133,16 @@ func growthImpl(c *eval.Call) (value.Value, error) {
 		r.Notes = append(r.Notes, `the Kreiss constant (and with it the upper bound e·N·K) was not computed: it is the costliest bound; kreiss(A) or bounds="all" computes it`)
 	case bounds == "none":
 		r.Notes = append(r.Notes, `the Kreiss and α_ε/ε bounds were not computed; bounds="fast" or "all" computes them`)
+	case len(g.Skipped) > 0:
+		ask := `bounds="all" computes every bound however long it takes`
+		if slices.Contains(g.Skipped, "Kreiss constant") {
+			ask += ", kreiss(A) the Kreiss constant alone"
+		}
+		if len(g.Skipped) > 1 || g.Skipped[0] != "Kreiss constant" {
+			ask += ", psabscissa(A, ε) one α_ε"
+		}
+		r.Notes = append(r.Notes, fmt.Sprintf("not computed: %s (and with them their bounds), each needing more than its share of the interactive work budget (about %.1f s here, %.1f s spent before giving up); %s",
+			strings.Join(g.Skipped, ", "), spectra.WorkSeconds(share), spectra.WorkSeconds(g.SkippedWork), ask))
 	}
 	return r, nil
 }

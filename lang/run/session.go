@@ -5,6 +5,7 @@ package run
 
 import (
 	"context"
+	"errors"
 	"fmt"
 	"sort"
 	"sync"
@@ -92,7 +93,7 @@ func (s *Session) ExecuteNamed(ctx context.Context, name, src string, out Output
 		}
 		v, err := execGuarded(ctx, in, script.File, st)
 		if err != nil {
-			return nil, nil, err
+			return nil, nil, interrupted(ctx, err, script.File, st)
 		}
 		s.publish(st)
 		s.warn(st, v, out)
@@ -109,6 +110,22 @@ func (s *Session) ExecuteNamed(ctx context.Context, name, src string, out Output
 		out.Display(b, md, "", false)
 	}
 	return nil, nil, nil
+}
+
+// interrupted returns err, or an Interrupted error at st when ctx was
+// cancelled: a computation stopped by the interrupt may fail in its own
+// words (a numerical routine that lost its input, an error that only says
+// "context canceled"), and the user should see that the cell was
+// interrupted. An InternalError is kept, being a bug to report.
+func interrupted(ctx context.Context, err error, f *syntax.File, st syntax.Stmt) error {
+	if ctx.Err() == nil {
+		return err
+	}
+	var e *eval.Error
+	if errors.As(err, &e) && (e.Name == "Interrupted" || e.Name == "InternalError") {
+		return err
+	}
+	return &eval.Error{Name: "Interrupted", Msg: "interrupted", File: f, Pos: st.Pos(), End: st.End()}
 }
 
 // publish copies the variable a completed statement assigned into the view.

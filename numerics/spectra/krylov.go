@@ -61,6 +61,7 @@ func PseudoKrylov(ctx context.Context, a linop.Operator, r Region, m int, opt *G
 		mz := make([]complex128, hm*m) // zĨ − H̃, row-major (m+1)×m
 		t := make([]complex128, m*m)   // −R, so that 0·I − t = R
 		ts := newTriSigma(t, m, o.Tol, o.MaxIter)
+		ts.done = ctx.Done()
 		return func(z complex128, warm bool) sigmaResult {
 			for k := range mz {
 				mz[k] = complex(-ks.h[k], 0)

@@ -66,6 +66,7 @@ func NumRangeContext(ctx context.Context, a linop.Operator, w Weight, nAngles in
 		return nr, nil
 	}
 	h := newHermParts(b)
+	h.ctx = ctx
 	for k := 0; k < nAngles; k++ {
 		if err := ctx.Err(); err != nil {
 			return nil, err
@@ -162,6 +163,8 @@ type hermParts struct {
 	b    *mat.Dense
 	n    int
 	s, k *mat.Dense
+	// ctx, if not nil, stops the Lanczos iteration of top with ctx.Err().
+	ctx context.Context
 }
 
 func newHermParts(b *mat.Dense) *hermParts {
@@ -276,6 +279,9 @@ func (h *hermParts) topLanczos(th float64) (float64, []complex128, error) {
 	maxIter := min(m, 400)
 	conv := false
 	for j := 0; j < maxIter; j++ {
+		if h.ctx != nil && h.ctx.Err() != nil {
+			return 0, nil, h.ctx.Err()
+		}
 		w := make([]float64, m)
 		apply(w, q[j])
 		alpha = append(alpha, floatsDot(q[j], w))

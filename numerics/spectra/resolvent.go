@@ -37,6 +37,7 @@ func (s *Schur) ResolventNorms(ctx context.Context, zs []complex128, opt *GridOp
 	unconv := make([]int, o.Workers)
 	err := parallelEach(ctx, o.Workers, len(zs), o.Progress, func(w int) func(int) {
 		ts := newTriSigma(s.T, s.N, o.Tol, o.MaxIter)
+		ts.done = ctx.Done()
 		return func(k int) {
 			r := ts.eval(zs[k], false, false)
 			p.Norm[k] = 1 / r.sigma

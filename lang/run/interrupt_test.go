@@ -1,0 +1,69 @@
+package run
+
+import (
+	"context"
+	"errors"
+	"testing"
+	"time"
+)
+
+// TestInterruptAnalysesKeepsSession interrupts long analysis cells 100 ms
+// after they start. Each must end with Interrupted within 0.5 s of the
+// interrupt (every one takes at least 5 s uncancelled on the 2-core
+// development machine), the next cell must run at once, and the session's
+// variables must be intact; the interrupted assignment changes nothing.
+func TestInterruptAnalysesKeepsSession(t *testing.T) {
+	s := NewSession()
+	mustExec(t, s, "g = interval(0, 1, 202)\nA = dense(0.005*laplacian(g) - deriv(g))\nh = interval(0, 1, 802)\nB = dense(0.01*laplacian(h) - deriv(h))\nx = 41")
+	for _, cell := range []string{
+		"y = kreiss(A)",                            // Kreiss search, order 200
+		"y = spectrum(B)",                          // dense QR with eigenvectors, order 800
+		`y = growth(B, bounds="all")`,              // 101 exponentials and SVDs of order 800
+		`y = pseudospectrum(A, abscissae="exact")`, // grid, then the α_ε searches
+		`y = growth(A, t=[0, 1], bounds="all")`,    // the α_ε and Kreiss bounds
+	} {
+		t.Run(cell, func(t *testing.T) {
+			ctx, cancel := context.WithCancel(context.Background())
+			defer cancel()
+			done := make(chan error, 1)
+			go func() {
+				_, _, err := s.Execute(ctx, cell, nil)
+				done <- err
+			}()
+			time.Sleep(100 * time.Millisecond)
+			start := time.Now()
+			cancel()
+			select {
+			case err := <-done:
+				var tr tracer
+				if !errors.As(err, &tr) || tr.ErrorName() != "Interrupted" {
+					t.Fatalf("err = %v, want Interrupted", err)
+				}
+				lat := time.Since(start)
+				t.Logf("interrupted %v after the cancellation", lat)
+				if lat > 500*time.Millisecond {
+					t.Errorf("stopped %v after the interrupt, more than 0.5 s", lat)
+				}
+			case <-time.After(30 * time.Second):
+				t.Fatal("not stopped 30 s after the interrupt")
+			}
+			start = time.Now()
+			data := mustExec(t, s, "1 + 1")
+			if d := time.Since(start); d > 500*time.Millisecond {
+				t.Errorf("the next cell took %v", d)
+			}
+			if got := data["text/plain"]; got != "2" {
+				t.Errorf("1 + 1 gave %v", got)
+			}
+			if got := mustExec(t, s, "x + 1")["text/plain"]; got != "42" {
+				t.Errorf("x + 1 gave %v after the interrupt", got)
+			}
+			if got := mustExec(t, s, "A[0, 0]")["text/plain"]; got == nil {
+				t.Error("A lost after the interrupt")
+			}
+			if _, ok := s.Lookup("y"); ok {
+				t.Error("the interrupted assignment took effect")
+			}
+		})
+	}
+}
