@@ -622,3 +622,45 @@ func TestGeneratorSparseSkew(t *testing.T) {
 		t.Errorf("verdict %s", rep.Verdict)
 	}
 }
+
+// The stationary distribution by GTH, entry by entry. A cycle 0 → 1 → … →
+// n−1 → 0 with rates r_i has π_i ∝ 1/r_i (flow balance π_i r_i = π_{i−1}
+// r_{i−1} around the cycle): with r_i = 10^{16i/(n−1)} the entries span 16
+// decades and the chain is not reversible. Every entry must have relative
+// error near n·u — which a subtracting solve need not give the smallest
+// ones. The star of TestMarkovStarReversible and the 3-cycle have closed
+// forms too; a reducible chain is refused.
+func TestMarkovStationaryGTH(t *testing.T) {
+	n := 40
+	q := mat.NewDense(n, n, nil)
+	r := make([]float64, n)
+	z := 0.0
+	for i := range r {
+		r[i] = math.Pow(10, 16*float64(i)/float64(n-1))
+		q.Set(i, (i+1)%n, r[i])
+		q.Set(i, i, -r[i])
+		z += 1 / r[i]
+	}
+	pi, err := stationaryGTH(q)
+	if err != nil {
+		t.Fatal(err)
+	}
+	worst := 0.0
+	for i, p := range pi {
+		worst = math.Max(worst, relDiff(p, 1/r[i]/z))
+	}
+	if worst > float64(n)*1e-15 {
+		t.Errorf("graded cycle: largest relative error of π %g", worst)
+	}
+	rep, err := Markov(bg, denseOp{q})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if rep.Reversible || rep.BirthDeath || !strings.Contains(rep.Method, "Grassmann–Taksar–Heyman") {
+		t.Errorf("reversible %v birth–death %v method %q", rep.Reversible, rep.BirthDeath, rep.Method)
+	}
+	if _, err := stationaryGTH(mat.NewDense(3, 3, []float64{-1, 1, 0, 0, -1, 1, 0, 0, 0})); err == nil || !strings.Contains(err.Error(), "not irreducible") {
+		t.Errorf("absorbing chain: %v", err)
+	}
+	t.Logf("graded cycle: largest relative error of π %.2g", worst)
+}
