@@ -17,7 +17,7 @@ var figureFamily = []*Builtin{
 			req("path", "the file name (overwritten)"),
 		},
 		Doc: "Writes the SVG figure that x shows in a notebook to a file, byte for byte the image/svg+xml part of its display, " +
-			"so a figure in a report is the one in the record. A value without a figure (a number, a vector, an operator) is an error naming its type.",
+			"so a figure in a report is the one in the record. A value without a figure (a number, a vector, an operator) is an error naming its type." + regularOnly,
 		Examples: []Example{
 			{`writesvg(spectrum({-1, 5 | 0, -2}), "/tmp/semiflow_writesvg_example.svg")`, ""},
 		},

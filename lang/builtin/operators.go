@@ -279,7 +279,8 @@ var operatorFamily = []*Builtin{
 		Name:   "readmm",
 		Params: []value.Param{req("path", "the file name")},
 		Doc: "Reads an operator from a Matrix Market file (the NIST exchange format: coordinate or array; real, integer or pattern; general, symmetric or skew-symmetric). " +
-			"Coordinate files give sparse operators, array files dense ones. A malformed file is reported with its line number.",
+			"Coordinate files give sparse operators, array files dense ones. A malformed file is reported with its line number. " +
+			"The size line is checked against the memory guard before any entry is read (a header declaring 10¹²×10¹² is refused at once), and entries are stored as they arrive." + regularOnly,
 		Examples: []Example{
 			{`writemm({2, 0 | 0, 3}, "/tmp/semiflow_readmm_example.mtx"); readmm("/tmp/semiflow_readmm_example.mtx") * [1, 1]`, "[2, 3]"},
 		},
@@ -292,7 +293,7 @@ var operatorFamily = []*Builtin{
 			req("path", "the file name (overwritten)"),
 		},
 		Doc: "Writes A to a Matrix Market file as real general data: in coordinate form (the stored nonzeros) for sparse operators, in array form for matrices and dense operators. " +
-			"Values are written in the shortest form that reads back exactly, so readmm(path) reproduces A.",
+			"Values are written in the shortest form that reads back exactly, so readmm(path) reproduces A." + regularOnly,
 		Examples: []Example{
 			{`writemm(deriv(interval(0, 1, 5), k=2), "/tmp/semiflow_writemm_example.mtx")`, ""},
 		},
@@ -305,7 +306,7 @@ var operatorFamily = []*Builtin{
 			req("path", "the file name (overwritten)"),
 		},
 		Doc: "Writes comma-separated values: a vector as one value per line; a matrix as one line per row; an analysis table (spectrum, growth, ...) as a header of its column names and one line per row, complex entries as a+bi; a solution as one line per output time, " +
-			"t, u_0(t), ..., u_{n−1}(t), after a header line t,u0,...,u{n−1} — in the order of the times given to propagate. Numbers are written in the shortest form that reads back exactly.",
+			"t, u_0(t), ..., u_{n−1}(t), after a header line t,u0,...,u{n−1} — in the order of the times given to propagate. Numbers are written in the shortest form that reads back exactly." + regularOnly,
 		Examples: []Example{
 			{`writecsv([1, 2.5], "/tmp/semiflow_writecsv_example.csv")`, ""},
 		},
@@ -319,7 +320,7 @@ var operatorFamily = []*Builtin{
 		},
 		Doc: "Writes x as JSON: numbers, strings and bools as themselves, vectors and lists as arrays, a matrix as an array of rows, a complex number as {\"re\": ..., \"im\": ...}, " +
 			"a grid as {\"grid\": description, \"x\": coordinates (and \"y\")}, an analysis result (spectrum, growth, ...) as its record {\"kind\", \"method\", \"accuracy\", \"facts\", \"columns\", \"rows\"}, a solution as {\"method\", \"reason\", \"tol\", \"times\", \"values\" (one array per time), \"errest\", \"matvecs\", \"solves\"}. " +
-			"nan and ±inf, which JSON cannot hold, are written as null. Operators are written with writemm.",
+			"nan and ±inf, which JSON cannot hold, are written as null. Operators are written with writemm." + regularOnly,
 		Examples: []Example{
 			{`writejson([1, 2, 3], "/tmp/semiflow_writejson_example.json")`, ""},
 		},
@@ -527,6 +528,10 @@ func ioMessage(err error) string {
 	}
 	return err.Error()
 }
+
+// regularOnly ends the documentation of every builtin that reads or
+// writes a file (see openRegular).
+const regularOnly = " Only a regular file is read or written: a directory, a device, a socket or a FIFO (named pipe) is refused with an IOError, so a pipe with nobody at the other end cannot block the session."
 
 // openRegular opens path for the builtin name with flag (os.O_RDONLY, or
 // os.O_WRONLY|os.O_CREATE|os.O_TRUNC) and refuses anything but a regular
