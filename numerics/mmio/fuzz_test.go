@@ -53,8 +53,9 @@ func FuzzRead(f *testing.F) {
 			err = WriteCoordinate(&buf, m.CSR(), m.Field, m.Symmetry)
 		}
 		if err != nil {
-			// Duplicate entries can make an accepted symmetric file's sum
-			// differ from what the header promises; only that may fail.
+			// Duplicate entries can make an accepted file's sums differ
+			// from what the header promises (a symmetry, or ones in a
+			// pattern file); only that may fail.
 			return
 		}
 		m2, err := Read(&buf)

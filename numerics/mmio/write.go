@@ -23,7 +23,8 @@ var ErrWrite = errors.New("mmio: matrix does not fit the requested header")
 // lower triangle is written for the latter two). Values are written with
 // the shortest representation that reads back exactly. Each comment is
 // written on its own line after the banner. It returns an error wrapping
-// ErrWrite if a does not have the requested symmetry or integer values.
+// ErrWrite if a does not have the requested symmetry, integer values, or
+// (for Pattern, which stores no values) values all 1.
 func WriteCoordinate(w io.Writer, a *linop.CSR, field, symmetry string, comments ...string) error {
 	if err := checkHeader(Coordinate, field, symmetry); err != nil {
 		return err
@@ -46,6 +47,9 @@ func WriteCoordinate(w io.Writer, a *linop.CSR, field, symmetry string, comments
 			}
 			if field == Integer && v != math.Trunc(v) {
 				return fmt.Errorf("%w: entry (%d, %d) = %g is not an integer", ErrWrite, i, j, v)
+			}
+			if field == Pattern && v != 1 {
+				return fmt.Errorf("%w: entry (%d, %d) = %g is not 1; a pattern file holds no values, so it reads back as 1", ErrWrite, i, j, v)
 			}
 			es = append(es, entry{i, j, v})
 		}
