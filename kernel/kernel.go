@@ -241,6 +241,8 @@ func (k *Kernel) Stats() Stats {
 			DroppedMessages:   a.DroppedMessages + b.DroppedMessages,
 			RenamedIdentities: a.RenamedIdentities + b.RenamedIdentities,
 			SuppressedLogs:    a.SuppressedLogs + b.SuppressedLogs,
+			Displaced:         a.Displaced + b.Displaced,
+			Refused:           a.Refused + b.Refused,
 		},
 		BufferedPeak:  k.budget.Peak(),
 		BadSignatures: k.badSig.Load(),

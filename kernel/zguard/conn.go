@@ -9,6 +9,7 @@ import (
 	"net"
 	"sync"
 	"sync/atomic"
+	"time"
 )
 
 // Errors that close a connection.
@@ -35,6 +36,8 @@ type conn struct {
 	release  func()
 	evicted  atomic.Bool // disconnected by the Budget
 	plog     peerLog
+	born     time.Time
+	active   atomic.Int64 // unix nanoseconds of the last accepted message; 0: none yet
 
 	swallow  int  // bytes of zmq4's greeting still to discard
 	sentOurs bool // zmq4's READY has gone out
@@ -51,7 +54,7 @@ type conn struct {
 }
 
 func newConn(c net.Conn, t *Transport, replay []byte, peerType string) *conn {
-	g := &conn{Conn: c, t: t, replay: replay, peerType: peerType, swallow: greetingLen, br: bufio.NewReaderSize(c, 4096)}
+	g := &conn{Conn: c, t: t, replay: replay, peerType: peerType, swallow: greetingLen, br: bufio.NewReaderSize(c, 4096), born: time.Now()}
 	g.cond = sync.NewCond(&g.mu)
 	go g.writer()
 	return g
@@ -81,6 +84,16 @@ func (g *conn) Read(p []byte) (int, error) {
 		}
 	}
 	return n, nil
+}
+
+// before reports whether g is to be displaced before h: never active
+// before active, then the least recently active, then the older.
+func (g *conn) before(h *conn) bool {
+	a, b := g.active.Load(), h.active.Load()
+	if a != b {
+		return a < b
+	}
+	return g.born.Before(h.born)
 }
 
 // frameCost is charged to the budget for each frame besides its bytes: the
@@ -158,6 +171,7 @@ func (g *conn) next() error {
 			return nil
 		}
 	}
+	g.active.Store(time.Now().UnixNano())
 	d := make(net.Buffers, 0, 2*len(frames))
 	for i, f := range frames {
 		fl := byte(0)
@@ -344,6 +358,7 @@ func (g *conn) Close() error {
 			g.release()
 		}
 		g.t.lim.Budget.give(g, -1)
+		g.t.forget(g)
 		g.closeLog()
 	})
 	return err

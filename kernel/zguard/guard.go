@@ -72,6 +72,14 @@ type Limits struct {
 	// MaxQueue is the number of bytes of outgoing messages that may wait
 	// for one slow peer (default 64 MiB).
 	MaxQueue int
+	// MaxConns bounds the connections of a Transport (default 1024; each
+	// costs about 13 KiB). A new one beyond it closes the connection least
+	// recently active: one that never had a message accepted by Check
+	// first, the oldest of those first.
+	MaxConns int
+	// MaxPending bounds the connections still in their handshake (default
+	// 256); beyond it a new connection is closed at once.
+	MaxPending int
 }
 
 // Default limits.
@@ -91,6 +99,8 @@ type Stats struct {
 	DroppedMessages   int64 // outgoing messages dropped because a peer's queue was full
 	RenamedIdentities int64 // peers given a fresh identity because theirs was in use
 	SuppressedLogs    int64 // log lines about peers left out by the rate limit
+	Displaced         int64 // connections closed to make room under MaxConns
+	Refused           int64 // connections closed at once: MaxPending handshakes under way
 }
 
 // Transport implements transport.Transport for tcp and unix sockets.
@@ -107,6 +117,12 @@ type Transport struct {
 	commands          atomic.Int64
 	droppedMessages   atomic.Int64
 	renamedIDs        atomic.Int64
+	displaced         atomic.Int64
+	refused           atomic.Int64
+	pending           atomic.Int64
+
+	mu    sync.Mutex
+	conns map[*conn]struct{} // live connections after their handshake
 }
 
 // New returns a guarded transport over network ("tcp" or "unix"). logf
@@ -128,10 +144,16 @@ func New(network string, lim Limits, logf func(format string, args ...any)) *Tra
 	if lim.MaxQueue <= 0 {
 		lim.MaxQueue = 64 << 20
 	}
+	if lim.MaxConns <= 0 {
+		lim.MaxConns = 1024
+	}
+	if lim.MaxPending <= 0 {
+		lim.MaxPending = 256
+	}
 	if logf == nil {
 		logf = func(string, ...any) {}
 	}
-	return &Transport{network: network, lim: lim, log: newRateLog(logf, allLines, logWindow, "lines about peers")}
+	return &Transport{network: network, lim: lim, log: newRateLog(logf, allLines, logWindow, "lines about peers"), conns: map[*conn]struct{}{}}
 }
 
 // Stats returns the counters so far.
@@ -146,6 +168,8 @@ func (t *Transport) Stats() Stats {
 		DroppedMessages:   t.droppedMessages.Load(),
 		RenamedIdentities: t.renamedIDs.Load(),
 		SuppressedLogs:    t.log.total.Load(),
+		Displaced:         t.displaced.Load(),
+		Refused:           t.refused.Load(),
 	}
 }
 
@@ -195,8 +219,46 @@ func (l *listener) loop() {
 			time.Sleep(10 * time.Millisecond)
 			continue
 		}
-		go l.handshake(c)
+		if l.t.pending.Add(1) > int64(l.t.lim.MaxPending) {
+			l.t.pending.Add(-1)
+			l.t.refused.Add(1)
+			l.t.log.printf("zguard: %s: %d handshakes under way already; closing the connection", c.RemoteAddr(), l.t.lim.MaxPending)
+			c.Close()
+			continue
+		}
+		go func() {
+			defer l.t.pending.Add(-1)
+			l.handshake(c)
+		}()
 	}
+}
+
+// admit counts g among the live connections, first closing the least
+// recently active one if the Transport is at MaxConns.
+func (t *Transport) admit(g *conn) {
+	t.mu.Lock()
+	var victim *conn
+	if len(t.conns) >= t.lim.MaxConns {
+		for c := range t.conns {
+			if victim == nil || c.before(victim) {
+				victim = c
+			}
+		}
+		delete(t.conns, victim) // no other admission picks it too
+	}
+	t.conns[g] = struct{}{}
+	t.mu.Unlock()
+	if victim != nil {
+		t.displaced.Add(1)
+		victim.logf("closed to make room: %d connections at most", t.lim.MaxConns)
+		victim.Close()
+	}
+}
+
+func (t *Transport) forget(g *conn) {
+	t.mu.Lock()
+	delete(t.conns, g)
+	t.mu.Unlock()
 }
 
 func (l *listener) Accept() (net.Conn, error) {
@@ -320,6 +382,7 @@ func (l *listener) handshake(c net.Conn) {
 			l.mu.Unlock()
 		}
 	}
+	t.admit(gc)
 	select {
 	case l.ready <- gc:
 	case <-l.done:

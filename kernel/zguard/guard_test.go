@@ -628,3 +628,74 @@ func TestCommandsIgnored(t *testing.T) {
 		t.Errorf("stats = %+v, want 5 commands", st)
 	}
 }
+
+// At MaxConns, a new connection displaces the one least recently active: a
+// peer that never had a message accepted goes before one that did.
+func TestConnectionCap(t *testing.T) {
+	tr, scheme := register(t, Limits{MaxConns: 8})
+	router := zmq4.NewRouter(context.Background())
+	defer router.Close()
+	addr := listen(t, router, scheme)
+	go echoRouter(router)
+	ctx := context.Background()
+	active := zmq4.NewDealer(ctx)
+	defer active.Close()
+	if err := active.Dial("tcp://" + addr); err != nil {
+		t.Fatal(err)
+	}
+	ask := func(text string) {
+		t.Helper()
+		if err := active.Send(zmq4.NewMsgString(text)); err != nil {
+			t.Fatal(err)
+		}
+		m, err := active.Recv()
+		if err != nil || string(m.Frames[len(m.Frames)-1]) != "re:"+text {
+			t.Fatalf("active peer: %q %v", m.Frames, err)
+		}
+	}
+	ask("first")
+	var idle []net.Conn
+	for range 20 {
+		c := rawPeer(t, addr, "DEALER", "")
+		defer c.Close()
+		idle = append(idle, c)
+	}
+	time.Sleep(100 * time.Millisecond)
+	ask("still here") // the active peer was never the one displaced
+	tr.mu.Lock()
+	n := len(tr.conns)
+	tr.mu.Unlock()
+	if n > 8 {
+		t.Errorf("%d live connections, cap 8", n)
+	}
+	if st := tr.Stats(); st.Displaced != 13 {
+		t.Errorf("stats = %+v, want 13 displaced (1 active + 20 idle into 8)", st)
+	}
+	closedByServer(t, idle[0], 3*time.Second) // the oldest idle one went first
+}
+
+// Beyond MaxPending handshakes under way, new connections are closed at
+// once; once the silent ones time out, clients connect again.
+func TestPendingCap(t *testing.T) {
+	tr, scheme := register(t, Limits{MaxPending: 4, Handshake: 300 * time.Millisecond})
+	router := zmq4.NewRouter(context.Background())
+	defer router.Close()
+	addr := listen(t, router, scheme)
+	go echoRouter(router)
+	for range 10 {
+		c, err := net.Dial("tcp", addr)
+		if err != nil {
+			t.Fatal(err)
+		}
+		defer c.Close()
+	}
+	deadline := time.Now().Add(3 * time.Second)
+	for tr.Stats().Refused < 6 && time.Now().Before(deadline) {
+		time.Sleep(10 * time.Millisecond)
+	}
+	if st := tr.Stats(); st.Refused != 6 {
+		t.Errorf("stats = %+v, want 6 refused", st)
+	}
+	time.Sleep(400 * time.Millisecond)
+	roundTrip(t, addr, "after the silent ones")
+}

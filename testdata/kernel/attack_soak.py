@@ -305,6 +305,28 @@ def attack_budget(k, kc):
                f"{statistics.median(lat)*1e3:.1f} / {max(lat)*1e3:.1f}")
 
 
+def attack_connection_flood(k, kc):
+    """6,000 connections that complete the handshake and then say nothing,
+    spread over the five ports, held open together."""
+    ports = [k.info[p] for p in ("shell_port", "control_port", "stdin_port", "iopub_port", "hb_port")]
+    types = ["DEALER", "DEALER", "DEALER", "SUB", "REQ"]
+    socks, failed = [], 0
+    for i in range(6000):
+        try:
+            socks.append(raw_peer(ports[i % 5], types[i % 5]))
+        except OSError:
+            failed += 1
+    time.sleep(1)
+    peak_fds = fds(k.pid)
+    ok = served(kc)
+    for s in socks:
+        s.close()
+    time.sleep(0.5)
+    check("6,000 idle connections: descriptors bounded, a client served", ok and peak_fds <= 2 * 1024 + 64,
+          f"kernel fds at most {peak_fds} (cap 1024 per transport); {failed} connects failed")
+    figure("descriptors held by the kernel under 6,000 idle connections", peak_fds)
+
+
 def attack_wrong_type(k, kc):
     before = fds(k.pid)
     n = 500
@@ -508,6 +530,10 @@ def parent_death():
 
 
 def main():
+    import resource
+    soft, hard = resource.getrlimit(resource.RLIMIT_NOFILE)
+    want = 8192 if hard == resource.RLIM_INFINITY else min(hard, 8192)
+    resource.setrlimit(resource.RLIMIT_NOFILE, (max(soft, want), hard))
     if not BINARY or not os.access(BINARY, os.X_OK):
         print(__doc__)
         print("0 passed, 1 failed (no semiflow binary given)")
@@ -521,6 +547,7 @@ def main():
         ("oversize frames, many peers", attack_oversize),
         ("budget: 40 peers near the cap", attack_budget),
         ("wrong socket type x500", attack_wrong_type),
+        ("6,000 idle connections", attack_connection_flood),
         ("replay x3", attack_replay),
         ("bad-signature flood", attack_bad_signatures),
         ("latency", measure_latency),
@@ -543,7 +570,7 @@ def main():
         hwm = k.hwm_mib()
         print(f"      ({time.time()-t0:.1f} s; VmHWM so far {hwm:.1f} MiB, VmRSS {k.rss_mib():.1f} MiB)", flush=True)
         if name in ("empty-frame flood", "oversize frames, many peers", "budget: 40 peers near the cap",
-                    "wrong socket type x500", "replay x3", "bad-signature flood"):
+                    "wrong socket type x500", "6,000 idle connections", "replay x3", "bad-signature flood"):
             peak_unauth = hwm
     figure("peak resident size (VmHWM) after the unauthenticated attacks (MiB)", f"{peak_unauth:.1f}")
     check(f"peak resident size under unauthenticated attacks <= {RSS_LIMIT_MIB} MiB", 0 < peak_unauth <= RSS_LIMIT_MIB,
