@@ -31,7 +31,7 @@ func TestDeclaredSizeGuard(t *testing.T) {
 	defer memguard.SetLimit(old)
 	for _, tc := range []struct{ name, src, what, need string }{
 		{"rows", "%%MatrixMarket matrix coordinate real general\n1000000000000 1000000000000 1\n1 1 1\n",
-			"the 1000000000000×1000000000000 coordinate matrix with 1 entries declared on line 2", "7.3 TiB"},
+			"the 1000000000000×1000000000000 coordinate matrix with 1 entry declared on line 2", "7.3 TiB"},
 		{"entries", "%%MatrixMarket matrix coordinate real general\n% a comment\n10 10 1000000000\n1 1 1\n",
 			"the 10×10 coordinate matrix with 1000000000 entries declared on line 3", "37 GiB"},
 		{"array", "%%MatrixMarket matrix array real general\n100000 100000\n1\n",

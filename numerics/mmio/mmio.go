@@ -324,7 +324,11 @@ func checkDeclared(h Header, dims []int, line int) error {
 			entries *= 2
 		}
 		need = entries*(tripletBytes+csrBytes) + (r+1)*memguard.RealBytes
-		what = fmt.Sprintf("the %d×%d coordinate matrix with %d entries declared on line %d", dims[0], dims[1], dims[2], line)
+		noun := "entries"
+		if dims[2] == 1 {
+			noun = "entry"
+		}
+		what = fmt.Sprintf("the %d×%d coordinate matrix with %d %s declared on line %d", dims[0], dims[1], dims[2], noun, line)
 	} else {
 		need = r * c * (tripletBytes + memguard.RealBytes)
 		what = fmt.Sprintf("the %d×%d array matrix declared on line %d", dims[0], dims[1], line)
