@@ -424,8 +424,9 @@ func Markov(ctx context.Context, q linop.Operator) (*MarkovReport, error) {
 	rep := &MarkovReport{BirthDeath: isBirthDeath(m)}
 	if rep.BirthDeath {
 		rep.Stationary = birthDeathStationary(m)
-	} else if rep.Stationary, err = stationaryGTH(m); err != nil {
-		return nil, err
+	} else if rep.Stationary, err = linop.Stationary(linop.CSRFromDense(m, 0)); err != nil {
+		// Q passed CheckGenerator above: this is the irreducibility test.
+		return nil, numErr("%s", strings.TrimPrefix(err.Error(), linop.ErrGenerator.Error()+": "))
 	}
 	piMin := math.Inf(1)
 	for _, p := range rep.Stationary {
@@ -547,7 +548,7 @@ func Markov(ctx context.Context, q linop.Operator) (*MarkovReport, error) {
 		}
 		rep.MixingTime = hi
 	}
-	piHow, piAcc := "π by the Grassmann–Taksar–Heyman elimination (no subtractions)", "every entry of π to a relative error of order n³·u at worst (O'Cinneide 1993), in practice far less"
+	piHow, piAcc := "π by the Grassmann–Taksar–Heyman elimination (no subtractions; linop.Stationary)", "every entry of π to a relative error of order n³·u at worst (O'Cinneide 1993), in practice far less"
 	if rep.BirthDeath {
 		piHow, piAcc = "π from the birth–death product π_{k+1} = π_k q_{k,k+1}/q_{k+1,k}", "π to relative 2n·u"
 	}
@@ -612,67 +613,6 @@ func birthDeathLogPiMin(m *mat.Dense) float64 {
 		lo = math.Min(lo, l)
 	}
 	return lo - logZ
-}
-
-// stationaryGTH returns π with πQ = 0, Σπ = 1 by the Grassmann–Taksar–
-// Heyman elimination (Operations Research 33, 1985): states n−1, …, 1 are
-// censored in turn (the rate i → j of the chain watched only on {0..k−1}
-// is q_ij + q_ik·q_kj/s_k, s_k = Σ_{j<k} q_kj), then π is rebuilt from
-// π_k s_k = Σ_{i<k} π_i q_ik. It uses no subtraction, so every entry of π
-// has a small relative error (O'Cinneide, Numer. Math. 65, 1993), however
-// widely the entries range; the diagonal of Q is not read. An s_k = 0 means
-// the chain is not irreducible (an error). Entries below the smallest
-// double underflow to 0.
-func stationaryGTH(m *mat.Dense) ([]float64, error) {
-	n, _ := m.Dims()
-	a := mat.DenseCopyOf(m)
-	s := make([]float64, n)
-	for k := n - 1; k >= 1; k-- {
-		row := a.RawRowView(k)[:k]
-		for _, v := range row {
-			s[k] += v
-		}
-		if !(s[k] > 0) {
-			return nil, numErr("state %d cannot reach any of the states 0..%d (after removing the states above it): the chain is not irreducible", k, k-1)
-		}
-		for j := range row {
-			row[j] /= s[k]
-		}
-		for i := 0; i < k; i++ {
-			aik := a.At(i, k)
-			if aik == 0 {
-				continue
-			}
-			ri := a.RawRowView(i)
-			for j := 0; j < k; j++ {
-				if j != i {
-					ri[j] += aik * row[j]
-				}
-			}
-		}
-	}
-	pi := make([]float64, n)
-	pi[0] = 1
-	for k := 1; k < n; k++ {
-		v := 0.0
-		for i := 0; i < k; i++ {
-			v += pi[i] * a.At(i, k)
-		}
-		pi[k] = v / s[k]
-		if pi[k] > 1e100 { // keep the prefix representable
-			for i := 0; i <= k; i++ {
-				pi[i] /= 1e100
-			}
-		}
-	}
-	sum := 0.0
-	for _, v := range pi {
-		sum += v
-	}
-	for i := range pi {
-		pi[i] /= sum
-	}
-	return pi, nil
 }
 
 // detailedBalance reports whether π_i q_ij = π_j q_ji for all i ≠ j, to

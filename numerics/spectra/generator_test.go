@@ -641,7 +641,7 @@ func TestMarkovStationaryGTH(t *testing.T) {
 		q.Set(i, i, -r[i])
 		z += 1 / r[i]
 	}
-	pi, err := stationaryGTH(q)
+	pi, err := linop.Stationary(linop.CSRFromDense(q, 0))
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -659,7 +659,7 @@ func TestMarkovStationaryGTH(t *testing.T) {
 	if rep.Reversible || rep.BirthDeath || !strings.Contains(rep.Method, "Grassmann–Taksar–Heyman") {
 		t.Errorf("reversible %v birth–death %v method %q", rep.Reversible, rep.BirthDeath, rep.Method)
 	}
-	if _, err := stationaryGTH(mat.NewDense(3, 3, []float64{-1, 1, 0, 0, -1, 1, 0, 0, 0})); err == nil || !strings.Contains(err.Error(), "not irreducible") {
+	if _, err := Markov(bg, op([][]float64{{-1, 1, 0}, {0, -1, 1}, {0, 0, 0}})); err == nil || !strings.Contains(err.Error(), "not irreducible") {
 		t.Errorf("absorbing chain: %v", err)
 	}
 	t.Logf("graded cycle: largest relative error of π %.2g", worst)
