@@ -386,6 +386,10 @@ func GeneratorReport(label string, ip string, g *spectra.GeneratorReport) *Analy
 	}
 	m := fnum(g.M)
 	switch {
+	case math.IsNaN(g.M):
+		m = "not estimated (" + g.Sampled + ")"
+	case math.IsInf(g.M, 1):
+		m = "inf: no bound M e^{ωt} exists for ω < α(A)"
 	case g.Dissipative:
 		m += " (exact: Lumer–Phillips)"
 	case g.M >= 1 && len(g.HY) > 0:

@@ -105,3 +105,16 @@ func TestReportsFlagDefective(t *testing.T) {
 		t.Errorf("gap fact %q", m.Facts[0].Value)
 	}
 }
+
+// M that could not be estimated (ω = α(A) within rounding, not
+// dissipative) or does not exist (ω < α(A)) is said in words.
+func TestGeneratorReportNoM(t *testing.T) {
+	g := &spectra.GeneratorReport{N: 2, M: math.NaN(), Sampled: "none: ω = α(A) within rounding", Verdict: "v"}
+	if v := GeneratorReport("A", "ip", g).Facts[4].Value; v != "not estimated (none: ω = α(A) within rounding)" {
+		t.Errorf("NaN M: %q", v)
+	}
+	g.M = math.Inf(1)
+	if v := GeneratorReport("A", "ip", g).Facts[4].Value; !strings.HasPrefix(v, "inf: no bound") {
+		t.Errorf("infinite M: %q", v)
+	}
+}
