@@ -101,6 +101,30 @@ var propagateFamily = []*Builtin{
 			return value.RealVec(append([]float64(nil), s.S.ErrEst...)), nil
 		},
 	},
+	{
+		Name:   "crossdiff",
+		Params: []value.Param{req("sol", "a solution from propagate with crosscheck=true")},
+		Doc: "The largest difference max_k ‖sol[k] − v_k‖∞ between a solution and the values v_k of its cross-check, the second, independent method that crosscheck=true runs. " +
+			"Both results lie within their error estimates of the true solution when the estimates hold, so the difference should not exceed the sum of the two estimates. " +
+			"An error when no cross-check was asked for, or says why none could be run.",
+		Examples: []Example{
+			{"crossdiff(propagate({-1, 1 | 0, -2}, [1, 1], 1, crosscheck=true)) < 1e-8", "true"},
+		},
+		Impl: func(c *eval.Call) (value.Value, error) {
+			s, err := argSolution(c, 0)
+			if err != nil {
+				return nil, err
+			}
+			switch cc := s.S.Cross; {
+			case cc == nil:
+				return nil, value.ValueErrorf("crossdiff: this solution has no cross-check; propagate with crosscheck=true")
+			case cc.Skipped != "":
+				return nil, value.ValueErrorf("crossdiff: the cross-check was not run: %s", cc.Skipped)
+			default:
+				return value.Num(cc.MaxDiff), nil
+			}
+		},
+	},
 }
 
 func argSolution(c *eval.Call, i int) (*objects.Solution, error) {

@@ -149,6 +149,41 @@ b = propagate({-1}, [0], [1, 3], nonlinear=N)`)
 	}
 }
 
+// The issue's cases: a nonlinear result says how many steps it took and
+// whether tol was met; crosscheck=true runs a second method with forcing
+// and nonlinear terms too; a jump of the forcing is reported when not
+// given and gone when given. Closed form (variation of constants, by hand):
+// u' = −u + [t < 1], u(0) = 0 has u(2.5) = (e − 1)e^{−2.5}.
+func TestForcingSwitchesAndCrosscheck(t *testing.T) {
+	s := run.NewSession()
+	exec(t, s, `pulse(t) = choose(t < 1, 1, 0)
+q = propagate({-1, 0 | 0, -2}, [0, 0], 2.5, forcing=pulse)
+p = propagate({-1, 0 | 0, -2}, [0, 0], 2.5, forcing=pulse, switches=1, crosscheck=true)
+negsq(u) = -u^2
+g = propagate({1}, [0.1], 4, nonlinear=negsq, crosscheck=true)`)
+	want := (math.E - 1) * math.Exp(-2.5)
+	q := lookup[*objects.Solution](t, s, "q")
+	p := lookup[*objects.Solution](t, s, "p")
+	for _, sol := range []*objects.Solution{p, q} {
+		if e := math.Abs(sol.S.Values[0][0] - want); e > sol.S.ErrEst[0] || e > 1e-7 {
+			t.Errorf("error %.3g, estimate %.3g", e, sol.S.ErrEst[0])
+		}
+	}
+	if txt := q.String(); !strings.Contains(txt, "near t ≈ 1") || !strings.Contains(txt, "switches") {
+		t.Errorf("the jump at t = 1 is not reported:\n%s", txt)
+	}
+	if txt := p.String(); strings.Contains(txt, "jumps") || strings.Contains(txt, "not asked") || !strings.Contains(txt, "imex-ars443") {
+		t.Errorf("with switches and crosscheck:\n%s", txt)
+	}
+	g := lookup[*objects.Solution](t, s, "g")
+	if txt := g.String(); !strings.Contains(txt, "accepted") || !strings.Contains(txt, "rejected") || !strings.Contains(txt, "imex-ars443") {
+		t.Errorf("nonlinear result:\n%s", txt)
+	}
+	if !g.S.TolMet || g.S.Cross == nil || g.S.Cross.MaxDiff > g.S.MaxErrEst()+g.S.Cross.ErrEst {
+		t.Errorf("nonlinear: met %v, cross %+v, estimate %.3g", g.S.TolMet, g.S.Cross, g.S.MaxErrEst())
+	}
+}
+
 // recorder collects display events concurrently.
 type recorder struct {
 	mu    sync.Mutex

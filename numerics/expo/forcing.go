@@ -21,7 +21,7 @@ type Forcing struct {
 	Func func(t float64, dst []float64)
 	// Degree is the interpolation degree used for Func on each piece
 	// (default 6); Pieces is the number of pieces each stretch between
-	// stopping times starts with (default 4); pieces are halved until the
+	// stopping times starts with (default 1); pieces are halved until the
 	// interpolation error fits the tolerance.
 	Degree, Pieces int
 	// Breaks are times where Func may jump (a source switched on or off).
@@ -34,9 +34,24 @@ type Forcing struct {
 // with y_0' = 0 and y_j' = y_{j−1}, so that y_j(t) = t^j/j! from
 // y(0) = e_0 and u' = Au + Σ_j w_j t^j/j! (Al-Mohy & Higham, SIAM J. Sci.
 // Comput. 2011, Theorem 2.1, with the polynomial written in this basis).
+//
+// With h > 0 the basis is scaled to the piece [0, h]: y_j' = y_{j−1}/h,
+// so y_j(τ) = (τ/h)^j/j! and w_j = j!·c_j for the monomial coefficients
+// c_j in s = τ/h. Then ‖W‖ stays the size of f however short the piece,
+// and ‖hJ‖ = 1: the unscaled basis would need w_j ∝ h^{−j}, which on
+// pieces of length 1e-12 (around a jump) overflows the error estimates.
 type augmented struct {
 	a linop.Operator
 	w [][]float64
+	h float64
+}
+
+// sub is the entry (j, j−1) of J.
+func (g *augmented) sub(j int) float64 {
+	if g.h > 0 {
+		return 1 / g.h
+	}
+	return 1
 }
 
 func (g *augmented) Dims() (r, c int) {
@@ -60,7 +75,7 @@ func (g *augmented) Apply(dst, x []float64) {
 	}
 	dst[n] = 0
 	for j := 1; j < p; j++ {
-		dst[n+j] = x[n+j-1]
+		dst[n+j] = g.sub(j) * x[n+j-1]
 	}
 }
 
@@ -77,7 +92,7 @@ func (g *augmented) ApplyT(dst, x []float64) {
 			s += v * x[i]
 		}
 		if j+1 < p {
-			s += x[n+j+1]
+			s += g.sub(j+1) * x[n+j+1]
 		}
 		dst[n+j] = s
 	}
@@ -98,7 +113,7 @@ func (g *augmented) ToDense() (*mat.Dense, error) {
 			m.Set(i, n+j, v)
 		}
 		if j > 0 {
-			m.Set(n+j, n+j-1, 1)
+			m.Set(n+j, n+j-1, g.sub(j))
 		}
 	}
 	return m, nil

@@ -75,7 +75,7 @@ func forcedFunc(ctx context.Context, A linop.Operator, u0 []float64, f Forcing, 
 	}
 	pieces := f.Pieces
 	if pieces <= 0 {
-		pieces = 4
+		pieces = 1
 	}
 	tmax := 0.0
 	for _, t := range times {
@@ -200,7 +200,8 @@ func forcedFunc(ctx context.Context, A linop.Operator, u0 []float64, f Forcing, 
 			if slow >= forceSlowRuns {
 				rough = append(rough, pc)
 			}
-			// Σ_j c_j s^j = Σ_j w_j τ^j/j! with w_j = c_j j!/H^j.
+			// f ≈ Σ_j c_j (τ/H)^j = Σ_j w_j (τ/H)^j/j! on the piece, in
+			// the scaled basis: w_j = j!·c_j.
 			w := make([][]float64, q+1)
 			fact := 1.0
 			for j := 0; j <= q; j++ {
@@ -208,12 +209,11 @@ func forcedFunc(ctx context.Context, A linop.Operator, u0 []float64, f Forcing, 
 					fact *= float64(j)
 				}
 				w[j] = make([]float64, n)
-				sj := fact / math.Pow(H, float64(j))
 				for r := 0; r < n; r++ {
-					w[j][r] = C.At(j, r) * sj
+					w[j][r] = fact * C.At(j, r)
 				}
 			}
-			aug := &augmented{a: A, w: w}
+			aug := &augmented{a: A, w: w, h: H}
 			x0 := make([]float64, n+q+1)
 			copy(x0, u)
 			x0[n] = 1
