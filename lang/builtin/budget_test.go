@@ -3,7 +3,9 @@ package builtin_test
 import (
 	"context"
 	"errors"
+	"math"
 	"strings"
+	"syscall"
 	"testing"
 
 	"semiflow/lang/eval"
@@ -94,4 +96,45 @@ func TestPseudospectrumAbscissae(t *testing.T) {
 	if !errors.As(err, &ee) || ee.Name != "ValueError" || !strings.Contains(ee.Msg, `"auto", "exact" or "grid"`) {
 		t.Errorf("bad abscissae: got %v", err)
 	}
+}
+
+// Benchmarks of the default budgets on the order-120 convection–diffusion
+// operator, through the language (the reports of 2026-12-02: growth with
+// default bounds did not finish in 12 minutes, pseudospectrum on a 5×5
+// grid took over 2 minutes). Run with
+//
+//	go test ./lang/builtin -run '^$' -bench Budget -benchtime 3x
+//
+// Besides the wall time they report the CPU seconds of the process per
+// operation (cpu-s/op), which a busy machine does not inflate.
+func BenchmarkBudgetGrowthDefault120(b *testing.B) {
+	benchBudget(b, "x = growth(A)")
+}
+
+func BenchmarkBudgetPseudospectrum120Grid5(b *testing.B) {
+	benchBudget(b, "x = pseudospectrum(A, n=5)")
+}
+
+func benchBudget(b *testing.B, src string) {
+	s := run.NewSession()
+	if _, _, err := s.Execute(context.Background(), budgetSetup, nil); err != nil {
+		b.Fatal(err)
+	}
+	b.ResetTimer()
+	c0 := cpuSeconds()
+	for i := 0; i < b.N; i++ {
+		if _, _, err := s.Execute(context.Background(), src, nil); err != nil {
+			b.Fatal(err)
+		}
+	}
+	b.ReportMetric((cpuSeconds()-c0)/float64(b.N), "cpu-s/op")
+}
+
+// cpuSeconds is the user and system CPU time of this process.
+func cpuSeconds() float64 {
+	var ru syscall.Rusage
+	if err := syscall.Getrusage(syscall.RUSAGE_SELF, &ru); err != nil {
+		return math.NaN()
+	}
+	return float64(ru.Utime.Nano()+ru.Stime.Nano()) / 1e9
 }
