@@ -90,6 +90,9 @@ func (s *Solution) summary() *textTable {
 	} else {
 		t.add("tolerance met", "yes")
 	}
+	if S.Escalation != "" {
+		t.add("escalation", S.Escalation)
+	}
 	t.add("matrix–vector products", fmt.Sprint(S.MatVecs))
 	t.add("shifted solves", fmt.Sprintf("%d (%d factorisations)", S.Solves, S.Factors))
 	t.add("time taken", S.Elapsed.Round(time.Microsecond).String())
@@ -123,6 +126,9 @@ func (s *Solution) Record() map[string]any {
 	}
 	if m := s.shortfall(); m != "" {
 		r["shortfall"] = m
+	}
+	if S.Escalation != "" {
+		r["escalation"] = S.Escalation
 	}
 	if c := S.Cross; c != nil && c.Skipped != "" {
 		r["crosscheck"] = map[string]any{"method": c.Method, "skipped": c.Skipped}

@@ -19,7 +19,17 @@ func denseExpErr(n int, hnorm float64, E *mat.Dense) float64 {
 }
 
 // denseRun steps u through the sorted times with dense exponentials
-// e^{hA}, one per distinct step length h.
+// e^{hA}, one per distinct step length h (a step equal to the one before
+// up to rounding in the times reuses its exponential; the estimate adds
+// the resulting shift of the time, |Δt|·‖A‖_∞·‖u‖_∞).
+//
+// Each step makes a local error δ_i ≤ ε(h)·‖u_{i−1}‖_∞ (denseExpErr), which
+// later steps carry forward. The first estimate multiplies the carried
+// error by ‖E‖_∞ per step; when that misses the tolerance (‖E‖_∞ > 1 for a
+// non-normal A is enough: ‖E‖^k grows geometrically while ‖E^k‖ may stay
+// bounded, as for a damped oscillator) it is sharpened: with equal steps
+// to Σ_j ‖E^{i−j}‖_∞ δ_j from the explicit powers E^k, otherwise by
+// exponentials e^{t_i A}u0 straight from u0, one per time.
 func denseRun(ctx context.Context, A linop.Operator, u0 []float64, times []float64, opts Options, vals [][]float64, errs []float64) error {
 	a, err := toDense(A)
 	if err != nil {
@@ -27,38 +37,110 @@ func denseRun(ctx context.Context, A linop.Operator, u0 []float64, times []float
 	}
 	n := len(u0)
 	norm := mat.Norm(a, 1)
+	normI := mat.Norm(a, math.Inf(1))
 	cache := map[float64]*mat.Dense{}
 	cacheErr := map[float64]float64{}
+	expOf := func(h float64) (*mat.Dense, error) {
+		if E, ok := cache[h]; ok {
+			return E, nil
+		}
+		var ha, e mat.Dense
+		ha.Scale(h, a)
+		if _, err := ExpContext(ctx, &e, &ha); err != nil {
+			return nil, err
+		}
+		cache[h], cacheErr[h] = &e, denseExpErr(n, h*norm, &e)
+		return &e, nil
+	}
 	u := append([]float64(nil), u0...)
 	w := make([]float64, n)
-	acc := 0.0
-	prev := 0.0
+	local := make([]float64, len(times)) // δ_i, the error made by step i
+	shift := make([]float64, len(times)) // |τ_i − t_i|·‖A‖_∞·‖u_i‖_∞
+	steps := make([]int, len(times))     // steps taken up to time i
+	acc, prev, tau, hLast, k := 0.0, 0.0, 0.0, 0.0, 0
 	for i, t := range times {
 		if err := ctx.Err(); err != nil {
 			return err
 		}
 		h := t - prev
 		prev = t
-		if h > 0 {
-			E, ok := cache[h]
-			if !ok {
-				var ha, e mat.Dense
-				ha.Scale(h, a)
-				if _, err := ExpContext(ctx, &e, &ha); err != nil {
-					return err
-				}
-				E = &e
-				cache[h] = E
-				cacheErr[h] = denseExpErr(n, h*norm, E)
-			}
-			gemv(E, false, w, u)
-			acc = acc*mat.Norm(E, math.Inf(1)) + cacheErr[h]*normInf(u)
-			u, w = w, u
+		if hLast > 0 && math.Abs(h-hLast) <= 64*unitRoundoff*t {
+			h = hLast
 		}
+		if h > 0 {
+			E, err := expOf(h)
+			if err != nil {
+				return err
+			}
+			local[i] = cacheErr[h] * normInf(u)
+			gemv(E, false, w, u)
+			acc = acc*mat.Norm(E, math.Inf(1)) + local[i]
+			u, w = w, u
+			hLast, tau, k = h, tau+h, k+1
+		}
+		steps[i] = k
 		vals[i] = append([]float64(nil), u...)
-		errs[i] = acc
+		shift[i] = math.Abs(tau-t) * normI * normInf(u)
+		errs[i] = acc + shift[i]
 		if opts.Progress != nil {
 			opts.Progress(i+1, len(times))
+		}
+	}
+	worst := 0.0
+	for _, e := range errs {
+		worst = math.Max(worst, e)
+	}
+	if len(times) < 2 || worst <= opts.Tol*normInf(u0) {
+		return nil
+	}
+	// Sharpen. Equal steps: g[k] = ‖E^k‖_∞ from the explicit powers.
+	if len(cache) == 1 && k <= 4096 {
+		var E *mat.Dense
+		for _, e := range cache {
+			E = e
+		}
+		g := make([]float64, k+1)
+		g[0] = 1
+		P, next := mat.DenseCopyOf(E), mat.NewDense(n, n, nil)
+		for q := 1; q <= k; q++ {
+			if q > 1 {
+				if err := ctx.Err(); err != nil {
+					return err
+				}
+				next.Mul(E, P)
+				P, next = next, P
+			}
+			g[q] = mat.Norm(P, math.Inf(1))
+		}
+		for i := range times {
+			e := 0.0
+			for j := 0; j <= i; j++ {
+				if local[j] > 0 {
+					e += g[steps[i]-steps[j]] * local[j]
+				}
+			}
+			errs[i] = math.Min(errs[i], e+shift[i])
+		}
+		return nil
+	}
+	// Different steps, few times: each time straight from u0.
+	if len(times) <= 32 {
+		u0n := normInf(u0)
+		for i, t := range times {
+			if t == 0 {
+				continue
+			}
+			if err := ctx.Err(); err != nil {
+				return err
+			}
+			E, err := expOf(t)
+			if err != nil {
+				return err
+			}
+			if e := cacheErr[t] * u0n; e < errs[i] {
+				gemv(E, false, vals[i], u0)
+				errs[i] = e
+			}
 		}
 	}
 	return nil
