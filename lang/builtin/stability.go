@@ -195,7 +195,7 @@ var stabilityFamily = []*Builtin{
 		Doc: "The continuous-time Markov chain with rate matrix Q, whose distributions evolve by p' = pQ (row vectors), p(t) = p(0)e^{tQ}: the stationary distribution π (πQ = 0, Σπ_i = 1), the spectral gap −max{Re λ : λ ∈ σ(Q), λ ≠ 0} and relaxation time 1/gap, " +
 			"the mixing time t_mix = min{t : max_i ‖e_iᵀe^{tQ} − π‖_TV ≤ 1/4} from dense exponentials by bisection, the bound ln(4/π_min)/gap (for reversible chains; Levin, Peres & Wilmer 2009) and whether detailed balance holds. " +
 			"For two states with rates a (0→1) and b (1→0): π = (b, a)/(a + b), gap = a + b. A matrix that is not a rate matrix (a negative rate, or a row sum beyond the rounding n·u·Σ_j|q_ij|) is an error saying why. " +
-			"A reversible chain (always a birth–death one) has its gap from the symmetric D^{1/2}QD^{-1/2} = [√(q_ij q_ji)], D = diag(π), by a symmetric eigensolver (tridiagonal for birth–death), exact to n·u·‖S‖_F however strongly graded Q is; a birth–death π comes from the products of the rates. The gap is shown with its error bound.",
+			"A reversible chain (always a birth–death one) has its gap from the symmetric D^{1/2}QD^{-1/2} = [√(q_ij q_ji)], D = diag(π), by a symmetric eigensolver (tridiagonal for birth–death), exact to n·u·‖S‖_F however strongly graded Q is; π comes from the products of the rates for a birth–death chain and otherwise from the subtraction-free elimination of Grassmann, Taksar & Heyman (1985), so every entry is accurate however widely they range; a chain that is not irreducible is an error. The gap is shown with its error bound.",
 		Examples: []Example{
 			{"markov({-1, 1 | 3, -3})[0, 1]", "0.75"},
 		},
