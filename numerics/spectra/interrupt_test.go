@@ -213,6 +213,18 @@ func TestBudgetSkipsAndKeeps(t *testing.T) {
 			t.Errorf("α_ε = %.15g, want −0.75 (α + ε)", g.EpsBounds[0].Alpha)
 		}
 	})
+	t.Run("kreiss-known-too-costly", func(t *testing.T) {
+		// 28 values of x times at least one sample each, every sample at
+		// least one Lanczos step of 200² units: more than 1e6 before any
+		// work is done, so nothing is spent.
+		g, err := GrowthCurve(bg, shiftedGrcar(200), []float64{0, 1}, &GrowthOptions{Budget: 1e6})
+		if err != nil {
+			t.Fatal(err)
+		}
+		if g.Kreiss != nil || len(g.Skipped) != 1 || g.Skipped[0] != "Kreiss constant" || g.SkippedWork != 0 {
+			t.Fatalf("Kreiss %v, skipped %q after %g units; want skipped at once", g.Kreiss, g.Skipped, g.SkippedWork)
+		}
+	})
 	t.Run("convection-diffusion", func(t *testing.T) {
 		c, _, _, _ := convDiff1D(120, 0.01, 1)
 		g, err := GrowthCurve(bg, c, []float64{0, 1}, &GrowthOptions{Eps: []float64{1e-1, 1e-3}, NoKreiss: true, Budget: 3e8})

@@ -435,12 +435,7 @@ func dedupe(x []float64, tol float64) []float64 {
 // golden-section search. It returns early, with a meaningless value, once
 // ctx is cancelled; the caller checks ctx.
 func (sh *shape) minOverLine(ctx context.Context, x float64) (float64, float64) {
-	ys := append([]float64{0}, sh.lineStarts()...)
-	for _, y := range linspace(0, sh.spreadImag, 25) {
-		ys = append(ys, y)
-	}
-	sort.Float64s(ys)
-	ys = dedupe(ys, 1e-9*(1+sh.spreadImag))
+	ys := sh.lineSamples()
 	// One solver per line, warm-started from the previous (nearby) point's
 	// singular vector with a little of the fixed cold start mixed in.
 	// The scan only ranks the samples (to 5e-7): the best three are
@@ -487,6 +482,18 @@ func (sh *shape) minOverLine(ctx context.Context, x float64) (float64, float64) 
 	return bestV, bestY
 }
 
+// lineSamples returns the values of y at which minOverLine samples
+// σ_min((x + iy)I − A): 0, the eigenvalues' imaginary parts and 25 points
+// over W(A)'s extent in Im z, sorted, without duplicates.
+func (sh *shape) lineSamples() []float64 {
+	ys := append([]float64{0}, sh.lineStarts()...)
+	for _, y := range linspace(0, sh.spreadImag, 25) {
+		ys = append(ys, y)
+	}
+	sort.Float64s(ys)
+	return dedupe(ys, 1e-9*(1+sh.spreadImag))
+}
+
 // KreissResult is the Kreiss constant K(A) = sup_{Re z > 0} Re z ‖(zI − A)⁻¹‖₂.
 type KreissResult struct {
 	K        float64    // +Inf if α(A) ≥ 0
@@ -514,6 +521,11 @@ func (sh *shape) kreiss(ctx context.Context) (*KreissResult, error) {
 	xs := make([]float64, 28)
 	for k := range xs {
 		xs[k] = lo * math.Pow(hi/lo, float64(k)/float64(len(xs)-1))
+	}
+	// Each sample of the scan costs at least one Lanczos step: a budget
+	// below that is known to run out before the scan ends.
+	if b := sh.budget; b != nil && float64(len(xs)*len(sh.lineSamples()))*float64(sh.s.N)*float64(sh.s.N) > float64(b.limit) {
+		return nil, ErrBudget
 	}
 	vals := make([]float64, len(xs))
 	parallelFor(ctx, len(xs), func(k int) {
