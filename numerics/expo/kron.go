@@ -23,8 +23,10 @@ func denseExpErr(n int, hnorm float64, E *mat.Dense) float64 {
 // up to rounding in the times reuses its exponential; the estimate adds
 // the resulting shift of the time, |Δt|·‖A‖_∞·‖u‖_∞).
 //
-// Each step makes a local error δ_i ≤ ε(h)·‖u_{i−1}‖_∞ (denseExpErr), which
-// later steps carry forward. The first estimate multiplies the carried
+// Each step makes a local error δ_i, estimated a posteriori as
+// 4‖(E − E₂)u_{i−1}‖_∞ + 2√n·u·‖|E||u_{i−1}|‖_∞ with E₂ from secondRoute
+// (the a priori denseExpErr when that fails), which later steps carry
+// forward. The first estimate multiplies the carried
 // error by ‖E‖_∞ per step; when that misses the tolerance (‖E‖_∞ > 1 for a
 // non-normal A is enough: ‖E‖^k grows geometrically while ‖E^k‖ may stay
 // bounded, as for a damped oscillator) it is sharpened: with equal steps
@@ -38,19 +40,43 @@ func denseRun(ctx context.Context, A linop.Operator, u0 []float64, times []float
 	n := len(u0)
 	norm := mat.Norm(a, 1)
 	normI := mat.Norm(a, math.Inf(1))
-	cache := map[float64]*mat.Dense{}
-	cacheErr := map[float64]float64{}
-	expOf := func(h float64) (*mat.Dense, error) {
-		if E, ok := cache[h]; ok {
-			return E, nil
+	type stepExp struct {
+		E, D, absE *mat.Dense // e^{hA}, the difference to the second route, |e^{hA}|
+		apriori    float64    // denseExpErr, used when the second route fails
+	}
+	cache := map[float64]*stepExp{}
+	expOf := func(h float64) (*stepExp, error) {
+		if st, ok := cache[h]; ok {
+			return st, nil
 		}
 		var ha, e mat.Dense
 		ha.Scale(h, a)
 		if _, err := ExpContext(ctx, &e, &ha); err != nil {
 			return nil, err
 		}
-		cache[h], cacheErr[h] = &e, denseExpErr(n, h*norm, &e)
-		return &e, nil
+		st := &stepExp{E: &e, apriori: denseExpErr(n, h*norm, &e)}
+		if D, err := secondRoute(ctx, &ha, &e); err == nil {
+			st.D = D
+			st.absE = mat.NewDense(n, n, nil)
+			st.absE.Apply(func(_, _ int, v float64) float64 { return math.Abs(v) }, &e)
+		} else if ctx.Err() != nil {
+			return nil, ctx.Err()
+		}
+		cache[h] = st
+		return st, nil
+	}
+	// localErr estimates the error of E·x for the step's E.
+	tmpD, tmpA, absX := make([]float64, n), make([]float64, n), make([]float64, n)
+	localErr := func(st *stepExp, x []float64) float64 {
+		if st.D == nil {
+			return st.apriori * normInf(x)
+		}
+		gemv(st.D, false, tmpD, x)
+		for i, v := range x {
+			absX[i] = math.Abs(v)
+		}
+		gemv(st.absE, false, tmpA, absX)
+		return 4*normInf(tmpD) + 2*math.Sqrt(float64(n))*unitRoundoff*normInf(tmpA)
 	}
 	u := append([]float64(nil), u0...)
 	w := make([]float64, n)
@@ -68,13 +94,13 @@ func denseRun(ctx context.Context, A linop.Operator, u0 []float64, times []float
 			h = hLast
 		}
 		if h > 0 {
-			E, err := expOf(h)
+			st, err := expOf(h)
 			if err != nil {
 				return err
 			}
-			local[i] = cacheErr[h] * normInf(u)
-			gemv(E, false, w, u)
-			acc = acc*mat.Norm(E, math.Inf(1)) + local[i]
+			local[i] = localErr(st, u)
+			gemv(st.E, false, w, u)
+			acc = acc*mat.Norm(st.E, math.Inf(1)) + local[i]
 			u, w = w, u
 			hLast, tau, k = h, tau+h, k+1
 		}
@@ -96,8 +122,8 @@ func denseRun(ctx context.Context, A linop.Operator, u0 []float64, times []float
 	// Sharpen. Equal steps: g[k] = ‖E^k‖_∞ from the explicit powers.
 	if len(cache) == 1 && k <= 4096 {
 		var E *mat.Dense
-		for _, e := range cache {
-			E = e
+		for _, st := range cache {
+			E = st.E
 		}
 		g := make([]float64, k+1)
 		g[0] = 1
@@ -125,7 +151,6 @@ func denseRun(ctx context.Context, A linop.Operator, u0 []float64, times []float
 	}
 	// Different steps, few times: each time straight from u0.
 	if len(times) <= 32 {
-		u0n := normInf(u0)
 		for i, t := range times {
 			if t == 0 {
 				continue
@@ -133,17 +158,57 @@ func denseRun(ctx context.Context, A linop.Operator, u0 []float64, times []float
 			if err := ctx.Err(); err != nil {
 				return err
 			}
-			E, err := expOf(t)
+			st, err := expOf(t)
 			if err != nil {
 				return err
 			}
-			if e := cacheErr[t] * u0n; e < errs[i] {
-				gemv(E, false, vals[i], u0)
+			if e := localErr(st, u0); e < errs[i] {
+				gemv(st.E, false, vals[i], u0)
 				errs[i] = e
 			}
 		}
 	}
 	return nil
+}
+
+// secondRoute computes e^{hA} a second way, as the cube of e^{hÃ/3} with
+// every entry of hA perturbed by a relative ±u (signs from a fixed
+// sequence), and returns the difference from E. Its product with the
+// current vector estimates the step's error a posteriori: the two routes
+// use different scalings (a factor 3, not a power of 2, which would
+// repeat the same operations exactly), so they round differently in the
+// Padé evaluation and the squarings, and the perturbation carries the sensitivity of
+// e^{hA} to the rounding of A's entries, which both routes share and
+// which dominates for a non-normal A of large norm (‖e^{sA}‖ ≫ 1 between
+// 0 and h). The a priori u·(n + h‖A‖₁)‖E‖ (denseExpErr) was measured both
+// 20 times below the error (a beam in first-order form, ‖A‖ ≈ 2.6e5) and
+// 1e4 times above it (a string).
+func secondRoute(ctx context.Context, ha, E *mat.Dense) (*mat.Dense, error) {
+	n, _ := ha.Dims()
+	third := mat.NewDense(n, n, nil)
+	seed := uint64(0x9e3779b97f4a7c15)
+	third.Apply(func(_, _ int, v float64) float64 {
+		seed ^= seed << 13
+		seed ^= seed >> 7
+		seed ^= seed << 17
+		if seed&1 == 0 {
+			return v / 3 * (1 + unitRoundoff)
+		}
+		return v / 3 * (1 - unitRoundoff)
+	}, ha)
+	var eh, sq, e2 mat.Dense
+	if _, err := ExpContext(ctx, &eh, third); err != nil {
+		return nil, err
+	}
+	sq.Mul(&eh, &eh)
+	e2.Mul(&sq, &eh)
+	e2.Sub(E, &e2)
+	for _, v := range e2.RawMatrix().Data {
+		if math.IsNaN(v) || math.IsInf(v, 0) {
+			return nil, errorf("dense: second route overflowed")
+		}
+	}
+	return &e2, nil
 }
 
 // kronFactors returns ex = e^{tX} and ey = e^{tY}, the factors of
