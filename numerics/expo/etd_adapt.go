@@ -19,6 +19,11 @@ type oneStepper interface {
 	name() string
 }
 
+// extraErrer is a oneStepper that commits errors the step-doubling
+// difference cannot see (a quadrature rule shared by the full and half
+// steps): extraErr is their sum so far, added to the estimates.
+type extraErrer interface{ extraErr() float64 }
+
 // segment is a stretch [lo, hi] between stopping times; loBreak and
 // hiBreak say whether its ends are breakpoints of the data.
 type segment struct {
@@ -158,10 +163,16 @@ func integrate(ctx context.Context, st oneStepper, u0 []float64, times []float64
 	t := 0.0
 	attempts := 0
 	sumRough := 0.0
+	extra := func() float64 {
+		if x, ok := st.(extraErrer); ok {
+			return x.extraErr()
+		}
+		return 0
+	}
 	for _, stop := range stops {
 		if stop <= t {
 			if _, ok := at[stop]; !ok {
-				at[stop], est[stop] = append([]float64(nil), fine...), math.Max(maxAbsDiff(coarse, fine), sumLocal)+sumRough
+				at[stop], est[stop] = append([]float64(nil), fine...), math.Max(maxAbsDiff(coarse, fine), sumLocal)+sumRough+extra()
 			}
 			continue
 		}
@@ -270,7 +281,7 @@ func integrate(ctx context.Context, st oneStepper, u0 []float64, times []float64
 				progress(int(1000*t/tmax), 1000)
 			}
 		}
-		at[stop], est[stop] = append([]float64(nil), fine...), math.Max(maxAbsDiff(coarse, fine), sumLocal)+sumRough
+		at[stop], est[stop] = append([]float64(nil), fine...), math.Max(maxAbsDiff(coarse, fine), sumLocal)+sumRough+extra()
 	}
 	// Rounding: each step commits errors of a few units in the last place
 	// of ‖u‖; they add up like a random walk.

@@ -250,3 +250,28 @@ func TestIMEXAlone(t *testing.T) {
 		t.Errorf("IMEX reaction-diffusion: error %.3g, estimate %.3g", e, res.errs[0])
 	}
 }
+
+func TestETDRK4SparseContour(t *testing.T) {
+	// The manufactured reaction–diffusion solution on a grid large enough
+	// for the contour path (sparse symmetric L of order ≥ 400), against its
+	// closed form, with the IMEX cross-check.
+	L, u0, N, exact := rdManufactured(500, 0.1)
+	if !sparseETDApplies(L) {
+		t.Fatal("the contour path does not apply")
+	}
+	times := []float64{0.25, 1}
+	for _, tol := range []float64{1e-6, 1e-9} {
+		s, st, err := ETDRK4(context.Background(), L, N, u0, times, StepControl{}, Options{Tol: tol, Crosscheck: true})
+		if err != nil {
+			t.Fatal(err)
+		}
+		checkContract(t, "sparse reaction-diffusion", s, func(i int) []float64 { return exact(times[i]) }, st.Scale)
+		if !s.TolMet {
+			t.Errorf("tol %g not met: %s", tol, s.Shortfall)
+		}
+		if c := s.Cross; c == nil || c.Skipped != "" || c.MaxDiff > s.MaxErrEst()+c.ErrEst {
+			t.Errorf("cross-check %+v against estimate %.3g", c, s.MaxErrEst())
+		}
+		t.Logf("tol %g: %s; estimate %.3g", tol, s.Reason, s.MaxErrEst())
+	}
+}

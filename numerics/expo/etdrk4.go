@@ -233,20 +233,28 @@ func ETDRK4(ctx context.Context, L linop.Operator, N Nonlinear, u0 []float64, ti
 		opts.Tol = 1e-10
 	}
 	start := time.Now()
-	if _, ok := L.(*linop.Diag); !ok && n > maxETDDense {
-		return nil, StepStats{}, fmt.Errorf("expo: ETDRK4 with a non-diagonal operator of order %d needs dense φ-functions (limit %d)", n, maxETDDense)
+	var st oneStepper
+	how := ""
+	if sparseETDApplies(L) {
+		sp := newETDSparseStepper(ctx, L, N, opts.Tol)
+		st, how = sp, fmt.Sprintf(", each stage a φ-combination by a %d-node contour integral of the augmented resolvent", 2*len(sp.z))
+	} else {
+		if _, ok := L.(*linop.Diag); !ok && n > maxETDDense {
+			return nil, StepStats{}, fmt.Errorf("expo: ETDRK4 with a non-diagonal operator of order %d needs dense φ-functions (limit %d) unless it is sparse and symmetric", n, maxETDDense)
+		}
+		st = newETDStepper(L, N)
 	}
-	r, err := integrate(ctx, newETDStepper(L, N), u0, times, opts.Tol, ctl, opts.Progress)
+	r, err := integrate(ctx, st, u0, times, opts.Tol, ctl, opts.Progress)
 	if err != nil {
 		return nil, StepStats{}, err
 	}
 	sol := &Solution{Method: "etdrk4", Tol: opts.Tol, Times: append([]float64(nil), times...),
 		Values: r.vals, ErrEst: r.errs}
 	if ctl.Steps > 0 {
-		sol.Reason = fmt.Sprintf("semilinear problem: ETDRK4 with %d fixed steps (%d taken), error estimated by step doubling", ctl.Steps, r.stats.Accepted)
+		sol.Reason = fmt.Sprintf("semilinear problem: ETDRK4 with %d fixed steps (%d taken)%s, error estimated by step doubling", ctl.Steps, r.stats.Accepted, how)
 	} else {
-		sol.Reason = fmt.Sprintf("semilinear problem: ETDRK4 with steps chosen by step doubling, %d accepted and %d rejected (step %.3g to %.3g)",
-			r.stats.Accepted, r.stats.Rejected, r.stats.HMin, r.stats.HMax)
+		sol.Reason = fmt.Sprintf("semilinear problem: ETDRK4 with steps chosen by step doubling, %d accepted and %d rejected (step %.3g to %.3g)%s",
+			r.stats.Accepted, r.stats.Rejected, r.stats.HMin, r.stats.HMax, how)
 	}
 	if msg := roughNote(r.stats.Rough); msg != "" {
 		sol.Reason += "; " + msg

@@ -1,0 +1,63 @@
+package expo
+
+import (
+	"context"
+	"encoding/json"
+	"fmt"
+	"math"
+	"os"
+	"path/filepath"
+	"testing"
+
+	"semiflow/numerics/linop"
+)
+
+// fisherKPP is the benchmark problem of testdata/bench/etd_scipy.py:
+// u_t = D u_xx + u(1 − u) on (0, 1) with Dirichlet ends, n interior points,
+// second differences, D = 0.01, u0 = 0.8·exp(−100(x − 0.5)²), to T = 2.
+func fisherKPP(n int) (L *linop.CSR, u0 []float64, N Nonlinear) {
+	csr, x := etdLaplacian(n, 0.01)
+	u0 = make([]float64, n)
+	for i, xi := range x {
+		u0[i] = 0.8 * math.Exp(-100*(xi-0.5)*(xi-0.5))
+	}
+	N = func(_ float64, u, dst []float64) {
+		for i, v := range u {
+			dst[i] = v * (1 - v)
+		}
+	}
+	return csr, u0, N
+}
+
+// BenchmarkETDFisherKPP times adaptive ETDRK4 at N = 1000 (the contour
+// path) for the scipy comparison. With SEMIFLOW_ETD_OUT set to a folder it
+// writes the solution at T and the work done there as JSON.
+func BenchmarkETDFisherKPP(b *testing.B) {
+	for _, tol := range []float64{1e-6, 1e-8} {
+		b.Run(fmt.Sprintf("N1000_tol%g", tol), func(b *testing.B) {
+			L, u0, N := fisherKPP(1000)
+			var s *Solution
+			var st StepStats
+			for i := 0; i < b.N; i++ {
+				var err error
+				s, st, err = ETDRK4(context.Background(), L, N, u0, []float64{2}, StepControl{}, Options{Tol: tol})
+				if err != nil {
+					b.Fatal(err)
+				}
+			}
+			b.ReportMetric(float64(st.Accepted), "accepted")
+			b.ReportMetric(float64(st.Rejected), "rejected")
+			b.ReportMetric(s.MaxErrEst(), "errest")
+			if !s.TolMet {
+				b.Errorf("tol %g: %s", tol, s.Shortfall)
+			}
+			if dir := os.Getenv("SEMIFLOW_ETD_OUT"); dir != "" {
+				out, _ := json.Marshal(map[string]any{"tol": tol, "u": s.Values[0], "errest": s.MaxErrEst(),
+					"accepted": st.Accepted, "rejected": st.Rejected, "reason": s.Reason})
+				if err := os.WriteFile(filepath.Join(dir, fmt.Sprintf("etd_tol%g.json", tol)), out, 0o644); err != nil {
+					b.Fatal(err)
+				}
+			}
+		})
+	}
+}

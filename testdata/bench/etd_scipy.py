@@ -1,0 +1,108 @@
+#!/usr/bin/python3
+"""Time Semiflow's adaptive ETDRK4 against Debian's scipy on a 1-D
+reaction–diffusion problem, in one run.
+
+Usage (from the repository root, with Debian's python3-scipy):
+
+    /usr/bin/python3 testdata/bench/etd_scipy.py [--repeat 3]
+
+The problem (BenchmarkETDFisherKPP in numerics/expo/etd_bench_test.go
+builds the same one): Fisher–KPP u_t = D u_xx + u(1 − u) on (0, 1) with
+Dirichlet ends, N = 1000 interior points x_j = j h, h = 1/(N+1), second
+differences, D = 0.01 (‖L‖ ≈ 4e4: stiff), u0 = 0.8 exp(−100(x − 0.5)²),
+solved to T = 2.
+
+scipy side: scipy.integrate.solve_ivp, methods BDF and Radau, with the
+analytic sparse Jacobian L + diag(1 − 2u), rtol = atol = tol (the solution
+is of size ≈ 1, so both ask for the same absolute accuracy as Semiflow's
+tol relative to max‖u‖∞). Best of --repeat runs. The reference is Radau at
+rtol = atol = 1e-12.
+
+Semiflow side: `go test -run '^$' -bench ETDFisherKPP -benchtime Nx`, time
+per run from ns/op; the solution at T is written by the benchmark
+(SEMIFLOW_ETD_OUT) and compared with the same reference.
+
+Prints, per tolerance: the times, the ratio Semiflow/scipy for each
+method, and each side's true error against the reference (Semiflow's with
+its own estimate).
+"""
+import argparse
+import json
+import os
+import re
+import subprocess
+import tempfile
+import time
+
+import numpy as np
+import scipy
+import scipy.sparse as sp
+from scipy.integrate import solve_ivp
+
+ROOT = os.path.dirname(os.path.dirname(os.path.dirname(os.path.abspath(__file__))))
+N, D, T = 1000, 0.01, 2.0
+TOLS = [1e-6, 1e-8]
+
+
+def problem():
+    h = 1.0 / (N + 1)
+    c = D / h**2
+    L = sp.diags([c * np.ones(N - 1), -2 * c * np.ones(N), c * np.ones(N - 1)], [-1, 0, 1], format="csr")
+    x = h * np.arange(1, N + 1)
+    u0 = 0.8 * np.exp(-100 * (x - 0.5) ** 2)
+    return L, u0
+
+
+def scipy_solve(method, tol, L, u0):
+    f = lambda t, u: L @ u + u * (1 - u)
+    jac = lambda t, u: (L + sp.diags(1 - 2 * u)).tocsc()
+    r = solve_ivp(f, (0, T), u0, method=method, rtol=tol, atol=tol, jac=jac, t_eval=[T])
+    assert r.success, r.message
+    return r.y[:, -1], r.nfev, r.nlu
+
+
+def best(f, repeat):
+    out, tb = None, float("inf")
+    for _ in range(repeat):
+        t0 = time.perf_counter()
+        out = f()
+        tb = min(tb, time.perf_counter() - t0)
+    return tb, out
+
+
+def main():
+    ap = argparse.ArgumentParser()
+    ap.add_argument("--repeat", type=int, default=3)
+    args = ap.parse_args()
+    L, u0 = problem()
+    ref, _, _ = scipy_solve("Radau", 1e-12, L, u0)
+    with tempfile.TemporaryDirectory() as d:
+        env = dict(os.environ, SEMIFLOW_ETD_OUT=d)
+        cmd = ["go", "test", "-count=1", "-run", "^$", "-bench", "ETDFisherKPP", "-benchtime", "%dx" % args.repeat, "./numerics/expo/"]
+        out = subprocess.run(cmd, cwd=ROOT, env=env, capture_output=True, text=True)
+        if out.returncode != 0:
+            raise SystemExit(out.stdout + out.stderr)
+        go = {}
+        for line in out.stdout.splitlines():
+            m = re.match(r"BenchmarkETDFisherKPP/N1000_tol(\S+?)(-\d+)?\s+\d+\s+(\d+) ns/op", line)
+            if m:
+                tol = float(m.group(1))
+                res = json.load(open(os.path.join(d, "etd_tol%s.json" % m.group(1))))
+                go[tol] = (int(m.group(3)) / 1e9, res)
+    print("Fisher–KPP, N = %d, T = %g; scipy %s, numpy %s; best of %d" % (N, T, scipy.__version__, np.__version__, args.repeat))
+    print("| tol | Semiflow ETDRK4 | steps (rejected) | true error | estimate | scipy BDF | error | scipy Radau | error | ratio to BDF | ratio to Radau |")
+    print("| --- | --- | --- | --- | --- | --- | --- | --- | --- | --- | --- |")
+    for tol in TOLS:
+        tg, res = go[tol]
+        eg = np.max(np.abs(np.array(res["u"]) - ref))
+        row = ["%g" % tol, "%.3f s" % tg, "%d (%d)" % (res["accepted"], res["rejected"]), "%.2g" % eg, "%.2g" % res["errest"]]
+        ratios = []
+        for m in ["BDF", "Radau"]:
+            ts, (u, nfev, nlu) = best(lambda: scipy_solve(m, tol, L, u0), args.repeat)
+            row += ["%.3f s" % ts, "%.2g" % np.max(np.abs(u - ref))]
+            ratios.append("%.2f" % (tg / ts))
+        print("| " + " | ".join(row + ratios) + " |")
+
+
+if __name__ == "__main__":
+    main()
