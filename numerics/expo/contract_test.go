@@ -354,3 +354,16 @@ func TestToleranceShortfall(t *testing.T) {
 		t.Errorf("tol 1e-8: TolMet %v, shortfall %q, escalation %q", s.TolMet, s.Shortfall, s.Escalation)
 	}
 }
+
+// BenchmarkPropagateDenseString is the dense path on the damped string of
+// order 300 at 10 uniform times without escalation: one exponential by
+// the first route and one by the second (for the a posteriori estimate),
+// then the powers ‖E^k‖ when the carried estimate misses the tolerance.
+func BenchmarkPropagateDenseString(b *testing.B) {
+	c := stringCase(150, 10, 0.2)
+	for b.Loop() {
+		if _, err := Propagate(context.Background(), c.a, c.u0, c.times, Options{Method: MethodDense, Tol: 1e-8, NoEscalate: true}); err != nil {
+			b.Fatal(err)
+		}
+	}
+}
