@@ -108,7 +108,11 @@ func SpectrumReport(label string, n int, s *spectra.Spectrum, what string) *Anal
 	}
 	var bad []string
 	for k, c := range s.Cond {
-		if !(c <= spectra.IllCondLimit) {
+		ill := !(c <= spectra.IllCondLimit)
+		if len(s.IllCond) == len(s.Cond) {
+			ill = s.IllCond[k] // the method's own judgement (a reversible chain's route is exact)
+		}
+		if ill {
 			bad = append(bad, strconv.Itoa(k))
 		}
 	}

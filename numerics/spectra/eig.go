@@ -37,8 +37,11 @@ type Spectrum struct {
 	// eigenvalues (over all of them for the dense method).
 	Abscissa float64
 	// Rounding is the backward error n·u·‖A‖_F of the dense method
-	// (roundoff.Threshold); 0 for the sparse one.
+	// (roundoff.Threshold); 0 for the sparse one. For the symmetric route
+	// of a reversible rate matrix it is the absolute error of every
+	// eigenvalue, whatever Cond says (absolute is then true).
 	Rounding float64
+	absolute bool
 	Method   string
 	Accuracy string
 }
@@ -57,10 +60,19 @@ const IllCondLimit = 0x1p26 * math.Sqrt2 // 1/√u = 2^26.5
 // returns an error if the QR algorithm fails. Eigenvalues with condition
 // above IllCondLimit are flagged in IllCond and named in Accuracy, which
 // then points to pseudospectra instead of the first-order bound.
+//
+// The rate matrix of an irreducible reversible chain (a birth–death chain,
+// or detailed balance π_i q_ij = π_j q_ji) takes the symmetric route
+// instead: its eigenvalues are those of S = D^{1/2} Q D^{-1/2}, computed by
+// a symmetric eigensolver to n·u·‖S‖_F however strongly graded Q is (the
+// non-symmetric QR algorithm on such a Q can be off by percents).
 func DenseSpectrum(a linop.Operator) (*Spectrum, error) {
 	m, err := toDense(a)
 	if err != nil {
 		return nil, err
+	}
+	if sp, ok, err := reversibleRateSpectrum(m); ok || err != nil {
+		return sp, err
 	}
 	return denseSpectrum(m)
 }
@@ -155,6 +167,9 @@ func countTrue(b []bool) int {
 func (s *Spectrum) AbscissaError() (tol float64, ill bool) {
 	if len(s.Cond) == 0 {
 		return math.NaN(), false
+	}
+	if s.absolute {
+		return s.Rounding, false
 	}
 	fn := s.Rounding / roundoff.Threshold(len(s.Values), 1)
 	return abscissaRounding(s, s.Rounding, fn)

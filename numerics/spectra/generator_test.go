@@ -664,3 +664,73 @@ func TestMarkovStationaryGTH(t *testing.T) {
 	}
 	t.Logf("graded cycle: largest relative error of π %.2g", worst)
 }
+
+// spectrum() of a reversible rate matrix takes the symmetric route: the
+// graded 500-state chain's eigenvalues against mpmath (make_birthdeath.py)
+// and the M/M/1/K queue with λ/μ = 5, K = 499 against the closed form
+// −(λ+μ) + 2√(λμ)cos(jπ/(K+1)), each within the stated absolute error; no
+// eigenvalue flagged as defective although Q's condition numbers are huge;
+// the eigenvectors satisfy Qx = λx and yᵀQ = λyᵀ on a small chain.
+func TestDenseSpectrumReversibleRates(t *testing.T) {
+	g := readBirthDeath(t).Graded
+	sp, err := DenseSpectrum(denseOp{birthDeath(g.Birth, g.Death)})
+	if err != nil {
+		t.Fatal(err)
+	}
+	tol, ill := sp.AbscissaError()
+	if ill || tol != sp.Rounding || !strings.Contains(sp.Method, "symmetric") {
+		t.Errorf("allowance %g (ill %v), rounding %g, method %q", tol, ill, sp.Rounding, sp.Method)
+	}
+	for i, s := range g.Largest {
+		want, _ := strconv.ParseFloat(s, 64)
+		if got := sp.Values[i]; math.Abs(real(got)-want) > sp.Rounding || imag(got) != 0 || sp.IllCond[i] {
+			t.Errorf("graded: λ_%d = %v, mpmath %.17g, bound %.2g (flagged %v)", i, got, want, sp.Rounding, sp.IllCond[i])
+		}
+	}
+	lam, mu, K := 5.0, 1.0, 499
+	b, d := make([]float64, K), make([]float64, K)
+	for k := range b {
+		b[k], d[k] = lam, mu
+	}
+	sp, err = DenseSpectrum(denseOp{birthDeath(b, d)})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if math.Abs(real(sp.Values[0])) > sp.Rounding {
+		t.Errorf("M/M/1/K: top eigenvalue %v, want 0", sp.Values[0])
+	}
+	for j := 1; j <= K; j++ { // descending: j = 1 is the largest non-zero
+		want := -(lam + mu) + 2*math.Sqrt(lam*mu)*math.Cos(float64(j)*math.Pi/float64(K+1))
+		if got := real(sp.Values[j]); math.Abs(got-want) > sp.Rounding {
+			t.Errorf("M/M/1/K: λ_%d = %.17g, closed form %.17g, bound %.2g", j, got, want, sp.Rounding)
+			break
+		}
+	}
+	if !(sp.Cond[1] > IllCondLimit) || sp.IllCond[1] {
+		t.Errorf("M/M/1/K: Cond %g flagged %v (Q's condition is huge, the route's error is not)", sp.Cond[1], sp.IllCond[1])
+	}
+	// Eigenvector residuals on the 7-state M/M/1/6 queue (λ = 1, μ = 2).
+	b, d = []float64{1, 1, 1, 1, 1, 1}, []float64{2, 2, 2, 2, 2, 2}
+	q := birthDeath(b, d)
+	sp, err = DenseSpectrum(denseOp{q})
+	if err != nil {
+		t.Fatal(err)
+	}
+	n := 7
+	for k := 0; k < n; k++ {
+		l := real(sp.Values[k])
+		rx, ry := 0.0, 0.0
+		for i := 0; i < n; i++ {
+			var qx, yq float64
+			for j := 0; j < n; j++ {
+				qx += q.At(i, j) * real(sp.Right.At(j, k))
+				yq += real(sp.Left.At(j, k)) * q.At(j, i)
+			}
+			rx = math.Hypot(rx, qx-l*real(sp.Right.At(i, k)))
+			ry = math.Hypot(ry, yq-l*real(sp.Left.At(i, k)))
+		}
+		if rx > 1e-13 || ry > 1e-13 {
+			t.Errorf("λ_%d = %g: ‖Qx − λx‖ = %g, ‖yᵀQ − λyᵀ‖ = %g", k, l, rx, ry)
+		}
+	}
+}
