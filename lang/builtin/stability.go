@@ -110,7 +110,8 @@ var stabilityFamily = []*Builtin{
 		Name:   "psabscissa",
 		Params: []value.Param{req("A", "an operator or a square matrix"), req("eps", "the level ε > 0")},
 		Doc: "The ε-pseudospectral abscissa α_ε(A) = max{Re z : σ_min(zI − A) ≤ ε}; α_ε(A)/ε is a lower bound of sup_{t≥0} ‖e^{tA}‖ (Trefethen & Embree 2005, Thm 15.4) and α(A) ≤ α_ε(A) ≤ ω(A) + ε. " +
-			"Found from the rightmost point of σ_ε on horizontal lines through the eigenvalues and across the numerical range, refined by golden-section search; order ≤ 1500. For a normal matrix α_ε = α + ε.",
+			"Found from the rightmost point of σ_ε on horizontal lines through the eigenvalues and across the numerical range, refined by golden-section search; order ≤ 1500. For a normal matrix α_ε = α + ε. " +
+			"No work budget: for strongly non-normal A and small ε the boundary walk can take minutes (pseudospectrum and growth leave α_ε out when it does not fit their budget); an interrupt stops it at once.",
 		Examples: []Example{
 			{"psabscissa({-1, 0 | 0, -2}, 0.25)[0]", "-0.75"},
 		},
@@ -167,7 +168,8 @@ var stabilityFamily = []*Builtin{
 		Name:   "kreiss",
 		Params: []value.Param{req("A", "an operator or a square matrix")},
 		Doc: "The Kreiss constant K(A) = sup_{Re z > 0} Re z ‖(zI − A)⁻¹‖₂, with the point where the supremum is attained. The Kreiss matrix theorem bounds K ≤ sup_{t≥0} ‖e^{tA}‖₂ ≤ e·N·K for N × N matrices (Spijker, BIT 1991). " +
-			"It is inf when α(A) ≥ 0 and 1 for a normal matrix with α(A) < 0. Order ≤ 1500.",
+			"It is inf when α(A) ≥ 0 and 1 for a normal matrix with α(A) < 0. Order ≤ 1500. " +
+			"The search has no work budget (growth leaves K out when it does not fit its share): its cost grows with the order and the non-normality, 8.8 s for the 200×200 shifted Grcar matrix on a 2-core machine; an interrupt stops it at once.",
 		Examples: []Example{
 			{"kreiss({-1, 0 | 0, -2})[0]", "1"},
 		},
