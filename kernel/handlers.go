@@ -193,11 +193,15 @@ func (k *Kernel) execute(s *sock, m *wire.Message) error {
 		k.count++
 	}
 	count := k.count
+	// An interrupt from here on stops this cell, also one that arrives
+	// between execute_input and the start of the evaluation.
+	ctx, done := k.cellContext()
+	defer done()
 	if !c.Silent {
 		k.publish(m, wire.ExecuteInput, map[string]any{"code": c.Code, "execution_count": count})
 	}
 	out := &output{k: k, parent: m, silent: c.Silent}
-	data, md, err := k.run(c.Code, out)
+	data, md, err := k.run(ctx, c.Code, out)
 	out.close()
 	if store {
 		k.history = append(k.history, histEntry{line: count, input: c.Code, output: plainText(data)})
@@ -222,7 +226,7 @@ func (k *Kernel) execute(s *sock, m *wire.Message) error {
 	}
 	ue := map[string]any{}
 	for name, expr := range c.UserExpressions {
-		ue[name] = k.userExpression(expr)
+		ue[name] = k.userExpression(ctx, expr)
 	}
 	k.send(s, m, wire.ExecuteReply, map[string]any{
 		"status":           "ok",
@@ -233,8 +237,8 @@ func (k *Kernel) execute(s *sock, m *wire.Message) error {
 	return nil
 }
 
-func (k *Kernel) userExpression(expr string) map[string]any {
-	data, md, err := k.run(expr, discard{})
+func (k *Kernel) userExpression(ctx context.Context, expr string) map[string]any {
+	data, md, err := k.run(ctx, expr, discard{})
 	if err != nil {
 		ename, evalue, tb := describe(err)
 		return errorContent(ename, evalue, tb)
@@ -245,23 +249,28 @@ func (k *Kernel) userExpression(expr string) map[string]any {
 	return map[string]any{"status": "ok", "data": data, "metadata": orMap(md)}
 }
 
-// run evaluates code with a cancellable context, turning a panic into an
-// error and an interrupt into an interruptedError within the grace period.
-func (k *Kernel) run(code string, out Output) (data, md map[string]any, err error) {
-	if k.stray != nil {
-		<-k.stray // an earlier interrupted cell has not returned yet
-		k.stray = nil
-	}
+// cellContext returns the context of a request that runs code, which
+// Interrupt cancels until done is called.
+func (k *Kernel) cellContext() (ctx context.Context, done func()) {
 	ctx, cancel := context.WithCancel(k.ctx)
 	k.mu.Lock()
 	k.cellCancel = cancel
 	k.mu.Unlock()
-	defer func() {
+	return ctx, func() {
 		k.mu.Lock()
 		k.cellCancel = nil
 		k.mu.Unlock()
 		cancel()
-	}()
+	}
+}
+
+// run evaluates code under ctx (from cellContext), turning a panic into an
+// error and an interrupt into an interruptedError within the grace period.
+func (k *Kernel) run(ctx context.Context, code string, out Output) (data, md map[string]any, err error) {
+	if k.stray != nil {
+		<-k.stray // an earlier interrupted cell has not returned yet
+		k.stray = nil
+	}
 	type result struct {
 		data, md map[string]any
 		err      error
