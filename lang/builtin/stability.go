@@ -658,6 +658,9 @@ func stabSelectEigen(s *spectra.Spectrum, k int, near bool, sigma float64) *spec
 		if i < len(s.Cond) {
 			out.Cond = append(out.Cond, s.Cond[i])
 		}
+		if i < len(s.IllCond) {
+			out.IllCond = append(out.IllCond, s.IllCond[i])
+		}
 	}
 	return out
 }
