@@ -15,6 +15,7 @@ import (
 //	stubborn MS     wait ignoring cancellation
 //	print TEXT / warn TEXT / show TEXT / page TEXT / clear
 //	lines N         N lines "line 1" … "line N" on stdout, one call each, then value "done"
+//	shows N         N displays "d1" … "dN", each after a line on stdout, then value "done"
 //	update ID TEXT  a display with id ID, then an update of it
 //	set NAME VALUE / get NAME
 //	fail            an evaluation error
@@ -55,6 +56,13 @@ func (f *fakeEval) Execute(ctx context.Context, code string, out Output) (map[st
 		n, _ := strconv.Atoi(arg)
 		for i := 1; i <= n; i++ {
 			out.Stream("stdout", "line "+strconv.Itoa(i)+"\n")
+		}
+		return plain("done"), nil, nil
+	case "shows":
+		n, _ := strconv.Atoi(arg)
+		for i := 1; i <= n; i++ {
+			out.Stream("stdout", "before "+strconv.Itoa(i)+"\n")
+			out.Display(plain("d"+strconv.Itoa(i)), nil, "", false)
 		}
 		return plain("done"), nil, nil
 	case "print":

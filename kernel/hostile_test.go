@@ -422,3 +422,35 @@ func TestLimitedWriter(t *testing.T) {
 		t.Errorf("%d lines for 100 writes with a burst of 5 (want 5 and a summary)", lg.lines)
 	}
 }
+
+// 5,000 displays, each after a line of stream output, far more than the
+// iopub queue holds: every one arrives, in order, each after its line, and
+// the execute_result and the idle status follow.
+func TestManyDisplaysNoneDropped(t *testing.T) {
+	_, c, _ := startKernel(t, func(cfg *Config) { cfg.IOPubQueue = 16 })
+	const n = 5000
+	id := c.send(c.shell, wire.ExecuteRequest, exec(fmt.Sprintf("shows %d", n)))
+	c.reply(id, 30*time.Second)
+	ms := c.idle(id)
+	next := 1
+	for _, m := range ms {
+		switch m.Header.MsgType {
+		case wire.Stream:
+			if want := fmt.Sprintf("before %d\n", next); content(m)["text"] != want {
+				t.Fatalf("stream %q, want %q", content(m)["text"], want)
+			}
+		case wire.DisplayData:
+			if got := content(m)["data"].(map[string]any)["text/plain"]; got != fmt.Sprintf("d%d", next) {
+				t.Fatalf("display %v, want d%d", got, next)
+			}
+			next++
+		}
+	}
+	if next != n+1 {
+		t.Errorf("%d of %d displays arrived", next-1, n)
+	}
+	ts := types(ms)
+	if ts[len(ts)-2] != wire.ExecuteResult || ts[len(ts)-1] != "status:idle" {
+		t.Errorf("iopub ends %v", ts[max(0, len(ts)-3):])
+	}
+}
