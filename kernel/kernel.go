@@ -371,9 +371,11 @@ func (k *Kernel) heartbeat() {
 	}
 }
 
-// readLoop receives from s, decodes and checks each message and hands the
-// good ones to handle. Bad messages are logged and dropped, or answered with
-// an error reply when their header is good enough to reply to.
+// readLoop receives from s, decodes each message and hands the good ones
+// to handle with their arrival number. Messages reach it only through
+// check (signed, not replayed); one whose header or content is malformed
+// is logged and dropped, or answered with an error reply when its header
+// is good enough to reply to.
 func (k *Kernel) readLoop(s *sock, handle func(*wire.Message, int64)) {
 	for {
 		zm, err := s.Recv()
