@@ -417,10 +417,8 @@ func propagateImpl(c *eval.Call) (value.Value, error) {
 		if method != expo.MethodAuto {
 			return nil, value.ValueErrorf("propagate: a nonlinear term is integrated by ETDRK4; leave method=\"auto\" (got %q)", method)
 		}
-		if n > 1500 {
-			if _, diag := a.Op.(*linop.Diag); !diag {
-				return nil, value.ValueErrorf("propagate: ETDRK4 takes operators of order ≤ 1500 (or diagonal ones); this one has order %d", n)
-			}
+		if err := expo.ETDRK4Check(a.Op); err != nil {
+			return nil, numericsError(c, err)
 		}
 		withT := len(nl.Params()) >= 2
 		nlArgs := func(t float64, u []float64) []value.Value {

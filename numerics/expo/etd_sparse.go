@@ -35,16 +35,17 @@ import (
 const etdSparseMin = 400
 
 type etdSparseStepper struct {
-	ctx   context.Context
-	L     linop.Operator
-	N     Nonlinear
-	sigma float64
-	z, c  []complex128
-	rate  float64
-	cache map[float64][]solve.ShiftedSolver
-	keys  []float64
-	extra float64 // quadrature and rounding errors committed so far
-	scale float64 // the largest ‖v‖ + Σ‖τw_j‖ met, for the quadrature term
+	ctx             context.Context
+	L               linop.Operator
+	N               Nonlinear
+	sigma           float64
+	z, c            []complex128
+	rate            float64
+	cache           map[float64][]solve.ShiftedSolver
+	keys            []float64
+	extra           float64 // quadrature and rounding errors committed so far
+	solves, factors int
+	scale           float64 // the largest ‖v‖ + Σ‖τw_j‖ met, for the quadrature term
 
 	nu, na, nb, nc, a, b, cc, t1 []float64
 	w                            [3][]float64
@@ -111,6 +112,7 @@ func (s *etdSparseStepper) solvers(tau float64) ([]solve.ShiftedSolver, error) {
 		}
 		fs[k] = f
 	}
+	s.factors += len(fs)
 	if len(s.keys) >= 12 {
 		delete(s.cache, s.keys[0])
 		s.keys = s.keys[1:]
@@ -135,6 +137,7 @@ func (s *etdSparseStepper) combine(dst []float64, tau float64, v []float64, w []
 		tj *= tau
 	}
 	s.scale = math.Max(s.scale, size)
+	s.solves += len(s.z)
 	var wg sync.WaitGroup
 	for id := range s.work {
 		wg.Add(1)

@@ -207,6 +207,17 @@ func (s *etdStepper) step(t, h float64, u []float64, seg segment) error {
 	return nil
 }
 
+// ETDRK4Check returns nil when ETDRK4 takes L: a *linop.Diag, an operator
+// of order ≤ 1500 (dense φ-functions), or a sparse symmetric one (contour
+// combinations); otherwise an error saying so.
+func ETDRK4Check(L linop.Operator) error {
+	n, _ := L.Dims()
+	if _, ok := L.(*linop.Diag); ok || n <= maxETDDense || sparseETDApplies(L) {
+		return nil
+	}
+	return fmt.Errorf("%w: ETDRK4 takes a diagonal operator, one of order ≤ %d (dense φ-functions) or a sparse symmetric one (contour integrals); this one has order %d and is neither", ErrMethod, maxETDDense, n)
+}
+
 // ETDRK4 integrates the semilinear problem u' = Lu + N(t, u), u(0) = u0,
 // with the fourth-order exponential time-differencing Runge–Kutta scheme of
 // Cox & Matthews (J. Comput. Phys. 2002) in the stable form of Kassam &
@@ -233,15 +244,15 @@ func ETDRK4(ctx context.Context, L linop.Operator, N Nonlinear, u0 []float64, ti
 		opts.Tol = 1e-10
 	}
 	start := time.Now()
+	if err := ETDRK4Check(L); err != nil {
+		return nil, StepStats{}, err
+	}
 	var st oneStepper
 	how := ""
 	if sparseETDApplies(L) {
 		sp := newETDSparseStepper(ctx, L, N, opts.Tol)
 		st, how = sp, fmt.Sprintf(", each stage a φ-combination by a %d-node contour integral of the augmented resolvent", 2*len(sp.z))
 	} else {
-		if _, ok := L.(*linop.Diag); !ok && n > maxETDDense {
-			return nil, StepStats{}, fmt.Errorf("expo: ETDRK4 with a non-diagonal operator of order %d needs dense φ-functions (limit %d) unless it is sparse and symmetric", n, maxETDDense)
-		}
 		st = newETDStepper(L, N)
 	}
 	r, err := integrate(ctx, st, u0, times, opts.Tol, ctl, opts.Progress)
@@ -255,6 +266,9 @@ func ETDRK4(ctx context.Context, L linop.Operator, N Nonlinear, u0 []float64, ti
 	} else {
 		sol.Reason = fmt.Sprintf("semilinear problem: ETDRK4 with steps chosen by step doubling, %d accepted and %d rejected (step %.3g to %.3g)%s",
 			r.stats.Accepted, r.stats.Rejected, r.stats.HMin, r.stats.HMax, how)
+	}
+	if sp, ok := st.(*etdSparseStepper); ok {
+		sol.Solves, sol.Factors = sp.solves, sp.factors
 	}
 	if msg := roughNote(r.stats.Rough); msg != "" {
 		sol.Reason += "; " + msg
