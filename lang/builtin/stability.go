@@ -39,7 +39,7 @@ var stabilityFamily = []*Builtin{
 		},
 		Doc: "The eigenvalues λ of A (A x = λ x), ordered by decreasing real part, with the spectral abscissa α(A) = max Re λ. " +
 			"With count = 0 all of them, by the QR algorithm without balancing, each with its condition number ‖x‖‖y‖/|yᴴx| (x, y the right and left eigenvectors: a perturbation of size δ moves λ by about cond·δ); this needs order ≤ 1500. " +
-			"Eigenvalues with condition above 1/√u ≈ 9.5e7 (u = 2⁻⁵³) are flagged as defective or nearly so: for them the first-order bound cond·n·u·‖A‖_F does not hold (an m×m Jordan block moves by (δ‖A‖^{m−1})^{1/m}) and the report points to pseudospectrum instead. " +
+			"Eigenvalues with condition above 1/√u ≈ 9.5e7 (u = 2⁻⁵³) are flagged as defective or nearly so: for them the first-order bound cond·n·u·‖A‖_F does not hold (an m×m Jordan block moves by (δ‖A‖^{m−1})^{1/m}) and the report points to pseudospectrum instead. The rate matrix of a reversible chain (birth–death, or detailed balance π_i q_ij = π_j q_ji) takes the symmetric route D^{1/2}QD^{-1/2} = [√(q_ij q_ji)], D = diag(π): real eigenvalues exact to n·u·‖S‖_F however graded Q is. " +
 			"With count = k the k rightmost eigenvalues, or with near = σ the k nearest σ: for order ≤ 1500 selected from the dense spectrum, above by the Krylov–Schur method (Stewart 2001) on A, or on (σI − A)⁻¹ with near, each with its residual ‖Ax − λx‖/‖x‖. " +
 			"The result is a table (rows indexable as r[k, j]: k, λ, Re λ, Im λ, condition or residual) and a figure of the eigenvalues in the complex plane with the imaginary axis.",
 		Examples: []Example{
