@@ -188,6 +188,9 @@ func integrate(ctx context.Context, st oneStepper, u0 []float64, times []float64
 			}
 			attempts++
 			if attempts > maxSteps {
+				if fix {
+					return nil, errorf("%s: more than %d steps (the cap) for %d fixed steps over the output times and breakpoints; give fewer", st.name(), maxSteps, ctl.Steps)
+				}
 				return nil, errorf("%s: more than %d steps attempted by t = %.6g of %.6g; the problem may blow up or need a looser tolerance, or give a fixed step count", st.name(), maxSteps, t, tmax)
 			}
 			var h float64

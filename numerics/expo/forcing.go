@@ -127,10 +127,14 @@ func (g *augmented) ToDense() (*mat.Dense, error) {
 // augmented system of order n+p (see Al-Mohy & Higham 2011, Theorem 2.1)
 // gives u(t) = e^{tA}u0 + Σ_j t^{j+1}φ_{j+1}(tA)w_j, propagated by any
 // method of Propagate. A general Func is interpolated on each piece by a
-// polynomial at Chebyshev points and the piece is then exact; the
-// interpolation error δ, measured at the midpoints between nodes, adds
-// 2·δ·(piece length) to the error estimate, which assumes ‖e^{sA}‖ ≤ 1
-// (multiply by the growth bound otherwise).
+// polynomial at Chebyshev points and the piece is then exact; pieces are
+// halved until the interpolation error fits the tolerance, never straddle
+// f.Breaks, and a jump found elsewhere is named in Reason (see
+// forcing_pieces.go). The interpolation term of the estimate assumes
+// ‖e^{sA}‖ ≤ 1 (multiply by the growth bound otherwise). The tolerance is
+// relative to the largest ‖u‖∞ met (TolMet, Shortfall); with
+// opts.Crosscheck a Func forcing is solved again by the IMEX scheme of
+// crossSemilinear.
 //
 // It panics with ErrShape on mismatched sizes and returns Propagate's errors.
 func PropagateForced(ctx context.Context, A linop.Operator, u0 []float64, f Forcing, times []float64, opts Options) (*Solution, error) {
