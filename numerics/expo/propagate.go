@@ -5,6 +5,7 @@ import (
 	"fmt"
 	"math"
 	"sort"
+	"strings"
 	"time"
 
 	"semiflow/numerics/linop"
@@ -146,9 +147,9 @@ func (s *Solution) MaxErrEst() float64 {
 // ∞-norm error (by a priori bounds or a posteriori estimates, see each
 // method), and TolMet says whether all of them are at most Tol·‖u0‖_∞.
 // When the first method's estimate misses, Propagate escalates by itself
-// (unless Options.NoEscalate): a second, independent method at Tol/100
-// (escalationMethod) within a budget of ten times the first run's time
-// (0.5 s to 60 s); the difference between the two plus the second's
+// (unless Options.NoEscalate): second, independent methods at Tol/100
+// (escalationMethods, until one meets it), each within a budget of ten times the first run's time
+// (0.5 s to 60 s; 60 s for a dense exponential of order ≤ 400); the difference between the two plus the second's
 // estimate is a second bound, and each time keeps the smaller. What was
 // done is in Solution.Escalation; when the tolerance is still missed,
 // Solution.Shortfall says by how much.
@@ -205,17 +206,41 @@ func escalationBudget(first time.Duration) time.Duration {
 	return min(max(10*first, 500*time.Millisecond), 60*time.Second)
 }
 
-// escalate runs an independent second method at a hundredth of the
-// tolerance when the first estimate missed it, within escalationBudget.
-// The second run's estimate e₂ and the difference d between the two give
-// a second bound on the first's error, d + e₂ (true error ≤ d + the second
-// method's true error); each time keeps the smaller bound, and the second
-// method's values where its own estimate is smaller still (and above the
-// rounding level). It returns the
-// second run (nil when none ran) and says what it did in sol.Escalation.
+// escalate tries independent methods at a hundredth of the tolerance
+// when the first estimate missed it (escalationMethods, in order, until the
+// tolerance is met), each within escalationBudget. A second run's estimate
+// e₂ and the difference d between the two give a second bound on the
+// first's error, d + e₂ (true error ≤ d + the second method's true error);
+// each time keeps the smaller bound, and the second method's values where
+// its own estimate is smaller still. It returns the last second run (nil
+// when none ran) and says what it did in sol.Escalation.
 func escalate(ctx context.Context, sol *Solution, A linop.Operator, u0, times []float64, opts Options, took time.Duration) *Solution {
-	other := escalationMethod(sol.Method, A)
+	target := opts.Tol * normInf(u0)
+	var notes []string
+	var last *Solution
+	for _, other := range escalationMethods(sol.Method, A) {
+		s2, note := escalateOnce(ctx, sol, other, A, u0, times, opts, took)
+		notes = append(notes, note)
+		if s2 != nil {
+			last = s2
+		}
+		if ctx.Err() != nil || sol.MaxErrEst() <= target {
+			break
+		}
+	}
+	sol.Escalation = sol.Method + "'s " + strings.Join(notes, "; then ")
+	return last
+}
+
+// escalateOnce runs one second method for escalate and returns it with a
+// note saying what it found (nil when it failed or ran out of time).
+func escalateOnce(ctx context.Context, sol *Solution, other string, A linop.Operator, u0, times []float64, opts Options, took time.Duration) (*Solution, string) {
 	budget := escalationBudget(took)
+	if other == MethodDense {
+		// Order ≤ maxEscalateDense: a bounded cost (two exponentials of
+		// order 400 take about a second), worth more than the budget.
+		budget = 60 * time.Second
+	}
 	bctx, cancel := context.WithTimeout(ctx, budget)
 	defer cancel()
 	o := opts
@@ -225,11 +250,9 @@ func escalate(ctx context.Context, sol *Solution, A linop.Operator, u0, times []
 	s2, err := run(bctx, other, A, u0, times, o)
 	if err != nil {
 		if bctx.Err() != nil {
-			sol.Escalation = fmt.Sprintf("%s's estimate %.3g missed the tolerance; %s did not finish within %s", sol.Method, first, other, budget)
-		} else {
-			sol.Escalation = fmt.Sprintf("%s's estimate %.3g missed the tolerance; %s failed: %v", sol.Method, first, other, err)
+			return nil, fmt.Sprintf("estimate %.3g missed the tolerance; %s did not finish within %s", first, other, budget)
 		}
-		return nil
+		return nil, fmt.Sprintf("estimate %.3g missed the tolerance; %s failed: %v", first, other, err)
 	}
 	s2.Method, s2.Elapsed = other, time.Since(t0)
 	agree := maxDiffValues(sol.Values, s2.Values)
@@ -239,50 +262,56 @@ func escalate(ctx context.Context, sol *Solution, A linop.Operator, u0, times []
 		for k := range sol.Values[i] {
 			d = math.Max(d, math.Abs(sol.Values[i][k]-s2.Values[i][k]))
 		}
-		if b := d + s2.ErrEst[i]; b < sol.ErrEst[i] {
+		// Near the rounding level estimates are models rather than
+		// bounds (Krylov's fell 3× short of a 1.5e-14 error when asked
+		// for 1e-20): the second estimate counts as at least 1000·u·‖u‖∞.
+		e2 := math.Max(s2.ErrEst[i], 1000*unitRoundoff*normInf(s2.Values[i]))
+		if b := d + e2; b < sol.ErrEst[i] {
 			sol.ErrEst[i] = b
 		}
-		// Values are swapped only for an estimate above the rounding
-		// level, where estimates are models rather than bounds (Krylov's
-		// fell 3× short of a 1.5e-14 error when asked for 1e-20).
-		if s2.ErrEst[i] < sol.ErrEst[i] && s2.ErrEst[i] > 1000*unitRoundoff*normInf(s2.Values[i]) {
-			sol.Values[i], sol.ErrEst[i] = append([]float64(nil), s2.Values[i]...), s2.ErrEst[i]
+		if e2 < sol.ErrEst[i] {
+			sol.Values[i], sol.ErrEst[i] = append([]float64(nil), s2.Values[i]...), e2
 			used++
 		}
 	}
 	sol.MatVecs += s2.MatVecs
 	sol.Solves += s2.Solves
 	sol.Factors += s2.Factors
-	sol.Escalation = fmt.Sprintf("%s's estimate %.3g missed the tolerance; %s at tol %.3g (estimate %.3g) agrees to %.3g",
-		sol.Method, first, other, o.Tol, s2.MaxErrEst(), agree)
+	note := fmt.Sprintf("estimate %.3g missed the tolerance; %s at tol %.3g (estimate %.3g) agrees to %.3g",
+		first, other, o.Tol, s2.MaxErrEst(), agree)
 	if used > 0 {
-		sol.Escalation += fmt.Sprintf("; its values kept at %d of %d times", used, len(times))
+		note += fmt.Sprintf(", its values kept at %d of %d times", used, len(times))
 	}
-	return s2
+	return s2, note
 }
 
 // maxEscalateDense is the largest order for which an escalation uses a
 // dense exponential.
 const maxEscalateDense = 400
 
-// escalationMethod picks the second method of an escalation: a dense
-// exponential for small orders, otherwise Krylov, or shift-and-invert
-// after Krylov on a sparse operator.
-func escalationMethod(method string, A linop.Operator) string {
+// escalationMethods lists the second methods an escalation tries, in
+// order: a dense exponential for small orders, Krylov, and
+// shift-and-invert on a sparse operator; never the first method itself.
+func escalationMethods(method string, A linop.Operator) []string {
 	n, _ := A.Dims()
-	_, sparse := A.(linop.Sparser)
-	switch {
-	case method == MethodDense:
-		return MethodKrylov
-	case n <= maxEscalateDense:
-		return MethodDense
-	case method != MethodKrylov:
-		return MethodKrylov
-	case sparse:
-		return MethodShiftInv
-	default:
-		return MethodTaylor
+	var out []string
+	if n <= maxEscalateDense {
+		out = append(out, MethodDense)
 	}
+	out = append(out, MethodKrylov)
+	if _, sparse := A.(linop.Sparser); sparse {
+		out = append(out, MethodShiftInv)
+	}
+	if len(out) < 2 {
+		out = append(out, MethodTaylor)
+	}
+	keep := out[:0]
+	for _, m := range out {
+		if m != method {
+			keep = append(keep, m)
+		}
+	}
+	return keep
 }
 
 // crosscheck runs Options.Crosscheck's second method, or reuses the
