@@ -5,7 +5,8 @@ loopback, attacks it the ways issue 14 lists, measures it from outside
 checks the goals:
 
   - resident memory (VmHWM, the peak) at most 300 MiB whatever
-    unauthenticated peers send, and a normal client served during attacks;
+    unauthenticated peers send, under a 4 GiB address-space limit, and a
+    normal client served during attacks;
   - refused peers leave no file descriptor behind;
   - 200,000 printed lines arrive whole, with the execute_result and the
     idle status; nothing is lost silently;
@@ -43,6 +44,7 @@ from jupyter_client.connect import write_connection_file
 from jupyter_client.session import Session
 
 RSS_LIMIT_MIB = 300
+AS_LIMIT = 4 << 30  # the main kernel runs under this address-space limit (RLIMIT_AS)
 BINARY = os.path.abspath(sys.argv[1]) if len(sys.argv) > 1 else None
 TMP = tempfile.mkdtemp(prefix="sf-attack-")
 results = []  # (check, ok, detail)
@@ -76,7 +78,7 @@ def fds(pid):
 class Kernel:
     """One kernel process on loopback, with its log in a file."""
 
-    def __init__(self, name, env=None, argv_prefix=None):
+    def __init__(self, name, env=None, argv_prefix=None, as_limit=None):
         key = os.urandom(16).hex()
         self.cf, self.info = write_connection_file(
             fname=os.path.join(TMP, name + ".json"), ip="127.0.0.1", key=key.encode())
@@ -92,7 +94,11 @@ class Kernel:
             self.pid = int(self.parent.stdout.readline())
             self.proc = None
         else:
-            self.proc = subprocess.Popen(argv, stdout=self.log, stderr=self.log, env=e)
+            def limit():
+                if as_limit:
+                    import resource
+                    resource.setrlimit(resource.RLIMIT_AS, (as_limit, as_limit))
+            self.proc = subprocess.Popen(argv, stdout=self.log, stderr=self.log, env=e, preexec_fn=limit)
             self.pid = self.proc.pid
         self.kc = None
 
@@ -539,7 +545,7 @@ def main():
         print("0 passed, 1 failed (no semiflow binary given)")
         return 1
     t_all = time.time()
-    k = Kernel("main")
+    k = Kernel("main", as_limit=AS_LIMIT)
     kc = k.client()
     figure("resident size after start (MiB)", f"{k.rss_mib():.1f}")
     steps = [
@@ -573,6 +579,8 @@ def main():
                     "wrong socket type x500", "6,000 idle connections", "replay x3", "bad-signature flood"):
             peak_unauth = hwm
     figure("peak resident size (VmHWM) after the unauthenticated attacks (MiB)", f"{peak_unauth:.1f}")
+    if k.alive():
+        figure(f"peak address space (VmPeak, limit {AS_LIMIT >> 30} GiB) (MiB)", f"{status_kib(k.pid, 'VmPeak')/1024:.0f}")
     check(f"peak resident size under unauthenticated attacks <= {RSS_LIMIT_MIB} MiB", 0 < peak_unauth <= RSS_LIMIT_MIB,
           f"{peak_unauth:.1f} MiB")
     if k.alive():
