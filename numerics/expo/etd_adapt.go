@@ -150,6 +150,9 @@ func integrate(ctx context.Context, st oneStepper, u0 []float64, times []float64
 	if maxSteps <= 0 {
 		maxSteps = 200000
 	}
+	if fix && ctl.Steps > maxSteps {
+		return nil, errorf("%s: %d fixed steps exceed the cap of %d; give fewer", st.name(), ctl.Steps, maxSteps)
+	}
 	// First step: a fourth-order method meets tol with h ≈ T·tol^{1/4}
 	// on a problem of unit time scale; the controller corrects the rest.
 	hProp := tmax * math.Min(0.1, math.Max(1e-3, math.Pow(tol, 1/p)))
@@ -225,14 +228,17 @@ func integrate(ctx context.Context, st oneStepper, u0 []float64, times []float64
 				}
 				D = maxAbsDiff(tryF, tryL)
 			}
-			scale := math.Max(stats.Scale, normInf(tryF))
+			finite := !math.IsNaN(normInf(tryF)) && !math.IsInf(normInf(tryF), 0) && !math.IsNaN(normInf(tryC)) && !math.IsInf(normInf(tryC), 0)
+			scale := stats.Scale
+			if finite {
+				scale = math.Max(scale, normInf(tryF))
+			}
 			// The budget left (0.8·tol·scale less the global estimate so
 			// far) spread over the time left; a decaying error frees
 			// budget, a growing one tightens the steps.
 			left := math.Max(0.8*tol*scale-maxAbsDiff(coarse, fine), 0.05*tol*scale)
 			// A D at the rounding level of u says nothing about h.
 			target := math.Max(left*math.Min(h/(tmax-t), 1), 16*unitRoundoff*scale)
-			finite := !math.IsNaN(normInf(tryF)) && !math.IsInf(normInf(tryF), 0) && !math.IsNaN(normInf(tryC)) && !math.IsInf(normInf(tryC), 0)
 			if fix && !finite {
 				return nil, errorf("%s solution is not finite at t = %g", st.name(), t+h)
 			}
@@ -275,6 +281,9 @@ func integrate(ctx context.Context, st oneStepper, u0 []float64, times []float64
 					// A step shortened to land on a stopping time says
 					// nothing against the proposal it was cut from.
 					hProp = h * r
+				}
+				if hProp < 1e-13*tmax && !finite {
+					return nil, errorf("%s: no step from t = %.6g gives a finite solution, however short: N (or the forcing) returns nan or inf there, or the solution blows up", st.name(), t)
 				}
 				if hProp < 1e-13*tmax {
 					return nil, errorf("%s: step size fell below %.3g at t = %.6g: the solution is not smooth there or blows up (error estimate %.3g per step against %.3g)", st.name(), hProp, t, D, target)
