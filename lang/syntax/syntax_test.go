@@ -319,6 +319,16 @@ func FuzzParse(f *testing.F) {
 			t.Fatal("nil script")
 		}
 		checkPositions(t, src, errs)
+		for _, e := range errs {
+			// The excerpt is a window of at most ExcerptWidth code points
+			// (plus the two "…" marks) with the caret inside or just after it.
+			lines := e.File.Excerpt(e.Pos, e.End)
+			shown := utf8.RuneCountInString(lines[0])
+			lead := utf8.RuneCountInString(strings.TrimRight(lines[1], "^"))
+			if len(lines) != 2 || shown > ExcerptWidth+2 || lead > shown || !strings.HasSuffix(lines[1], "^") {
+				t.Fatalf("excerpt %q for error %q", lines, e.Msg)
+			}
+		}
 		for _, st := range s.Stmts {
 			if st.Pos() > st.End() && len(errs) == 0 {
 				t.Fatalf("statement with inverted span in a valid parse")
