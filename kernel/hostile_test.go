@@ -341,8 +341,8 @@ func TestWrongSocketTypeNoLeak(t *testing.T) {
 
 // Unauthenticated peers cannot make the kernel's memory grow past the
 // budget: an endless message of empty frames, and 16 peers each sending
-// 8 MiB of a frame announced at 15 MiB (128 MiB in all), against a 16 MiB
-// budget.
+// 6 MiB of a frame announced at 7 MiB (96 MiB in all), against a 16 MiB
+// budget (whose messages are at most 8 MiB).
 func TestUnauthenticatedMemoryBounded(t *testing.T) {
 	const budget = 16 << 20
 	k, c, _ := startKernel(t, func(cfg *Config) {
@@ -364,7 +364,7 @@ func TestUnauthenticatedMemoryBounded(t *testing.T) {
 			}
 		}
 	}()
-	part := bytes.Repeat([]byte("z"), 8<<20)
+	part := bytes.Repeat([]byte("z"), 6<<20)
 	var wg sync.WaitGroup
 	for i := range 16 {
 		p := rawPeer(t, []int{ci.ShellPort, ci.ControlPort, ci.StdinPort}[i%3], "DEALER")
@@ -372,7 +372,7 @@ func TestUnauthenticatedMemoryBounded(t *testing.T) {
 		wg.Add(1)
 		go func() {
 			defer wg.Done()
-			p.Write(binary.BigEndian.AppendUint64([]byte{0x02}, 15<<20))
+			p.Write(binary.BigEndian.AppendUint64([]byte{0x02}, 7<<20))
 			p.Write(part)
 		}()
 	}
@@ -398,7 +398,7 @@ func TestUnauthenticatedMemoryBounded(t *testing.T) {
 		t.Errorf("stats = %+v", st.Transport)
 	}
 	// What is still live: at most the budget, held by the peers still
-	// connected, and the test's own 8 MiB, with room for what other tests'
+	// connected, and the test's own 6 MiB, with room for what other tests'
 	// goroutines hold meanwhile (the attack suite measures the resident
 	// size of a kernel process alone).
 	if grow := int64(after.HeapAlloc) - int64(before.HeapAlloc); grow > 3*budget {

@@ -58,7 +58,7 @@ type Limits struct {
 	// 64: a Jupyter message has six plus routing identities and buffers).
 	MaxFrames int
 	// MaxMessage is the most bytes, all frames together, of one incoming
-	// message (default 16 MiB).
+	// message (default 16 MiB; at most half the Budget).
 	MaxMessage uint64
 	// Budget is shared by every connection of the Transports given it:
 	// the bytes of incoming messages not yet accepted by Check. Nil gives
@@ -140,6 +140,11 @@ func New(network string, lim Limits, logf func(format string, args ...any)) *Tra
 	}
 	if lim.Budget == nil {
 		lim.Budget = NewBudget(0)
+	}
+	if half := uint64(lim.Budget.Limit() / 2); lim.MaxMessage > half {
+		// A frame grows by doubling, the old buffer and the new one both
+		// charged: a message must fit in half the budget.
+		lim.MaxMessage = half
 	}
 	if lim.MaxQueue <= 0 {
 		lim.MaxQueue = 64 << 20

@@ -699,3 +699,39 @@ func TestPendingCap(t *testing.T) {
 	time.Sleep(400 * time.Millisecond)
 	roundTrip(t, addr, "after the silent ones")
 }
+
+// A message just under the default cap, from a client alone, passes Check
+// and arrives whole; the cap is clamped to half a smaller budget.
+func TestLargeMessageWithinBudget(t *testing.T) {
+	checked := make(chan int, 1)
+	tr := New("tcp", Limits{Check: func(f [][]byte) error { checked <- len(f[len(f)-1]); return nil }}, nil)
+	name := fmt.Sprintf("zgtest%d", schemeN.Add(1))
+	if err := zmq4.RegisterTransport(name, tr); err != nil {
+		t.Fatal(err)
+	}
+	router := zmq4.NewRouter(context.Background())
+	defer router.Close()
+	addr := listen(t, router, name)
+	d := zmq4.NewDealer(context.Background())
+	defer d.Close()
+	if err := d.Dial("tcp://" + addr); err != nil {
+		t.Fatal(err)
+	}
+	big := bytes.Repeat([]byte("m"), DefaultMaxMessage-64)
+	if err := d.Send(zmq4.NewMsgFrom([]byte("head"), big)); err != nil {
+		t.Fatal(err)
+	}
+	m, err := router.Recv()
+	if err != nil || !bytes.Equal(m.Frames[len(m.Frames)-1], big) {
+		t.Fatalf("large message: %d frames, %v", len(m.Frames), err)
+	}
+	if n := <-checked; n != len(big) {
+		t.Errorf("Check saw a last frame of %d bytes", n)
+	}
+	if p := tr.lim.Budget.Peak(); p > DefaultBudget {
+		t.Errorf("peak %d over the budget", p)
+	}
+	if small := New("tcp", Limits{Budget: NewBudget(4 << 20)}, nil); small.lim.MaxMessage != 2<<20 {
+		t.Errorf("MaxMessage %d with a 4 MiB budget, want 2 MiB", small.lim.MaxMessage)
+	}
+}
