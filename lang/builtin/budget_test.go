@@ -45,7 +45,7 @@ func TestGrowthDefaultBudget(t *testing.T) {
 	text := budgetText(t, s, "growth(A, t=[0, 0.5, 1])")
 	for _, want := range []string{
 		"lower bound α_ε/ε, ε = 0.1",
-		"not computed: α_ε for ε = 0.01, α_ε for ε = 0.001, Kreiss constant",
+		"their bounds are missing: α_ε for ε = 0.01, α_ε for ε = 0.001, Kreiss constant (roughly",
 		`bounds="all" computes every bound`,
 		"kreiss(A) the Kreiss constant alone",
 		"psabscissa(A, ε) one α_ε",

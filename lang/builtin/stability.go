@@ -1156,8 +1156,19 @@ func growthImpl(c *eval.Call) (value.Value, error) {
 		if len(g.Skipped) > 1 || g.Skipped[0] != "Kreiss constant" {
 			ask += ", psabscissa(A, ε) one α_ε"
 		}
-		r.Notes = append(r.Notes, fmt.Sprintf("not computed: %s (and with them their bounds), each needing more than its share of the interactive work budget (about %.1f s here, %.1f s spent before giving up); %s",
-			strings.Join(g.Skipped, ", "), spectra.WorkSeconds(share), spectra.WorkSeconds(g.SkippedWork), ask))
+		skipped := slices.Clone(g.Skipped)
+		for k, what := range skipped {
+			if what != "Kreiss constant" || g.KreissNeeds == 0 {
+				continue
+			}
+			if g.KreissAtLeast {
+				skipped[k] += fmt.Sprintf(" (at least %.2g s at this order)", spectra.WorkSeconds(g.KreissNeeds))
+			} else {
+				skipped[k] += fmt.Sprintf(" (roughly %.2g s at this order, extrapolated from the part done: within about a factor 2)", spectra.WorkSeconds(g.KreissNeeds))
+			}
+		}
+		r.Notes = append(r.Notes, fmt.Sprintf("not computed within the interactive work budget (each bound gets about %.1f s of a 2-core machine; %.1f s were spent before giving up), so their bounds are missing: %s; %s",
+			spectra.WorkSeconds(share), spectra.WorkSeconds(g.SkippedWork), strings.Join(skipped, ", "), ask))
 	}
 	return r, nil
 }

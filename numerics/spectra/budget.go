@@ -2,6 +2,7 @@ package spectra
 
 import (
 	"errors"
+	"fmt"
 	"sync/atomic"
 )
 
@@ -67,3 +68,22 @@ func (b *workBudget) spent() float64 {
 	}
 	return float64(b.used.Load())
 }
+
+// BudgetError is the ErrBudget (errors.Is) of a search that can say what
+// the whole computation would need: Estimate work units, extrapolated from
+// the part done (0 when nothing was finished), or at least Estimate when
+// AtLeast is set (the search was not started because it could not fit).
+type BudgetError struct {
+	Estimate float64
+	AtLeast  bool
+}
+
+func (e *BudgetError) Error() string {
+	if e.AtLeast {
+		return fmt.Sprintf("%v: needs at least %.3g units", ErrBudget, e.Estimate)
+	}
+	return fmt.Sprintf("%v: needs about %.3g units", ErrBudget, e.Estimate)
+}
+
+// Is reports whether target is ErrBudget.
+func (e *BudgetError) Is(target error) bool { return target == ErrBudget }

@@ -224,6 +224,9 @@ func TestBudgetSkipsAndKeeps(t *testing.T) {
 		if g.Kreiss != nil || len(g.Skipped) != 1 || g.Skipped[0] != "Kreiss constant" || g.SkippedWork != 0 {
 			t.Fatalf("Kreiss %v, skipped %q after %g units; want skipped at once", g.Kreiss, g.Skipped, g.SkippedWork)
 		}
+		if !g.KreissAtLeast || !(g.KreissNeeds > 1e6) {
+			t.Errorf("KreissNeeds %g (at least: %v), want a lower bound above the budget", g.KreissNeeds, g.KreissAtLeast)
+		}
 	})
 	t.Run("convection-diffusion", func(t *testing.T) {
 		c, _, _, _ := convDiff1D(120, 0.01, 1)

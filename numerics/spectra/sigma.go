@@ -41,6 +41,8 @@ type triSigma struct {
 	// work, if not nil, is increased by n² for every Lanczos step (the
 	// unit of a workBudget).
 	work *atomic.Int64
+	// spent is this solver's own work in the same units.
+	spent int64
 }
 
 func newTriSigma(t []complex128, n int, tol float64, maxIter int) *triSigma {
@@ -159,6 +161,7 @@ func (ts *triSigma) eval(z complex128, warm, wantVec bool) sigmaResult {
 	if j > maxIter {
 		j = maxIter
 	}
+	ts.spent += int64(max(j, 1)) * int64(n) * int64(n)
 	if ts.work != nil {
 		ts.work.Add(int64(max(j, 1)) * int64(n) * int64(n))
 	}

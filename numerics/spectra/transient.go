@@ -7,6 +7,7 @@ import (
 	"math"
 	"runtime"
 	"sort"
+	"sync"
 
 	"gonum.org/v1/gonum/mat"
 
@@ -432,9 +433,10 @@ func dedupe(x []float64, tol float64) []float64 {
 // minOverLine returns min_y σ_min((x + iy)I − A) over y ≥ 0 (σ is
 // symmetric in y for real A), sampled at the eigenvalues' imaginary parts
 // and a uniform set over W(A), refined around the best three samples by
-// golden-section search. It returns early, with a meaningless value, once
-// ctx is cancelled; the caller checks ctx.
-func (sh *shape) minOverLine(ctx context.Context, x float64) (float64, float64) {
+// golden-section search, and the work it took. It returns early, with a
+// meaningless value, once ctx is cancelled or sh.budget is used up; the
+// caller checks.
+func (sh *shape) minOverLine(ctx context.Context, x float64) (float64, float64, float64) {
 	ys := sh.lineSamples()
 	// One solver per line, warm-started from the previous (nearby) point's
 	// singular vector with a little of the fixed cold start mixed in.
@@ -453,7 +455,7 @@ func (sh *shape) minOverLine(ctx context.Context, x float64) (float64, float64) 
 	vals := make([]float64, len(ys))
 	for k, y := range ys {
 		if ctx.Err() != nil || sh.budget.exhausted() {
-			return math.Inf(1), 0
+			return math.Inf(1), 0, float64(scan.spent)
 		}
 		vals[k] = scan.eval(complex(x, y), true, false).sigma
 	}
@@ -479,7 +481,7 @@ func (sh *shape) minOverLine(ctx context.Context, x float64) (float64, float64) 
 			bestY, bestV = y, -v
 		}
 	}
-	return bestV, bestY
+	return bestV, bestY, float64(ts.spent + scan.spent)
 }
 
 // lineSamples returns the values of y at which minOverLine samples
@@ -524,19 +526,47 @@ func (sh *shape) kreiss(ctx context.Context) (*KreissResult, error) {
 	}
 	// Each sample of the scan costs at least one Lanczos step: a budget
 	// below that is known to run out before the scan ends.
-	if b := sh.budget; b != nil && float64(len(xs)*len(sh.lineSamples()))*float64(sh.s.N)*float64(sh.s.N) > float64(b.limit) {
-		return nil, ErrBudget
+	if b := sh.budget; b != nil {
+		if least := float64(len(xs)*len(sh.lineSamples())) * float64(sh.s.N) * float64(sh.s.N); least > float64(b.limit) {
+			return nil, &BudgetError{Estimate: least, AtLeast: true}
+		}
+	}
+	// When the budget runs out, the whole search is extrapolated from the
+	// lines finished: the scan's 28 at their mean cost, and about 31 more
+	// (golden-section search and a last line) at the cost of the costliest,
+	// since they lie near the maximum, where σ_min is smallest and its
+	// iterations longest.
+	var mu sync.Mutex
+	var lines int
+	var sum, most float64
+	overLine := func(x float64) (float64, float64) {
+		s, y, w := sh.minOverLine(ctx, x)
+		if !sh.budget.exhausted() {
+			mu.Lock()
+			lines++
+			sum += w
+			most = math.Max(most, w)
+			mu.Unlock()
+		}
+		return s, y
+	}
+	outOfBudget := func() error {
+		e := &BudgetError{}
+		if lines > 0 {
+			e.Estimate = sum/float64(lines)*float64(len(xs)) + 31*most
+		}
+		return e
 	}
 	vals := make([]float64, len(xs))
 	parallelFor(ctx, len(xs), func(k int) {
-		s, _ := sh.minOverLine(ctx, xs[k])
+		s, _ := overLine(xs[k])
 		vals[k] = xs[k] / s
 	})
 	if err := ctx.Err(); err != nil {
 		return nil, err
 	}
 	if sh.budget.exhausted() {
-		return nil, ErrBudget
+		return nil, outOfBudget()
 	}
 	best := 0
 	for k := range xs {
@@ -545,13 +575,13 @@ func (sh *shape) kreiss(ctx context.Context) (*KreissResult, error) {
 		}
 	}
 	a, b := math.Log(xs[max(best-1, 0)]), math.Log(xs[min(best+1, len(xs)-1)])
-	f := func(lx float64) float64 { x := math.Exp(lx); s, _ := sh.minOverLine(ctx, x); return x / s }
+	f := func(lx float64) float64 { x := math.Exp(lx); s, _ := overLine(x); return x / s }
 	lx, v := goldenMax(f, a, b, 1e-6, 60) // flat at the maximum: relative error O(1e-12)
 	if err := ctx.Err(); err != nil {
 		return nil, err
 	}
 	if sh.budget.exhausted() {
-		return nil, ErrBudget
+		return nil, outOfBudget()
 	}
 	x := xs[best]
 	if v > vals[best] {
@@ -559,12 +589,12 @@ func (sh *shape) kreiss(ctx context.Context) (*KreissResult, error) {
 	} else {
 		v = vals[best]
 	}
-	_, y := sh.minOverLine(ctx, x)
+	_, y := overLine(x)
 	if err := ctx.Err(); err != nil {
 		return nil, err
 	}
 	if sh.budget.exhausted() {
-		return nil, ErrBudget
+		return nil, outOfBudget()
 	}
 	r.K, r.Z = v, complex(x, y)
 	return r, nil
@@ -633,9 +663,14 @@ type Growth struct {
 	Skipped []string
 	// SkippedWork is the work (units of InteractiveWork) spent on them.
 	SkippedWork float64
-	Method      string
-	Accuracy    string
-	ExpSquaring []int // scaling-and-squaring steps used at each time
+	// KreissNeeds, when the Kreiss constant was skipped, is the work its
+	// search would need: extrapolated from the part done, or a lower bound
+	// if KreissAtLeast (0: unknown).
+	KreissNeeds   float64
+	KreissAtLeast bool
+	Method        string
+	Accuracy      string
+	ExpSquaring   []int // scaling-and-squaring steps used at each time
 }
 
 // GrowthCurve computes ‖e^{tA}‖₂ at each time t ≥ 0 for the dense
@@ -768,6 +803,10 @@ func GrowthCurve(ctx context.Context, a linop.Operator, times []float64, opt *Gr
 		sh.budget = newBudget(o.Budget)
 		if g.Kreiss, err = sh.kreiss(ctx); err != nil {
 			g.Kreiss = nil
+			var be *BudgetError
+			if errors.As(err, &be) {
+				g.KreissNeeds, g.KreissAtLeast = be.Estimate, be.AtLeast
+			}
 			if err := skip("Kreiss constant", err); err != nil {
 				return nil, err
 			}
