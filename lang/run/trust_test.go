@@ -202,6 +202,37 @@ func runTrustProblem(t *testing.T, dir string, p *trustProblem) {
 	if checks == 0 {
 		t.Fatal("the problem has no check")
 	}
+	for kind, ref := range map[string]string{"propagate": refOf(p.Propagate), "generator": refOf(p.Generator),
+		"generator_weighted": refOf(p.GenWeight), "markov": refOf(p.Markov), "gap": refOf(p.Gap), "eigen": refOf(p.Eigen)} {
+		if ref == "-" {
+			t.Errorf("the %s check names no reference", kind)
+		}
+	}
+}
+
+// refOf returns the reference named by a check, "" for an absent check and
+// "-" for a check that names none.
+func refOf[T any](c *T) string {
+	if c == nil {
+		return ""
+	}
+	var r string
+	switch x := any(c).(type) {
+	case *trustPropagate:
+		r = x.Reference
+	case *trustGenerator:
+		r = x.Reference
+	case *trustMarkov:
+		r = x.Reference
+	case *trustGap:
+		r = x.Reference
+	case *trustEigen:
+		r = x.Reference
+	}
+	if r == "" {
+		return "-"
+	}
+	return r
 }
 
 func trustLookup(t *testing.T, s *Session, name string) value.Value {

@@ -184,7 +184,8 @@ def omega_alpha(A):
     return om, al
 
 
-def gen_check(dissipative, stable, omega, alpha, reference, margin_ok=True):
+def gen_check(dissipative, stable, omega, alpha, reference):
+    """A generator(A, omega=0) check; stable None for a marginal α = 0 (no sign to test)."""
     c = {"var": "gen", "dissipative": bool(dissipative), "omega_A": float(omega),
          "alpha": float(alpha), "reference": reference}
     if stable is not None:
