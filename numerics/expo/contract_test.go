@@ -12,6 +12,8 @@ import (
 	"strings"
 	"testing"
 
+	"gonum.org/v1/gonum/mat"
+
 	"semiflow/numerics/linop"
 	"semiflow/numerics/mmio"
 )
@@ -414,5 +416,39 @@ func TestUpwind2MatrixMarket(t *testing.T) {
 			s := propagate(t, m.CSR(), ref.U0, ref.Times, Options{Method: meth, Tol: 1e-8})
 			checkEstimateContract(t, s, ref.U0, ref.Exact, 1000, "long-double Taylor series, make_upwind_ref.py")
 		})
+	}
+}
+
+// crosscheck=true either runs a second method or says in words why it
+// could not: here Taylor cannot take t‖A‖₁ = 1e300 (closed form of the
+// diagonal: e^{−1} in the second component, 0 in the first).
+func TestCrosscheckSaysWhyNot(t *testing.T) {
+	a := linop.NewCSRFromTriplets(2, 2, []int{0, 1}, []int{0, 1}, []float64{-1e300, -1})
+	s := propagate(t, a, []float64{1, 1}, []float64{1}, Options{Method: MethodDense, Tol: 1e-8, Crosscheck: true})
+	if got := s.Values[0]; got[0] != 0 || math.Abs(got[1]-math.Exp(-1)) > 1e-15 {
+		t.Errorf("values %v, want [0, e^{-1}]", got)
+	}
+	c := s.Cross
+	if c == nil || c.Method != MethodTaylor || !strings.Contains(c.Skipped, "taylor") || !strings.Contains(c.Skipped, "too large") {
+		t.Errorf("cross-check %+v: want the Taylor method named with the reason it could not run", c)
+	}
+}
+
+// Exp of [[λ, 1], [0, −1]] with λ = −1e100 and −1e300 once returned "NaN
+// entries": A⁶ overflowed, the scaling was chosen as 0, and the overflowed
+// powers were scaled after it. Closed form (Higham, Functions of Matrices,
+// 2008, eq. (10.42)): diag(e^λ, e^{−1}) and (e^{−1} − e^λ)/(−1 − λ) above.
+func TestExpHugeNorm(t *testing.T) {
+	for _, lam := range []float64{-1e100, -1e300} {
+		var e mat.Dense
+		if _, err := Exp(&e, mat.NewDense(2, 2, []float64{lam, 1, 0, -1})); err != nil {
+			t.Fatalf("λ = %g: %v", lam, err)
+		}
+		want := []float64{0, math.Exp(-1) / (-1 - lam), 0, math.Exp(-1)}
+		for k, w := range want {
+			if g := e.RawMatrix().Data[k]; math.Abs(g-w) > 1e-15*math.Abs(w) {
+				t.Errorf("λ = %g: entry %d = %g, want %g", lam, k, g, w)
+			}
+		}
 	}
 }

@@ -132,33 +132,42 @@ func ExpContext(ctx context.Context, dst *mat.Dense, a mat.Matrix) (ExpInfo, err
 		info.Products++
 		return &z
 	}
+	// root returns x^{1/p} for x ≈ ‖A^p‖₁, or ‖A‖₁ (an upper bound on it)
+	// when the power overflowed: for ‖A‖₁ beyond ~1e50, A⁶ is not finite,
+	// and an infinite η once chose no scaling at all (NaN entries).
+	root := func(x float64, p int) float64 {
+		if r := math.Pow(x, 1/float64(p)); r <= normA {
+			return r
+		}
+		return normA
+	}
 	pow := func(b *mat.Dense, p int) float64 { // estimate of ‖b^p‖₁
 		return normEst1Dense(b, p)
 	}
 	A2 := mul(A, A)
-	d6 := math.Pow(pow(A2, 3), 1.0/6)
-	eta1 := math.Max(math.Pow(pow(A2, 2), 1.0/4), d6)
+	d6 := root(pow(A2, 3), 6)
+	eta1 := math.Max(root(pow(A2, 2), 4), d6)
 	var A4, A6 *mat.Dense
 	choose := func() (m, s int) {
 		if eta1 <= padeTheta[3] && ell(A, normA, 3) == 0 {
 			return 3, 0
 		}
 		A4 = mul(A2, A2)
-		d4 := math.Pow(mat.Norm(A4, 1), 1.0/4)
+		d4 := root(mat.Norm(A4, 1), 4)
 		eta2 := math.Max(d4, d6)
 		if eta2 <= padeTheta[5] && ell(A, normA, 5) == 0 {
 			return 5, 0
 		}
 		A6 = mul(A2, A4)
-		d6 = math.Pow(mat.Norm(A6, 1), 1.0/6)
-		d8 := math.Pow(pow(A4, 2), 1.0/8)
+		d6 = root(mat.Norm(A6, 1), 6)
+		d8 := root(pow(A4, 2), 8)
 		eta3 := math.Max(d6, d8)
 		for _, m := range []int{7, 9} {
 			if eta3 <= padeTheta[m] && ell(A, normA, m) == 0 {
 				return m, 0
 			}
 		}
-		d10 := math.Pow(normEst1Prod(A4, A6), 1.0/10)
+		d10 := root(normEst1Prod(A4, A6), 10)
 		eta4 := math.Max(d8, d10)
 		eta5 := math.Min(eta3, eta4)
 		s = 0
@@ -174,12 +183,21 @@ func ExpContext(ctx context.Context, dst *mat.Dense, a mat.Matrix) (ExpInfo, err
 	info.Degree, info.Squarings = m, s
 	if s > 0 {
 		A.Scale(math.Ldexp(1, -s), A)
-		A2.Scale(math.Ldexp(1, -2*s), A2)
-		if A4 != nil {
-			A4.Scale(math.Ldexp(1, -4*s), A4)
-		}
-		if A6 != nil {
-			A6.Scale(math.Ldexp(1, -6*s), A6)
+		finite := func(x *mat.Dense) bool { return x == nil || !math.IsInf(mat.Norm(x, 1), 0) && !math.IsNaN(mat.Norm(x, 1)) }
+		if finite(A2) && finite(A4) && finite(A6) {
+			A2.Scale(math.Ldexp(1, -2*s), A2)
+			if A4 != nil {
+				A4.Scale(math.Ldexp(1, -4*s), A4)
+			}
+			if A6 != nil {
+				A6.Scale(math.Ldexp(1, -6*s), A6)
+			}
+		} else {
+			// The powers of the unscaled A overflowed (‖A‖₁ ≳ 1e77):
+			// form them again from the scaled one.
+			A2 = mul(A, A)
+			A4 = mul(A2, A2)
+			A6 = mul(A2, A4)
 		}
 	}
 	b := padeCoeffs(m)
