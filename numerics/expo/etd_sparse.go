@@ -43,7 +43,8 @@ type etdSparseStepper struct {
 	rate            float64
 	cache           map[float64][]solve.ShiftedSolver
 	keys            []float64
-	extra           float64 // quadrature and rounding errors committed so far
+	tri             [3][]float64 // sub-, main and superdiagonal when L is tridiagonal
+	extra           float64      // quadrature and rounding errors committed so far
 	solves, factors int
 	scale           float64 // the largest ‖v‖ + Σ‖τw_j‖ met, for the quadrature term
 
@@ -78,6 +79,9 @@ func newETDSparseStepper(ctx context.Context, L linop.Operator, N Nonlinear, tol
 	if g, ok := gershgorinRight(L); ok && g > 0 {
 		s.sigma = g
 	}
+	if sub, diag, sup, ok := tridiagOf(L); ok {
+		s.tri = [3][]float64{sub, diag, sup}
+	}
 	// Nodes for a quadrature error 10ρ^{−N} ≤ 1e-3·tol per combination.
 	cs := contourShapes[ContourCotangent]
 	s.rate = cs.rate
@@ -106,7 +110,14 @@ func (s *etdSparseStepper) solvers(tau float64) ([]solve.ShiftedSolver, error) {
 	}
 	fs := make([]solve.ShiftedSolver, len(s.z))
 	for k, z := range s.z {
-		f, err := solve.NewShiftedContext(s.ctx, s.L, z/complex(tau, 0)+complex(s.sigma, 0), solve.Options{})
+		sh := z/complex(tau, 0) + complex(s.sigma, 0)
+		var f solve.ShiftedSolver
+		var err error
+		if s.tri[1] != nil {
+			f, err = factorTri(sh, s.tri[0], s.tri[1], s.tri[2])
+		} else {
+			f, err = solve.NewShiftedContext(s.ctx, s.L, sh, solve.Options{})
+		}
 		if err != nil {
 			return nil, err
 		}
@@ -165,10 +176,13 @@ func (s *etdSparseStepper) combine(dst []float64, tau float64, v []float64, w []
 					return
 				}
 				ck := 2 * s.c[k] / complex(tau, 0)
+				cr, ci := real(ck), imag(ck)
 				xm := 0.0
 				for i, x := range wk.x {
-					wk.acc[i] += real(ck * x)
-					xm = math.Max(xm, math.Abs(real(x))+math.Abs(imag(x)))
+					wk.acc[i] += cr*real(x) - ci*imag(x)
+					if a := math.Abs(real(x)) + math.Abs(imag(x)); a > xm {
+						xm = a
+					}
 				}
 				wk.round += cmplx.Abs(ck) * xm
 			}
