@@ -9,6 +9,7 @@ import (
 	"gonum.org/v1/gonum/mat"
 
 	"semiflow/numerics/linop"
+	"semiflow/numerics/memguard"
 )
 
 // Nonlinear is the term N(t, u) of u' = Lu + N(t, u); it sets dst = N(t, u).
@@ -245,6 +246,11 @@ func ETDRK4(ctx context.Context, L linop.Operator, N Nonlinear, u0 []float64, ti
 	}
 	start := time.Now()
 	if err := ETDRK4Check(L); err != nil {
+		return nil, StepStats{}, err
+	}
+	// The stepper's nine work vectors, three trial steps, one set of six
+	// coefficients and the results, through the memory guard.
+	if err := memguard.Vectors(18+len(times), n, memguard.RealBytes, "ETDRK4 work vectors and results"); err != nil {
 		return nil, StepStats{}, err
 	}
 	var st oneStepper

@@ -33,3 +33,20 @@ func TestWorkVectorsGuarded(t *testing.T) {
 		})
 	}
 }
+
+// TestETDRK4Guarded: ETDRK4 on a diagonal operator of order 10⁶ under a
+// limit of 8 MiB is refused by the memory guard before its work vectors
+// (nineteen of 8 MB with one output time) are made.
+func TestETDRK4Guarded(t *testing.T) {
+	d := make([]float64, 1000*1000)
+	for i := range d {
+		d[i] = -float64(i % 100)
+	}
+	u0 := make([]float64, len(d))
+	old := memguard.SetLimit(8 << 20)
+	defer memguard.SetLimit(old)
+	_, _, err := ETDRK4(t.Context(), &linop.Diag{D: d}, func(_ float64, u, dst []float64) { copy(dst, u) }, u0, []float64{0.1}, StepControl{}, Options{})
+	if !errors.Is(err, memguard.ErrTooLarge) || !strings.Contains(err.Error(), "(19 vectors of order 1000000)") {
+		t.Errorf("error %v, want the memory guard's refusal of 19 vectors of order 1000000", err)
+	}
+}
