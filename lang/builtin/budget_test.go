@@ -138,3 +138,21 @@ func cpuSeconds() float64 {
 	}
 	return float64(ru.Utime.Nano()+ru.Stime.Nano()) / 1e9
 }
+
+// TestPseudospectrumDefaultGrid: without n, a dense operator whose 80 × 80
+// grid would exceed the budget gets the largest square grid within it:
+// 1.2e9 units / (12 steps × 200²) = 2500 points, 50 × 50.
+func TestPseudospectrumDefaultGrid(t *testing.T) {
+	s := run.NewSession()
+	text := budgetText(t, s, "g = interval(0, 1, 202)\npseudospectrum(dense(0.01*laplacian(g) - deriv(g)), abscissae=\"grid\")")
+	for _, want := range []string{"50 × 50 points", "a 50 × 50 grid, to fit the interactive work budget", "n=80 asks for it"} {
+		if !strings.Contains(text, want) {
+			t.Errorf("pseudospectrum report lacks %q:\n%s", want, text)
+		}
+	}
+	// An explicit n is kept, with no note.
+	text = budgetText(t, s, "pseudospectrum({-1, 0 | 0, -2}, levels=[0.5], n=7)")
+	if !strings.Contains(text, "7 × 7 points") || strings.Contains(text, "interactive work budget") {
+		t.Errorf("explicit n: %s", text)
+	}
+}

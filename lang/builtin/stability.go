@@ -94,7 +94,7 @@ var stabilityFamily = []*Builtin{
 			opt("re", value.None, "the interval [a, b] of Re z; none: the numerical range's extent widened by the largest level"),
 			opt("im", value.None, "the interval [c, d] of Im z; none: as for re"),
 			opt("levels", value.List{value.Num(1e-1), value.Num(1e-2), value.Num(1e-3)}, "the levels ε > 0 of the contour lines"),
-			opt("n", value.Num(80), "grid points along each side, 2 ≤ n ≤ 400"),
+			opt("n", value.None, "grid points along each side, 2 ≤ n ≤ 400; none: 80, or fewer (at least 10) where 80 × 80 points would exceed the interactive work budget (dense operators of order above about 100)"),
 			opt("abscissae", value.Str("auto"), `how to find α_ε (order ≤ 1500): "exact" (the boundary search, however long it takes), "grid" (the rightmost grid point in σ_ε: a lower estimate, one grid step accurate), or "auto": the boundary search within the interactive work budget (a share per level), the grid estimate for a level that would need more`),
 		},
 		Doc: "The ε-pseudospectra σ_ε(A) = {z : σ_min(zI − A) ≤ ε} = {z : ‖(zI − A)⁻¹‖₂ ≥ 1/ε} on the rectangle re × im: σ_min on an n × n grid, the contour lines of the levels ε, the eigenvalues, and a table of the pseudospectral abscissae α_ε(A) = max Re σ_ε(A) with the lower bounds α_ε/ε ≤ sup_t ‖e^{tA}‖. " +
@@ -804,9 +804,15 @@ func pseudospectrumImpl(c *eval.Call) (value.Value, error) {
 	if err != nil {
 		return nil, err
 	}
-	m, err := stabCountArg(c, 4, 2, 400)
-	if err != nil {
-		return nil, err
+	m, gridNote := stabDefaultGrid, ""
+	if nv, _ := c.Arg(4); nv != value.None {
+		if m, err = stabCountArg(c, 4, 2, 400); err != nil {
+			return nil, err
+		}
+	} else if n <= DenseLimit && spectra.GridWork(n, m*m) > spectra.InteractiveWork {
+		// The largest grid within the budget, but not below 10 × 10.
+		m = max(10, int(math.Sqrt(spectra.InteractiveWork/spectra.GridWork(n, 1))))
+		gridNote = fmt.Sprintf("a %d × %d grid, to fit the interactive work budget (%d × %d points would take roughly %.2g s at this order); n=%d asks for it", m, m, stabDefaultGrid, stabDefaultGrid, spectra.WorkSeconds(spectra.GridWork(n, stabDefaultGrid*stabDefaultGrid)), stabDefaultGrid)
 	}
 	av, _ := c.Arg(5)
 	absc, ok := av.(value.Str)
@@ -894,12 +900,19 @@ func pseudospectrumImpl(c *eval.Call) (value.Value, error) {
 		return nil, err
 	}
 	r := objects.PseudoReport(op.Label, n, ps, alpha, pts, how)
+	if gridNote != "" {
+		r.Notes = append(r.Notes, gridNote)
+	}
 	if len(onGrid) > 0 {
 		r.Notes = append(r.Notes, fmt.Sprintf(`α_ε not computed by the boundary search for ε = %s: it needs more than its share of the interactive work budget (about %.1f s here); the table gives the rightmost grid point in σ_ε instead (a lower estimate, at most one grid step accurate); ask with abscissae="exact", or psabscissa(A, ε) for one level`,
 			strings.Join(onGrid, ", "), spectra.WorkSeconds(budget)))
 	}
 	return r, nil
 }
+
+// stabDefaultGrid is the default number of grid points along each side of a
+// pseudospectrum, where it fits the interactive work budget.
+const stabDefaultGrid = 80
 
 // stabGridAbscissae sets alpha[k] and pts[k] to the rightmost grid point of
 // ps with σ_min ≤ levels[k] (nan when there is none): a lower estimate of

@@ -77,6 +77,19 @@ func (o *GridOptions) defaults() GridOptions {
 	return g
 }
 
+// gridStepsPerPoint is the mean number of inverse-Lanczos steps per grid
+// point at the default tolerance with warm starts along rows, measured on
+// 30×30 grids: 4.6 (convection–diffusion, order 120), 12.2 (Grcar, 200),
+// 13.4 (shifted Grcar, 300).
+const gridStepsPerPoint = 12
+
+// GridWork estimates the work (in the units of InteractiveWork) of σ_min at
+// points grid points for an operator of order n with the dense method
+// (Schur.Pseudo), the Schur form itself not included.
+func GridWork(n, points int) float64 {
+	return float64(points) * gridStepsPerPoint * float64(n) * float64(n)
+}
+
 // Pseudospectra holds σ_min(zI − A) on a grid and the boundaries of the
 // ε-pseudospectra σ_ε(A) = {z : σ_min(zI − A) ≤ ε} = {z : ‖(zI − A)⁻¹‖ ≥ 1/ε}.
 type Pseudospectra struct {
