@@ -201,6 +201,14 @@ func krylovRun(ctx context.Context, c *counted, u0 []float64, times []float64, o
 			errLoc *= 2
 		}
 		errAcc += errLoc + 4*unitRoundoff*float64(kk)*beta
+		if !sym {
+			// Rounding in the products, u‖A‖‖w‖ per unit time, is not
+			// damped away when A is far from normal: on a damped string
+			// of order 510 (‖A‖₁ ≈ 5e5) the error at t = 0.01 was 30
+			// times the other terms. (Kept out of the step control:
+			// shorter steps do not reduce it.)
+			errAcc += unitRoundoff * tau * anorm * wn
+		}
 		if opts.Progress != nil {
 			opts.Progress(int(100*tnow/T), 100)
 		}
