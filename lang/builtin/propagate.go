@@ -46,7 +46,7 @@ var propagateFamily = []*Builtin{
 			req("u0", "the initial value: a vector, a number (constant), or a function of x (x, y) sampled on A's grid"),
 			req("t", "the output times t ≥ 0: a number, vector or range"),
 			opt("method", value.Str(expo.MethodAuto), `"auto", "dense", "taylor", "krylov", "shift-invert", "contour", "resolvent-powers" or "kronecker"`),
-			opt("tol", value.Num(1e-8), "relative accuracy asked: ‖error‖∞ ≲ tol·‖u0‖∞"),
+			opt("tol", value.Num(1e-8), "relative accuracy asked: ‖error‖∞ ≲ tol·‖u0‖∞ (with forcing or a nonlinear term, tol·max‖u‖∞)"),
 			opt("forcing", value.None, "a source f(t) in u' = Au + f(t): a vector, a number, or a function of t returning a vector or number"),
 			opt("nonlinear", value.None, "a term N(u) (or N(u, t)) in u' = Au + N(u): a function of the vector u returning a vector"),
 			opt("crosscheck", value.Bool(false), "true to recompute with a second, independent method and report the difference"),

@@ -21,9 +21,9 @@ import (
 // kind, all inside the piece, so a jump at a breakpoint is never sampled
 // from the wrong side. The interpolation error δ is measured at q+2 points
 // between the nodes; over the piece it adds c·δ·H to the error estimate
-// (c = 2, or c = 8 where f looks non-smooth: the interpolant of a jump
-// overshoots by up to the Lebesgue constant, about 2.2 for q = 6), which
-// assumes ‖e^{sA}‖ ≤ 1. A piece is halved while its share exceeds
+// (c = 2; where f looks non-smooth c = 4 at a kink and c = 8 at a jump,
+// whose interpolant overshoots by up to the Lebesgue constant, about 2.2
+// for q = 6), which assumes ‖e^{sA}‖ ≤ 1. A piece is halved while its share exceeds
 // tol·scale·max(H/T, 1/64)/2.
 //
 // Non-smooth f: for smooth f, halving a piece divides δ by about 2^{q+1};
@@ -183,9 +183,15 @@ func forcedFunc(ctx context.Context, A linop.Operator, u0 []float64, f Forcing, 
 			if pc.parentDelta > 0 && delta > pc.parentDelta/8 {
 				slow = pc.slow + 1
 			}
+			// The interpolant of a jump overshoots (δ stays near half the
+			// jump as the piece halves): c = 8. At a kink δ halves with H
+			// and the interpolant does not overshoot: c = 4.
 			c := 2.0
 			if slow > 0 || pc.slow > 0 {
-				c = 8
+				c = 4
+				if pc.parentDelta > 0 && delta > 0.7*pc.parentDelta {
+					c = 8
+				}
 			}
 			share := c * delta * H
 			sc := math.Max(scale, fmax*H)
