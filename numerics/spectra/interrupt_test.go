@@ -243,6 +243,15 @@ func TestBudgetSkipsAndKeeps(t *testing.T) {
 		if !(g.SkippedWork >= 3e8) {
 			t.Errorf("skipped work %g, want at least the budget", g.SkippedWork)
 		}
+		// A smaller level after one that ran out is not tried: ε = 0.01
+		// (1.2e9 units) runs out, and 0.001 costs nothing more.
+		h, err := GrowthCurve(bg, c, []float64{0}, &GrowthOptions{Eps: []float64{1e-2, 1e-3}, NoKreiss: true, Budget: 3e8})
+		if err != nil {
+			t.Fatal(err)
+		}
+		if len(h.Skipped) != 2 || !(h.SkippedWork >= 3e8 && h.SkippedWork < 4e8) {
+			t.Errorf("skipped %q after %g units; want both levels after one budget", h.Skipped, h.SkippedWork)
+		}
 		full, err := PseudoAbscissa(bg, c, 0.1)
 		if err != nil {
 			t.Fatal(err)

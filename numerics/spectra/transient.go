@@ -277,9 +277,9 @@ func PseudoAbscissae(ctx context.Context, a linop.Operator, eps []float64, opt *
 	}
 	out := make([]*AbscissaResult, len(eps))
 	skipped := 0.0
+	failed := 0.0
 	for k, e := range eps {
-		sh.budget = newBudget(o.Budget)
-		r, err := sh.pseudoAbscissa(ctx, e)
+		r, err := sh.budgetedAbscissa(ctx, e, o.Budget, &failed)
 		switch {
 		case errors.Is(err, ErrBudget):
 			skipped += sh.budget.spent()
@@ -381,6 +381,23 @@ func (sh *shape) pseudoAbscissa(ctx context.Context, eps float64) (*AbscissaResu
 		Method:   fmt.Sprintf("rightmost σ_ε point on %d horizontal lines (through the eigenvalues and across W(A)), exact per line by a Lipschitz walk and bisection; golden-section refinement in Im z", len(ys)),
 		Accuracy: "per line to relative 1e-12; the maximum over lines is local (a lower bound of α_ε, typically exact to ~1e-8 in Im z)",
 	}, nil
+}
+
+// budgetedAbscissa is pseudoAbscissa under a budget of its own (none if
+// budget ≤ 0). A level at or below *failed, the largest level that already
+// ran out of its budget, is not tried (ErrBudget, no work): the walk near
+// the boundary of σ_ε takes steps of at most ε/2, so a smaller level costs
+// more. A level that runs out raises *failed.
+func (sh *shape) budgetedAbscissa(ctx context.Context, eps, budget float64, failed *float64) (*AbscissaResult, error) {
+	sh.budget = newBudget(budget)
+	if sh.budget != nil && eps <= *failed {
+		return nil, ErrBudget
+	}
+	r, err := sh.pseudoAbscissa(ctx, eps)
+	if errors.Is(err, ErrBudget) {
+		*failed = math.Max(*failed, eps)
+	}
+	return r, err
 }
 
 // firstErr returns ctx.Err() or the first error in errs.
@@ -788,9 +805,9 @@ func GrowthCurve(ctx context.Context, a linop.Operator, times []float64, opt *Gr
 		g.SkippedWork += sh.budget.spent()
 		return nil
 	}
+	failed := 0.0
 	for _, eps := range o.Eps {
-		sh.budget = newBudget(o.Budget)
-		ar, err := sh.pseudoAbscissa(ctx, eps)
+		ar, err := sh.budgetedAbscissa(ctx, eps, o.Budget, &failed)
 		if err != nil {
 			if err := skip(fmt.Sprintf("α_ε for ε = %g", eps), err); err != nil {
 				return nil, err
