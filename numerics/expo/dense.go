@@ -183,7 +183,9 @@ func ExpContext(ctx context.Context, dst *mat.Dense, a mat.Matrix) (ExpInfo, err
 	info.Degree, info.Squarings = m, s
 	if s > 0 {
 		A.Scale(math.Ldexp(1, -s), A)
-		finite := func(x *mat.Dense) bool { return x == nil || !math.IsInf(mat.Norm(x, 1), 0) && !math.IsNaN(mat.Norm(x, 1)) }
+		finite := func(x *mat.Dense) bool {
+			return x == nil || !math.IsInf(mat.Norm(x, 1), 0) && !math.IsNaN(mat.Norm(x, 1))
+		}
 		if finite(A2) && finite(A4) && finite(A6) {
 			A2.Scale(math.Ldexp(1, -2*s), A2)
 			if A4 != nil {

@@ -1,6 +1,8 @@
 package expo
 
 import (
+	"context"
+	"errors"
 	"fmt"
 	"math"
 	"math/rand/v2"
@@ -19,16 +21,37 @@ const maxDenseN = 4000
 type counted struct {
 	a       linop.Operator
 	matvecs int
+	budget  *workBudget // nil: no limit
+}
+
+// workBudget cancels a computation's context once it has used its
+// products: a limit counted in work, so the same problem stops at the same
+// point on a busy machine and a quiet one.
+type workBudget struct {
+	left int
+	stop context.CancelCauseFunc
+}
+
+// errWorkBudget is the cause of a cancellation by a workBudget.
+var errWorkBudget = errors.New("expo: work budget used up")
+
+func (c *counted) spend() {
+	c.matvecs++
+	if b := c.budget; b != nil {
+		if b.left--; b.left < 0 {
+			b.stop(errWorkBudget)
+		}
+	}
 }
 
 func (c *counted) apply(dst, x []float64) {
 	c.a.Apply(dst, x)
-	c.matvecs++
+	c.spend()
 }
 
 func (c *counted) applyT(dst, x []float64) {
 	c.a.ApplyT(dst, x)
-	c.matvecs++
+	c.spend()
 }
 
 // toDense returns the dense matrix of a, from its own dense form when it

@@ -2,6 +2,7 @@ package expo
 
 import (
 	"context"
+	"errors"
 	"fmt"
 	"math"
 	"sort"
@@ -57,6 +58,8 @@ type Options struct {
 	ResolventLevels int // Richardson levels n, 2n, 4n, … (default 4)
 
 	Workers int // parallel shifted solves (default GOMAXPROCS)
+
+	workLimit int // products allowed (0: no limit); set by escalate
 }
 
 // Solution is the result of Propagate.
@@ -148,9 +151,10 @@ func (s *Solution) MaxErrEst() float64 {
 // method), and TolMet says whether all of them are at most Tol·‖u0‖_∞.
 // When the first method's estimate misses, Propagate escalates by itself
 // (unless Options.NoEscalate): second, independent methods at Tol/100
-// (escalationMethods, until one meets it), each within a budget of ten times the first run's time
-// (0.5 s to 60 s; 60 s for a dense exponential of order ≤ 400); the difference between the two plus the second's
-// estimate is a second bound, and each time keeps the smaller. What was
+// (escalationMethods, until one meets it), each within escalationWork
+// products (dense exponentials of order ≤ 400 are not limited) and 60 s;
+// the difference between the two plus the second's estimate is a second
+// bound, and each time keeps the smaller. What was
 // done is in Solution.Escalation; when the tolerance is still missed,
 // Solution.Shortfall says by how much.
 //
@@ -184,7 +188,7 @@ func Propagate(ctx context.Context, A linop.Operator, u0 []float64, times []floa
 	sol.CheckTol(u0n)
 	var second *Solution // the escalation's run, reused by the cross-check
 	if !sol.TolMet && !opts.NoEscalate {
-		second = escalate(ctx, sol, A, u0, times, opts, time.Since(start))
+		second = escalate(ctx, sol, A, u0, times, opts)
 		if err := ctx.Err(); err != nil {
 			return nil, err
 		}
@@ -200,26 +204,32 @@ func Propagate(ctx context.Context, A linop.Operator, u0 []float64, times []floa
 	return sol, nil
 }
 
-// escalationBudget bounds the wall time of an escalation: ten times what
-// the first method took, at least 0.5 s and at most 60 s.
-func escalationBudget(first time.Duration) time.Duration {
-	return min(max(10*first, 500*time.Millisecond), 60*time.Second)
+// escalationWork is the work an escalation's second method may use: ten
+// times the first run's products and shifted solves (a solve counted as
+// ten products), at least 20000 products. Counted in work, not time, so a
+// problem escalates the same way on a busy machine as on a quiet one.
+func escalationWork(first *Solution) int {
+	return max(10*(first.MatVecs+10*first.Solves), 20000)
 }
+
+// escalationWallCap bounds an escalation's wall time in any case
+// (shifted solves and dense exponentials are not counted as products).
+const escalationWallCap = 60 * time.Second
 
 // escalate tries independent methods at a hundredth of the tolerance
 // when the first estimate missed it (escalationMethods, in order, until the
-// tolerance is met), each within escalationBudget. A second run's estimate
+// tolerance is met), each within escalationWork products. A second run's estimate
 // e₂ and the difference d between the two give a second bound on the
 // first's error, d + e₂ (true error ≤ d + the second method's true error);
 // each time keeps the smaller bound, and the second method's values where
 // its own estimate is smaller still. It returns the last second run (nil
 // when none ran) and says what it did in sol.Escalation.
-func escalate(ctx context.Context, sol *Solution, A linop.Operator, u0, times []float64, opts Options, took time.Duration) *Solution {
+func escalate(ctx context.Context, sol *Solution, A linop.Operator, u0, times []float64, opts Options) *Solution {
 	target := opts.Tol * normInf(u0)
 	var notes []string
 	var last *Solution
 	for _, other := range escalationMethods(sol.Method, A) {
-		s2, note := escalateOnce(ctx, sol, other, A, u0, times, opts, took)
+		s2, note := escalateOnce(ctx, sol, other, A, u0, times, opts)
 		notes = append(notes, note)
 		if s2 != nil {
 			last = s2
@@ -234,23 +244,24 @@ func escalate(ctx context.Context, sol *Solution, A linop.Operator, u0, times []
 
 // escalateOnce runs one second method for escalate and returns it with a
 // note saying what it found (nil when it failed or ran out of time).
-func escalateOnce(ctx context.Context, sol *Solution, other string, A linop.Operator, u0, times []float64, opts Options, took time.Duration) (*Solution, string) {
-	budget := escalationBudget(took)
-	if other == MethodDense {
-		// Order ≤ maxEscalateDense: a bounded cost (two exponentials of
-		// order 400 take about a second), worth more than the budget.
-		budget = 60 * time.Second
-	}
-	bctx, cancel := context.WithTimeout(ctx, budget)
+func escalateOnce(ctx context.Context, sol *Solution, other string, A linop.Operator, u0, times []float64, opts Options) (*Solution, string) {
+	bctx, cancel := context.WithTimeout(ctx, escalationWallCap)
 	defer cancel()
 	o := opts
 	o.Tol, o.Progress, o.Crosscheck = opts.Tol/100, nil, false
+	if other != MethodDense {
+		// Order ≤ maxEscalateDense makes a dense run's cost bounded.
+		o.workLimit = escalationWork(sol)
+	}
 	first := sol.MaxErrEst()
 	t0 := time.Now()
 	s2, err := run(bctx, other, A, u0, times, o)
 	if err != nil {
-		if bctx.Err() != nil {
-			return nil, fmt.Sprintf("estimate %.3g missed the tolerance; %s did not finish within %s", first, other, budget)
+		switch {
+		case errors.Is(err, errWorkBudget):
+			return nil, fmt.Sprintf("estimate %.3g missed the tolerance; %s did not finish within its budget of %d products", first, other, o.workLimit)
+		case bctx.Err() != nil && ctx.Err() == nil:
+			return nil, fmt.Sprintf("estimate %.3g missed the tolerance; %s did not finish within %s", first, other, escalationWallCap)
 		}
 		return nil, fmt.Sprintf("estimate %.3g missed the tolerance; %s failed: %v", first, other, err)
 	}
@@ -416,7 +427,14 @@ func run(ctx context.Context, method string, A linop.Operator, u0 []float64, tim
 	vals := make([][]float64, len(times))
 	errs := make([]float64, len(times))
 	sol := &Solution{Times: append([]float64(nil), times...)}
-	c := &counted{a: A}
+	var budget *workBudget
+	if opts.workLimit > 0 {
+		var cancel context.CancelCauseFunc
+		ctx, cancel = context.WithCancelCause(ctx)
+		defer cancel(nil)
+		budget = &workBudget{left: opts.workLimit, stop: cancel}
+	}
+	c := &counted{a: A, budget: budget}
 	var err error
 	switch method {
 	case MethodTaylor:
@@ -427,17 +445,17 @@ func run(ctx context.Context, method string, A linop.Operator, u0 []float64, tim
 			}
 			mu /= float64(len(d))
 		}
-		c = &counted{a: A}
+		c = &counted{a: A, budget: budget}
 		op := A
 		if mu != 0 {
 			op = &shifted{a: A, mu: mu}
 		}
-		cs := &counted{a: op}
+		cs := &counted{a: op, budget: budget}
 		tn := &taylorNorms{norm1: opNorm1(cs)}
 		if mu != 0 {
 			// Keep the shift only when it reduces the norm.
 			if n0 := opNorm1(c); n0 <= tn.norm1 {
-				cs, mu = &counted{a: A, matvecs: cs.matvecs}, 0
+				cs, mu = &counted{a: A, matvecs: cs.matvecs, budget: budget}, 0
 				tn.norm1 = n0
 			}
 		}
@@ -469,6 +487,9 @@ func run(ctx context.Context, method string, A linop.Operator, u0 []float64, tim
 		return nil, fmt.Errorf("%w: unknown method %q", ErrMethod, method)
 	}
 	if err != nil {
+		if budget != nil && context.Cause(ctx) == errWorkBudget {
+			return nil, errWorkBudget
+		}
 		return nil, err
 	}
 	sol.MatVecs = c.matvecs
