@@ -230,15 +230,21 @@ func integrate(ctx context.Context, st oneStepper, u0 []float64, times []float64
 			}
 			finite := !math.IsNaN(normInf(tryF)) && !math.IsInf(normInf(tryF), 0) && !math.IsNaN(normInf(tryC)) && !math.IsInf(normInf(tryC), 0)
 			scale := stats.Scale
+			ctlScale := scale
 			if finite {
 				scale = math.Max(scale, normInf(tryF))
+				// From u0 = 0 (a source switching on) the size u is heading
+				// for, 0.1·‖Δu‖·T/h, keeps the first steps from chasing a
+				// relative accuracy of a vanishing u; TolMet is still judged
+				// against the largest ‖u‖ met.
+				ctlScale = math.Max(scale, 0.1*maxAbsDiff(tryF, fine)*tmax/h)
 			}
 			// The budget left (0.8·tol·scale less the global estimate so
 			// far) spread over the time left; a decaying error frees
 			// budget, a growing one tightens the steps.
-			left := math.Max(0.8*tol*scale-maxAbsDiff(coarse, fine), 0.05*tol*scale)
+			left := math.Max(0.8*tol*ctlScale-maxAbsDiff(coarse, fine), 0.05*tol*ctlScale)
 			// A D at the rounding level of u says nothing about h.
-			target := math.Max(left*math.Min(h/(tmax-t), 1), 16*unitRoundoff*scale)
+			target := math.Max(left*math.Min(h/(tmax-t), 1), 16*unitRoundoff*ctlScale)
 			if fix && !finite {
 				return nil, errorf("%s solution is not finite at t = %g", st.name(), t+h)
 			}

@@ -219,10 +219,26 @@ func forcedFunc(ctx context.Context, A linop.Operator, u0 []float64, f Forcing, 
 					w[j][r] = fact * C.At(j, r)
 				}
 			}
+			// Balance the augmented vector: y_0 = β ≈ the size of u (or of
+			// the piece's contribution f·H when u is still 0) and W/β, so
+			// that the propagation's tolerance, relative to ‖[u; y]‖, is
+			// relative to u.
+			beta := math.Max(normInf(u), fmax*H)
+			if beta == 0 {
+				beta = 1
+			}
+			for _, wj := range w {
+				for r := range wj {
+					wj[r] /= beta
+				}
+			}
 			aug := &augmented{a: A, w: w, h: H}
 			x0 := make([]float64, n+q+1)
 			copy(x0, u)
-			x0[n] = 1
+			x0[n] = beta
+			// The piece's share of the propagation budget, like its share
+			// of the interpolation budget.
+			o.Tol = math.Max(0.5*opts.Tol*math.Max(H/tmax, 1.0/64), 1e-15)
 			s, err := Propagate(ctx, aug, x0, []float64{H}, o)
 			if err != nil {
 				return nil, err

@@ -125,3 +125,58 @@ func maxNormOf(u0 []float64, vs [][]float64) float64 {
 	}
 	return m
 }
+
+func TestForcedSwitchedOff2D(t *testing.T) {
+	// A 2-D heat operator Δ_h = X ⊕ X (X the Dirichlet second difference on
+	// 20 points) with a source g·[t < 0.05], g = sin(πx)sin(πy) sampled: g
+	// is an eigenvector with λ = −(8/h²)sin²(πh/2) (closed form), so by
+	// variation of constants u(t) = g(e^{λt} − 1)/λ for t ≤ 0.05 and
+	// u(0.05)e^{λ(t − 0.05)} after.
+	m := 20
+	X, x := etdLaplacian(m, 1)
+	A := linop.NewKronSum(X, X)
+	h := 1 / float64(m+1)
+	lam := -8 / (h * h) * math.Pow(math.Sin(math.Pi*h/2), 2)
+	g := make([]float64, m*m)
+	for i := range x {
+		for j := range x {
+			g[i*m+j] = math.Sin(math.Pi*x[i]) * math.Sin(math.Pi*x[j])
+		}
+	}
+	ts := 0.05
+	f := func(tt float64, d []float64) {
+		for k := range d {
+			d[k] = 0
+			if tt < ts {
+				d[k] = g[k]
+			}
+		}
+	}
+	exact := func(tt float64) []float64 {
+		c := (math.Exp(lam*math.Min(tt, ts)) - 1) / lam
+		if tt > ts {
+			c *= math.Exp(lam * (tt - ts))
+		}
+		u := make([]float64, len(g))
+		for k := range u {
+			u[k] = c * g[k]
+		}
+		return u
+	}
+	times := []float64{0.03, 0.1}
+	u0 := make([]float64, m*m)
+	for _, br := range [][]float64{{ts}, nil} {
+		s, err := PropagateForced(context.Background(), A, u0, Forcing{Func: f, Breaks: br}, times, Options{Tol: 1e-8})
+		if err != nil {
+			t.Fatal(err)
+		}
+		checkContract(t, "2-D switched source", s, func(i int) []float64 { return exact(times[i]) }, maxNormOf(u0, s.Values))
+		if !s.TolMet {
+			t.Errorf("breaks %v: %s", br, s.Shortfall)
+		}
+		if found := strings.Contains(s.Reason, "near t ≈ 0.05"); found != (br == nil) {
+			t.Errorf("breaks %v: jump reported %v: %s", br, found, s.Reason)
+		}
+		t.Logf("breaks %v: estimate %.3g, true %.3g", br, s.MaxErrEst(), maxAbsDiff(s.Values[1], exact(0.1)))
+	}
+}
