@@ -187,7 +187,9 @@ def omega_alpha(A):
 def gen_check(dissipative, stable, omega, alpha, reference):
     """A generator(A, omega=0) check; stable None for a marginal α = 0 (no sign to test)."""
     c = {"var": "gen", "dissipative": bool(dissipative), "omega_A": float(omega),
-         "alpha": float(alpha), "reference": reference}
+         "alpha": float(alpha), "reference": reference,
+         # the sign of α(A): −1 (decays), +1 (grows), 0 (α = 0 exactly)
+         "alpha_sign": 0 if stable is None else (-1 if stable else 1)}
     if stable is not None:
         c["stable"] = bool(stable)
     return c
@@ -1268,10 +1270,13 @@ FAMILIES = [family_second_order, family_chains, family_convection_diffusion, fam
 
 
 def main():
+    global OUT
     ap = argparse.ArgumentParser()
+    ap.add_argument("--out", default=OUT, help="the folder to write (default problems/; write elsewhere and copy over to keep the corpus whole meanwhile)")
     ap.add_argument("--only", help="run only the families whose function names contain one of these comma-separated texts")
     args = ap.parse_args()
     os.chdir(os.path.dirname(os.path.abspath(__file__)))
+    OUT = args.out
     os.makedirs(OUT, exist_ok=True)
     for f in FAMILIES:
         if args.only and not any(o in f.__name__ for o in args.only.split(",")):
