@@ -4,6 +4,7 @@ import (
 	"bytes"
 	"context"
 	"encoding/json"
+	"errors"
 	"fmt"
 	"math"
 	"math/cmplx"
@@ -450,5 +451,25 @@ func TestExpHugeNorm(t *testing.T) {
 				t.Errorf("λ = %g: entry %d = %g, want %g", lam, k, g, w)
 			}
 		}
+	}
+}
+
+// An escalation's budget is counted in products: Krylov on the heat
+// operator at t‖A‖₁ ≈ 1.6e7 needs thousands of them, so a budget of 50
+// stops it at the same point however busy the machine is, with the
+// budget named as the cause.
+func TestWorkBudget(t *testing.T) {
+	n := 2000
+	u0, _ := sineModes(n, 0, []int{1, 3}, []float64{1, 0.5})
+	_, err := run(context.Background(), MethodKrylov, heat1D(n), u0, []float64{1}, Options{Tol: 1e-10, workLimit: 50})
+	if !errors.Is(err, errWorkBudget) {
+		t.Fatalf("err = %v, want the work budget", err)
+	}
+	s, err := run(context.Background(), MethodKrylov, heat1D(n), u0, []float64{1e-4}, Options{Tol: 1e-10, workLimit: 1 << 30})
+	if err != nil || s.MatVecs <= 50 {
+		t.Fatalf("without a binding budget: %v, %d products", err, s.MatVecs)
+	}
+	if w := escalationWork(&Solution{MatVecs: 100, Solves: 3000}); w != 10*(100+10*3000) {
+		t.Errorf("escalationWork = %d", w)
 	}
 }
