@@ -180,3 +180,25 @@ func TestForcedSwitchedOff2D(t *testing.T) {
 		t.Logf("breaks %v: estimate %.3g, true %.3g", br, s.MaxErrEst(), maxAbsDiff(s.Values[1], exact(0.1)))
 	}
 }
+
+func TestForcedConstantDamped(t *testing.T) {
+	// closed form: u' = λu + 1, u(0) = 0 has u(t) = (e^{λt} − 1)/λ, of size
+	// 1/|λ| ≪ 1 for λ = −100, −200: the tolerance, relative to max‖u‖,
+	// must still be met (the augmented vector is rebalanced).
+	lams := []float64{-100, -200}
+	A := linop.NewDense(mat.NewDense(2, 2, []float64{lams[0], 0, 0, lams[1]}))
+	times := []float64{0.005, 1}
+	exact := func(tt float64) []float64 {
+		return []float64{(math.Exp(lams[0]*tt) - 1) / lams[0], (math.Exp(lams[1]*tt) - 1) / lams[1]}
+	}
+	for _, m := range []string{MethodTaylor, MethodDense, MethodKrylov} {
+		s, err := PropagateForced(context.Background(), A, []float64{0, 0}, Forcing{Const: []float64{1, 1}}, times, Options{Method: m, Tol: 1e-8})
+		if err != nil {
+			t.Fatal(err)
+		}
+		checkContract(t, m, s, func(i int) []float64 { return exact(times[i]) }, maxNormOf([]float64{0, 0}, s.Values))
+		if !s.TolMet {
+			t.Errorf("%s: %s", m, s.Shortfall)
+		}
+	}
+}
