@@ -325,7 +325,9 @@ func TestDenseEstimateNonNormalSteps(t *testing.T) {
 // abscissa is ≈ ‖K‖/2 and e^{ωΔ} overflowed, and a Ritz value of
 // (I − γA)⁻¹ near 0 made e^{ΔH_m} overflow into "NaN entries". Now the run
 // completes, every estimate bounds the true error (closed form: damped
-// sine modes), and TolMet agrees with the estimates.
+// sine modes), and TolMet agrees with the estimates. The estimates stay
+// loose (up to 1200× at t = 0.01): the Euclidean growth of this
+// semigroup is large although its energy norm decays.
 func TestShiftInvertDampedBeam(t *testing.T) {
 	n := 300
 	k0 := float64((n + 1) * (n + 1))
@@ -343,6 +345,11 @@ func TestShiftInvertDampedBeam(t *testing.T) {
 		t.Fatal(err)
 	}
 	checkEstimateContract(t, s, u0, want, math.Inf(1), "closed form: Rayleigh-damped beam modes")
+	// The growth charged is that of the basis size kept: charging the
+	// last size tried once gave 8.5e40 here (true error 3.9e-8).
+	if est := s.MaxErrEst(); !(est < 1e-3) {
+		t.Errorf("largest estimate %.3g", est)
+	}
 }
 
 // A tolerance below the unit roundoff cannot be met by any method: the

@@ -204,6 +204,7 @@ func siKrylovRun(ctx context.Context, c *counted, u0 []float64, times []float64,
 		allowed, floor := tolAbs*delta/T/mhat, 0.0
 		var prev, prevBest []float64 // the (m−1)-vector coefficients, and those of the best m
 		lastD, tailBest := 0.0, 1.0  // the last change ‖c_m − c_{m−1}‖₂, the best m's tail factor
+		propBest := 1.0              // the growth factor of the basis size kept
 		m := 0
 		prop := 1.0 // the growth factor over the step, see propagation
 		for j := 0; j < mmax; j++ {
@@ -267,7 +268,7 @@ func siKrylovRun(ctx context.Context, c *counted, u0 []float64, times []float64,
 			prop, proj = propagation(growth, delta, projNorm)
 			projected = projected || proj
 			if breakdown {
-				coef, errLoc = cf, 0
+				coef, errLoc, propBest = cf, 0, prop
 				break
 			}
 			if prev != nil {
@@ -293,10 +294,10 @@ func siKrylovRun(ctx context.Context, c *counted, u0 []float64, times []float64,
 				lastD = d
 				est := prop * beta * d * tail
 				if est < errLoc {
-					coef, errLoc, prevBest, tailBest = cf, est, prev, tail
+					coef, errLoc, prevBest, tailBest, propBest = cf, est, prev, tail, prop
 				}
 				if est <= math.Max(allowed, floor) {
-					coef, errLoc, prevBest, tailBest = cf, est, prev, tail
+					coef, errLoc, prevBest, tailBest, propBest = cf, est, prev, tail, prop
 					break
 				}
 			}
@@ -327,7 +328,7 @@ func siKrylovRun(ctx context.Context, c *counted, u0 []float64, times []float64,
 				}
 				axpy(beta*cj, V[j], tmp)
 			}
-			errLoc = math.Min(errLoc, 4*tailBest*prop*normInf(tmp))
+			errLoc = math.Min(errLoc, 4*tailBest*propBest*normInf(tmp))
 		}
 		for i := range u {
 			u[i] = 0
@@ -347,11 +348,14 @@ func siKrylovRun(ctx context.Context, c *counted, u0 []float64, times []float64,
 			// (sup_t ‖e^{tA}‖ ≈ M̂ for a bounded semigroup), and double
 			// the local errors as Krylov does for non-symmetric A (a
 			// Rayleigh-damped string of order 510 fell 1.8× short).
-			mhat = math.Max(mhat, prop)
+			// The growth of the basis size kept, not of the last one
+			// tried: a Ritz value of Z near 0 in a larger basis once made
+			// ‖e^{ΔH_m}‖ 1e46 on a damped beam.
+			mhat = math.Max(mhat, propBest)
 			sumLocal += 2 * local
 			errAcc = mhat * sumLocal
 		} else {
-			errAcc = errAcc*prop + local
+			errAcc = errAcc*propBest + local
 			sumLocal += local
 		}
 		if opts.Progress != nil {
