@@ -89,6 +89,9 @@ def write_vector(name, u, what="u0"):
 def lit(x):
     """A number as Semiflow source: the shortest text that reads back."""
     r = repr(float(x))
+    if "e" in r:  # 1e-08 → 1e-8
+        m, e = r.split("e")
+        r = m + "e" + str(int(e))
     return r[:-2] if r.endswith(".0") else r
 
 
@@ -1106,10 +1109,12 @@ def family_semilinear():
         propagate=prop_check(u0, times, ref, "closed form: the sine mode sin(2πx) decays as e^{(λ₂ − k)t}, λ₂ = −(4/h²)sin²(πh)·0.05, in %s at 40 digits" % MPMATH, 2 * U))
 
     # Fisher–KPP from a local infestation: no closed form; scipy solve_ivp.
-    for name, npts, D, r, times, scen in [
-            ("pest_fisher_kpp_patch_n65", 65, 0.001, 1.0, [1.0, 4.0],
+    for name, npts, D, r, times, tol, scen in [
+            ("pest_fisher_kpp_patch_n65", 65, 0.001, 1.0, [1.0, 4.0], 1e-8,
              "pest infestation spreading from one corner of an orchard (Fisher–KPP, D = 0.001, r = 1), Neumann ends, 65 points"),
-            ("pest_fisher_kpp_fast_n129", 129, 0.0005, 3.0, [0.5, 2.0],
+            ("pest_fisher_kpp_patch_n65_tol1e-11", 65, 0.001, 1.0, [1.0, 4.0], 1e-11,
+             "the orchard infestation asked for tol = 1e-11"),
+            ("pest_fisher_kpp_fast_n129", 129, 0.0005, 3.0, [0.5, 2.0], 1e-8,
              "a fast-breeding pest (r = 3) in a long orchard row, 129 points: a sharp front")]:
         L = neumann_laplacian(npts)
         A = D * L
@@ -1128,9 +1133,9 @@ def family_semilinear():
         spread = agree(ra, rb, name, 1.0, 1e-9) + U
         script = ('g = interval(0, 1, %d, ends="neumann")\nA = %s * laplacian(g)\n' % (npts, lit(D)) + READ_U0 +
                   "grow(u) = %s * u * (1 - u)\n" % lit(r) +
-                  "sol = propagate(A, u0, %s, nonlinear=grow, tol=1e-8)\n" % vec_lit(times))
+                  "sol = propagate(A, u0, %s, nonlinear=grow, tol=%s)\n" % (vec_lit(times), lit(tol)))
         add(name, fam, scen, script,
-            propagate=prop_check(u0, times, rb, "%s solve_ivp DOP853 at rtol 1e-13, atol 1e-15, checked against Radau with the exact Jacobian (spread = their difference)" % SCIPY, spread))
+            propagate=prop_check(u0, times, rb, "%s solve_ivp DOP853 at rtol 1e-13, atol 1e-15, checked against Radau with the exact Jacobian (spread = their difference)" % SCIPY, spread, tol=tol))
 
     # Bistable (Allen–Cahn) front between two phases: solve_ivp reference.
     name = "firebreak_bistable_front_n81"
@@ -1188,11 +1193,13 @@ def mp_eig_cond(A, dps=50):
 
 def family_defective():
     fam = "defective"
-    for name, n, lam, sup, times, scen in [
-            ("jordan_block_5", 5, -1.0, 1.0, [0.5, 2.0, 10.0], "a 5×5 Jordan block J₅(−1): one defective eigenvalue"),
-            ("jordan_block_12_strong", 12, -0.5, 3.0, [1.0, 5.0, 30.0],
+    for name, n, lam, sup, times, tol, scen in [
+            ("jordan_block_5", 5, -1.0, 1.0, [0.5, 2.0, 10.0], 1e-8, "a 5×5 Jordan block J₅(−1): one defective eigenvalue"),
+            ("jordan_block_12_strong", 12, -0.5, 3.0, [1.0, 5.0, 30.0], 1e-8,
              "a 12×12 Jordan block −0.5 I + 3N: stable but with transient growth near 10⁸"),
-            ("jordan_block_2", 2, -2.0, 1.0, [0.25, 1.0], "the 2×2 Jordan block of a critically damped oscillator")]:
+            ("jordan_block_12_strong_tol1e-13", 12, -0.5, 3.0, [1.0, 5.0, 30.0], 1e-13,
+             "the strong 12×12 Jordan block asked for tol = 1e-13: at t = 30 rounding alone (u·‖e^{tA}‖·‖u0‖ ≈ 3e-8) exceeds tol·‖u0‖∞ = 1.2e-12, so it must be flagged"),
+            ("jordan_block_2", 2, -2.0, 1.0, [0.25, 1.0], 1e-8, "the 2×2 Jordan block of a critically damped oscillator")]:
         J = np.diag(lam * np.ones(n)) + np.diag(sup * np.ones(n - 1), 1)
         lit_m = "{" + " | ".join(", ".join(lit(v) for v in row) for row in J) + "}"
         u0 = write_vector(name, [(-1) ** i * (i + 1) for i in range(n)])
@@ -1200,10 +1207,11 @@ def family_defective():
         agree(ref, expm_values(J, u0, times), name, max(np.max(np.abs(r)) for r in ref), 1e-6)
         with mpmath.workdps(30):
             om = float(lam + sup * mpmath.cos(mpmath.pi / (n + 1)))
-        script = ("A = %s\n" % lit_m + READ_U0 + "sol = propagate(A, u0, %s, tol=1e-8)\n" % vec_lit(times) +
+        script = ("A = %s\n" % lit_m + READ_U0 + "sol = propagate(A, u0, %s, tol=%s)\n" % (vec_lit(times), lit(tol)) +
                   "gen = generator(A, omega=0)\nspec = spectrum(A)\n")
         add(name, fam, scen, script,
-            propagate=prop_check(u0, times, ref, "closed form: e^{λt} Σ_k (ct)^k/k! N^k for J = λI + cN, in %s at 40 digits" % MPMATH, U * max(np.max(np.abs(r)) for r in ref)),
+            propagate=prop_check(u0, times, ref, "closed form: e^{λt} Σ_k (ct)^k/k! N^k for J = λI + cN, in %s at 40 digits" % MPMATH,
+                                 U * max(np.max(np.abs(r)) for r in ref), tol=tol),
             generator=gen_check(om <= 0, True, om, lam,
                                 "closed form: α = λ, ω = λ + c·cos(π/(n+1)) (symmetric part tridiagonal Toeplitz)"),
             eigen={"var": "spec", "norm_fro": float(np.linalg.norm(J)), "eigenvalues": [[lam, 0.0]], "defective": [True], "cond": [None],
