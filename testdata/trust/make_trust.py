@@ -462,7 +462,7 @@ def family_chains():
         add(name, fam, scen, script, **checks)
 
     # Ehrenfest urn: n balls in two urns, each ball switches urn at rate r.
-    # States k = balls in urn 1; eigenvalues −2rk/… : −2r·j, j = 0..n, gap 2r.
+    # States k = balls in urn 1; eigenvalues −2rj, j = 0..n, gap 2r.
     # From state 0 each ball is in urn 1 with p(t) = (1 − e^{−2rt})/2,
     # so the distribution is binomial (closed form).
     name, nb, r = "ehrenfest_urn_100", 100, 0.25
