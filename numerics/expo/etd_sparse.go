@@ -8,6 +8,7 @@ import (
 	"sync"
 
 	"semiflow/numerics/linop"
+	"semiflow/numerics/memguard"
 	"semiflow/numerics/solve"
 )
 
@@ -43,6 +44,7 @@ type etdSparseStepper struct {
 	rate            float64
 	cache           map[float64][]solve.ShiftedSolver
 	keys            []float64
+	limit           int          // step lengths whose factorisations are kept
 	tri             [3][]float64 // sub-, main and superdiagonal when L is tridiagonal
 	extra           float64      // quadrature and rounding errors committed so far
 	solves, factors int
@@ -73,7 +75,7 @@ func sparseETDApplies(L linop.Operator) bool {
 	return isSymmetric(L)
 }
 
-func newETDSparseStepper(ctx context.Context, L linop.Operator, N Nonlinear, tol float64) *etdSparseStepper {
+func newETDSparseStepper(ctx context.Context, L linop.Operator, N Nonlinear, tol float64) (*etdSparseStepper, error) {
 	n, _ := L.Dims()
 	s := &etdSparseStepper{ctx: ctx, L: L, N: N, cache: map[float64][]solve.ShiftedSolver{}}
 	if g, ok := gershgorinRight(L); ok && g > 0 {
@@ -92,11 +94,22 @@ func newETDSparseStepper(ctx context.Context, L linop.Operator, N Nonlinear, tol
 	for _, v := range []*[]float64{&s.nu, &s.na, &s.nb, &s.nc, &s.a, &s.b, &s.cc, &s.t1, &s.w[0], &s.w[1], &s.w[2]} {
 		*v = make([]float64, n)
 	}
+	// Keep at most etdCacheBytes of factorisations (5 complex vectors of
+	// order n for a tridiagonal L, a guessed 64 for a sparse LU), but at
+	// least the three step lengths one step needs (h, h/2, h/4).
+	per := 64 * memguard.ComplexBytes * n
+	if s.tri[1] != nil {
+		per = 5 * memguard.ComplexBytes * n
+	}
+	s.limit = min(max(etdCacheBytes/(per*len(s.z)+1), 3), 12)
 	s.work = make([]etdNodeWork, min(runtime.GOMAXPROCS(0), len(s.z)))
+	if err := memguard.Bytes(float64(s.limit*len(s.z)*per+len(s.work)*n*(2*memguard.ComplexBytes+memguard.RealBytes)), "ETDRK4 contour factorisations and work vectors"); err != nil {
+		return nil, err
+	}
 	for i := range s.work {
 		s.work[i] = etdNodeWork{rhs: make([]complex128, n), x: make([]complex128, n), acc: make([]float64, n)}
 	}
-	return s
+	return s, nil
 }
 
 func (s *etdSparseStepper) order() int        { return 4 }
@@ -124,7 +137,7 @@ func (s *etdSparseStepper) solvers(tau float64) ([]solve.ShiftedSolver, error) {
 		fs[k] = f
 	}
 	s.factors += len(fs)
-	if len(s.keys) >= 12 {
+	if len(s.keys) >= s.limit {
 		delete(s.cache, s.keys[0])
 		s.keys = s.keys[1:]
 	}

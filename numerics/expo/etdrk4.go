@@ -256,7 +256,10 @@ func ETDRK4(ctx context.Context, L linop.Operator, N Nonlinear, u0 []float64, ti
 	var st oneStepper
 	how := ""
 	if sparseETDApplies(L) {
-		sp := newETDSparseStepper(ctx, L, N, opts.Tol)
+		sp, err := newETDSparseStepper(ctx, L, N, opts.Tol)
+		if err != nil {
+			return nil, StepStats{}, err
+		}
 		st, how = sp, fmt.Sprintf(", each stage a φ-combination by a %d-node contour integral of the augmented resolvent", 2*len(sp.z))
 	} else {
 		st = newETDStepper(L, N)
