@@ -101,11 +101,60 @@ type (
 		Indices        []Expr
 	}
 
+	// FuncLit is an anonymous function: x -> body, (x, t) -> body or
+	// () -> body (↦ may be written for ->). Start is the position of the
+	// parameter list.
+	FuncLit struct {
+		Start  Pos
+		Params []*Param // no defaults
+		Arrow  Pos
+		Body   Expr
+	}
+
+	// ParamList is (a, b) or (): allowed only right before -> as the
+	// parameters of a FuncLit.
+	ParamList struct {
+		Lparen, Rparen Pos
+		Names          []Expr
+	}
+
+	// WhereExpr is X where (a = e1, b = e2): the bindings are evaluated in
+	// order, each seeing the ones before it, and X sees them all.
+	WhereExpr struct {
+		X      Expr
+		Where  Pos
+		Binds  []*Binding
+		Rparen Pos
+	}
+
+	// WithExpr is X with [i] = V or X with [i, j] = V: a copy of X with
+	// the indexed entries replaced.
+	WithExpr struct {
+		X              Expr
+		With           Pos
+		Lbrack, Rbrack Pos
+		Indices        []Expr
+		Value          Expr
+	}
+
+	// FieldExpr is X.Name: a named number (or column) of a report or table.
+	FieldExpr struct {
+		X    Expr
+		Dot  Pos
+		Name *Ident
+	}
+
 	// BadExpr stands for an expression that failed to parse.
 	BadExpr struct {
 		From, To Pos
 	}
 )
+
+// Binding is one local definition name = Value of a WhereExpr.
+type Binding struct {
+	Name  *Ident
+	Value Expr
+}
 
 // Arg is one call argument: Value, or Name = Value.
 type Arg struct {
@@ -136,6 +185,11 @@ func (x *RangeExpr) Pos() Pos  { return x.Lo.Pos() }
 func (x *CallExpr) Pos() Pos   { return x.Fun.Pos() }
 func (x *IndexExpr) Pos() Pos  { return x.X.Pos() }
 func (x *BadExpr) Pos() Pos    { return x.From }
+func (x *FuncLit) Pos() Pos    { return x.Start }
+func (x *ParamList) Pos() Pos  { return x.Lparen }
+func (x *WhereExpr) Pos() Pos  { return x.X.Pos() }
+func (x *WithExpr) Pos() Pos   { return x.X.Pos() }
+func (x *FieldExpr) Pos() Pos  { return x.X.Pos() }
 
 func (x *Ident) End() Pos      { return x.NamePos + Pos(len(x.Name)) }
 func (x *NumberLit) End() Pos  { return x.ValuePos + Pos(len(x.Raw)) }
@@ -154,6 +208,11 @@ func (x *RangeExpr) End() Pos {
 func (x *CallExpr) End() Pos  { return x.Rparen + 1 }
 func (x *IndexExpr) End() Pos { return x.Rbrack + 1 }
 func (x *BadExpr) End() Pos   { return x.To }
+func (x *FuncLit) End() Pos   { return x.Body.End() }
+func (x *ParamList) End() Pos { return x.Rparen + 1 }
+func (x *WhereExpr) End() Pos { return x.Rparen + 1 }
+func (x *WithExpr) End() Pos  { return x.Value.End() }
+func (x *FieldExpr) End() Pos { return x.Name.End() }
 
 func (*Ident) exprNode()      {}
 func (*NumberLit) exprNode()  {}
@@ -167,6 +226,11 @@ func (*RangeExpr) exprNode()  {}
 func (*CallExpr) exprNode()   {}
 func (*IndexExpr) exprNode()  {}
 func (*BadExpr) exprNode()    {}
+func (*FuncLit) exprNode()    {}
+func (*ParamList) exprNode()  {}
+func (*WhereExpr) exprNode()  {}
+func (*WithExpr) exprNode()   {}
+func (*FieldExpr) exprNode()  {}
 
 // Statements.
 type (

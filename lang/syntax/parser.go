@@ -26,7 +26,10 @@ const MaxDepth = 1000
 //	Script    = { [ Stmt ] ( NEWLINE | ";" ) }
 //	Stmt      = name "=" Expr | name "(" Params ")" "=" Expr | Expr
 //	Params    = [ Param { "," Param } ]        Param = name [ "=" Expr ]
-//	Expr      = And { "or" And }
+//	Expr      = Lambda | Or { "where" "(" Binds ")" | "with" "[" Expr { "," Expr } "]" "=" Or }
+//	Lambda    = ( name | "(" [ name { "," name } ] ")" ) ( "->" | "↦" ) Expr
+//	Binds     = name "=" Expr { "," name "=" Expr } [ "," ]
+//	Or        = And { "or" And }
 //	And       = Not { "and" Not }
 //	Not       = "not" Not | Compare
 //	Compare   = Range [ ( "==" | "!=" | "<" | "<=" | ">" | ">=" ) Range ]
@@ -35,14 +38,17 @@ const MaxDepth = 1000
 //	Term      = Unary { ( "*" | "/" | "%" ) Unary }
 //	Unary     = ( "-" | "+" ) Unary | Power
 //	Power     = Postfix [ "^" Unary ]          (right-associative)
-//	Postfix   = Operand { "(" Args ")" | "[" Expr { "," Expr } "]" }
+//	Postfix   = Operand { "(" Args ")" | "[" Expr { "," Expr } "]" | "." name }
 //	Args      = [ Arg { "," Arg } [ "," ] ]    Arg = [ name "=" ] Expr
 //	Operand   = name | number | imaginary | string | "(" Expr ")"
 //	          | "[" [ Expr { "," Expr } [ "," ] ] "]"
 //	          | "{" Row { "|" Row } "}"        Row = Expr { "," Expr }
 //
 // So -a^2 is -(a^2), 2^3^2 is 2^(3^2), and 2^-1 is 2^(-1). Comparisons do
-// not chain. Newlines inside brackets are ignored.
+// not chain. Newlines inside brackets are ignored. An anonymous function's
+// body reaches as far as an expression can (x -> x + 1 where (…) is one
+// function); "where" and "with" apply to everything before them, so
+// v with [0] = 1 with [1] = 2 updates twice.
 func Parse(name, src string) (*Script, error) {
 	s, errs := ParseFile(NewFile(name, src))
 	return s, errs.Err()
@@ -232,6 +238,145 @@ func (p *parser) parseStmt() Stmt {
 }
 
 func (p *parser) parseExpr() Expr {
+	x := p.parseOr()
+	if p.tok.Tok == ARROW {
+		return p.parseFuncLit(x)
+	}
+	for {
+		switch p.tok.Tok {
+		case WHERE:
+			x = p.parseWhere(x)
+		case WITH:
+			x = p.parseWith(x)
+		default:
+			return x
+		}
+	}
+}
+
+// parseFuncLit parses the body of an anonymous function whose parameters,
+// already parsed as an expression, are lhs.
+func (p *parser) parseFuncLit(lhs Expr) Expr {
+	fl := &FuncLit{Start: lhs.Pos(), Arrow: p.tok.Pos}
+	var names []Expr
+	switch t := lhs.(type) {
+	case *Ident:
+		names = []Expr{t}
+	case *ParenExpr:
+		names = []Expr{t.X}
+	case *ParamList:
+		names = t.Names
+	default:
+		p.errorf(lhs.Pos(), p.tok.End, "the left side of -> must be the parameters of an anonymous function: x -> …, (x, t) -> … or () -> …")
+	}
+	seen := map[string]bool{}
+	for _, n := range names {
+		id, ok := n.(*Ident)
+		if !ok {
+			p.errorf(n.Pos(), n.End(), "a parameter of an anonymous function must be a name (defaults belong to named functions f(x, k=2) = …)")
+			continue
+		}
+		if seen[id.Name] {
+			p.errorf(id.Pos(), id.End(), "duplicate parameter %s", Shorten(id.Name, QuoteWidth))
+		}
+		seen[id.Name] = true
+		fl.Params = append(fl.Params, &Param{Name: id})
+	}
+	d := p.depth
+	p.next()
+	p.enter()
+	fl.Body = p.parseExpr()
+	p.leave()
+	p.deepen(max(d, p.depth), fl.Arrow)
+	return fl
+}
+
+// parseWhere parses "where (a = e1, b = e2)" after x.
+func (p *parser) parseWhere(x Expr) Expr {
+	w := &WhereExpr{X: x, Where: p.tok.Pos}
+	d := p.depth
+	p.next()
+	if p.tok.Tok != LPAREN {
+		p.errorf(p.tok.Pos, p.tok.End, "expected ( after where: local definitions are written x where (a = 1, b = a + 2)")
+		w.Rparen = w.Where + Pos(len("where")) - 1
+		return w
+	}
+	lp := p.tok.Pos
+	p.enter()
+	p.next()
+	seen := map[string]bool{}
+	for p.tok.Tok != RPAREN && p.tok.Tok != EOF {
+		if p.tok.Tok != IDENT || p.peek().Tok != ASSIGN {
+			p.errorf(p.tok.Pos, p.tok.End, "expected a local definition name = value inside where ( ), found %s", p.describe())
+			for p.tok.Tok != RPAREN && p.tok.Tok != EOF && p.tok.Tok != NEWLINE && p.tok.Tok != SEMI {
+				p.next()
+			}
+			break
+		}
+		b := &Binding{Name: &Ident{NamePos: p.tok.Pos, Name: p.tok.Lit}}
+		if seen[b.Name.Name] {
+			p.errorf(b.Name.Pos(), b.Name.End(), "%s is defined twice in one where ( )", Shorten(b.Name.Name, QuoteWidth))
+		}
+		seen[b.Name.Name] = true
+		p.next()
+		p.next()
+		b.Value = p.parseExpr()
+		d = max(d, p.depth)
+		w.Binds = append(w.Binds, b)
+		if p.tok.Tok != COMMA {
+			break
+		}
+		p.next()
+	}
+	if len(w.Binds) == 0 && p.tok.Tok == RPAREN {
+		p.errorf(lp, p.tok.End, "where ( ) needs at least one definition name = value")
+	}
+	w.Rparen = p.expectClose(RPAREN, lp)
+	p.leave()
+	p.deepen(d, w.Where)
+	return w
+}
+
+// parseWith parses "with [i] = v" or "with [i, j] = v" after x.
+func (p *parser) parseWith(x Expr) Expr {
+	w := &WithExpr{X: x, With: p.tok.Pos}
+	d := p.depth
+	p.next()
+	if p.tok.Tok != LBRACK {
+		p.errorf(p.tok.Pos, p.tok.End, "expected [ after with: an updated copy is written v with [i] = value (M with [i, j] = value)")
+		w.Value = &BadExpr{From: p.tok.Pos, To: p.tok.Pos}
+		return w
+	}
+	w.Lbrack = p.tok.Pos
+	p.enter()
+	p.next()
+	if p.tok.Tok == RBRACK {
+		p.errorf(p.tok.Pos, p.tok.End, "missing index inside []")
+	}
+	for p.tok.Tok != RBRACK && p.tok.Tok != EOF {
+		w.Indices = append(w.Indices, p.parseExpr())
+		d = max(d, p.depth)
+		if p.tok.Tok != COMMA {
+			break
+		}
+		p.next()
+	}
+	w.Rbrack = p.expectClose(RBRACK, w.Lbrack)
+	p.leave()
+	if p.tok.Tok != ASSIGN {
+		p.errorf(p.tok.Pos, p.tok.End, "expected = after %s[…]: an updated copy is written v with [i] = value", WITH)
+		w.Value = &BadExpr{From: p.tok.Pos, To: p.tok.Pos}
+		return w
+	}
+	p.next()
+	p.enter()
+	w.Value = p.parseOr()
+	p.leave()
+	p.deepen(max(d, p.depth), w.With)
+	return w
+}
+
+func (p *parser) parseOr() Expr {
 	x := p.parseAnd()
 	for p.tok.Tok == OR {
 		pos, d := p.tok.Pos, p.depth
@@ -408,6 +553,16 @@ func (p *parser) parsePostfix() Expr {
 			p.leave()
 			p.deepen(d, ix.Lbrack)
 			x = ix
+		case DOT:
+			dot, d := p.tok.Pos, p.depth
+			p.next()
+			if p.tok.Tok != IDENT {
+				p.errorf(p.tok.Pos, p.tok.End, "expected a name after '.', found %s: a named number of a report is written r.name (or r[\"name\"])", p.describe())
+				return &BadExpr{From: x.Pos(), To: p.tok.Pos}
+			}
+			x = &FieldExpr{X: x, Dot: dot, Name: &Ident{NamePos: p.tok.Pos, Name: p.tok.Lit}}
+			p.next()
+			p.deepen(d, dot)
 		default:
 			return x
 		}
@@ -435,7 +590,25 @@ func (p *parser) parseOperand() Expr {
 	case LPAREN:
 		p.enter()
 		p.next()
+		if p.tok.Tok == RPAREN {
+			pl := &ParamList{Lparen: it.Pos, Rparen: p.tok.Pos}
+			p.next()
+			p.leave()
+			return p.paramList(pl, 1)
+		}
 		x := p.parseExpr()
+		if p.tok.Tok == COMMA {
+			pl := &ParamList{Lparen: it.Pos, Names: []Expr{x}}
+			d := p.depth
+			for p.tok.Tok == COMMA {
+				p.next()
+				pl.Names = append(pl.Names, p.parseExpr())
+				d = max(d, p.depth)
+			}
+			pl.Rparen = p.expectClose(RPAREN, it.Pos)
+			p.leave()
+			return p.paramList(pl, d+1)
+		}
 		rp := p.expectClose(RPAREN, it.Pos)
 		p.leave()
 		p.deepen(p.depth, it.Pos)
@@ -516,4 +689,14 @@ func entries(n int) string {
 		return "1 entry"
 	}
 	return fmt.Sprintf("%d entries", n)
+}
+
+// paramList returns pl, a parenthesised list of names, which must be
+// followed by -> (it is the parameter list of an anonymous function).
+func (p *parser) paramList(pl *ParamList, depth int) Expr {
+	p.depth = depth
+	if p.tok.Tok != ARROW {
+		p.errorf(pl.Lparen, pl.Rparen+1, "(a, b) is the parameter list of an anonymous function and needs -> after it: (a, b) -> a*b; brackets hold one expression otherwise")
+	}
+	return pl
 }

@@ -140,10 +140,15 @@ func (s *Scanner) operator() (Item, bool) {
 		tok = GEQ
 	case "..":
 		tok = DOTDOT
+	case "->":
+		tok = ARROW
 	case ".*", "./", ".^":
 		s.off += 2
 		s.errorf(Pos(start), Pos(s.off), "%s is not an operator: arithmetic on vectors is already element-wise; for the element-wise product of matrices use hadamard(a, b)", two)
 		return Item{Tok: MUL, Pos: Pos(start), End: Pos(s.off), Lit: two}, true
+	}
+	if tok == ILLEGAL && strings.HasPrefix(s.src[s.off:], "↦") {
+		tok, n = ARROW, len("↦")
 	}
 	if tok == ILLEGAL {
 		n = 1
@@ -160,6 +165,8 @@ func (s *Scanner) operator() (Item, bool) {
 			tok = REM
 		case '^':
 			tok = POW
+		case '.':
+			tok = DOT
 		case '<':
 			tok = LSS
 		case '>':
@@ -224,6 +231,11 @@ func (s *Scanner) number() Item {
 		for s.off < len(s.src) && isDigit(s.src[s.off]) {
 			s.off++
 		}
+	}
+	if s.off < len(s.src) && s.src[s.off] == '.' && (s.off+1 >= len(s.src) || s.src[s.off+1] != '.' && !isDigit(s.src[s.off+1])) {
+		// 1. is not a number here (and a number has no named parts).
+		s.errorf(Pos(start), Pos(s.off+1), "number %s. needs a digit after the point: write %s.0 or %s", Shorten(s.src[start:s.off], QuoteWidth), Shorten(s.src[start:s.off], QuoteWidth), Shorten(s.src[start:s.off], QuoteWidth))
+		s.off++
 	}
 	if s.off < len(s.src) && (s.src[s.off] == 'e' || s.src[s.off] == 'E') {
 		j := s.off + 1

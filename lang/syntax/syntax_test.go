@@ -48,7 +48,9 @@ func TestScanner(t *testing.T) {
 		{"1.5e-3 2E+4 7e 3", "number:1.5e-3 number:2E+4", "followed by"},
 		{"3i 1e-3i 2.5i", "imaginary number:3i imaginary number:1e-3i imaginary number:2.5i", ""},
 		{"0..1 by 0.25", "number:0 .. number:1 by number:0.25", ""},
-		{"1.", "number:1", "unexpected character '.'"},
+		{"1.", "number:1.", "needs a digit after the point"},
+		{"a.b x -> y ↦ z", "name:a . name:b name:x -> name:y -> name:z", ""},
+		{"where with", "where with", ""},
 		{`"a\n\t\"\\"`, `string:"a\n\t\"\\"`, ""},
 		{"a # comment\nb", "name:a NL name:b", ""},
 		{"(1,\n2)\n", "( number:1 , number:2 ) NL", ""},
@@ -146,6 +148,26 @@ func tree(x Node) string {
 			ps = append(ps, s)
 		}
 		return "(def " + e.Name.Name + "(" + strings.Join(ps, ", ") + ") " + tree(e.Body) + ")"
+	case *FuncLit:
+		var ps []string
+		for _, p := range e.Params {
+			ps = append(ps, p.Name.Name)
+		}
+		return "(fn(" + strings.Join(ps, ", ") + ") " + tree(e.Body) + ")"
+	case *WhereExpr:
+		var bs []string
+		for _, b := range e.Binds {
+			bs = append(bs, b.Name.Name+"="+tree(b.Value))
+		}
+		return "(" + tree(e.X) + " where " + strings.Join(bs, ", ") + ")"
+	case *WithExpr:
+		parts := make([]string, len(e.Indices))
+		for i, x := range e.Indices {
+			parts[i] = tree(x)
+		}
+		return "(" + tree(e.X) + " with [" + strings.Join(parts, ", ") + "] = " + tree(e.Value) + ")"
+	case *FieldExpr:
+		return tree(e.X) + "." + e.Name.Name
 	case *BadExpr, *BadStmt:
 		return "BAD"
 	}
@@ -183,6 +205,20 @@ func TestParser(t *testing.T) {
 		{"a; b", "a ; b"},
 		{"a\n\n b\n", "a ; b"},
 		{"s = \"x\"", "(set s \"x\")"},
+		{"x -> x + 1", "(fn(x) (x + 1))"},
+		{"(x, t) ↦ x*t", "(fn(x, t) (x * t))"},
+		{"() -> 1", "(fn() 1)"},
+		{"(x) -> x", "(fn(x) x)"},
+		{"x -> y -> x + y", "(fn(x) (fn(y) (x + y)))"},
+		{"map(v, x -> x^2)", "map(v, (fn(x) (x ^ 2)))"},
+		{"propagate(A, u, t, forcing=t -> sin(t), tol=1)", "propagate(A, u, t, forcing=(fn(t) sin(t)), tol=1)"},
+		{"f(x) = a*x where (a = 2, b = a)", "(def f(x) ((a * x) where a=2, b=a))"},
+		{"x -> a*x where (a = x)", "(fn(x) ((a * x) where a=x))"},
+		{"v with [0] = 1 + 2", "(v with [0] = (1 + 2))"},
+		{"v with [0] = 1 with [1] = 2", "((v with [0] = 1) with [1] = 2)"},
+		{"M with [0, 1 .. 2] = 0", "(M with [0, (1 .. 2)] = 0)"},
+		{"r.peak * 2", "(r.peak * 2)"},
+		{"f(x).a.b[0]", "f(x).a.b[0]"},
 	}
 	for _, tt := range tests {
 		s, err := Parse("t", tt.src)
@@ -215,6 +251,18 @@ func TestParseErrors(t *testing.T) {
 		{strings.Repeat("(", 300) + "1", 1, "1:201"},
 		{strings.Repeat("-", 300) + "1", 1, "1:202"},
 		{strings.Repeat("2^", 300) + "1", 1, "1:403"},
+		{"(a, b) + 1", 1, "1:1"},
+		{"x + 1 -> x", 1, "1:1"},
+		{"(x, 2) -> x", 1, "1:5"},
+		{"(x, x) -> x", 1, "1:5"},
+		{"a where b", 1, "1:9"},
+		{"a where ()", 1, "1:9"},
+		{"a where (b = 1, b = 2)", 1, "1:17"},
+		{"v with 0 = 1", 1, "1:8"},
+		{"v with [0] 1", 1, "1:12"},
+		{"r.1", 1, "1:3"},
+		{"x = 1.", 1, "1:5"},
+		{strings.Repeat("x -> ", 300) + "1", 1, "1:1006"},
 	}
 	for _, tt := range tests {
 		s, err := Parse("t", tt.src)

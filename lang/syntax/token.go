@@ -39,11 +39,15 @@ const (
 	RBRACK // ]
 	LBRACE // {
 	RBRACE // }
+	ARROW  // -> or ↦
+	DOT    // .
 
 	AND // and
 	OR  // or
 	NOT // not
 	BY  // by
+	WHERE
+	WITH
 )
 
 var tokenNames = [...]string{
@@ -77,10 +81,14 @@ var tokenNames = [...]string{
 	RBRACK:  "]",
 	LBRACE:  "{",
 	RBRACE:  "}",
+	ARROW:   "->",
+	DOT:     ".",
 	AND:     "and",
 	OR:      "or",
 	NOT:     "not",
 	BY:      "by",
+	WHERE:   "where",
+	WITH:    "with",
 }
 
 // String returns the token's spelling, or a description for kinds such as
@@ -93,4 +101,4 @@ func (t Token) String() string {
 }
 
 // Keywords maps each reserved word to its token.
-var Keywords = map[string]Token{"and": AND, "or": OR, "not": NOT, "by": BY}
+var Keywords = map[string]Token{"and": AND, "or": OR, "not": NOT, "by": BY, "where": WHERE, "with": WITH}
