@@ -39,11 +39,13 @@ type Output interface {
 
 // EvalError is implemented by evaluation errors that know their Jupyter
 // presentation. Errors that do not implement it are shown with ename
-// "Error" and their Error() text.
+// "failure" and their Error() text.
 type EvalError interface {
 	error
-	// ErrorName is the ename: a short class such as "SyntaxError".
+	// ErrorName is the ename: a short class such as "bad syntax".
 	ErrorName() string
-	// Traceback is the lines shown to the user (cell line, caret, message).
+	// Traceback is the lines shown to the user (position and message, cell
+	// line, carets, call sites); they may carry ANSI SGR colour sequences,
+	// which front ends render in an error output.
 	Traceback() []string
 }

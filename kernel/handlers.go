@@ -67,11 +67,13 @@ func (k *Kernel) handle(s *sock, m *wire.Message, abort bool) {
 		if r := recover(); r != nil {
 			k.panics.Add(1)
 			k.log.Printf("%s: panic handling %s: %v\n%s", s.name, t, r, debug.Stack())
-			k.send(s, m, replyTypeOr(t), errorContent("InternalError", fmt.Sprint(r), nil))
+			k.send(s, m, replyTypeOr(t), errorContent(classInternal, fmt.Sprint(r), nil))
 		}
 	}()
 	if abort {
-		k.send(s, m, replyTypeOr(t), map[string]any{"status": "aborted", "execution_count": k.count})
+		// Not run, so no execution count: a front end shows the cell's
+		// prompt empty ("In [ ]") rather than as if it ran.
+		k.send(s, m, replyTypeOr(t), map[string]any{"status": "aborted", "execution_count": nil})
 		return
 	}
 	switch t {
@@ -112,14 +114,14 @@ func (k *Kernel) handle(s *sock, m *wire.Message, abort bool) {
 	default:
 		if rt := wire.ReplyType(t); rt != "" {
 			k.log.Printf("%s: unknown message type %q; replying with an error", s.name, t)
-			k.send(s, m, rt, errorContent("UnknownMessageType", fmt.Sprintf("the kernel does not handle %q", t), nil))
+			k.send(s, m, rt, errorContent(classUnknownRequest, fmt.Sprintf("the kernel does not handle %q", t), nil))
 		} else {
 			k.log.Printf("%s: unknown message type %q; ignored", s.name, t)
 		}
 	}
 	if err != nil {
 		k.log.Printf("%s: bad %s content: %v", s.name, t, err)
-		k.send(s, m, replyTypeOr(t), errorContent("BadRequest", "malformed "+t+" content: "+err.Error(), nil))
+		k.send(s, m, replyTypeOr(t), errorContent(classBadRequest, "malformed "+t+" content: "+err.Error(), nil))
 	}
 }
 
@@ -145,6 +147,12 @@ func (k *Kernel) kernelInfo() map[string]any {
 			"version":        k.cfg.Version,
 			"mimetype":       "text/x-semiflow",
 			"file_extension": ".sf",
+			// Pygments has no lexer for the language: name its plain-text
+			// one, so nbconvert and the console do not warn at each start.
+			// The notebook highlights with the CodeMirror mode that the
+			// kernelspec's kernel.js defines.
+			"pygments_lexer": "text",
+			"codemirror_mode": "semiflow",
 		},
 		"banner":     k.cfg.Banner,
 		"help_links": links,
@@ -161,22 +169,40 @@ type executeRequest struct {
 	StopOnError     *bool             `json:"stop_on_error"`
 }
 
+// The classes of the errors the kernel itself reports, in the language's
+// words (lang/LANGUAGE.md, "Errors").
+const (
+	classInterrupted    = "interrupted"
+	classInternal       = "internal fault"
+	classUnknownRequest = "unknown request"
+	classBadRequest     = "malformed request"
+	classOther          = "failure" // an evaluator error that names no class
+)
+
+// sgrClass is the ANSI SGR colour of an error's class in a traceback (bold
+// red, as the language's own reports show it); front ends render ANSI
+// colours in error outputs.
+const sgrClass = "\x1b[1;31m"
+
+// classLine is a traceback line that starts with the class in colour.
+func classLine(class, text string) string { return sgrClass + class + "\x1b[0m " + text }
+
 // interruptedError is the error of a cell stopped by an interrupt.
 type interruptedError struct{}
 
 func (interruptedError) Error() string     { return "the cell was interrupted" }
-func (interruptedError) ErrorName() string { return "Interrupted" }
+func (interruptedError) ErrorName() string { return classInterrupted }
 func (interruptedError) Traceback() []string {
-	return []string{"Interrupted: the cell was interrupted"}
+	return []string{classLine(classInterrupted, "the cell was stopped; what its finished statements assigned is kept")}
 }
 
 // panicError is an evaluator panic turned into an error.
 type panicError struct{ v any }
 
 func (p panicError) Error() string     { return fmt.Sprintf("internal error: %v", p.v) }
-func (p panicError) ErrorName() string { return "InternalError" }
+func (p panicError) ErrorName() string { return classInternal }
 func (p panicError) Traceback() []string {
-	return []string{"InternalError: " + fmt.Sprint(p.v), "(the kernel recovered; the session's variables are kept)"}
+	return []string{classLine(classInternal, fmt.Sprint(p.v)), "(the kernel recovered; the session's variables are kept; please report the cell)"}
 }
 
 func (k *Kernel) execute(s *sock, m *wire.Message) error {
@@ -317,7 +343,7 @@ func describe(err error) (ename, evalue string, tb []string) {
 		}
 		return e.ErrorName(), e.Error(), tb
 	}
-	return "Error", err.Error(), []string{"Error: " + err.Error()}
+	return classOther, err.Error(), []string{classLine(classOther, err.Error())}
 }
 
 func orMap(m map[string]any) map[string]any {
@@ -334,7 +360,7 @@ func plainText(data map[string]any) string {
 	return ""
 }
 
-// safe calls f, turning a panic into an InternalError reply.
+// safe calls f, turning a panic into an internal-fault reply.
 func (k *Kernel) safe(f func()) (err error) {
 	defer func() {
 		if r := recover(); r != nil {
@@ -359,7 +385,7 @@ func (k *Kernel) complete(s *sock, m *wire.Message) error {
 	var matches []string
 	var start, end int
 	if err := k.safe(func() { matches, start, end = k.eval.Complete(c.Code, cur) }); err != nil {
-		k.send(s, m, wire.CompleteReply, errorContent("InternalError", err.Error(), nil))
+		k.send(s, m, wire.CompleteReply, errorContent(classInternal, err.Error(), nil))
 		return nil
 	}
 	if matches == nil {
@@ -393,7 +419,7 @@ func (k *Kernel) inspect(s *sock, m *wire.Message) error {
 	var data map[string]any
 	var found bool
 	if err := k.safe(func() { data, found = k.eval.Inspect(c.Code, cursor(c.Code, c.CursorPos), c.DetailLevel) }); err != nil {
-		k.send(s, m, wire.InspectReply, errorContent("InternalError", err.Error(), nil))
+		k.send(s, m, wire.InspectReply, errorContent(classInternal, err.Error(), nil))
 		return nil
 	}
 	k.send(s, m, wire.InspectReply, map[string]any{"status": "ok", "found": found, "data": orMap(data), "metadata": map[string]any{}})

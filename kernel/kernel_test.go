@@ -2,6 +2,7 @@ package kernel
 
 import (
 	"encoding/json"
+	"errors"
 	"fmt"
 	"net"
 	"strings"
@@ -54,6 +55,11 @@ var sequences = []struct {
 		}
 		if _, ok := c["help_links"].([]any); !ok {
 			t.Errorf("help_links = %v", c["help_links"])
+		}
+		// "text" is Pygments' plain-text lexer (pygments.lexers.special);
+		// "semiflow" is the CodeMirror mode install/kernel.js defines.
+		if li["pygments_lexer"] != "text" || li["codemirror_mode"] != "semiflow" {
+			t.Errorf("language_info = %v", li)
 		}
 	}}}},
 	{"kernel_info on control", []step{{msgType: wire.KernelInfoRequest, control: true, iopub: busyIdle, reply: status("ok")}}},
@@ -126,6 +132,10 @@ var sequences = []struct {
 			if c["status"] != "error" || c["ename"] != "FakeError" || c["evalue"] != "it failed" || len(c["traceback"].([]any)) != 2 {
 				t.Errorf("reply = %v", c)
 			}
+			// The failed cell ran: its reply carries its count.
+			if c["execution_count"] != 1.0 {
+				t.Errorf("error reply's execution_count = %v, want 1", c["execution_count"])
+			}
 		},
 		out: func(t *testing.T, ms []*wire.Message) {
 			if c := content(ms[2]); c["ename"] != "FakeError" || c["evalue"] != "it failed" {
@@ -135,7 +145,7 @@ var sequences = []struct {
 	{"panic becomes an error and the kernel keeps serving", []step{
 		{msgType: wire.ExecuteRequest, content: exec("set a 7")},
 		{msgType: wire.ExecuteRequest, content: exec("panic"), reply: func(t *testing.T, c map[string]any) {
-			if c["status"] != "error" || c["ename"] != "InternalError" {
+			if c["status"] != "error" || c["ename"] != classInternal {
 				t.Errorf("reply = %v", c)
 			}
 		}},
@@ -250,12 +260,12 @@ var sequences = []struct {
 	}},
 	{"unknown and malformed requests get error replies", []step{
 		{msgType: "frobnicate_request", content: map[string]any{}, iopub: busyIdle, reply: func(t *testing.T, c map[string]any) {
-			if c["status"] != "error" || c["ename"] != "UnknownMessageType" {
+			if c["status"] != "error" || c["ename"] != classUnknownRequest {
 				t.Errorf("reply = %v", c)
 			}
 		}},
 		{msgType: wire.ExecuteRequest, content: map[string]any{"code": 12}, reply: func(t *testing.T, c map[string]any) {
-			if c["status"] != "error" || c["ename"] != "BadRequest" {
+			if c["status"] != "error" || c["ename"] != classBadRequest {
 				t.Errorf("reply = %v", c)
 			}
 		}},
@@ -311,8 +321,14 @@ func TestStopOnErrorAbortsQueued(t *testing.T) {
 	if s := content(c.reply(bad, wait))["status"]; s != "error" {
 		t.Errorf("failing: %v", s)
 	}
-	if s := content(c.reply(queued, wait))["status"]; s != "aborted" {
+	ab := content(c.reply(queued, wait))
+	if s := ab["status"]; s != "aborted" {
 		t.Errorf("queued behind failure: %v, want aborted", s)
+	}
+	// A cell that did not run carries no execution count (the classic
+	// notebook shows the reply's count as the cell's prompt).
+	if n, ok := ab["execution_count"]; !ok || n != nil {
+		t.Errorf("aborted reply's execution_count = %v (present %v), want null", n, ok)
 	}
 	if s := content(c.reply(info, wait))["status"]; s != "ok" {
 		t.Errorf("kernel_info behind failure: %v", s)
@@ -342,7 +358,7 @@ func checkInterrupted(t *testing.T, c *client, id string, sent time.Time) {
 	if el := time.Since(sent); el > 500*time.Millisecond {
 		t.Errorf("interrupted cell replied after %v (limit 0.5 s)", el)
 	}
-	if r["status"] != "error" || r["ename"] != "Interrupted" {
+	if r["status"] != "error" || r["ename"] != classInterrupted {
 		t.Errorf("interrupted reply = %v", r)
 	}
 	if ts := types(c.idle(id)); fmt.Sprint(ts) != "[status:busy execute_input error status:idle]" {
@@ -586,4 +602,20 @@ func TestSameIdentityClients(t *testing.T) {
 		}
 	}
 	_ = c
+}
+
+// An error that names no class is reported as a "failure", its traceback
+// one line with the class in colour; the kernel's own errors colour their
+// class the same way.
+func TestDescribeClasses(t *testing.T) {
+	ename, evalue, tb := describe(errors.New("no such thing"))
+	if ename != classOther || evalue != "no such thing" || len(tb) != 1 || tb[0] != "\x1b[1;31mfailure\x1b[0m no such thing" {
+		t.Errorf("plain error = %q, %q, %q", ename, evalue, tb)
+	}
+	for _, e := range []EvalError{interruptedError{}, panicError{"boom"}} {
+		tb := e.Traceback()
+		if !strings.HasPrefix(tb[0], sgrClass+e.ErrorName()+"\x1b[0m ") {
+			t.Errorf("%s traceback = %q", e.ErrorName(), tb)
+		}
+	}
 }
