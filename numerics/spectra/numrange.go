@@ -10,6 +10,7 @@ import (
 
 	"semiflow/numerics/linop"
 	"semiflow/numerics/memguard"
+	"semiflow/numerics/roundoff"
 	"semiflow/numerics/solve"
 )
 
@@ -343,7 +344,10 @@ func goldenMax(f func(float64) float64, a, b, tol float64, maxIter int) (float64
 }
 
 // symTopShiftInvert returns λmax((A + Aᵀ)/2) for sparse A by Lanczos on
-// (σI − S)⁻¹, σ above the Gershgorin bound: λmax = σ − 1/μmax.
+// (σI − S)⁻¹, σ above the Gershgorin bound: λmax = σ − 1/μmax. The shift
+// lies 10⁻⁶·max(‖S‖∞, u‖A‖∞) above the bound, so that a symmetric part
+// that is zero or tiny beside A (a skew-symmetric or nearly skew operator)
+// gives μ of order 1/(u‖A‖), not an overflow; S = 0 exactly gives 0.
 func symTopShiftInvert(a *linop.CSR) (float64, error) {
 	sym := linop.AddCSR(0.5, a, 0.5, a.Transpose())
 	n := sym.Rows
@@ -361,7 +365,10 @@ func symTopShiftInvert(a *linop.CSR) (float64, error) {
 		g = math.Max(g, d+r)
 		scale = math.Max(scale, math.Abs(d)+r)
 	}
-	sigma := g + 1e-6*math.Max(scale, 1e-300)
+	if scale == 0 {
+		return 0, nil // S = 0: every entry of (A + Aᵀ)/2 is zero
+	}
+	sigma := g + 1e-6*math.Max(scale, roundoff.Unit*a.NormInf())
 	f, err := solve.NewShifted(sym, complex(sigma, 0))
 	if err != nil {
 		return 0, err
@@ -410,6 +417,11 @@ func symTopLanczos(a linop.Operator, w Weight, maxIter int, tol float64) (float6
 		return 0, err
 	}
 	t1, t2 := make([]float64, n), make([]float64, n)
+	// anorm is the largest ‖Bq‖ seen, a lower estimate of ‖B‖₂: a
+	// symmetric part that is zero up to rounding (B nearly skew) leaves
+	// Ritz residuals of the size of the rounding of Bq, n·u·‖B‖, which is
+	// where the iteration stops then.
+	anorm := 0.0
 	apply := func(dst, x []float64) {
 		// dst = (R A R⁻¹ x + R⁻ᵀ Aᵀ Rᵀ x)/2
 		if fo, ok := a.(funcOp); ok && w == nil {
@@ -418,6 +430,7 @@ func symTopLanczos(a linop.Operator, w Weight, maxIter int, tol float64) (float6
 		}
 		if w == nil {
 			a.Apply(dst, x)
+			anorm = math.Max(anorm, math.Sqrt(floatsDot(dst, dst)))
 			a.ApplyT(t1, x)
 			for i := range dst {
 				dst[i] = (dst[i] + t1[i]) / 2
@@ -427,6 +440,7 @@ func symTopLanczos(a linop.Operator, w Weight, maxIter int, tol float64) (float6
 		w.FactorSolve(t1, x, false)
 		a.Apply(t2, t1)
 		w.Factor(dst, t2, false)
+		anorm = math.Max(anorm, math.Sqrt(floatsDot(dst, dst)))
 		w.Factor(t1, x, true)
 		a.ApplyT(t2, t1)
 		w.FactorSolve(t1, t2, true)
@@ -457,7 +471,7 @@ func symTopLanczos(a linop.Operator, w Weight, maxIter int, tol float64) (float6
 		if math.IsNaN(theta) {
 			return 0, numErr("Lanczos tridiagonal eigenvalue problem failed")
 		}
-		if b*math.Abs(s[j]) <= tol*math.Max(math.Abs(theta), 1e-300) || b == 0 {
+		if b*math.Abs(s[j]) <= math.Max(tol*math.Abs(theta), roundoff.Threshold(n, anorm)) || b == 0 {
 			return theta, nil
 		}
 		beta = append(beta, b)

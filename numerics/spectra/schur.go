@@ -202,3 +202,53 @@ func backSolve(t []complex128, n int, z complex128, w, y []complex128) bool {
 	}
 	return true
 }
+
+// eigCond returns the condition number ‖x‖‖y‖/|yᴴx| of the eigenvalue
+// λ = T_kk, x and y its right and left eigenvectors, from the triangular
+// factor (a unitary similarity keeps it): x has x_k = 1 and x_j = 0 for
+// j > k, y has y_k = 1 and y_j = 0 for j < k, so yᴴx = 1. An eigenvalue
+// repeated exactly on the diagonal whose back substitution meets a zero
+// pivot with a non-zero right-hand side gives +Inf (defective).
+func (s *Schur) eigCond(k int) float64 {
+	n, t := s.N, s.T
+	lam := t[k*n+k]
+	x := make([]complex128, k+1)
+	x[k] = 1
+	nx := 1.0
+	for i := k - 1; i >= 0; i-- {
+		var acc complex128
+		for j := i + 1; j <= k; j++ {
+			acc += t[i*n+j] * x[j]
+		}
+		d := t[i*n+i] - lam
+		switch {
+		case acc == 0:
+			x[i] = 0
+		case d == 0:
+			return math.Inf(1)
+		default:
+			x[i] = -acc / d
+		}
+		nx += real(x[i])*real(x[i]) + imag(x[i])*imag(x[i])
+	}
+	y := make([]complex128, n-k)
+	y[0] = 1
+	ny := 1.0
+	for j := k + 1; j < n; j++ {
+		var acc complex128
+		for i := k; i < j; i++ {
+			acc += cmplx.Conj(t[i*n+j]) * y[i-k]
+		}
+		d := cmplx.Conj(t[j*n+j] - lam)
+		switch {
+		case acc == 0:
+			y[j-k] = 0
+		case d == 0:
+			return math.Inf(1)
+		default:
+			y[j-k] = -acc / d
+		}
+		ny += real(y[j-k])*real(y[j-k]) + imag(y[j-k])*imag(y[j-k])
+	}
+	return math.Sqrt(nx) * math.Sqrt(ny)
+}

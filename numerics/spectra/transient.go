@@ -13,6 +13,7 @@ import (
 
 	"semiflow/numerics/expo"
 	"semiflow/numerics/linop"
+	"semiflow/numerics/roundoff"
 )
 
 // shape holds what the searches over the complex plane need: the Schur
@@ -25,6 +26,38 @@ type shape struct {
 	spreadImag float64     // max |Im z| over W(A) (bounds where σ_ε can be)
 	split      *splitTri   // T split once, shared by the σ_min solvers
 	budget     *workBudget // the work limit of the searches, nil for none
+	normF      float64     // ‖A‖_F
+}
+
+// abscissaError returns α(A) = max Re λ and its error allowance from the
+// Schur form: τ = n·u·‖A‖_F times the condition of the rightmost
+// eigenvalue (the largest among those within the allowance of α), or
+// √(τ‖A‖_F) when that condition is above IllCondLimit (ill is then true),
+// as Spectrum.AbscissaError gives for the dense spectrum. Conditions come
+// from the triangular factor, O(n²) each, for the eigenvalues that can lie
+// within the largest allowance of α.
+func (sh *shape) abscissaError() (al, tol float64, ill bool) {
+	n := sh.s.N
+	if n == 0 {
+		return math.Inf(-1), 0, false
+	}
+	tau := roundoff.Threshold(n, sh.normF)
+	idx := make([]int, n)
+	for i := range idx {
+		idx[i] = i
+	}
+	sort.SliceStable(idx, func(i, j int) bool { return rightOf(sh.eigs[idx[i]], sh.eigs[idx[j]]) })
+	window := math.Max(tau*IllCondLimit, math.Sqrt(tau*sh.normF))
+	sp := &Spectrum{}
+	for _, i := range idx {
+		if len(sp.Values) == maxLines || (len(sp.Values) > 0 && real(sp.Values[0])-real(sh.eigs[i]) > window) {
+			break
+		}
+		sp.Values = append(sp.Values, sh.eigs[i])
+		sp.Cond = append(sp.Cond, sh.s.eigCond(i))
+	}
+	tol, ill = abscissaRounding(sp, tau, sh.normF)
+	return real(sp.Values[0]), tol, ill
 }
 
 // solver returns an inverse-Lanczos σ_min solver for zI − T to relative
@@ -94,7 +127,7 @@ func shapeOf(m *mat.Dense, s *Schur) (*shape, error) {
 	if n > 0 && svd.Factorize(k, mat.SVDNone) {
 		spread = svd.Values(nil)[0]
 	}
-	sh := &shape{s: s, omega: om, omegaLeft: -omn, eigs: s.Eigenvalues(), spreadImag: spread}
+	sh := &shape{s: s, omega: om, omegaLeft: -omn, eigs: s.Eigenvalues(), spreadImag: spread, normF: mat.Norm(m, 2)}
 	if n > 0 {
 		sh.split = newSplitTri(s.T, n)
 	}
@@ -515,10 +548,18 @@ func (sh *shape) lineSamples() []float64 {
 
 // KreissResult is the Kreiss constant K(A) = sup_{Re z > 0} Re z ‖(zI − A)⁻¹‖₂.
 type KreissResult struct {
-	K        float64    // +Inf if α(A) ≥ 0
+	K        float64    // +Inf if α(A) ≥ 0 or zero within rounding
 	Z        complex128 // where the supremum is (approximately) attained
 	Method   string
 	Accuracy string
+	// Abscissa is α(A) and AbscissaTol its error allowance (see
+	// Spectrum.AbscissaError); the search runs only when α(A) is below
+	// −AbscissaTol. ZeroWithinRounding reports |α(A)| ≤ AbscissaTol: K is
+	// then +Inf, since an eigenvalue on the imaginary axis cannot be told
+	// from the computed one, and a finite search near the axis would only
+	// measure rounding.
+	Abscissa, AbscissaTol float64
+	ZeroWithinRounding    bool
 }
 
 // kreiss maximises x / min_y σ_min((x+iy)I − A) over x > 0 on a
@@ -528,10 +569,20 @@ func (sh *shape) kreiss(ctx context.Context) (*KreissResult, error) {
 		Method:   "sup over Re z = x > 0 of x / min_y σ_min(zI − A): log-spaced x (28 values, evaluated in parallel), min over y from the eigenvalues' imaginary parts and a uniform scan with golden-section refinement, then golden-section search in log x",
 		Accuracy: "a local maximisation: a lower bound of K(A), typically to ~1e-8 relative; each σ_min to ~5e-9",
 	}
-	al := sh.s.abscissa()
-	if al >= 0 {
-		r.K = math.Inf(1)
-		r.Z = complex(0, 0)
+	al, atol, ill := sh.abscissaError()
+	r.Abscissa, r.AbscissaTol = al, atol
+	switch roundoff.Sign(al, atol) {
+	case 1:
+		r.K, r.Z = math.Inf(1), 0
+		r.Accuracy = fmt.Sprintf("exact: α(A) = %.6g > 0 beyond its rounding allowance %.2g, so ‖(x − A)⁻¹‖ is unbounded as x ↓ α(A)", al, atol)
+		return r, nil
+	case 0:
+		r.K, r.Z, r.ZeroWithinRounding = math.Inf(1), 0, true
+		why := "n·u·‖A‖_F × the condition of the rightmost eigenvalue"
+		if ill {
+			why = "√(n·u·‖A‖_F·‖A‖_F): the rightmost eigenvalue is defective or nearly so"
+		}
+		r.Accuracy = fmt.Sprintf("α(A) = %.3g is zero within rounding (|α(A)| ≤ %.2g = %s): an eigenvalue on the imaginary axis cannot be told from it, so K is taken as ∞; a search at Re z > 0 would only measure rounding", al, atol, why)
 		return r, nil
 	}
 	scale := math.Max(math.Max(math.Abs(sh.omega), math.Abs(sh.omegaLeft)), sh.spreadImag)
