@@ -15,12 +15,17 @@ import (
 // or Y is not square.
 type KronSum struct{ X, Y Operator }
 
-// NewKronSum returns X ⊕ Y. It panics with ErrShape if X or Y is not square.
+// MaxOrder is the largest order of a Kronecker sum, 2⁵³: beyond it an
+// order is no longer exact in floating point (the memory guard's sums and
+// the language's sizes are), and nx·ny soon overflows an int.
+const MaxOrder = 1 << 53
+
+// NewKronSum returns X ⊕ Y. It panics with ErrShape if X or Y is not
+// square or if the order nx·ny exceeds MaxOrder.
 func NewKronSum(x, y Operator) *KronSum {
-	if r, c := x.Dims(); r != c {
-		panic(ErrShape)
-	}
-	if r, c := y.Dims(); r != c {
+	nx, cx := x.Dims()
+	ny, cy := y.Dims()
+	if nx != cx || ny != cy || float64(nx)*float64(ny) > MaxOrder {
 		panic(ErrShape)
 	}
 	return &KronSum{X: x, Y: y}
@@ -128,7 +133,12 @@ func (k *KronSum) ToCSR() (*CSR, error) {
 
 // Sum is the operator Σ_k Terms[k]. All terms must have the same dimensions
 // (Apply panics with ErrShape otherwise) and there must be at least one.
-type Sum struct{ Terms []Operator }
+// A product holds one temporary vector for the terms after the first,
+// reused from product to product (ScratchFloats).
+type Sum struct {
+	Terms []Operator
+	buf   scratchPool
+}
 
 // Dims returns the common dimensions of the terms.
 func (s *Sum) Dims() (r, c int) {
@@ -158,7 +168,12 @@ func (s *Sum) apply(dst, x []float64, trans bool) {
 	if len(x) != c || len(dst) != r {
 		panic(ErrShape)
 	}
-	tmp := make([]float64, r)
+	var tmp []float64
+	if len(s.Terms) > 1 {
+		b := s.buf.get(r)
+		defer s.buf.put(b)
+		tmp = *b
+	}
 	for k, t := range s.Terms {
 		out := dst
 		if k > 0 {
@@ -233,7 +248,12 @@ func (s *Scaled) ToCSR() (*CSR, error) {
 // Product is the operator Factors[0] Factors[1] ⋯ Factors[m−1]; Apply
 // applies the last factor first. Adjacent dimensions must agree (Dims
 // panics with ErrShape otherwise) and there must be at least one factor.
-type Product struct{ Factors []Operator }
+// The intermediate vectors alternate between two temporaries reused from
+// product to product (ScratchFloats).
+type Product struct {
+	Factors []Operator
+	buf     scratchPool
+}
 
 // Dims returns (rows of the first factor, columns of the last).
 func (p *Product) Dims() (r, c int) {
@@ -257,16 +277,12 @@ func (p *Product) Apply(dst, x []float64) {
 	if len(x) != c || len(dst) != r {
 		panic(ErrShape)
 	}
-	cur := x
-	for k := len(p.Factors) - 1; k >= 0; k-- {
-		fr, _ := p.Factors[k].Dims()
-		out := dst
-		if k > 0 {
-			out = make([]float64, fr)
-		}
-		p.Factors[k].Apply(out, cur)
-		cur = out
-	}
+	m := len(p.Factors)
+	p.chain(dst, x, func(i int) (Operator, int) {
+		f := p.Factors[m-1-i]
+		fr, _ := f.Dims()
+		return f, fr
+	}, Operator.Apply)
 }
 
 // ApplyT sets dst = F_{m−1}ᵀ ⋯ F₀ᵀ x.
@@ -275,15 +291,42 @@ func (p *Product) ApplyT(dst, x []float64) {
 	if len(x) != r || len(dst) != c {
 		panic(ErrShape)
 	}
-	cur := x
-	last := len(p.Factors) - 1
-	for k := 0; k <= last; k++ {
-		_, fc := p.Factors[k].Dims()
-		out := dst
-		if k < last {
-			out = make([]float64, fc)
+	p.chain(dst, x, func(i int) (Operator, int) {
+		f := p.Factors[i]
+		_, fc := f.Dims()
+		return f, fc
+	}, Operator.ApplyT)
+}
+
+// chain applies the factors in the order step(0), step(1), …, each to the
+// previous result (step returns the factor and the length of its result),
+// the last into dst; the intermediate results alternate between two
+// pooled temporaries.
+func (p *Product) chain(dst, x []float64, step func(i int) (Operator, int), apply func(Operator, []float64, []float64)) {
+	m := len(p.Factors)
+	var tmp [2]*[]float64
+	defer func() {
+		for _, b := range tmp {
+			if b != nil {
+				p.buf.put(b)
+			}
 		}
-		p.Factors[k].ApplyT(out, cur)
+	}()
+	cur := x
+	for i := 0; i < m; i++ {
+		f, n := step(i)
+		out := dst
+		if i < m-1 {
+			if tmp[i%2] == nil {
+				tmp[i%2] = p.buf.get(n)
+			}
+			b := tmp[i%2]
+			if cap(*b) < n {
+				*b = make([]float64, n)
+			}
+			out = (*b)[:n]
+		}
+		apply(f, out, cur)
 		cur = out
 	}
 }

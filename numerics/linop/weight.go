@@ -197,8 +197,9 @@ func (s *SPDWeight) Norm(x []float64) float64 {
 // Euclidean adjoint Aᵀ (and A may be rectangular). Apply panics with
 // ErrShape if W's length differs from A's size.
 type Adjoint struct {
-	A Operator
-	W Weight
+	A   Operator
+	W   Weight
+	buf scratchPool
 }
 
 // Dims returns the dimensions of Aᵀ.
@@ -220,7 +221,9 @@ func (a *Adjoint) Apply(dst, x []float64) {
 		a.A.ApplyT(dst, x)
 		return
 	}
-	t := make([]float64, len(x))
+	b := a.buf.get(len(x))
+	defer a.buf.put(b)
+	t := *b
 	a.W.Mul(t, x)
 	a.A.ApplyT(dst, t)
 	copy(t, dst)
@@ -237,7 +240,9 @@ func (a *Adjoint) ApplyT(dst, x []float64) {
 		a.A.Apply(dst, x)
 		return
 	}
-	t := make([]float64, len(x))
+	b := a.buf.get(len(x))
+	defer a.buf.put(b)
+	t := *b
 	a.W.Solve(t, x)
 	a.A.Apply(dst, t)
 	copy(t, dst)
@@ -271,8 +276,9 @@ func (a *Adjoint) ToCSR() (*CSR, error) {
 // pseudospectra equal those of A in the W inner product, and e^{t R A R⁻¹}
 // = R e^{tA} R⁻¹. Apply panics with ErrShape if the sizes differ.
 type Similarity struct {
-	A Operator
-	W Weight
+	A   Operator
+	W   Weight
+	buf scratchPool
 }
 
 // Dims returns the dimensions of A.
@@ -290,7 +296,9 @@ func (s *Similarity) Apply(dst, x []float64) {
 	if len(x) != n || len(dst) != n {
 		panic(ErrShape)
 	}
-	t := make([]float64, n)
+	b := s.buf.get(n)
+	defer s.buf.put(b)
+	t := *b
 	s.W.FactorSolve(t, x, false)
 	s.A.Apply(dst, t)
 	copy(t, dst)
@@ -303,7 +311,9 @@ func (s *Similarity) ApplyT(dst, x []float64) {
 	if len(x) != n || len(dst) != n {
 		panic(ErrShape)
 	}
-	t := make([]float64, n)
+	b := s.buf.get(n)
+	defer s.buf.put(b)
+	t := *b
 	s.W.Factor(t, x, true)
 	s.A.ApplyT(dst, t)
 	copy(t, dst)
