@@ -7,7 +7,6 @@ import (
 	"math/cmplx"
 	"strings"
 
-	"gonum.org/v1/gonum/lapack/gonum"
 	"gonum.org/v1/gonum/mat"
 
 	"semiflow/numerics/expo"
@@ -442,24 +441,29 @@ func Markov(ctx context.Context, q linop.Operator) (*MarkovReport, error) {
 	}
 	rep.Reversible = rep.BirthDeath || detailedBalance(m, rep.Stationary)
 	var gapHow string
-	if rep.Reversible {
-		vals, tol, err := reversibleSpectrum(m, rep.Stationary, rep.BirthDeath)
+	chain, bd := birthDeathOfDense(m)
+	switch {
+	case bd:
+		vals, _, err := chain.Nearest(ctx, 2, false, 0)
+		if err != nil {
+			return nil, err
+		}
+		rel := chain.RelativeError()
+		rep.Gap = -vals[1]
+		rep.GapError = rep.Gap * rel
+		gapHow = fmt.Sprintf("gap = σ², σ the smallest singular value of the bidiagonal factor G of −D^{1/2}QD^{-1/2} = GᵀG, D = diag(π) (G formed from the square roots of the rates by Givens rotations, no subtractions), by the differential qd algorithm (LAPACK Dlasq1 via gonum); relative accuracy: the gap to %.2g of itself (24·n·u), however small it is next to ‖Q‖", rel)
+	case rep.Reversible && n > 1:
+		vals, tol, err := reversibleSpectrum(m, rep.Stationary)
 		if err != nil {
 			return nil, err
 		}
 		// vals ascending; the largest is the stationary 0 (within tol).
-		rep.Gap, rep.GapError = math.Inf(1), tol
-		if n > 1 {
-			rep.Gap = -vals[n-2]
-		}
-		gapHow = fmt.Sprintf("gap from the symmetric S = D^{1/2}QD^{-1/2}, S_ij = √(q_ij q_ji) (%s), absolute error ≤ %.2g = n·u·‖S‖_F", map[bool]string{true: "tridiagonal QR iteration, LAPACK Dsterf via gonum", false: "symmetric QR algorithm, gonum EigenSym"}[rep.BirthDeath], tol)
-		if !rep.BirthDeath {
-			gapHow += " plus the detailed-balance defect"
-		}
-		if n > 1 && math.Abs(vals[n-1]) > tol {
+		rep.Gap, rep.GapError = -vals[n-2], tol
+		gapHow = fmt.Sprintf("gap from the symmetric S = D^{1/2}QD^{-1/2}, S_ij = √(q_ij q_ji) (symmetric QR algorithm, gonum EigenSym), absolute error ≤ %.2g = n·u·‖S‖_F plus the detailed-balance defect", tol)
+		if math.Abs(vals[n-1]) > tol {
 			gapHow += fmt.Sprintf("; WARNING: the largest eigenvalue of S is %.3g, not 0 within rounding", vals[n-1])
 		}
-	} else {
+	case n > 1:
 		sp, err := denseSpectrum(m)
 		if err != nil {
 			return nil, err
@@ -639,29 +643,12 @@ func detailedBalance(m *mat.Dense, pi []float64) bool {
 // reversibleSpectrum returns the eigenvalues (ascending) of the symmetric
 // S = D^{1/2} Q D^{-1/2}, D = diag(π), of a reversible rate matrix m,
 // formed as S_ii = q_ii, S_ij = √(q_ij q_ji) (detailed balance), and an
-// absolute error bound: n·u·‖S‖_F, plus for a general chain ‖E‖_F with
-// E_ij = √(π_i/π_j) q_ij − S_ij, the detailed-balance defect (S is then
-// the symmetric part of a matrix similar to Q up to E). For a birth–death
-// chain (tri) it uses the tridiagonal QR iteration.
-func reversibleSpectrum(m *mat.Dense, pi []float64, tri bool) ([]float64, float64, error) {
+// absolute error bound: n·u·‖S‖_F plus ‖E‖_F with E_ij = √(π_i/π_j) q_ij −
+// S_ij, the detailed-balance defect (S is then the symmetric part of a
+// matrix similar to Q up to E). Birth–death chains take BirthDeathChain's
+// relatively accurate route instead.
+func reversibleSpectrum(m *mat.Dense, pi []float64) ([]float64, float64, error) {
 	n, _ := m.Dims()
-	if tri {
-		d := make([]float64, n)
-		e := make([]float64, max(n-1, 1))
-		fro := 0.0
-		for k := 0; k < n; k++ {
-			d[k] = m.At(k, k)
-			fro = math.Hypot(fro, d[k])
-			if k+1 < n {
-				e[k] = math.Sqrt(m.At(k, k+1)) * math.Sqrt(m.At(k+1, k))
-				fro = math.Hypot(fro, math.Sqrt2*e[k])
-			}
-		}
-		if !(gonum.Implementation{}).Dsterf(n, d, e) {
-			return nil, 0, numErr("tridiagonal QR iteration did not converge for the %d-state birth–death chain", n)
-		}
-		return d, roundoff.Threshold(n, fro), nil
-	}
 	s, defect := symmetrised(m, pi)
 	var es mat.EigenSym
 	if !es.Factorize(s, false) {
@@ -790,6 +777,16 @@ func reversibleRateSpectrum(m *mat.Dense) (*Spectrum, bool, error) {
 		return nil, false, numErr("symmetric QR algorithm did not converge for the %d-state reversible chain", n)
 	}
 	vals := es.Values(nil)
+	var chainVals []float64
+	if bd {
+		// The values to high relative accuracy; EigenSym's vectors stay
+		// paired with them (both in order).
+		c, _ := birthDeathOfDense(m)
+		var err error
+		if chainVals, err = c.Eigenvalues(context.Background()); err != nil {
+			return nil, false, err
+		}
+	}
 	var v mat.Dense
 	es.VectorsTo(&v)
 	lo, hi := math.Inf(1), math.Inf(-1)
@@ -803,6 +800,9 @@ func reversibleRateSpectrum(m *mat.Dense) (*Spectrum, bool, error) {
 	for k := 0; k < n; k++ {
 		col := n - 1 - k // descending
 		sp.Values[k] = complex(vals[col], 0)
+		if bd {
+			sp.Values[k] = complex(chainVals[k], 0)
+		}
 		// x_i = v_i π_i^{-1/2}, y_i = v_i π_i^{1/2}, each scaled by its
 		// largest factor so that nothing overflows.
 		var nx, ny float64
@@ -819,10 +819,12 @@ func reversibleRateSpectrum(m *mat.Dense) (*Spectrum, bool, error) {
 		}
 	}
 	sp.Abscissa = real(sp.Values[0])
-	sp.Method = "the rate matrix of a reversible chain (" + map[bool]string{true: "birth–death", false: "detailed balance π_i q_ij = π_j q_ji"}[bd] + "): eigenvalues of the symmetric S = D^{1/2}QD^{-1/2} = [√(q_ij q_ji)], D = diag(π), by the symmetric QR algorithm (gonum EigenSym); eigenvectors of Q are D^{∓1/2}v"
-	sp.Accuracy = fmt.Sprintf("every eigenvalue to %.2g = n·u·‖S‖_F", tau)
-	if !bd {
-		sp.Accuracy += fmt.Sprintf(" (including the detailed-balance defect %.2g)", defect)
+	sp.Method = "the rate matrix of a reversible chain (detailed balance π_i q_ij = π_j q_ji): eigenvalues of the symmetric S = D^{1/2}QD^{-1/2} = [√(q_ij q_ji)], D = diag(π), by the symmetric QR algorithm (gonum EigenSym); eigenvectors of Q are D^{∓1/2}v"
+	sp.Accuracy = fmt.Sprintf("every eigenvalue to %.2g = n·u·‖S‖_F (including the detailed-balance defect %.2g)", tau, defect)
+	if bd {
+		c, _ := birthDeathOfDense(m)
+		sp.Method = "the rate matrix of a birth–death chain: eigenvalue 0 and −σ² for the " + dqdsMethod + "; the diagonal is taken as minus each state's rates; eigenvectors of Q are D^{∓1/2}v for those of S = D^{1/2}QD^{-1/2} (symmetric QR algorithm, gonum EigenSym)"
+		sp.Accuracy = fmt.Sprintf("relative accuracy: every eigenvalue to %.2g = 24·n·u relative to its own size, however small next to ‖Q‖", c.RelativeError())
 	}
 	sp.Accuracy += "; the conditions shown are Q's under unstructured perturbations (large for a graded chain, whose eigenvectors are nearly parallel in the Euclidean norm and orthogonal in the π-weighted one), not the error of these values"
 	return sp, true, nil

@@ -23,6 +23,14 @@
    is the number of eigenvalues below x; Wilkinson 1965, ch. 5), with
    e_k^2 formed exactly in mpmath from the stored doubles.
 
+3. A 60-state chain with rates from 1e-8 to 1e8 whose eigenvalues span
+   80 decades (the smallest non-zero one about 4e-72): all non-zero
+   eigenvalues at 200 digits (see wide()), which only a relatively accurate
+   method can reproduce.
+
+4. The two rightmost non-zero eigenvalues of M/M/1/K queues with up to
+   10^4 states from the closed form of 1. at 50 digits.
+
 Run with: /usr/bin/python3 testdata/spectra/make_birthdeath.py
 """
 import json
@@ -117,10 +125,58 @@ def graded():
             "gap": mp.nstr(-top[1], 30), "pi_decades": float(span)}
 
 
+def wide():
+    """A 60-state chain whose rates span 16 decades (10^-8 .. 10^8): deep
+    wells of pi make some eigenvalues astronomically small next to the
+    largest (about 1e-54 against 1e8). The non-zero eigenvalues of Q are
+    minus those of the positive definite tridiagonal G G^T (G the
+    bidiagonal with -sqrt(birth_k), sqrt(death_k) in row k, so that
+    -D^(1/2) Q D^(-1/2) = G^T G): diagonal birth_k + death_k, squared
+    off-diagonal death_k birth_(k+1). At 200 digits the Sturm count's
+    absolute error (about 1e-190) is far below the smallest eigenvalue, and
+    bisection on log x gives each to relative 1e-42."""
+    mp.mp.dps = 200
+    n = 60
+    birth = [10 ** (8 * math.sin(0.37 * k)) for k in range(n - 1)]
+    death = [10 ** (8 * math.cos(0.23 * k + 1)) * 0.5 for k in range(n - 1)]
+    d = [mp.mpf(birth[k]) + mp.mpf(death[k]) for k in range(n - 1)]
+    e2 = [mp.mpf(death[k]) * mp.mpf(birth[k + 1]) for k in range(n - 2)]
+    top = max(d) * 3
+
+    def kth(j):  # j-th smallest eigenvalue of G G^T, as exp(t)
+        ta, tb = mp.log(mp.mpf(10) ** -300), mp.log(top)  # count(e^ta) <= j < count(e^tb)
+        assert sturm_count(d, e2, mp.exp(ta)) <= j < sturm_count(d, e2, mp.exp(tb))
+        while tb - ta > mp.mpf(10) ** -42:
+            t = (ta + tb) / 2
+            if sturm_count(d, e2, mp.exp(t)) > j:
+                tb = t
+            else:
+                ta = t
+        return mp.exp((ta + tb) / 2)
+
+    vals = [-kth(j) for j in range(n - 1)]  # decreasing
+    mp.mp.dps = 50
+    return {"n": n, "birth": birth, "death": death,
+            "nonzero_eigenvalues": [mp.nstr(x, 30) for x in vals]}
+
+
+def mm1k_gaps():
+    """The two rightmost non-zero eigenvalues of large M/M/1/K queues from
+    the closed form at 50 digits, with the rates as the doubles given."""
+    mp.mp.dps = 50
+    out = []
+    for lam, mu, K in [(1.0, 1.0, 999), (0.999, 1.0, 9999), (5.0, 1.0, 2999), (1.0, 5.0, 4999), (0.999, 1.0, 1999)]:
+        l, m = mp.mpf(lam), mp.mpf(mu)
+        top = [-(l + m) + 2 * mp.sqrt(l * m) * mp.cos(j * mp.pi / (K + 1)) for j in (1, 2)]
+        out.append({"lam": lam, "mu": mu, "K": K, "rightmost": [mp.nstr(x, 30) for x in top]})
+    return out
+
+
 def main():
     here = os.path.dirname(os.path.abspath(__file__))
     ref = {"generator": "testdata/spectra/make_birthdeath.py", "mpmath": mp.__version__,
-           "mm1k": mm1k_check(), "graded": graded()}
+           "mm1k": mm1k_check(), "graded": graded(),
+           "wide": wide(), "mm1k_gaps": mm1k_gaps()}
     with open(os.path.join(here, "birthdeath.json"), "w") as f:
         json.dump(ref, f, indent=1)
         f.write("\n")

@@ -1,0 +1,198 @@
+package spectra
+
+import (
+	"context"
+	"encoding/json"
+	"math"
+	"os"
+	"path/filepath"
+	"strconv"
+	"testing"
+
+	"semiflow/numerics/linop"
+	"semiflow/numerics/roundoff"
+)
+
+// bdRelRef holds the relative-accuracy references of make_birthdeath.py.
+type bdRelRef struct {
+	Wide struct {
+		Birth   []float64 `json:"birth"`
+		Death   []float64 `json:"death"`
+		NonZero []string  `json:"nonzero_eigenvalues"`
+	} `json:"wide"`
+	Gaps []struct {
+		Lam, Mu   float64
+		K         int
+		Rightmost []string `json:"rightmost"`
+	} `json:"mm1k_gaps"`
+}
+
+func readJSON(t *testing.T, v any) {
+	t.Helper()
+	b, err := os.ReadFile(filepath.Join("..", "..", "testdata", "spectra", "birthdeath.json"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	if err := json.Unmarshal(b, v); err != nil {
+		t.Fatal(err)
+	}
+}
+
+func parseNum(t *testing.T, s string) float64 {
+	t.Helper()
+	x, err := strconv.ParseFloat(s, 64)
+	if err != nil {
+		t.Fatal(err)
+	}
+	return x
+}
+
+// The 60-state chain with rates from 1e-8 to 1e8 (make_birthdeath.py,
+// wide(): mpmath at 200 digits): every non-zero eigenvalue, from 1e8 down
+// to 4e-72, within the stated relative bound 24·n·u, by dqds and by
+// bisection. A backward-stable solver gets only those above n·u·‖Q‖ ≈ 1e-6.
+func TestBirthDeathRelativeWide(t *testing.T) {
+	var r bdRelRef
+	readJSON(t, &r)
+	c := &BirthDeathChain{Up: r.Wide.Birth, Down: r.Wide.Death}
+	n := c.States()
+	all, err := c.Eigenvalues(bg)
+	if err != nil {
+		t.Fatal(err)
+	}
+	d, e := c.bidiagonal()
+	idx := make([]int, n)
+	for i := range idx {
+		idx[i] = i
+	}
+	bis, err := sigmaByIndex(bg, d, e, idx)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if all[0] != 0 || bis[0] != 0 {
+		t.Errorf("stationary eigenvalue %g, %g; want exactly 0", all[0], bis[0])
+	}
+	rel := c.RelativeError()
+	worst := [2]float64{}
+	for k, s := range r.Wide.NonZero {
+		want := parseNum(t, s)
+		for m, got := range []float64{all[k+1], bis[k+1]} {
+			err := math.Abs(got-want) / math.Abs(want)
+			worst[m] = math.Max(worst[m], err)
+			if !(err <= rel) {
+				t.Errorf("%s: eigenvalue %d = %.17g, mpmath %.17g: relative error %.2g > %.2g", []string{"dqds", "bisection"}[m], k+1, got, want, err, rel)
+			}
+		}
+	}
+	t.Logf("largest relative error: dqds %.2g (%.2g n·u), bisection %.2g (%.2g n·u); bound %.2g", worst[0], worst[0]/(float64(n)*roundoff.Unit), worst[1], worst[1]/(float64(n)*roundoff.Unit), rel)
+}
+
+// M/M/1/K queues up to 10⁴ states (make_birthdeath.py, mm1k_gaps(): the
+// closed form at 50 digits): 0 and the two rightmost non-zero eigenvalues
+// by Nearest, both as the rightmost and as the ones nearest a shift
+// between them, within the stated relative bound; above
+// birthDeathAllLimit states this is the bisection route.
+func TestBirthDeathRelativeMM1K(t *testing.T) {
+	var r bdRelRef
+	readJSON(t, &r)
+	for _, g := range r.Gaps {
+		t.Run(strconv.Itoa(g.K+1), func(t *testing.T) {
+			c := &BirthDeathChain{Up: make([]float64, g.K), Down: make([]float64, g.K)}
+			for k := range c.Up {
+				c.Up[k], c.Down[k] = g.Lam, g.Mu
+			}
+			w1, w2 := parseNum(t, g.Rightmost[0]), parseNum(t, g.Rightmost[1])
+			rel := c.RelativeError()
+			for _, near := range []bool{false, true} {
+				// Rightmost: 0, λ_1, λ_2. Nearest the midpoint of λ_1 and
+				// λ_2: those two (0 and λ_3 are further away).
+				k, sigma, want := 3, 0.0, []float64{0, w1, w2}
+				if near {
+					k, sigma, want = 2, (w1+w2)/2, want[1:]
+				}
+				v, how, err := c.Nearest(bg, k, near, sigma)
+				if err != nil {
+					t.Fatal(err)
+				}
+				if len(v) != len(want) {
+					t.Fatalf("near=%v: %d values, want %d", near, len(v), len(want))
+				}
+				for i := range want {
+					e := 0.0
+					if want[i] != 0 {
+						e = math.Abs(v[i]-want[i]) / math.Abs(want[i])
+					} else if v[i] != 0 {
+						e = math.Inf(1)
+					}
+					if !(e <= rel) {
+						t.Errorf("near=%v: eigenvalue %d = %.17g, closed form %.17g: relative error %.2g > %.2g (%s)", near, i, v[i], want[i], e, rel, how)
+					}
+					if want[i] == w1 {
+						t.Logf("near=%v: gap relative error %.2g, bound %.2g", near, e, rel)
+					}
+				}
+			}
+		})
+	}
+}
+
+// The bisection route stops on a cancelled context; dqds returns at once.
+func TestBirthDeathCancelled(t *testing.T) {
+	ctx, cancel := context.WithCancel(context.Background())
+	cancel()
+	c := &BirthDeathChain{Up: make([]float64, 20000), Down: make([]float64, 20000)}
+	for k := range c.Up {
+		c.Up[k], c.Down[k] = 1, 2
+	}
+	if _, _, err := c.Nearest(ctx, 2, false, 0); err != context.Canceled {
+		t.Errorf("bisection: %v, want context.Canceled", err)
+	}
+	small := &BirthDeathChain{Up: c.Up[:100], Down: c.Down[:100]}
+	if _, err := small.Eigenvalues(ctx); err != context.Canceled {
+		t.Errorf("dqds: %v, want context.Canceled", err)
+	}
+}
+
+func tr(from, to int, rate float64) linop.Transition {
+	return linop.Transition{From: from, To: to, Rate: rate}
+}
+
+// BirthDeathOf recognises the rate matrix of an irreducible birth–death
+// chain and nothing else.
+func TestBirthDeathOf(t *testing.T) {
+	q, err := linop.RateMatrix(3, []linop.Transition{tr(0, 1, 2), tr(1, 0, 1), tr(1, 2, 3), tr(2, 1, 4)})
+	if err != nil {
+		t.Fatal(err)
+	}
+	c, ok := BirthDeathOf(q)
+	if !ok || c.Up[0] != 2 || c.Up[1] != 3 || c.Down[0] != 1 || c.Down[1] != 4 {
+		t.Errorf("birth–death 3 states: %v %+v", ok, c)
+	}
+	for name, ts := range map[string][]linop.Transition{
+		"reducible": {tr(0, 1, 2), tr(1, 2, 3), tr(2, 1, 4)},
+		"jump by 2": {tr(0, 1, 2), tr(1, 0, 1), tr(1, 2, 3), tr(2, 1, 4), tr(0, 2, 1)},
+	} {
+		q, _ := linop.RateMatrix(3, ts)
+		if _, ok := BirthDeathOf(q); ok {
+			t.Errorf("%s: recognised as an irreducible birth–death chain", name)
+		}
+	}
+}
+
+// The gap of a 10⁴-state queue (bisection) and all eigenvalues of a
+// 3000-state one (dqds, the largest chain it is used for).
+func BenchmarkBirthDeath(b *testing.B) {
+	for _, n := range []int{3000, 10000} {
+		c := &BirthDeathChain{Up: make([]float64, n-1), Down: make([]float64, n-1)}
+		for k := range c.Up {
+			c.Up[k], c.Down[k] = 0.999, 1
+		}
+		b.Run(strconv.Itoa(n), func(b *testing.B) {
+			for b.Loop() {
+				if _, _, err := c.Nearest(bg, 2, false, 0); err != nil {
+					b.Fatal(err)
+				}
+			}
+		})
+	}
+}
