@@ -18,8 +18,20 @@ import (
 type langEvaluator struct{ s *run.Session }
 
 func (e langEvaluator) Execute(ctx context.Context, code string, out kernel.Output) (map[string]any, map[string]any, error) {
-	return e.s.Execute(ctx, code, out)
+	data, md, err := e.s.Execute(ctx, code, out)
+	if err != nil {
+		err = colouredError{err}
+	}
+	return data, md, err
 }
+
+// colouredError presents a language error to the notebook: its traceback
+// in syntax.Coloured (front ends render ANSI colours in error outputs).
+type colouredError struct{ error }
+
+func (e colouredError) Unwrap() error       { return e.error }
+func (e colouredError) ErrorName() string   { return errorNameOf(e.error) }
+func (e colouredError) Traceback() []string { return colouredTraceback(e.error) }
 
 func (e langEvaluator) Complete(code string, cursor int) ([]string, int, int) {
 	return e.s.Complete(code, cursor)

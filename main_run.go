@@ -17,6 +17,7 @@ import (
 	"sync"
 
 	"semiflow/lang/run"
+	"semiflow/lang/syntax"
 )
 
 // termOutput writes a session's output to a terminal: streams as they are,
@@ -59,13 +60,23 @@ func tracebackOf(err error) []string {
 	return []string{err.Error()}
 }
 
+// colouredTraceback returns the error's report in syntax.Coloured, or its
+// plain traceback when it has no styled form.
+func colouredTraceback(err error) []string {
+	var l interface{ Lines(syntax.Style) []string }
+	if errors.As(err, &l) {
+		return l.Lines(syntax.Coloured)
+	}
+	return tracebackOf(err)
+}
+
 // errorNameOf returns the error's class (the notebook's ename).
 func errorNameOf(err error) string {
 	var n interface{ ErrorName() string }
 	if errors.As(err, &n) {
 		return n.ErrorName()
 	}
-	return "Error"
+	return "failure"
 }
 
 const runUsage = `usage: semiflow run [--allow-errors] [-o OUT.ipynb] FILE
@@ -359,7 +370,7 @@ func runNotebook(ctx context.Context, path, outPath string, allowErrors bool, st
 				fmt.Fprintln(stderr, "  "+l)
 			}
 			out.outputs = append(out.outputs, map[string]any{"output_type": "error",
-				"ename": errorNameOf(err), "evalue": err.Error(), "traceback": tb})
+				"ename": errorNameOf(err), "evalue": err.Error(), "traceback": colouredTraceback(err)})
 		} else if data != nil {
 			out.outputs = append(out.outputs, map[string]any{"output_type": "execute_result",
 				"execution_count": count, "data": data, "metadata": outputMetadata(md)})

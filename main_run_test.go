@@ -23,7 +23,7 @@ func TestRunFile(t *testing.T) {
 	if out.String() != "-18\n" {
 		t.Errorf("stdout = %q", out.String())
 	}
-	want := path + ":4:6: unknown name kapa; did you mean kappa?\nrate(kapa)\n     ^^^^\n"
+	want := path + ":4:6: unknown name kapa; did you mean kappa?\n  4 │ rate(kapa)\n    │      ^^^^ unknown name\n"
 	if errs.String() != want {
 		t.Errorf("stderr = %q, want %q", errs.String(), want)
 	}
@@ -141,7 +141,7 @@ func TestRunNotebook(t *testing.T) {
 	}
 	// Cell 4: the error.
 	o = outputsOf(cs[4])
-	if len(o) != 1 || o[0]["output_type"] != "error" || o[0]["ename"] != "NameError" ||
+	if len(o) != 1 || o[0]["output_type"] != "error" || o[0]["ename"] != "unknown name" ||
 		!strings.Contains(o[0]["evalue"].(string), "kapa") || len(o[0]["traceback"].([]any)) < 2 {
 		t.Errorf("cell 4 outputs = %v", o)
 	}

@@ -151,7 +151,7 @@ func (k *Kernel) kernelInfo() map[string]any {
 			// one, so nbconvert and the console do not warn at each start.
 			// The notebook highlights with the CodeMirror mode that the
 			// kernelspec's kernel.js defines.
-			"pygments_lexer": "text",
+			"pygments_lexer":  "text",
 			"codemirror_mode": "semiflow",
 		},
 		"banner":     k.cfg.Banner,

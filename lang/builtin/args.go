@@ -7,8 +7,8 @@ import (
 	"semiflow/lang/value"
 )
 
-// Argument conversions shared by the families. Each returns a TypeError or
-// ValueError naming the builtin and the parameter.
+// Argument conversions shared by the families. Each returns a "wrong type" error or
+// "bad value" naming the builtin and the parameter.
 
 func paramName(c *eval.Call, i int) string {
 	f, _ := c.Interp.Builtins.Lookup(c.Name)

@@ -93,7 +93,7 @@ func TestPseudospectrumAbscissae(t *testing.T) {
 	}
 	_, _, err := s.Execute(context.Background(), `pseudospectrum(A, n=5, abscissae="fast")`, nil)
 	var ee *eval.Error
-	if !errors.As(err, &ee) || ee.Name != "ValueError" || !strings.Contains(ee.Msg, `"auto", "exact" or "grid"`) {
+	if !errors.As(err, &ee) || ee.Name != "bad value" || !strings.Contains(ee.Msg, `"auto", "exact" or "grid"`) {
 		t.Errorf("bad abscissae: got %v", err)
 	}
 }

@@ -261,7 +261,7 @@ func helpText(c *eval.Call, v value.Value) (string, error) {
 		if g, ok := c.Interp.Globals[string(s)]; ok {
 			v = g
 		} else {
-			return "", value.Errorf("NameError", "%s: no builtin or variable named %s", c.Name, string(s))
+			return "", value.Errorf(value.ClassName, "%s: no builtin or variable named %s", c.Name, string(s))
 		}
 	}
 	switch x := v.(type) {

@@ -14,8 +14,8 @@ import (
 //
 // Domain rule: a real function applied to a real argument outside its real
 // domain — sqrt, log, log10 of a negative number, asin, acos outside
-// [-1, 1] — is a ValueError that suggests the complex form, e.g.
-// sqrt(-1 + 0i). The pole log(0) is a ValueError too. Complex arguments
+// [-1, 1] — is a "bad value" error that suggests the complex form, e.g.
+// sqrt(-1 + 0i). The pole log(0) is a "bad value" error too. Complex arguments
 // use the principal branch. nan and inf arguments propagate.
 
 // elem describes one element-wise function.

@@ -14,7 +14,7 @@ import (
 // TestFIFORefused: a write to a FIFO that nobody reads, or a read from one
 // that nobody writes, would block the session forever (every later cell
 // waits behind it). Every builtin that writes or reads a file refuses it
-// at once with an IOError naming the path, and the session goes on.
+// at once with a "file refused" error naming the path, and the session goes on.
 func TestFIFORefused(t *testing.T) {
 	fifo := filepath.Join(t.TempDir(), "pipe")
 	if err := syscall.Mkfifo(fifo, 0o600); err != nil {

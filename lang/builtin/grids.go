@@ -334,7 +334,7 @@ func sampleOn(c *eval.Call, name string, f value.Value, g *objects.Grid) ([]floa
 // isStop reports errors that must not be retried (interrupts and limits).
 func isStop(err error) bool {
 	if e, ok := err.(*eval.Error); ok {
-		return e.Name == "Interrupted" || e.Name == "LimitError"
+		return e.Name == value.ClassInterrupted || e.Name == value.ClassWork
 	}
 	return false
 }

@@ -11,7 +11,7 @@ import (
 
 // TestKroneckerSumOrder1e10: analyses of a Kronecker sum of order 10¹⁰
 // once allocated 80 GB work vectors outside the memory guard and ended the
-// process; now each is refused with a MemoryError naming the vectors, and
+// process; now each is refused with an "over memory budget" error naming the vectors, and
 // the session keeps its state.
 func TestKroneckerSumOrder1e10(t *testing.T) {
 	s := run.NewSession()

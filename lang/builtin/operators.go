@@ -531,7 +531,7 @@ func ioMessage(err error) string {
 
 // regularOnly ends the documentation of every builtin that reads or
 // writes a file (see openRegular).
-const regularOnly = " Only a regular file is read or written: a directory, a device, a socket or a FIFO (named pipe) is refused with an IOError, so a pipe with nobody at the other end cannot block the session."
+const regularOnly = " Only a regular file is read or written: a directory, a device, a socket or a FIFO (named pipe) is refused with a “file refused” error, so a pipe with nobody at the other end cannot block the session."
 
 // openRegular opens path for the builtin name with flag (os.O_RDONLY, or
 // os.O_WRONLY|os.O_CREATE|os.O_TRUNC) and refuses anything but a regular
@@ -542,21 +542,21 @@ const regularOnly = " Only a regular file is read or written: a directory, a dev
 // put in place between the two cannot block either.
 func openRegular(name, path string, flag int) (*os.File, error) {
 	if path == "" {
-		return nil, value.Errorf("IOError", "%s: the path is empty", name)
+		return nil, value.Errorf(value.ClassFile, "%s: the path is empty", name)
 	}
 	if st, err := os.Stat(path); err == nil {
 		if err := regular(name, path, st); err != nil {
 			return nil, err
 		}
 	} else if flag&os.O_CREATE == 0 || !errors.Is(err, os.ErrNotExist) {
-		return nil, value.Errorf("IOError", "%s: %s", name, ioMessage(err))
+		return nil, value.Errorf(value.ClassFile, "%s: %s", name, ioMessage(err))
 	}
 	f, err := os.OpenFile(path, flag|syscall.O_NONBLOCK, 0o666)
 	if err != nil {
 		if errors.Is(err, syscall.ENXIO) { // a FIFO with no reader, opened for writing
-			return nil, value.Errorf("IOError", "%s: %s: is a FIFO (named pipe); only regular files are read and written", name, path)
+			return nil, value.Errorf(value.ClassFile, "%s: %s: is a FIFO (named pipe); only regular files are read and written", name, path)
 		}
-		return nil, value.Errorf("IOError", "%s: %s", name, ioMessage(err))
+		return nil, value.Errorf(value.ClassFile, "%s: %s", name, ioMessage(err))
 	}
 	st, err := f.Stat()
 	if err == nil {
@@ -565,7 +565,7 @@ func openRegular(name, path string, flag int) (*os.File, error) {
 	if err != nil {
 		f.Close()
 		if _, ok := err.(*value.Error); !ok {
-			err = value.Errorf("IOError", "%s: %s", name, ioMessage(err))
+			err = value.Errorf(value.ClassFile, "%s: %s", name, ioMessage(err))
 		}
 		return nil, err
 	}
@@ -588,7 +588,7 @@ func regular(name, path string, st os.FileInfo) error {
 	case m&os.ModeDevice != 0:
 		what = "a device"
 	}
-	return value.Errorf("IOError", "%s: %s: is %s; only regular files are read and written", name, path, what)
+	return value.Errorf(value.ClassFile, "%s: %s: is %s; only regular files are read and written", name, path, what)
 }
 
 func writeFile(c *eval.Call, path string, write func(w *bufio.Writer) error) error {
@@ -603,10 +603,10 @@ func writeFile(c *eval.Call, path string, write func(w *bufio.Writer) error) err
 	}
 	if err := w.Flush(); err != nil {
 		f.Close()
-		return value.Errorf("IOError", "%s: %s", c.Name, ioMessage(err))
+		return value.Errorf(value.ClassFile, "%s: %s", c.Name, ioMessage(err))
 	}
 	if err := f.Close(); err != nil {
-		return value.Errorf("IOError", "%s: %s", c.Name, ioMessage(err))
+		return value.Errorf(value.ClassFile, "%s: %s", c.Name, ioMessage(err))
 	}
 	return nil
 }

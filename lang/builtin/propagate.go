@@ -154,7 +154,7 @@ func squareOperator(c *eval.Call, i int) (*objects.Operator, int, error) {
 // numericsError turns an error of the numerics into a language error.
 func numericsError(c *eval.Call, err error) error {
 	if c.Ctx != nil && c.Ctx.Err() != nil {
-		return value.Errorf("Interrupted", "interrupted")
+		return value.Errorf(value.ClassInterrupted, "interrupted")
 	}
 	msg := err.Error()
 	for _, p := range []string{"expo: numerical failure: ", "expo: method not applicable: ", "expo: "} {

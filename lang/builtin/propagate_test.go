@@ -249,7 +249,7 @@ u = sample(1, g)`)
 		t.Errorf("stopped %v after the interrupt", el)
 	}
 	var ee *eval.Error
-	if !errors.As(err, &ee) || ee.Name != "Interrupted" {
+	if !errors.As(err, &ee) || ee.Name != "interrupted" {
 		t.Errorf("error %v, want Interrupted", err)
 	}
 	rec.mu.Lock()

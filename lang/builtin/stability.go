@@ -329,7 +329,7 @@ func stabRealsArg(c *eval.Call, i int) ([]float64, bool, error) {
 }
 
 // stabListArg is argument i as a non-empty list of finite reals, each of
-// which ok accepts. An empty list (or none) is a ValueError with the message
+// which ok accepts. An empty list (or none) is a "bad value" error with the message
 // empty; a value x that ok refuses is one with the message bad, x formatted
 // in place of its %s.
 func stabListArg(c *eval.Call, i int, empty string, ok func(x float64) bool, bad string) ([]float64, error) {
@@ -470,20 +470,20 @@ func stabProgress(c *eval.Call) func(done, total int) {
 }
 
 // stabNumErr turns an error from the numerics into a language error:
-// cancellation becomes Interrupted, a refused allocation a MemoryError,
-// anything else a NumericalError naming the builtin.
+// cancellation becomes "interrupted", a refused allocation an "over memory budget" error,
+// anything else a "numerical failure" error naming the builtin.
 func stabNumErr(c *eval.Call, err error) error {
 	switch {
 	case errors.Is(err, context.Canceled) || errors.Is(err, context.DeadlineExceeded):
-		return value.Errorf("Interrupted", "interrupted")
+		return value.Errorf(value.ClassInterrupted, "interrupted")
 	case errors.Is(err, memguard.ErrTooLarge):
-		return value.Errorf("MemoryError", "%s: %v", c.Name, err)
+		return value.Errorf(value.ClassMemory, "%s: %v", c.Name, err)
 	}
-	return value.Errorf("NumericalError", "%s: %v", c.Name, err)
+	return value.Errorf(value.ClassNumerical, "%s: %v", c.Name, err)
 }
 
 // stabGuard runs f and turns a panic with one of the numerics' misuse
-// sentinels into a ValueError; the builtins validate their arguments, so
+// sentinels into a "bad value" error; the builtins validate their arguments, so
 // this is a last line of defence.
 func stabGuard(c *eval.Call, f func() error) error {
 	if err := stabGuardRaw(c, f); err != nil {
@@ -986,13 +986,13 @@ func resolventImpl(c *eval.Call) (value.Value, error) {
 		var x []complex128
 		var res float64
 		err := stabGuardOr(c, func() (e error) { x, res, e = spectra.ResolventApply(op.Op, z, b); return }, func(err error) error {
-			return value.Errorf("NumericalError", "resolvent: zI − A is singular at z = %s: z is an eigenvalue of A or within rounding of one (%s)", zs, strings.TrimPrefix(err.Error(), "spectra: "))
+			return value.Errorf(value.ClassNumerical, "resolvent: zI − A is singular at z = %s: z is an eigenvalue of A or within rounding of one (%s)", zs, strings.TrimPrefix(err.Error(), "spectra: "))
 		})
 		if err != nil {
 			return nil, err
 		}
 		if !(res <= 1e-6) {
-			return nil, value.Errorf("NumericalError", "resolvent: zI − A is numerically singular at z = %s: relative residual %s after refinement", zs, value.FormatNum(res))
+			return nil, value.Errorf(value.ClassNumerical, "resolvent: zI − A is numerically singular at z = %s: relative residual %s after refinement", zs, value.FormatNum(res))
 		}
 		for i := range x {
 			x[i] = stabCleanPart(x[i])
@@ -1015,7 +1015,7 @@ func resolventImpl(c *eval.Call) (value.Value, error) {
 	}
 	scale = math.Max(scale, cmplx.Abs(z))
 	if math.IsInf(nrm, 1) || math.IsNaN(nrm) || 1/nrm <= stabSingularTol*scale {
-		return nil, value.Errorf("NumericalError", "resolvent: zI − A is singular at z = %s: z is an eigenvalue of A (σ_min(zI − A) = %s)", zs, value.FormatNum(1/nrm))
+		return nil, value.Errorf(value.ClassNumerical, "resolvent: zI − A is singular at z = %s: z is an eigenvalue of A (σ_min(zI − A) = %s)", zs, value.FormatNum(1/nrm))
 	}
 	return &objects.Quantity{X: value.Num(nrm), Symbol: "‖(zI − A)⁻¹‖₂", What: "resolvent norm at z = " + zs,
 		Method:   "1/σ_min(zI − T) by inverse Lanczos on the complex Schur form A = ZTZᴴ (no balancing)",

@@ -128,7 +128,7 @@ func TestStabilityInterrupt(t *testing.T) {
 		_, _, err := s.Execute(ctx, src, nil)
 		cancel()
 		var ee *eval.Error
-		if !errors.As(err, &ee) || ee.Name != "Interrupted" {
+		if !errors.As(err, &ee) || ee.Name != "interrupted" {
 			t.Errorf("%s: got %v, want an Interrupted error", src, err)
 		}
 		if d := time.Since(start); d > 10*time.Second {

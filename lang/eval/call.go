@@ -134,7 +134,7 @@ func (in *Interp) evalCall(sc *scope, e *syntax.CallExpr) (value.Value, error) {
 	}
 	fn, ok := f.(value.Callable)
 	if !ok {
-		return nil, in.errorf(sc, e.Fun, "TypeError", "%s is a %s, not a function", exprText(sc.file, e.Fun), value.TypeName(f))
+		return nil, in.errorf(sc, e.Fun, value.ClassType, "%s is a %s, not a function", exprText(sc.file, e.Fun), value.TypeName(f))
 	}
 	params := fn.Params()
 	var pos []value.Value
@@ -171,7 +171,7 @@ func (in *Interp) evalCall(sc *scope, e *syntax.CallExpr) (value.Value, error) {
 func (in *Interp) callValue(sc *scope, site syntax.Node, f value.Value, args []value.Value, named []namedArg) (value.Value, error) {
 	fn, ok := f.(value.Callable)
 	if !ok {
-		return nil, in.errorf(sc, site, "TypeError", "a %s is not a function", value.TypeName(f))
+		return nil, in.errorf(sc, site, value.ClassType, "a %s is not a function", value.TypeName(f))
 	}
 	return in.callArgs(sc, site, fn, args, nil, named)
 }
@@ -189,7 +189,7 @@ func (in *Interp) bind(sc *scope, site syntax.Node, name string, params []value.
 		if len(posNodes) > fixed {
 			at = posNodes[fixed]
 		}
-		return nil, nil, in.errorf(sc, at, "TypeError", "%s takes %s, got %d: %s", name, countArgs(fixed), len(pos), SignatureText(name, params))
+		return nil, nil, in.errorf(sc, at, value.ClassType, "%s takes %s, got %d: %s", name, countArgs(fixed), len(pos), SignatureText(name, params))
 	}
 	for i, v := range pos {
 		if i < fixed {
@@ -214,17 +214,17 @@ func (in *Interp) bind(sc *scope, site syntax.Node, name string, params []value.
 			if s := suggest(a.name.Name, names); s != "" {
 				msg += fmt.Sprintf("; did you mean %s?", s)
 			}
-			return nil, nil, &Error{Name: "TypeError", Msg: msg + "; signature: " + SignatureText(name, params), File: sc.file, Pos: a.name.Pos(), End: a.name.End()}
+			return nil, nil, &Error{Name: value.ClassType, Msg: msg + "; signature: " + SignatureText(name, params), File: sc.file, Pos: a.name.Pos(), End: a.name.End()}
 		}
 		if args[k] != nil {
-			return nil, nil, &Error{Name: "TypeError", Msg: fmt.Sprintf("argument %s of %s is given twice", a.name.Name, name), File: sc.file, Pos: a.name.Pos(), End: a.name.End()}
+			return nil, nil, &Error{Name: value.ClassType, Msg: fmt.Sprintf("argument %s of %s is given twice", a.name.Name, name), File: sc.file, Pos: a.name.Pos(), End: a.name.End()}
 		}
 		args[k] = a.val
 	}
 	for i := range args {
 		if args[i] == nil {
 			if params[i].Default == nil {
-				return nil, nil, in.errorf(sc, site, "TypeError", "%s is missing argument %s: %s", name, params[i].Name, SignatureText(name, params))
+				return nil, nil, in.errorf(sc, site, value.ClassType, "%s is missing argument %s: %s", name, params[i].Name, SignatureText(name, params))
 			}
 			args[i] = params[i].Default
 		}
@@ -251,7 +251,7 @@ func (in *Interp) callArgs(sc *scope, site syntax.Node, fn value.Callable, pos [
 	switch f := fn.(type) {
 	case *Closure:
 		if in.depth >= in.Limits.MaxDepth {
-			return nil, in.errorf(sc, site, "RecursionError", "calls nested more than %d deep (in %s); a recursive function needs choose(...) to stop", in.Limits.MaxDepth, name)
+			return nil, in.errorf(sc, site, value.ClassDepth, "calls nested more than %d deep (in %s); a recursive function needs choose(...) to stop", in.Limits.MaxDepth, name)
 		}
 		for i := range args {
 			v, err := value.Force(args[i])
@@ -264,7 +264,7 @@ func (in *Interp) callArgs(sc *scope, site syntax.Node, fn value.Callable, pos [
 		v, err := in.evalValue(&scope{file: f.File, names: f.names, locals: args}, f.Def.Body)
 		in.depth--
 		if err != nil {
-			if e, ok := err.(*Error); ok && e.Name != "Interrupted" && e.Name != "LimitError" {
+			if e, ok := err.(*Error); ok && e.Name != value.ClassInterrupted && e.Name != value.ClassWork {
 				fr := Frame{Func: name, File: sc.file, Pos: site.Pos(), End: site.End()}
 				if n := len(e.Stack); n > 0 && e.Stack[n-1].File == fr.File && e.Stack[n-1].Pos == fr.Pos && e.Stack[n-1].Func == fr.Func {
 					e.Stack[n-1].Repeat++
@@ -287,7 +287,7 @@ func (in *Interp) callArgs(sc *scope, site syntax.Node, fn value.Callable, pos [
 		}
 		return v, in.chargeResult(sc, site, v)
 	}
-	return nil, in.errorf(sc, site, "TypeError", "%s cannot be called", name)
+	return nil, in.errorf(sc, site, value.ClassType, "%s cannot be called", name)
 }
 
 // Progress returns a callback for long computations, func(done, total

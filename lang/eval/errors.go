@@ -10,7 +10,7 @@ import (
 // Error is a runtime error with the span where it happened and, when it
 // happened inside user functions, the chain of calls that led there.
 type Error struct {
-	Name     string // "TypeError", "ValueError", "NameError", "Interrupted", ...
+	Name     string // the class: value.ClassType, value.ClassValue, ...
 	Msg      string
 	File     *syntax.File
 	Pos, End syntax.Pos
@@ -36,22 +36,21 @@ func (e *Error) Error() string {
 // ErrorName is the error's class.
 func (e *Error) ErrorName() string { return e.Name }
 
-// Traceback is the message line, the source line and a caret line under the
-// offending span, then for each active user-function call its call site in
-// the same three-line form, innermost first.
-func (e *Error) Traceback() []string {
-	lines := []string{e.Error()}
-	if e.File != nil {
-		lines = append(lines, e.File.Excerpt(e.Pos, e.End)...)
+// Traceback is Lines(syntax.Plain).
+func (e *Error) Traceback() []string { return e.Lines(syntax.Plain) }
+
+// Lines is the error's report in style st: the position and message, the
+// numbered source line with the carets under the offending span and the
+// class after them, then each active user-function call's site, innermost
+// first (syntax.File.Report and CallSite).
+func (e *Error) Lines(st syntax.Style) []string {
+	if e.File == nil {
+		return []string{e.Error()}
 	}
+	lines := e.File.Report(st, e.Name, e.Pos, e.End, e.Msg)
 	for _, f := range e.Stack {
-		if f.File == nil {
-			continue
-		}
-		lines = append(lines, fmt.Sprintf("%s: in the call of %s", f.File.Position(f.Pos), syntax.Shorten(f.Func, syntax.QuoteWidth)))
-		lines = append(lines, f.File.Excerpt(f.Pos, f.End)...)
-		if f.Repeat > 0 {
-			lines = append(lines, fmt.Sprintf("(the same call %d more times)", f.Repeat))
+		if f.File != nil {
+			lines = append(lines, f.File.CallSite(st, f.Func, f.Pos, f.End, f.Repeat)...)
 		}
 	}
 	return lines

@@ -34,7 +34,7 @@ func (in *Interp) evalIndex(sc *scope, e *syntax.IndexExpr) (value.Value, error)
 		}
 		s, ok := x.(value.Indexable)
 		if !ok {
-			return nil, in.errorf(sc, e.X, "TypeError", "a %s cannot be indexed", value.TypeName(x))
+			return nil, in.errorf(sc, e.X, value.ClassType, "a %s cannot be indexed", value.TypeName(x))
 		}
 		idx, scalar, err := in.indexSpec(sc, e.Indices[0], s.Len())
 		if err != nil {
@@ -57,7 +57,7 @@ func (in *Interp) evalIndex(sc *scope, e *syntax.IndexExpr) (value.Value, error)
 	case 2:
 		m, ok := x.(value.Indexable2)
 		if !ok {
-			return nil, in.errorf(sc, e, "TypeError", "two indices need a matrix, not a %s", value.TypeName(x))
+			return nil, in.errorf(sc, e, value.ClassType, "two indices need a matrix, not a %s", value.TypeName(x))
 		}
 		rows, cols := m.Dims()
 		ri, sr, err := in.indexSpec(sc, e.Indices[0], rows)
@@ -73,7 +73,7 @@ func (in *Interp) evalIndex(sc *scope, e *syntax.IndexExpr) (value.Value, error)
 		}
 		return m.Index2(ri, ci, sr, scol), nil
 	}
-	return nil, in.errorf(sc, e, "IndexError", "at most two indices are allowed, got %d", len(e.Indices))
+	return nil, in.errorf(sc, e, value.ClassIndex, "at most two indices are allowed, got %d", len(e.Indices))
 }
 
 // indexSpec evaluates one index against a dimension of length n: either a
@@ -94,13 +94,13 @@ func (in *Interp) indexSpec(sc *scope, x syntax.Expr, n int) ([]int, bool, error
 				return nil, false, err
 			}
 			if step == 0 {
-				return nil, false, in.errorf(sc, r.Step, "ValueError", "range step must not be zero")
+				return nil, false, in.errorf(sc, r.Step, value.ClassValue, "range step must not be zero")
 			}
 		}
 		var idx []int
 		for k := lo; step > 0 && k <= hi || step < 0 && k >= hi; k += step {
 			if k < 0 || k >= n {
-				return nil, false, in.errorf(sc, r, "IndexError", "index %d out of range for length %d", k, n)
+				return nil, false, in.errorf(sc, r, value.ClassIndex, "index %d out of range for length %d", k, n)
 			}
 			idx = append(idx, k)
 		}
@@ -120,7 +120,7 @@ func (in *Interp) indexSpec(sc *scope, x syntax.Expr, n int) ([]int, bool, error
 		for k := range idx {
 			num, ok := s.Index(k).(value.Num)
 			if !ok {
-				return nil, false, in.errorf(sc, x, "IndexError", "indices must be real integers, not complex")
+				return nil, false, in.errorf(sc, x, value.ClassIndex, "indices must be real integers, not complex")
 			}
 			if idx[k], err = in.toIndex(sc, x, float64(num), n); err != nil {
 				return nil, false, err
@@ -128,7 +128,7 @@ func (in *Interp) indexSpec(sc *scope, x syntax.Expr, n int) ([]int, bool, error
 		}
 		return idx, false, nil
 	}
-	return nil, false, in.errorf(sc, x, "TypeError", "an index must be an integer or a range, not a %s", value.TypeName(v))
+	return nil, false, in.errorf(sc, x, value.ClassType, "an index must be an integer or a range, not a %s", value.TypeName(v))
 }
 
 // intOperand evaluates an integer range end (negative ones counted from
@@ -139,7 +139,7 @@ func (in *Interp) intOperand(sc *scope, x syntax.Expr, n int, fromEnd bool) (int
 		return 0, err
 	}
 	if f != math.Trunc(f) || math.Abs(f) > 1<<53 {
-		return 0, in.errorf(sc, x, "IndexError", "index %s is not an integer", value.FormatNum(f))
+		return 0, in.errorf(sc, x, value.ClassIndex, "index %s is not an integer", value.FormatNum(f))
 	}
 	i := int(f)
 	if fromEnd && i < 0 {
@@ -150,10 +150,10 @@ func (in *Interp) intOperand(sc *scope, x syntax.Expr, n int, fromEnd bool) (int
 
 func (in *Interp) toIndex(sc *scope, x syntax.Node, f float64, n int) (int, error) {
 	if f != math.Trunc(f) || math.IsInf(f, 0) {
-		return 0, in.errorf(sc, x, "IndexError", "index %s is not an integer", value.FormatNum(f))
+		return 0, in.errorf(sc, x, value.ClassIndex, "index %s is not an integer", value.FormatNum(f))
 	}
 	if f < -float64(n) || f >= float64(n) {
-		return 0, in.errorf(sc, x, "IndexError", "index %s out of range for length %d (valid: 0 .. %d, or -%d .. -1 from the end)",
+		return 0, in.errorf(sc, x, value.ClassIndex, "index %s out of range for length %d (valid: 0 .. %d, or -%d .. -1 from the end)",
 			value.FormatNum(f), n, n-1, n)
 	}
 	i := int(f)

@@ -123,7 +123,7 @@ func (in *Interp) Exec(ctx context.Context, file *syntax.File, st syntax.Stmt) (
 			return nil, err
 		}
 		if v == value.None {
-			return nil, in.errorf(sc, s.Value, "ValueError", "%s has no value to assign", exprText(file, s.Value))
+			return nil, in.errorf(sc, s.Value, value.ClassValue, "%s has no value to assign", exprText(file, s.Value))
 		}
 		in.Globals[s.Name.Name] = v
 		return nil, nil
@@ -144,7 +144,7 @@ func (in *Interp) Exec(ctx context.Context, file *syntax.File, st syntax.Stmt) (
 		in.Globals[s.Name.Name] = c
 		return nil, nil
 	}
-	return nil, &Error{Name: "SyntaxError", Msg: "statement did not parse", File: file, Pos: st.Pos(), End: st.End()}
+	return nil, &Error{Name: value.ClassSyntax, Msg: "statement did not parse", File: file, Pos: st.Pos(), End: st.End()}
 }
 
 func exprText(f *syntax.File, n syntax.Node) string {
@@ -177,12 +177,12 @@ func (in *Interp) wrap(sc *scope, n syntax.Node, err error) error {
 func (in *Interp) tick(sc *scope, at syntax.Node, n int) error {
 	in.steps += int64(n)
 	if in.Limits.MaxSteps > 0 && in.steps > in.Limits.MaxSteps {
-		return in.errorf(sc, at, "LimitError", "evaluation exceeded the work limit of %d steps", in.Limits.MaxSteps)
+		return in.errorf(sc, at, value.ClassWork, "evaluation exceeded the work limit of %d steps", in.Limits.MaxSteps)
 	}
 	if in.steps >= in.nextCheck {
 		in.nextCheck = in.steps + 1024
 		if in.ctx != nil && in.ctx.Err() != nil {
-			return in.errorf(sc, at, "Interrupted", "interrupted")
+			return in.errorf(sc, at, value.ClassInterrupted, "interrupted")
 		}
 	}
 	return nil
@@ -201,7 +201,7 @@ func (in *Interp) eval(sc *scope, x syntax.Expr) (value.Value, error) {
 		return nil, err
 	}
 	if in.nest >= MaxNesting {
-		return nil, in.errorf(sc, x, "RecursionError", "more than %d expressions under evaluation at once (deep expressions inside nested calls); split the expression with intermediate names or call less deeply", MaxNesting)
+		return nil, in.errorf(sc, x, value.ClassDepth, "more than %d expressions under evaluation at once (deep expressions inside nested calls); split the expression with intermediate names or call less deeply", MaxNesting)
 	}
 	in.nest++
 	v, err := in.evalNode(sc, x)
@@ -238,7 +238,7 @@ func (in *Interp) evalNode(sc *scope, x syntax.Expr) (value.Value, error) {
 	case *syntax.IndexExpr:
 		return in.evalIndex(sc, e)
 	}
-	return nil, in.errorf(sc, x, "SyntaxError", "expression did not parse")
+	return nil, in.errorf(sc, x, value.ClassSyntax, "expression did not parse")
 }
 
 // evalValue evaluates x and forces a lazy result.
@@ -267,7 +267,7 @@ func (in *Interp) lookup(sc *scope, id *syntax.Ident, what string) (value.Value,
 	if s := suggest(id.Name, in.knownNames(sc)); s != "" {
 		msg += fmt.Sprintf("; did you mean %s?", s)
 	}
-	return nil, &Error{Name: "NameError", Msg: msg, File: sc.file, Pos: id.Pos(), End: id.End()}
+	return nil, &Error{Name: value.ClassName, Msg: msg, File: sc.file, Pos: id.Pos(), End: id.End()}
 }
 
 func (in *Interp) knownNames(sc *scope) []string {
@@ -296,7 +296,7 @@ func (in *Interp) evalVector(sc *scope, e *syntax.VectorLit) (value.Value, error
 	if l, ok := r.(value.List); ok {
 		depth, size := value.ListShape(l, value.MaxListDepth)
 		if depth > value.MaxListDepth {
-			return nil, in.errorf(sc, e, "ValueError", "lists nest at most %d deep", value.MaxListDepth)
+			return nil, in.errorf(sc, e, value.ClassValue, "lists nest at most %d deep", value.MaxListDepth)
 		}
 		if err := in.checkSize(size, "the list, counting the entries of the lists it holds,"); err != nil {
 			return nil, in.wrap(sc, e, err)
@@ -311,7 +311,7 @@ func (in *Interp) evalMatrix(sc *scope, e *syntax.MatrixLit) (value.Value, error
 	m := value.NewMatrix(rows, cols)
 	for i, r := range e.Rows {
 		if len(r) != cols {
-			return nil, in.errorf(sc, e, "ValueError", "matrix row %d has %d entries but row 1 has %d", i+1, len(r), cols)
+			return nil, in.errorf(sc, e, value.ClassValue, "matrix row %d has %d entries but row 1 has %d", i+1, len(r), cols)
 		}
 		for j, x := range r {
 			v, err := in.evalValue(sc, x)
@@ -320,7 +320,7 @@ func (in *Interp) evalMatrix(sc *scope, e *syntax.MatrixLit) (value.Value, error
 			}
 			n, ok := v.(value.Num)
 			if !ok {
-				return nil, in.errorf(sc, x, "TypeError", "matrix entries must be real numbers; entry (%d, %d) is of type %s", i, j, value.TypeName(v))
+				return nil, in.errorf(sc, x, value.ClassType, "matrix entries must be real numbers; entry (%d, %d) is of type %s", i, j, value.TypeName(v))
 			}
 			m.Data[i*cols+j] = float64(n)
 		}
@@ -336,7 +336,7 @@ func (in *Interp) evalUnary(sc *scope, e *syntax.UnaryExpr) (value.Value, error)
 	if e.Op == syntax.NOT {
 		b, ok := v.(value.Bool)
 		if !ok {
-			return nil, in.errorf(sc, e.X, "TypeError", "not needs true or false, got %s", value.TypeName(v))
+			return nil, in.errorf(sc, e.X, value.ClassType, "not needs true or false, got %s", value.TypeName(v))
 		}
 		return !b, nil
 	}
@@ -356,7 +356,7 @@ func (in *Interp) chargeResult(sc *scope, at syntax.Node, r value.Value) error {
 		return in.tick(sc, at, len(t.Data))
 	case value.Str:
 		if len(t) > in.Limits.MaxElements {
-			return in.errorf(sc, at, "ValueError", "string of %d bytes, more than the limit of %d", len(t), in.Limits.MaxElements)
+			return in.errorf(sc, at, value.ClassValue, "string of %d bytes, more than the limit of %d", len(t), in.Limits.MaxElements)
 		}
 		return in.tick(sc, at, len(t)/16)
 	case value.List:
@@ -373,7 +373,7 @@ func (in *Interp) evalBinary(sc *scope, e *syntax.BinaryExpr) (value.Value, erro
 	if e.Op == syntax.AND || e.Op == syntax.OR {
 		b, ok := x.(value.Bool)
 		if !ok {
-			return nil, in.errorf(sc, e.X, "TypeError", "%s needs true or false on its left, got %s", e.Op, value.TypeName(x))
+			return nil, in.errorf(sc, e.X, value.ClassType, "%s needs true or false on its left, got %s", e.Op, value.TypeName(x))
 		}
 		if bool(b) == (e.Op == syntax.OR) {
 			return b, nil
@@ -384,7 +384,7 @@ func (in *Interp) evalBinary(sc *scope, e *syntax.BinaryExpr) (value.Value, erro
 		}
 		c, ok := y.(value.Bool)
 		if !ok {
-			return nil, in.errorf(sc, e.Y, "TypeError", "%s needs true or false on its right, got %s", e.Op, value.TypeName(y))
+			return nil, in.errorf(sc, e.Y, value.ClassType, "%s needs true or false on its right, got %s", e.Op, value.TypeName(y))
 		}
 		return c, nil
 	}
@@ -438,7 +438,7 @@ func (in *Interp) realOperand(sc *scope, x syntax.Expr, what string) (float64, e
 	}
 	n, ok := v.(value.Num)
 	if !ok {
-		return 0, in.errorf(sc, x, "TypeError", "%s must be a real number, not %s", what, value.TypeName(v))
+		return 0, in.errorf(sc, x, value.ClassType, "%s must be a real number, not %s", what, value.TypeName(v))
 	}
 	return float64(n), nil
 }
@@ -464,12 +464,12 @@ func (in *Interp) evalRange(sc *scope, e *syntax.RangeExpr) (value.Value, error)
 func (in *Interp) makeRange(sc *scope, e syntax.Node, lo, hi, step float64) (value.Value, error) {
 	for _, x := range []float64{lo, hi, step} {
 		if math.IsInf(x, 0) || math.IsNaN(x) {
-			return nil, in.errorf(sc, e, "ValueError", "range ends and step must be finite, got %s .. %s by %s",
+			return nil, in.errorf(sc, e, value.ClassValue, "range ends and step must be finite, got %s .. %s by %s",
 				value.FormatNum(lo), value.FormatNum(hi), value.FormatNum(step))
 		}
 	}
 	if step == 0 {
-		return nil, in.errorf(sc, e, "ValueError", "range step must not be zero")
+		return nil, in.errorf(sc, e, value.ClassValue, "range step must not be zero")
 	}
 	n := value.RangeLen(lo, hi, step)
 	if err := in.checkSize(n, "the range"); err != nil {

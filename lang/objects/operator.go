@@ -53,7 +53,7 @@ func structure(op linop.Operator) string {
 
 // AsOperator converts v to an operator: an *Operator is returned as it is,
 // a square *value.Matrix is wrapped (copied) as a dense operator. Other
-// values give a TypeError, a non-square matrix a ValueError; both messages
+// values give a "wrong type" error, a non-square matrix a "bad value" error; both messages
 // start with "must be", for the caller to put the argument's name before.
 func AsOperator(v value.Value) (*Operator, error) {
 	switch t := v.(type) {
@@ -84,8 +84,8 @@ func FromMatrix(m *value.Matrix) *Operator {
 //   - A*B: the product (sparse or dense when both are), A*v: the vector A v.
 //   - A square matrix operand is taken as a dense operator.
 //
-// A size mismatch is a ValueError naming both sizes; division by zero is a
-// ValueError.
+// A size mismatch is a "bad value" error naming both sizes; division by zero is a
+// "bad value".
 
 // Binary implements value.HasBinary.
 func (a *Operator) Binary(op syntax.Token, y value.Value, right bool) (value.Value, error) {

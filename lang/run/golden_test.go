@@ -36,7 +36,7 @@ const goldenDir = "../../testdata/lang"
 //	!> TEXT    a line written to standard error (warn)
 //	~> TEXT    another output event: "clear", "clear wait", "page NAME...",
 //	           "display id=ID" / "update id=ID" for named displays
-//	!! TEXT    the error: "NAME LINE:COL: message" for each error message
+//	!! TEXT    the error: "CLASS LINE:COL: message" for each error message
 //	           line, "LINE:COL: in the call of f" for each call-stack frame
 //
 // A line starting with any other text is input; an input line after output
@@ -131,7 +131,7 @@ func errorLines(err error) []string {
 	case errors.As(err, &el):
 		for _, e := range el {
 			p := e.File.Position(e.Pos)
-			lines = append(lines, fmt.Sprintf("!! SyntaxError %d:%d: %s", p.Line, p.Column, e.Msg))
+			lines = append(lines, fmt.Sprintf("!! %s %d:%d: %s", syntax.ErrorClass, p.Line, p.Column, e.Msg))
 		}
 	case errors.As(err, &ee):
 		p := ee.File.Position(ee.Pos)
@@ -144,7 +144,7 @@ func errorLines(err error) []string {
 			}
 		}
 	default:
-		lines = append(lines, "!! Error "+err.Error())
+		lines = append(lines, "!! failure "+err.Error())
 	}
 	return lines
 }

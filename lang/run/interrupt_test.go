@@ -36,7 +36,7 @@ func TestInterruptAnalysesKeepsSession(t *testing.T) {
 			select {
 			case err := <-done:
 				var tr tracer
-				if !errors.As(err, &tr) || tr.ErrorName() != "Interrupted" {
+				if !errors.As(err, &tr) || tr.ErrorName() != "interrupted" {
 					t.Fatalf("err = %v, want Interrupted", err)
 				}
 				lat := time.Since(start)

@@ -88,7 +88,7 @@ func (s *Session) ExecuteNamed(ctx context.Context, name, src string, out Output
 	in.DisplayIDs = s.ids
 	for i, st := range script.Stmts {
 		if ctx.Err() != nil {
-			e := &eval.Error{Name: "Interrupted", Msg: "interrupted", File: script.File, Pos: st.Pos(), End: st.End()}
+			e := &eval.Error{Name: value.ClassInterrupted, Msg: "interrupted", File: script.File, Pos: st.Pos(), End: st.End()}
 			return nil, nil, e
 		}
 		v, err := execGuarded(ctx, in, script.File, st)
@@ -116,16 +116,16 @@ func (s *Session) ExecuteNamed(ctx context.Context, name, src string, out Output
 // cancelled: a computation stopped by the interrupt may fail in its own
 // words (a numerical routine that lost its input, an error that only says
 // "context canceled"), and the user should see that the cell was
-// interrupted. An InternalError is kept, being a bug to report.
+// interrupted. An "internal fault" error is kept, being a bug to report.
 func interrupted(ctx context.Context, err error, f *syntax.File, st syntax.Stmt) error {
 	if ctx.Err() == nil {
 		return err
 	}
 	var e *eval.Error
-	if errors.As(err, &e) && (e.Name == "Interrupted" || e.Name == "InternalError") {
+	if errors.As(err, &e) && (e.Name == value.ClassInterrupted || e.Name == value.ClassInternal) {
 		return err
 	}
-	return &eval.Error{Name: "Interrupted", Msg: "interrupted", File: f, Pos: st.Pos(), End: st.End()}
+	return &eval.Error{Name: value.ClassInterrupted, Msg: "interrupted", File: f, Pos: st.Pos(), End: st.End()}
 }
 
 // publish copies the variable a completed statement assigned into the view.
@@ -188,16 +188,16 @@ func (discard) Clear(bool)                                           {}
 func (discard) Page(map[string]any)                                  {}
 
 // execGuarded runs one statement and turns a panic (a bug, or misuse
-// inside a builtin) into an InternalError at the statement, so a session
-// survives it. Tests treat InternalError as a failure.
+// inside a builtin) into an "internal fault" error at the statement, so a session
+// survives it. Tests treat "internal fault" as a failure.
 // displayGuarded renders v's MIME bundle and metadata, turning a panic in a
-// value's display into an InternalError at the statement (the statement's
+// value's display into an "internal fault" error at the statement (the statement's
 // effect on the session is kept; only its display failed).
 func displayGuarded(v value.Value, f *syntax.File, st syntax.Stmt) (b, md map[string]any, err error) {
 	defer func() {
 		if r := recover(); r != nil {
 			b, md = nil, nil
-			err = &eval.Error{Name: "InternalError", Msg: fmt.Sprintf("internal error while displaying a %s: %v (please report this input)", v.Type(), r),
+			err = &eval.Error{Name: value.ClassInternal, Msg: fmt.Sprintf("internal error while displaying a %s: %v (please report this input)", v.Type(), r),
 				File: f, Pos: st.Pos(), End: st.End()}
 		}
 	}()
@@ -212,7 +212,7 @@ func execGuarded(ctx context.Context, in *eval.Interp, f *syntax.File, st syntax
 	defer func() {
 		if r := recover(); r != nil {
 			v = nil
-			err = &eval.Error{Name: "InternalError", Msg: fmt.Sprintf("internal error: %v (please report this input)", r),
+			err = &eval.Error{Name: value.ClassInternal, Msg: fmt.Sprintf("internal error: %v (please report this input)", r),
 				File: f, Pos: st.Pos(), End: st.End()}
 		}
 	}()

@@ -5,6 +5,7 @@ import (
 	"errors"
 	"fmt"
 	"reflect"
+	"regexp"
 	"strings"
 	"testing"
 	"time"
@@ -79,13 +80,13 @@ func TestTraceback(t *testing.T) {
 	s := NewSession()
 	_, _, err := s.Execute(context.Background(), "foo = 1\ny = fo + 1", nil)
 	var tr tracer
-	if !errors.As(err, &tr) || tr.ErrorName() != "NameError" {
-		t.Fatalf("err = %v, want a NameError", err)
+	if !errors.As(err, &tr) || tr.ErrorName() != value.ClassName {
+		t.Fatalf("err = %v, want an “unknown name” error", err)
 	}
 	want := []string{
 		"cell:2:5: unknown name fo; did you mean foo?",
-		"y = fo + 1",
-		"    ^^",
+		"  2 │ y = fo + 1",
+		"    │     ^^ unknown name",
 	}
 	if got := tr.Traceback(); !reflect.DeepEqual(got, want) {
 		t.Errorf("traceback = %q, want %q", got, want)
@@ -96,24 +97,41 @@ func TestTraceback(t *testing.T) {
 	errors.As(err, &tr)
 	want = []string{
 		"cell:1:10: division by zero",
-		"inv(x) = 1 / x",
-		"         ^^^^^",
-		"cell:2:1: in the call of inv",
-		"inv(0)",
-		"^^^^^^",
+		"  1 │ inv(x) = 1 / x",
+		"    │          ^^^^^ bad value",
+		"inside inv, called at cell:2:1",
+		"  2 │ inv(0)",
+		"    │ ^^^^^^",
 	}
 	if got := tr.Traceback(); !reflect.DeepEqual(got, want) {
 		t.Errorf("traceback = %q, want %q", got, want)
 	}
+	// The notebook's form: the same text with ANSI colours.
+	var styled interface{ Lines(syntax.Style) []string }
+	if !errors.As(err, &styled) {
+		t.Fatalf("%T has no styled report", err)
+	}
+	col := styled.Lines(syntax.Coloured)
+	if len(col) != len(want) || col[2] != "\x1b[34m    │\x1b[0m          \x1b[1;31m^^^^^ bad value\x1b[0m" {
+		t.Errorf("coloured traceback = %q", col)
+	}
+	for i, l := range col {
+		if plain := ansiSGR.ReplaceAllString(l, ""); plain != want[i] {
+			t.Errorf("coloured line %d without colours = %q, want %q", i, plain, want[i])
+		}
+	}
 
 	_, _, err = s.Execute(context.Background(), "a ? b\nc & d", nil)
-	if !errors.As(err, &tr) || tr.ErrorName() != "SyntaxError" {
-		t.Fatalf("err = %v, want SyntaxError", err)
+	if !errors.As(err, &tr) || tr.ErrorName() != value.ClassSyntax {
+		t.Fatalf("err = %v, want bad syntax", err)
 	}
-	if got := tr.Traceback(); len(got) != 6 || got[2] != "  ^" || !strings.HasPrefix(got[3], "cell:2:3:") {
+	if got := tr.Traceback(); len(got) != 6 || got[2] != "    │   ^ bad syntax" || !strings.HasPrefix(got[3], "cell:2:3:") {
 		t.Errorf("syntax traceback = %q", got)
 	}
 }
+
+// ansiSGR matches an ANSI colour sequence.
+var ansiSGR = regexp.MustCompile("\x1b\\[[0-9;]*m")
 
 func TestInterrupt(t *testing.T) {
 	for _, src := range []string{
@@ -137,13 +155,13 @@ func TestInterrupt(t *testing.T) {
 		case err := <-done:
 			var tr tracer
 			if strings.HasPrefix(src, "g(x)") {
-				// Deep recursion may end first with a RecursionError.
+				// Deep recursion may end first with a "too deep" error.
 				if !errors.As(err, &tr) {
 					t.Errorf("%q: err = %v", src, err)
 				}
 				continue
 			}
-			if !errors.As(err, &tr) || tr.ErrorName() != "Interrupted" {
+			if !errors.As(err, &tr) || tr.ErrorName() != value.ClassInterrupted {
 				t.Errorf("%q: err = %v, want Interrupted", src, err)
 			}
 			if d := time.Since(start); d > 500*time.Millisecond {
@@ -159,8 +177,8 @@ func TestRecursionLimit(t *testing.T) {
 	s := NewSession()
 	_, _, err := s.Execute(context.Background(), "f(x) = f(x)\nf(1)", nil)
 	var e *eval.Error
-	if !errors.As(err, &e) || e.Name != "RecursionError" {
-		t.Fatalf("err = %v, want RecursionError", err)
+	if !errors.As(err, &e) || e.Name != value.ClassDepth {
+		t.Fatalf("err = %v, want “too deep”", err)
 	}
 	if len(e.Traceback()) > 20 {
 		t.Errorf("traceback of %d lines; repeated frames should be folded", len(e.Traceback()))
@@ -172,8 +190,8 @@ func TestWorkLimit(t *testing.T) {
 	s.SetLimits(eval.Limits{MaxDepth: 100, MaxElements: 1000, MaxSteps: 10000})
 	_, _, err := s.Execute(context.Background(), "f(n) = choose(n > 30, 0, f(n + 1) + f(n + 1))\nf(0)", nil)
 	var e *eval.Error
-	if !errors.As(err, &e) || e.Name != "LimitError" {
-		t.Fatalf("err = %v, want LimitError", err)
+	if !errors.As(err, &e) || e.Name != value.ClassWork {
+		t.Fatalf("err = %v, want “over work limit”", err)
 	}
 	_, _, err = s.Execute(context.Background(), "zeros(5000)", nil)
 	if !errors.As(err, &e) || !strings.Contains(e.Msg, "limit of 1000") {
@@ -313,10 +331,10 @@ func FuzzEval(f *testing.F) {
 				}
 			}
 		case errors.As(err, &ee):
-			if ee.Name == "InternalError" {
+			if ee.Name == value.ClassInternal {
 				t.Fatalf("panic during evaluation: %v", ee)
 			}
-			if ee.Name == "Interrupted" {
+			if ee.Name == value.ClassInterrupted {
 				t.Fatalf("evaluation ran into the deadline: the work budget did not bound it")
 			}
 			if ee.File == nil || ee.Pos < 0 || int(ee.End) > len(src) || ee.End < ee.Pos {
@@ -404,8 +422,8 @@ func TestPanicBecomesInternalError(t *testing.T) {
 	}
 	_, err = execGuarded(context.Background(), in, script.File, script.Stmts[0])
 	var e *eval.Error
-	if !errors.As(err, &e) || e.Name != "InternalError" || !strings.Contains(e.Msg, "shape") {
-		t.Errorf("err = %v, want an InternalError", err)
+	if !errors.As(err, &e) || e.Name != value.ClassInternal || !strings.Contains(e.Msg, "shape") {
+		t.Errorf("err = %v, want an “internal fault” error", err)
 	}
 }
 
@@ -416,7 +434,7 @@ func (panicky) Type() string   { return "panicky" }
 func (panicky) String() string { panic("display bug") }
 
 // TestDisplayPanicIsAnError checks that a panic while displaying a value
-// becomes an InternalError at the statement, and the session keeps its
+// becomes an "internal fault" error at the statement, and the session keeps its
 // variables.
 func TestDisplayPanicIsAnError(t *testing.T) {
 	f := syntax.NewFile("cell", "x")

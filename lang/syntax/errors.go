@@ -69,16 +69,21 @@ func (l ErrorList) Error() string {
 	return fmt.Sprintf("%s (and %d more errors)", l[0].Error(), len(l)-1)
 }
 
-// ErrorName is "SyntaxError".
-func (l ErrorList) ErrorName() string { return "SyntaxError" }
+// ErrorClass is the class of every syntax error.
+const ErrorClass = "bad syntax"
 
-// Traceback lists every error as name:line:col: message, followed by the
-// source line and a caret line under the offending token.
-func (l ErrorList) Traceback() []string {
+// ErrorName is ErrorClass.
+func (l ErrorList) ErrorName() string { return ErrorClass }
+
+// Traceback is Lines(Plain).
+func (l ErrorList) Traceback() []string { return l.Lines(Plain) }
+
+// Lines reports every error as File.Report does: name:line:col: message,
+// then the numbered source line and the carets under the offending token.
+func (l ErrorList) Lines(st Style) []string {
 	var lines []string
 	for _, e := range l {
-		lines = append(lines, e.Error())
-		lines = append(lines, e.File.Excerpt(e.Pos, e.End)...)
+		lines = append(lines, e.File.Report(st, ErrorClass, e.Pos, e.End, e.Msg)...)
 	}
 	return lines
 }

@@ -14,16 +14,16 @@ import (
 //     imaginary part is 0).
 //   - + - * / % ^ act element-wise on vectors: vector ⊙ scalar, scalar ⊙
 //     vector and vector ⊙ vector of equal length. A range acts as the
-//     vector of its entries. A length mismatch is a ValueError naming both
+//     vector of its entries. A length mismatch is a "bad value" error naming both
 //     lengths.
 //   - M * N is the matrix product, M * v the matrix–vector product, M ± N
 //     needs equal shapes, c*M, M*c and M/c scale, M^k (integer k ≥ 0) is a
 //     power. Matrices are real.
-//   - Division by zero (x/0, x%0, 0^negative) is a ValueError, also inside
+//   - Division by zero (x/0, x%0, 0^negative) is a "bad value" error, also inside
 //     vectors (the message names the index). Overflow follows IEEE 754 and
 //     gives inf; nan and inf operands propagate.
 //   - a % b is the floored remainder a − b·floor(a/b): it has the sign of b.
-//   - A negative real base with a non-integer exponent is a ValueError that
+//   - A negative real base with a non-integer exponent is a "bad value" error that
 //     suggests the complex form: (-8 + 0i)^(1/3).
 //   - s + t concatenates strings.
 //   - Comparisons are scalar-only: numbers (all six), strings (all six,
