@@ -2,6 +2,7 @@ package solve
 
 import (
 	"context"
+	"fmt"
 
 	"gonum.org/v1/gonum/mat"
 
@@ -80,6 +81,12 @@ func NewShiftedContext(ctx context.Context, a linop.Operator, z complex128, opt 
 			return NewZBandShifted(csr, z)
 		}
 		return newSparse(ctx, a, csr, z, opt)
+	}
+	// The real copy and the complex matrix factorised in place live
+	// together; each is checked again where it is made.
+	need := float64(n) * float64(n) * (memguard.RealBytes + memguard.ComplexBytes)
+	if err := memguard.Bytes(need, fmt.Sprintf("dense %d×%d real copy and complex factorisation of zI − A", n, n)); err != nil {
+		return nil, err
 	}
 	var d *mat.Dense
 	var err error

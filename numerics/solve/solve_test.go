@@ -319,12 +319,26 @@ func TestDenseProgressCancel(t *testing.T) {
 func TestMemoryGuard(t *testing.T) {
 	old := memguard.SetLimit(1 << 20)
 	defer memguard.SetLimit(old)
-	m := mat.NewDense(400, 400, nil) // 400² complex entries need 2.4 MiB
+	m := mat.NewDense(400, 400, nil) // 400² real and complex entries need 3.7 MiB
 	for i := 0; i < 400; i++ {
 		m.Set(i, i, 1)
 	}
 	_, err := NewShifted(linop.NewDense(m), 2)
-	if !errors.Is(err, memguard.ErrTooLarge) || !strings.Contains(err.Error(), "dense 400×400 complex matrix needs 2.4 MiB") {
+	if !errors.Is(err, memguard.ErrTooLarge) || !strings.Contains(err.Error(), "dense 400×400 real copy and complex factorisation of zI − A needs 3.7 MiB") {
 		t.Errorf("dense solver beyond the limit: %v", err)
+	}
+}
+
+// TestDenseShiftedGuarded: a dense shifted factorisation holds the real copy
+// of A (8n² B) and the complex matrix it becomes (16n² B) at once. At
+// n = 1000 each alone fits in 20 MiB but together they need 22.9 MiB (by
+// arithmetic), refused before either is made.
+func TestDenseShiftedGuarded(t *testing.T) {
+	a := linop.NewDense(mat.NewDense(1000, 1000, nil))
+	old := memguard.SetLimit(20 << 20)
+	defer memguard.SetLimit(old)
+	_, err := NewShiftedContext(context.Background(), a, 1, Options{Method: DenseMethod})
+	if !errors.Is(err, memguard.ErrTooLarge) || !strings.Contains(err.Error(), "real copy and complex factorisation of zI − A needs 23 MiB") {
+		t.Errorf("dense shifted factorisation: %v, want the guard's refusal of 23 MiB", err)
 	}
 }

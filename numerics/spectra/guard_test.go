@@ -40,3 +40,21 @@ func TestOrder1e10Guarded(t *testing.T) {
 		t.Errorf("numerical abscissa: %v, want 4 vectors needing 298 GiB", err)
 	}
 }
+
+// TestResolventApplyGuarded: (zI − A)⁻¹b holds six complex vectors of
+// order n (the solution, the correction, the residual and the temporaries
+// of a residual) and the temporaries of A's products. A Kronecker sum of
+// order 10⁶ plus a diagonal (one temporary for the sum) needs
+// 10⁶·(6·16 + 8) B ≈ 99 MiB, refused under a 64 MiB limit before the
+// factorisation starts (by arithmetic).
+func TestResolventApplyGuarded(t *testing.T) {
+	x, _, _, _ := convDiff1D(1000, 1, 1)
+	a := &linop.Sum{Terms: []linop.Operator{linop.NewKronSum(x, x), &linop.Diag{D: make([]float64, 1e6)}}}
+	b := make([]complex128, 1e6)
+	old := memguard.SetLimit(64 << 20)
+	defer memguard.SetLimit(old)
+	_, _, err := ResolventApply(a, 1, b)
+	if !errors.Is(err, memguard.ErrTooLarge) || !strings.Contains(err.Error(), "(6 complex vectors of order 1000000) needs 99 MiB") {
+		t.Errorf("ResolventApply: %v, want the guard's refusal of 99 MiB", err)
+	}
+}

@@ -6,6 +6,7 @@ import (
 	"math"
 
 	"semiflow/numerics/linop"
+	"semiflow/numerics/memguard"
 	"semiflow/numerics/solve"
 )
 
@@ -95,11 +96,28 @@ func (s *Schur) ResolventSolve(x, b []complex128, z complex128) error {
 // refinement and the relative residual ‖b − (zI − A)x‖/‖b‖ reported.
 // It panics with ErrShape on a length mismatch.
 func ResolventApply(a linop.Operator, z complex128, b []complex128) (x []complex128, relResidual float64, err error) {
+	return ResolventApplyContext(context.Background(), a, z, b)
+}
+
+// resolventVectors is the number of complex vectors of order n that
+// ResolventApply holds at once: the solution, the correction, the residual
+// and, while a residual is formed, the real and imaginary parts of x and of
+// A x (two complex vectors' worth) and the new residual.
+const resolventVectors = 6
+
+// ResolventApplyContext is ResolventApply with a context that interrupts
+// the factorisation (its error is returned). The work vectors, and the
+// temporaries of A's products, are asked of the memory guard first.
+func ResolventApplyContext(ctx context.Context, a linop.Operator, z complex128, b []complex128) (x []complex128, relResidual float64, err error) {
 	n, c := a.Dims()
 	if n != c || len(b) != n {
 		panic(ErrShape)
 	}
-	f, err := solve.NewShifted(a, z)
+	need := float64(n) * (resolventVectors*memguard.ComplexBytes + float64(linop.Scratch(a))*memguard.RealBytes)
+	if err := memguard.Bytes(need, fmt.Sprintf("resolvent solve work vectors (%d complex vectors of order %d)", resolventVectors, n)); err != nil {
+		return nil, 0, err
+	}
+	f, err := solve.NewShiftedContext(ctx, a, z, solve.Options{})
 	if err != nil {
 		return nil, 0, err
 	}
