@@ -86,6 +86,7 @@ func (s *Session) ExecuteNamed(ctx context.Context, name, src string, out Output
 	in := eval.New(s.globals, s.table, out)
 	in.Limits = s.limits
 	in.DisplayIDs = s.ids
+	shadowed := map[string]bool{} // builtins this cell has warned about
 	for i, st := range script.Stmts {
 		if ctx.Err() != nil {
 			e := &eval.Error{Name: value.ClassInterrupted, Msg: "interrupted", File: script.File, Pos: st.Pos(), End: st.End()}
@@ -96,6 +97,7 @@ func (s *Session) ExecuteNamed(ctx context.Context, name, src string, out Output
 			return nil, nil, interrupted(ctx, err, script.File, st)
 		}
 		s.publish(st)
+		s.warnShadow(script.File, st, shadowed, out)
 		s.warn(st, v, out)
 		b, md, err := displayGuarded(v, script.File, st)
 		if err != nil {
@@ -159,6 +161,30 @@ func (s *Session) warn(st syntax.Stmt, v value.Value, out Output) {
 	}
 }
 
+// warnShadow warns on standard error, once per name in a cell, when a
+// statement assigned or defined a name that a builtin has: the session's
+// value hides the builtin from then on (times = 0 .. 1 by 0.1 hides
+// times(sol)).
+func (s *Session) warnShadow(f *syntax.File, st syntax.Stmt, done map[string]bool, out Output) {
+	var id *syntax.Ident
+	switch x := st.(type) {
+	case *syntax.AssignStmt:
+		id = x.Name
+	case *syntax.FuncDef:
+		id = x.Name
+	default:
+		return
+	}
+	b := s.table.Get(id.Name)
+	if b == nil || done[id.Name] {
+		return
+	}
+	done[id.Name] = true
+	p := f.Position(id.Pos())
+	out.Stream("stderr", fmt.Sprintf("warning: %d:%d: %s now names your value and hides the builtin %s for the rest of the session; another name keeps both\n",
+		p.Line, p.Column, id.Name, b.Signature()))
+}
+
 // Names returns the names of the session's variables and user functions,
 // sorted.
 func (s *Session) Names() []string {
@@ -187,9 +213,6 @@ func (discard) Display(map[string]any, map[string]any, string, bool) {}
 func (discard) Clear(bool)                                           {}
 func (discard) Page(map[string]any)                                  {}
 
-// execGuarded runs one statement and turns a panic (a bug, or misuse
-// inside a builtin) into an "internal fault" error at the statement, so a session
-// survives it. Tests treat "internal fault" as a failure.
 // displayGuarded renders v's MIME bundle and metadata, turning a panic in a
 // value's display into an "internal fault" error at the statement (the statement's
 // effect on the session is kept; only its display failed).
@@ -208,6 +231,9 @@ func displayGuarded(v value.Value, f *syntax.File, st syntax.Stmt) (b, md map[st
 	return b, md, nil
 }
 
+// execGuarded runs one statement and turns a panic (a bug, or misuse
+// inside a builtin) into an "internal fault" error at the statement, so a
+// session survives it. Tests treat "internal fault" as a failure.
 func execGuarded(ctx context.Context, in *eval.Interp, f *syntax.File, st syntax.Stmt) (v value.Value, err error) {
 	defer func() {
 		if r := recover(); r != nil {

@@ -250,15 +250,15 @@ print("mean callers in system =", dot(0 .. N, pi_num))
     md("""
 **How fast does it settle after opening?** The distribution p(t) of the number of callers solves
 p' = Qᵀp (probability flows along the transitions), with p(0) = e₀ (empty at opening). `adjoint(Q)` is
-Qᵀ, so `propagate(adjoint(Q), e0, times)` gives p(t). `crosscheck=true` recomputes it by a second
+Qᵀ, so `propagate(adjoint(Q), e0, ts)` gives p(t) at the output times `ts`. `crosscheck=true` recomputes it by a second
 method; the figure shows the distribution p(t) over the states 0..12 (the number of callers) at a
 selection of times: at t = 0 all probability is on state 0, and it spreads towards the long-run shape.
 """),
     code("""
 first(k) = choose(k == 0, 1, 0)
 e0 = map(first, 0 .. N)
-times = 0 .. 6 by 0.25                   # one hour in steps of 2.5 minutes
-p = propagate(adjoint(Q), e0, times, crosscheck=true)
+ts = 0 .. 6 by 0.25                      # one hour in steps of 2.5 minutes
+p = propagate(adjoint(Q), e0, ts, crosscheck=true)
 p
 """),
     md("""
@@ -267,12 +267,12 @@ the long-run value. Total probability Σ_k p_k(t) must stay 1 (a check of the co
 distance should shrink roughly like e^{−gap·t}.
 """),
     code("""
-steps = 0 .. len(times) - 1
+steps = 0 .. len(ts) - 1
 waitp(k) = dot(map(busy, 0 .. N), p[k])
 pw = map(waitp, steps)
 total(k) = sum(p[k])
 print("largest |Σp − 1|      :", max(abs(map(total, steps) - 1)))
-print("t (×10 min)           :", times[0 .. 24 by 4])
+print("t (×10 min)           :", ts[0 .. 24 by 4])
 print("P(wait) at time t     :", pw[0 .. 24 by 4])
 print("long-run P(wait)      :", pwait)
 tv(k) = 0.5 * norm(p[k] - pi_num, p=1)
