@@ -2,6 +2,7 @@ package expo
 
 import (
 	"errors"
+	"runtime"
 	"strings"
 	"testing"
 
@@ -12,19 +13,28 @@ import (
 // TestWorkVectorsGuarded: every method asks the memory guard for its work
 // vectors and results before making them. Under a limit of 8 MiB, the
 // Kronecker sum of two 1000-point convection–diffusion operators (order
-// 10⁶: 8 MB a vector) is refused by each method with the guard's error,
-// naming the vectors, instead of allocating past the limit; at order 10¹⁰
-// the same check is what stands between a request and an 80 GB vector.
+// 10⁶: 8 MB a vector) is refused with the guard's error, naming the
+// vectors, instead of allocating past the limit; at order 10¹⁰ the same
+// check is what stands between a request and an 80 GB vector. Propagate's
+// own three setup vectors (23 MiB) fit under 28 MiB, so there each
+// method's request is the one refused (not the Kronecker method's few
+// vectors of order 10⁶, which fit).
 func TestWorkVectorsGuarded(t *testing.T) {
+	all := []string{MethodKronecker, MethodKrylov, MethodTaylor, MethodContour, MethodResolvent, MethodShiftInv, MethodAuto}
+	t.Run("8 MiB", func(t *testing.T) { workVectorsGuarded(t, 8<<20, all) })
+	t.Run("28 MiB", func(t *testing.T) { workVectorsGuarded(t, 28<<20, all[1:6]) })
+}
+
+func workVectorsGuarded(t *testing.T, limit int64, methods []string) {
 	x := convDiff1D(1000, 1)
 	k := linop.NewKronSum(x, x)
 	u0 := make([]float64, 1000*1000)
 	for i := range u0 {
 		u0[i] = 1
 	}
-	old := memguard.SetLimit(8 << 20)
+	old := memguard.SetLimit(limit)
 	defer memguard.SetLimit(old)
-	for _, m := range []string{MethodKronecker, MethodKrylov, MethodTaylor, MethodContour, MethodResolvent, MethodShiftInv, MethodAuto} {
+	for _, m := range methods {
 		t.Run(m, func(t *testing.T) {
 			_, err := Propagate(t.Context(), k, u0, []float64{0.001}, Options{Method: m, Tol: 1e-6})
 			if !errors.Is(err, memguard.ErrTooLarge) || !strings.Contains(err.Error(), "order 1000000") {
@@ -48,5 +58,28 @@ func TestETDRK4Guarded(t *testing.T) {
 	_, _, err := ETDRK4(t.Context(), &linop.Diag{D: d}, func(_ float64, u, dst []float64) { copy(dst, u) }, u0, []float64{0.1}, StepControl{}, Options{})
 	if !errors.Is(err, memguard.ErrTooLarge) || !strings.Contains(err.Error(), "(19 vectors of order 1000000)") {
 		t.Errorf("error %v, want the memory guard's refusal of 19 vectors of order 1000000", err)
+	}
+}
+
+// TestSetupGuarded: choosing a method estimates ‖A‖₁ with three work
+// vectors of order n, and a sum's products hold one more; Propagate asks
+// the guard for the four (31 MiB at order 10⁶, by arithmetic) before the
+// estimate, so a refusal allocates nothing of that order (the vectors were
+// once made unguarded, then a later request refused).
+func TestSetupGuarded(t *testing.T) {
+	x := convDiff1D(1000, 1)
+	a := &linop.Sum{Terms: []linop.Operator{linop.NewKronSum(x, x), &linop.Diag{D: make([]float64, 1e6)}}}
+	u0 := make([]float64, 1e6)
+	old := memguard.SetLimit(24 << 20)
+	defer memguard.SetLimit(old)
+	var before, after runtime.MemStats
+	runtime.ReadMemStats(&before)
+	_, err := Propagate(t.Context(), a, u0, []float64{0.5}, Options{Tol: 1e-6})
+	runtime.ReadMemStats(&after)
+	if !errors.Is(err, memguard.ErrTooLarge) || !strings.Contains(err.Error(), "norm-estimate work vectors (4 vectors of order 1000000) needs 31 MiB") {
+		t.Errorf("error %v, want the guard's refusal of 4 vectors needing 31 MiB", err)
+	}
+	if got := after.TotalAlloc - before.TotalAlloc; got >= 8e6 {
+		t.Errorf("the refusal allocated %d bytes, at least one vector of order 10⁶", got)
 	}
 }

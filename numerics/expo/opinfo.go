@@ -10,6 +10,7 @@ import (
 	"gonum.org/v1/gonum/mat"
 
 	"semiflow/numerics/linop"
+	"semiflow/numerics/memguard"
 )
 
 // maxDenseN is the largest order for which an operator without a dense form
@@ -69,6 +70,9 @@ func toDense(a linop.Operator) (*mat.Dense, error) {
 	if n > maxDenseN {
 		return nil, fmt.Errorf("expo: operator of order %d is too large for a dense exponential (limit %d)", n, maxDenseN)
 	}
+	if err := memguard.DenseReal(n, n); err != nil {
+		return nil, err
+	}
 	m := mat.NewDense(n, n, nil)
 	e := make([]float64, n)
 	col := make([]float64, n)
@@ -80,6 +84,11 @@ func toDense(a linop.Operator) (*mat.Dense, error) {
 	}
 	return m, nil
 }
+
+// setupVectors is the most work vectors of A's order that opNorm1 (through
+// normEst1) or isSymmetric holds at once; Propagate asks the memory guard
+// for them before either runs.
+const setupVectors = 3
 
 // opNorm1 returns ‖A‖₁ exactly when the operator has an explicit sparse or
 // dense form, and otherwise the estimate of normEst1 (whose products are

@@ -10,6 +10,7 @@ import (
 	"time"
 
 	"semiflow/numerics/linop"
+	"semiflow/numerics/memguard"
 )
 
 // Method names accepted in Options.Method.
@@ -173,6 +174,12 @@ func Propagate(ctx context.Context, A linop.Operator, u0 []float64, times []floa
 	}
 	if opts.Tol <= 0 {
 		opts.Tol = 1e-10
+	}
+	// The choice of method and of the cross-check estimate ‖A‖₁ and test
+	// symmetry with three work vectors of order n (normEst1, isSymmetric);
+	// each method asks again for its own.
+	if err := memguard.Vectors(setupVectors+linop.Scratch(A), n, memguard.RealBytes, "norm-estimate work vectors"); err != nil {
+		return nil, err
 	}
 	start := time.Now()
 	method, reason := opts.Method, "requested"
