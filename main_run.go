@@ -15,18 +15,55 @@ import (
 	"regexp"
 	"strings"
 	"sync"
+	"syscall"
 
 	"semiflow/lang/run"
 	"semiflow/lang/syntax"
 )
 
 // termOutput writes a session's output to a terminal: streams as they are,
-// displayed values as their text/plain form.
+// displayed values as their text/plain form. With marks set, the output of
+// each statement is preceded by a marker line naming the statement (see
+// Statement); a statement that shows nothing gets none.
 type termOutput struct {
 	stdout, stderr io.Writer
+	marks          bool
+	pending        string // the marker not yet written
 }
 
-func (t termOutput) Stream(name, text string) {
+// markerWidth is the most code points of a statement shown in its marker.
+const markerWidth = 60
+
+// Statement records the marker of the statement about to run:
+//
+//	── line 12 ── sol = propagate(A, hot, [0, 1], crosscheck=true)
+//
+// its line and its first line of text (shortened to markerWidth, "…"
+// where cut). It is written before the statement's first output.
+func (t *termOutput) Statement(line int, text string) {
+	if !t.marks {
+		return
+	}
+	first, rest, _ := strings.Cut(text, "\n")
+	first = strings.TrimRight(first, " \t\r")
+	if r := []rune(first); len(r) > markerWidth {
+		first = string(r[:markerWidth-1]) + "…"
+	} else if strings.TrimSpace(rest) != "" {
+		first += " …"
+	}
+	t.pending = fmt.Sprintf("── line %d ── %s\n", line, first)
+}
+
+// mark writes the pending marker, if any.
+func (t *termOutput) mark() {
+	if t.pending != "" {
+		fmt.Fprint(t.stdout, t.pending)
+		t.pending = ""
+	}
+}
+
+func (t *termOutput) Stream(name, text string) {
+	t.mark()
 	if name == "stderr" {
 		fmt.Fprint(t.stderr, text)
 		return
@@ -37,16 +74,18 @@ func (t termOutput) Stream(name, text string) {
 // Display prints a bundle's text. An update that empties a display (a
 // finished progress display) prints nothing: a terminal cannot take back
 // what it printed.
-func (t termOutput) Display(data, metadata map[string]any, displayID string, update bool) {
+func (t *termOutput) Display(data, metadata map[string]any, displayID string, update bool) {
 	if s, ok := data["text/plain"].(string); ok && !(update && s == "") {
+		t.mark()
 		fmt.Fprintln(t.stdout, s)
 	}
 }
 
-func (t termOutput) Clear(wait bool) {}
+func (t *termOutput) Clear(wait bool) {}
 
-func (t termOutput) Page(data map[string]any) {
+func (t *termOutput) Page(data map[string]any) {
 	if s, ok := data["text/plain"].(string); ok {
+		t.mark()
 		fmt.Fprint(t.stdout, s)
 	}
 }
@@ -80,7 +119,8 @@ func errorNameOf(err error) string {
 }
 
 const runUsage = `usage: semiflow run [--allow-errors] [-o OUT.ipynb] FILE
-  FILE.sf      evaluate a script, printing each statement's value
+  FILE.sf      evaluate a script, printing each statement's value after a
+               line "── line N ── statement" naming the statement
   FILE.ipynb   execute the notebook's code cells in order in one session and
                write the notebook back (to OUT.ipynb with -o) with outputs
 `
@@ -88,8 +128,10 @@ const runUsage = `usage: semiflow run [--allow-errors] [-o OUT.ipynb] FILE
 // cmdRun evaluates a script (.sf) or a notebook (.ipynb).
 //
 // A script's statements run in one session and every displayed value is
-// printed; on the first error it prints FILE:LINE:COL: message, the source
-// line and a caret line, and returns 1.
+// printed, each statement's output after a marker line naming it
+// (termOutput.Statement); on the first error it prints the error report
+// (FILE:LINE:COL: message, the numbered source line, carets and class) on
+// stderr and returns 1.
 //
 // A notebook's code cells run in order in one session, every cell even
 // after an error, and the notebook is written back in place (or to the -o
@@ -146,18 +188,80 @@ func cmdRun(args []string) int {
 
 func isNotebook(path string) bool { return strings.EqualFold(filepath.Ext(path), ".ipynb") }
 
+// maxSourceBytes bounds a script or notebook that run reads: far above any
+// real one (a notebook with its figures is a few MB), and a bound on what a
+// mistaken path can make the process hold.
+const maxSourceBytes = 256 << 20
+
+// readRegular reads the script or notebook at path, refusing anything but
+// a regular file: a directory, a FIFO (whose read would wait for a writer
+// for ever), a device or a socket gets an error naming what it is. The
+// file is checked before it is opened and again after a non-blocking open,
+// so a FIFO put in its place between the two cannot block either; a file
+// larger than maxSourceBytes is refused before it is read.
+func readRegular(path string) ([]byte, error) {
+	st, err := os.Stat(path)
+	if err != nil {
+		return nil, err
+	}
+	if err := regularFile(path, st); err != nil {
+		return nil, err
+	}
+	f, err := os.OpenFile(path, os.O_RDONLY|syscall.O_NONBLOCK, 0)
+	if err != nil {
+		return nil, err
+	}
+	defer f.Close()
+	if st, err = f.Stat(); err != nil {
+		return nil, err
+	}
+	if err := regularFile(path, st); err != nil {
+		return nil, err
+	}
+	if st.Size() > maxSourceBytes {
+		return nil, fmt.Errorf("%s: %d bytes, larger than the %d MiB a script or notebook may have", path, st.Size(), maxSourceBytes>>20)
+	}
+	b, err := io.ReadAll(io.LimitReader(f, maxSourceBytes+1))
+	if err == nil && len(b) > maxSourceBytes {
+		err = fmt.Errorf("%s: grew past the %d MiB a script or notebook may have while being read", path, maxSourceBytes>>20)
+	}
+	return b, err
+}
+
+// regularFile returns an error naming what path is unless st describes a
+// regular file.
+func regularFile(path string, st os.FileInfo) error {
+	m := st.Mode()
+	if m.IsRegular() {
+		return nil
+	}
+	what := "not a regular file"
+	switch {
+	case m.IsDir():
+		what = "a directory"
+	case m&os.ModeNamedPipe != 0:
+		what = "a FIFO (named pipe)"
+	case m&os.ModeSocket != 0:
+		what = "a socket"
+	case m&os.ModeDevice != 0:
+		what = "a device"
+	}
+	return fmt.Errorf("%s: is %s; only a regular file is run", path, what)
+}
+
 // runFile evaluates a script in one session, printing every displayed
 // value, and stops at the first error (status 1).
 func runFile(ctx context.Context, path string, stdout, stderr io.Writer) int {
-	src, err := os.ReadFile(path)
+	src, err := readRegular(path)
 	if err != nil {
 		fmt.Fprintln(stderr, "semiflow:", err)
 		return 1
 	}
 	s := run.NewSession()
-	out := termOutput{stdout, stderr}
+	out := &termOutput{stdout: stdout, stderr: stderr, marks: true}
 	data, _, err := s.ExecuteNamed(ctx, path, string(src), out)
 	if err != nil {
+		out.pending = "" // the report names the statement itself
 		for _, l := range tracebackOf(err) {
 			fmt.Fprintln(stderr, l)
 		}
@@ -174,7 +278,7 @@ func runFile(ctx context.Context, path string, stdout, stderr io.Writer) int {
 // running statement; Ctrl-D (end of input) leaves.
 func cmdRepl() int {
 	s := run.NewSession()
-	out := termOutput{os.Stdout, os.Stderr}
+	out := &termOutput{stdout: os.Stdout, stderr: os.Stderr}
 	in := bufio.NewScanner(os.Stdin)
 	in.Buffer(make([]byte, 1<<16), 1<<24)
 
@@ -330,7 +434,7 @@ func outputMetadata(metadata map[string]any) map[string]any {
 // failed (0 with allowErrors) and when the notebook cannot be read or
 // written.
 func runNotebook(ctx context.Context, path, outPath string, allowErrors bool, stderr io.Writer) int {
-	src, err := os.ReadFile(path)
+	src, err := readRegular(path)
 	if err != nil {
 		fmt.Fprintln(stderr, "semiflow:", err)
 		return 1

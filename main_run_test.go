@@ -3,10 +3,13 @@ package main
 import (
 	"context"
 	"encoding/json"
+	"fmt"
 	"os"
 	"path/filepath"
 	"strings"
+	"syscall"
 	"testing"
+	"time"
 )
 
 func TestRunFile(t *testing.T) {
@@ -26,6 +29,46 @@ func TestRunFile(t *testing.T) {
 	want := path + ":4:6: unknown name kapa; did you mean kappa?\n  4 │ rate(kapa)\n    │      ^^^^ unknown name\n"
 	if errs.String() != want {
 		t.Errorf("stderr = %q, want %q", errs.String(), want)
+	}
+}
+
+// TestRunNonRegular: run refuses a FIFO (whose read would wait for a writer
+// for ever), a directory and a device, as script and as notebook, at once
+// and with a message naming what the path is; a FIFO never blocks.
+func TestRunNonRegular(t *testing.T) {
+	dir := t.TempDir()
+	fifo, nbFifo := filepath.Join(dir, "pipe.sf"), filepath.Join(dir, "pipe.ipynb")
+	for _, p := range []string{fifo, nbFifo} {
+		if err := syscall.Mkfifo(p, 0o600); err != nil {
+			t.Skip("no FIFOs here:", err)
+		}
+	}
+	for _, c := range []struct{ path, what string }{
+		{fifo, "is a FIFO (named pipe)"}, {nbFifo, "is a FIFO (named pipe)"},
+		{dir, "is a directory"}, {"/dev/null", "is a device"},
+	} {
+		t.Run(filepath.Base(c.path), func(t *testing.T) {
+			done := make(chan string, 1)
+			go func() {
+				var out, errs strings.Builder
+				rc := 0
+				if isNotebook(c.path) {
+					rc = runNotebook(context.Background(), c.path, filepath.Join(dir, "out.ipynb"), false, &errs)
+				} else {
+					rc = runFile(context.Background(), c.path, &out, &errs)
+				}
+				done <- fmt.Sprintf("%d %s", rc, errs.String())
+			}()
+			select {
+			case got := <-done:
+				want := fmt.Sprintf("1 semiflow: %s: %s; only a regular file is run\n", c.path, c.what)
+				if got != want {
+					t.Errorf("got %q, want %q", got, want)
+				}
+			case <-time.After(5 * time.Second):
+				t.Fatalf("run %s still blocked after 5 s", c.path)
+			}
+		})
 	}
 }
 
