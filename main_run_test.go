@@ -4,6 +4,7 @@ import (
 	"context"
 	"encoding/json"
 	"fmt"
+	"math"
 	"os"
 	"path/filepath"
 	"strings"
@@ -23,7 +24,7 @@ func TestRunFile(t *testing.T) {
 	if rc := runFile(context.Background(), path, &out, &errs); rc != 1 {
 		t.Errorf("exit status %d, want 1", rc)
 	}
-	if out.String() != "-18\n" {
+	if out.String() != "── line 3 ── rate(3)\n-18\n" {
 		t.Errorf("stdout = %q", out.String())
 	}
 	want := path + ":4:6: unknown name kapa; did you mean kappa?\n  4 │ rate(kapa)\n    │      ^^^^ unknown name\n"
@@ -285,5 +286,66 @@ func TestExampleNotebooks(t *testing.T) {
 				t.Errorf("%d SVG figures, %d HTML tables, %d Markdown cells", svg, html, md)
 			}
 		})
+	}
+}
+
+// The README's first command runs notebooks/first_look.sf: an evolution
+// with its error estimates and the stability question. Each output comes
+// after a marker naming its statement, and the abscissae agree with the
+// closed forms for the tridiagonal Toeplitz matrix the script builds:
+// A = tridiag(b, a, c) with a = −2κ/h², b = κ/h² + c₀/(2h) (below the
+// diagonal), c = κ/h² − c₀/(2h) (above), κ = 0.01, c₀ = 0.5, h = 0.01,
+// n = 99, whose eigenvalues are a + 2√(bc) cos(kπ/(n+1)) (the classical
+// formula for tridiagonal Toeplitz matrices), and whose symmetric part is
+// tridiag((b+c)/2, a, (b+c)/2).
+func TestFirstLookExample(t *testing.T) {
+	var out, errs strings.Builder
+	if rc := runFile(context.Background(), "notebooks/first_look.sf", &out, &errs); rc != 0 {
+		t.Fatalf("exit status %d; stderr:\n%s", rc, errs.String())
+	}
+	text := out.String()
+	last := -1
+	for _, m := range []string{"── line 13 ── sol\n", "── line 14 ── errest(sol)\n", "── line 19 ── abscissa(A)\n",
+		"── line 20 ── numabscissa(A)\n", "── line 21 ── growth(A, t=0 .. 4 by 0.5)\n", "── line 22 ── generator(A)\n"} {
+		i := strings.Index(text, m)
+		if i <= last {
+			t.Errorf("marker %q missing or out of order", m)
+		}
+		last = i
+	}
+	if n := strings.Count(text, "── line "); n != 6 {
+		t.Errorf("%d markers, want 6 (statements that show nothing get none)", n)
+	}
+	if !strings.Contains(text, "tolerance met           yes") {
+		t.Errorf("the propagation does not say it met its tolerance:\n%s", text)
+	}
+	const kappa, c0, h, n = 0.01, 0.5, 0.01, 99
+	a, b, c := -2*kappa/(h*h), kappa/(h*h)+c0/(2*h), kappa/(h*h)-c0/(2*h)
+	alpha := a + 2*math.Sqrt(b*c)*math.Cos(math.Pi/(n+1))
+	omega := a + (b+c)*math.Cos(math.Pi/(n+1))
+	for _, q := range []struct {
+		prefix string
+		want   float64
+	}{{"α(A) = ", alpha}, {"ω(A) = ", omega}} {
+		i := strings.Index(text, q.prefix)
+		if i < 0 {
+			t.Errorf("no %q line", q.prefix)
+			continue
+		}
+		var got float64
+		if _, err := fmt.Sscan(text[i+len(q.prefix):], &got); err != nil {
+			t.Errorf("%s: %v", q.prefix, err)
+			continue
+		}
+		// Printed with 10 significant digits; the eigenvalue problems are
+		// solved to n·u·‖A‖_F ≈ 3e-11 (absolute), and α's rightmost
+		// eigenvalue is ill-conditioned (the report's own bound is 1e-3).
+		tol := 1e-9 * math.Abs(q.want)
+		if q.prefix == "α(A) = " {
+			tol = 1e-3
+		}
+		if math.Abs(got-q.want) > tol {
+			t.Errorf("%s%.10g, closed form %.10g", q.prefix, got, q.want)
+		}
 	}
 }

@@ -25,6 +25,14 @@ type Output interface {
 	Page(data map[string]any)
 }
 
+// StatementMarker is an Output that wants to know which statement the
+// output that follows belongs to: Statement is called before each top-level
+// statement of a cell runs, with its first line (1-based) and its source
+// text.
+type StatementMarker interface {
+	Statement(line int, text string)
+}
+
 // Session is the state of one interactive session: its variables and user
 // functions. Its methods may be called from several goroutines: executions
 // are serialised, and Complete, Inspect, Names and Lookup answer from a
@@ -91,6 +99,10 @@ func (s *Session) ExecuteNamed(ctx context.Context, name, src string, out Output
 		if ctx.Err() != nil {
 			e := &eval.Error{Name: value.ClassInterrupted, Msg: "interrupted", File: script.File, Pos: st.Pos(), End: st.End()}
 			return nil, nil, e
+		}
+		if m, ok := out.(StatementMarker); ok {
+			p, e := script.File.Position(st.Pos()), script.File.Position(st.End())
+			m.Statement(p.Line, script.File.Src[p.Offset:e.Offset])
 		}
 		v, err := execGuarded(ctx, in, script.File, st)
 		if err != nil {
