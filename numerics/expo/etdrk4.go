@@ -40,6 +40,9 @@ func newETDCoeffs(L linop.Operator, h float64) (*etdCoeffs, error) {
 	c := &etdCoeffs{}
 	if d, ok := L.(*linop.Diag); ok {
 		n := len(d.D)
+		if err := memguard.Vectors(6, n, memguard.RealBytes, "ETDRK4 diagonal coefficients"); err != nil {
+			return nil, err
+		}
 		c.diag = true
 		c.e, c.e2, c.q = make([]float64, n), make([]float64, n), make([]float64, n)
 		c.f1, c.f2, c.f3 = make([]float64, n), make([]float64, n), make([]float64, n)
@@ -58,6 +61,12 @@ func newETDCoeffs(L linop.Operator, h float64) (*etdCoeffs, error) {
 	n, _ := L.Dims()
 	if n > maxETDDense {
 		return nil, fmt.Errorf("expo: ETDRK4 with a non-diagonal operator of order %d needs dense φ-functions (limit %d)", n, maxETDDense)
+	}
+	// Six coefficient matrices, hL and hL/2, and the φ-functions' work
+	// (augmented matrices of order n+3, about four of them), through the
+	// memory guard before any is allocated.
+	if err := memguard.Bytes(float64(memguard.RealBytes)*(8*float64(n)*float64(n)+4*float64(n+3)*float64(n+3)), fmt.Sprintf("ETDRK4 dense φ-coefficients of order %d", n)); err != nil {
+		return nil, err
 	}
 	a, err := toDense(L)
 	if err != nil {
@@ -181,6 +190,13 @@ func (s *etdStepper) name() string { return "ETDRK4" }
 func (s *etdStepper) coeffs(h float64) (*etdCoeffs, error) {
 	if c, ok := s.cache[h]; ok {
 		return c, nil
+	}
+	if _, ok := s.L.(*linop.Diag); !ok && len(s.keys) < s.limit {
+		// The cache grows by one dense set: ask the guard for all of them.
+		n, _ := s.L.Dims()
+		if err := memguard.Bytes(float64(len(s.keys)+1)*6*float64(memguard.RealBytes)*float64(n)*float64(n), fmt.Sprintf("ETDRK4 coefficient cache (%d step lengths of order %d)", len(s.keys)+1, n)); err != nil {
+			return nil, err
+		}
 	}
 	c, err := newETDCoeffs(s.L, h)
 	if err != nil {

@@ -8,6 +8,7 @@ import (
 	"gonum.org/v1/gonum/mat"
 
 	"semiflow/numerics/linop"
+	"semiflow/numerics/memguard"
 )
 
 // Forcing is the source term f(t) of u' = Au + f(t). Exactly one of the
@@ -130,8 +131,9 @@ func (g *augmented) ToDense() (*mat.Dense, error) {
 // polynomial at Chebyshev points and the piece is then exact; pieces are
 // halved until the interpolation error fits the tolerance, never straddle
 // f.Breaks, and a jump found elsewhere is named in Reason (see
-// forcing_pieces.go). The interpolation term of the estimate assumes
-// ‖e^{sA}‖ ≤ 1 (multiply by the growth bound otherwise). The tolerance is
+// forcing_pieces.go). Errors made on one piece are carried to later times
+// with a bound M on sup‖e^{sA}‖∞ (growthBound; 1 when A is diagonally
+// dominant with a nonpositive diagonal), named in Reason when above 1. The tolerance is
 // relative to the largest ‖u‖∞ met (TolMet, Shortfall); with
 // opts.Crosscheck a Func forcing is solved again by the IMEX scheme of
 // crossSemilinear.
@@ -152,6 +154,11 @@ func PropagateForced(ctx context.Context, A linop.Operator, u0 []float64, f Forc
 		}
 	}
 	if poly != nil {
+		// The scaled coefficients and the augmented vector, through the
+		// memory guard.
+		if err := memguard.Vectors(len(poly)+2, n, memguard.RealBytes, "polynomial forcing coefficients"); err != nil {
+			return nil, err
+		}
 		// y_0 = β with W/β: the methods' tolerance is relative to ‖[u; y]‖,
 		// so β = 1 serves when u is of size 1 or more; when u stays ten
 		// times smaller (a damped response to the forcing), the run is

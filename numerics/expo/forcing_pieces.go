@@ -11,6 +11,7 @@ import (
 	"gonum.org/v1/gonum/mat"
 
 	"semiflow/numerics/linop"
+	"semiflow/numerics/memguard"
 )
 
 // Piecewise interpolation of a forcing function (Forcing.Func).
@@ -23,8 +24,10 @@ import (
 // between the nodes; over the piece it adds c·δ·H to the error estimate
 // (c = 2; where f looks non-smooth c = 4 at a kink and c = 8 at a jump,
 // whose interpolant overshoots by up to the Lebesgue constant, about 2.2
-// for q = 6), which assumes ‖e^{sA}‖ ≤ 1. A piece is halved while its share exceeds
-// tol·scale·max(H/T, 1/64)/2.
+// for q = 6). Every error made on a piece, this one and the propagation's,
+// is carried to later times multiplied by M ≥ sup_{s≤T}‖e^{sA}‖∞
+// (growthBound: 1 for a diagonally dominant A). A piece is halved while
+// its share exceeds tol·scale·max(H/T, 1/64)/(2M).
 //
 // Non-smooth f: for smooth f, halving a piece divides δ by about 2^{q+1};
 // at a jump δ stays near half the jump, at a kink it halves. A piece whose
@@ -97,6 +100,16 @@ func forcedFunc(ctx context.Context, A linop.Operator, u0 []float64, f Forcing, 
 	}
 	sort.Float64s(stops)
 
+	// The interpolant's coefficients, the samples, the augmented vector
+	// and a copy of u per stopping time, through the memory guard.
+	if err := memguard.Vectors(2*(q+1)+4+len(stops), n, memguard.RealBytes, "forcing interpolation work vectors and results"); err != nil {
+		return nil, err
+	}
+	// Errors made on one piece grow by at most M on the later ones.
+	M, growthNote, err := growthBound(ctx, A, tmax)
+	if err != nil {
+		return nil, err
+	}
 	out := &Solution{Times: append([]float64(nil), times...), Values: make([][]float64, len(times)), ErrEst: make([]float64, len(times)), Tol: opts.Tol}
 	nodes, checks := chebFirstKind(q)
 	// Vandermonde matrix in s = τ/H at the nodes, factored once.
@@ -128,7 +141,7 @@ func forcedFunc(ctx context.Context, A linop.Operator, u0 []float64, f Forcing, 
 	for _, stop := range stops {
 		if stop <= t {
 			if _, ok := at[stop]; !ok {
-				at[stop], est[stop] = append([]float64(nil), u...), errAcc
+				at[stop], est[stop] = append([]float64(nil), u...), M*errAcc
 			}
 			continue
 		}
@@ -195,7 +208,7 @@ func forcedFunc(ctx context.Context, A linop.Operator, u0 []float64, f Forcing, 
 			}
 			share := c * delta * H
 			sc := math.Max(scale, fmax*H)
-			budget := 0.5 * opts.Tol * sc * math.Max(H/tmax, 1.0/64)
+			budget := 0.5 * opts.Tol * sc * math.Max(H/tmax, 1.0/64) / M
 			if share > budget && pc.depth < forceMaxDepth && count+len(stack) < forceMaxPieces && delta > 4*unitRoundoff*fmax {
 				m := pc.a + H/2
 				stack = append(stack,
@@ -238,7 +251,7 @@ func forcedFunc(ctx context.Context, A linop.Operator, u0 []float64, f Forcing, 
 			x0[n] = beta
 			// The piece's share of the propagation budget, like its share
 			// of the interpolation budget.
-			o.Tol = math.Max(0.5*opts.Tol*math.Max(H/tmax, 1.0/64), 1e-15)
+			o.Tol = math.Max(0.5*opts.Tol*math.Max(H/tmax, 1.0/64)/M, 1e-15)
 			s, err := Propagate(ctx, aug, x0, []float64{H}, o)
 			if err != nil {
 				return nil, err
@@ -254,7 +267,7 @@ func forcedFunc(ctx context.Context, A linop.Operator, u0 []float64, f Forcing, 
 			out.Reason = s.Reason
 		}
 		t = stop
-		at[stop], est[stop] = append([]float64(nil), u...), errAcc
+		at[stop], est[stop] = append([]float64(nil), u...), M*errAcc
 		done++
 		if opts.Progress != nil {
 			opts.Progress(done, len(stops))
@@ -268,6 +281,9 @@ func forcedFunc(ctx context.Context, A linop.Operator, u0 []float64, f Forcing, 
 		out.Method, out.Reason = "none", "all output times are 0"
 	} else {
 		out.Reason = fmt.Sprintf("general forcing: degree-%d Chebyshev interpolation on %d pieces halved to fit the tolerance, each exact through the augmented operator; %s", q, count, out.Reason)
+	}
+	if growthNote != "" {
+		out.Reason += "; errors carried with " + growthNote
 	}
 	if msg := roughReport(rough, isBreak); msg != "" {
 		out.Reason += "; " + msg

@@ -83,3 +83,32 @@ func TestSetupGuarded(t *testing.T) {
 		t.Errorf("the refusal allocated %d bytes, at least one vector of order 10⁶", got)
 	}
 }
+
+// TestETDRK4DenseCoeffsGuarded: a dense L of order 1200 (11.5 MB a matrix)
+// under a limit of 40 MiB passes the work-vector check (19 vectors, 0.2 MB)
+// but its coefficient cache (six matrices a step length, 66 MiB) is
+// refused by the memory guard before any is allocated.
+func TestETDRK4DenseCoeffsGuarded(t *testing.T) {
+	n := 1200
+	L := convDiff1D(n, 1)
+	u0 := make([]float64, n)
+	old := memguard.SetLimit(40 << 20)
+	defer memguard.SetLimit(old)
+	_, _, err := ETDRK4(t.Context(), L, func(_ float64, u, dst []float64) { copy(dst, u) }, u0, []float64{0.1}, StepControl{Steps: 4}, Options{})
+	if !errors.Is(err, memguard.ErrTooLarge) || !strings.Contains(err.Error(), "ETDRK4 coefficient cache (1 step lengths of order 1200)") {
+		t.Errorf("error %v, want the memory guard's refusal of the coefficient cache of order 1200", err)
+	}
+}
+
+// TestForcingGuarded: a general forcing on order 10⁶ under 8 MiB is refused
+// by the guard, naming the interpolation vectors, before they are made.
+func TestForcingGuarded(t *testing.T) {
+	n := 1000 * 1000
+	old := memguard.SetLimit(8 << 20)
+	defer memguard.SetLimit(old)
+	f := Forcing{Func: func(_ float64, dst []float64) {}}
+	_, err := PropagateForced(t.Context(), &linop.Diag{D: make([]float64, n)}, make([]float64, n), f, []float64{1}, Options{})
+	if !errors.Is(err, memguard.ErrTooLarge) || !strings.Contains(err.Error(), "forcing interpolation") {
+		t.Errorf("error %v, want the memory guard's refusal of the forcing interpolation vectors", err)
+	}
+}

@@ -1,8 +1,14 @@
 package expo
 
 import (
+	"context"
 	"math"
+	"strings"
 	"testing"
+
+	"gonum.org/v1/gonum/mat"
+
+	"semiflow/numerics/linop"
 )
 
 // TestTaylorTail checks taylorTail against the series it bounds summed
@@ -32,5 +38,62 @@ func TestTaylorTail(t *testing.T) {
 	}
 	if math.IsNaN(taylorTail(0, 1, 0, 4)) {
 		t.Error("x = 0 gives NaN")
+	}
+}
+
+// jordanLike is A = [[−1, b], [0, −1]]: e^{sA} = e^{−s}[[1, bs], [0, 1]],
+// so ‖e^{sA}‖∞ = e^{−s}(1 + bs), largest at s = 1 − 1/b: b·e^{1/b − 1}
+// (37.2 for b = 100), while the ∞-norm log-norm is b − 1 (closed form).
+func jordanLike(b float64) *linop.Dense {
+	return linop.NewDense(mat.NewDense(2, 2, []float64{-1, b, 0, -1}))
+}
+
+func TestGrowthBoundJordanLike(t *testing.T) {
+	// closed form: sup_s ‖e^{sA}‖∞ = 100e^{−0.99} for T ≥ 0.99.
+	want := 100 * math.Exp(-0.99)
+	M, note, err := growthBound(context.Background(), jordanLike(100), 5)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if M < want || M > 1.15*want {
+		t.Errorf("M = %.4g, want in [%.4g, 1.15·%.4g] (%s)", M, want, want, note)
+	}
+	// A diagonally dominant A with a nonpositive diagonal: M = 1.
+	if M, _, _ := growthBound(context.Background(), heat1D(50), 1); M != 1 {
+		t.Errorf("heat operator: M = %g, want 1", M)
+	}
+}
+
+// TestForcedGrowthJordanLike integrates u' = Au + [0, sin t], u(0) = 0, for
+// the Jordan-like A, whose transient growth (3.7e3× for b = 1e4) carries an
+// error in u₂ into u₁. Closed form by variation of constants:
+// u₂ = (sin t − cos t + e^{−t})/2, u₁ = (b/2)(e^{−t}(1 + t) − cos t).
+func TestForcedGrowthJordanLike(t *testing.T) {
+	b := 1e4
+	times := []float64{0.5, 1, 2, 5}
+	f := Forcing{Func: func(t float64, dst []float64) { dst[0], dst[1] = 0, math.Sin(t) }, Degree: 2}
+	s, err := PropagateForced(context.Background(), jordanLike(b), []float64{0, 0}, f, times, Options{Tol: 1e-6})
+	if err != nil {
+		t.Fatal(err)
+	}
+	for i, tt := range times {
+		u1 := b / 2 * (math.Exp(-tt)*(1+tt) - math.Cos(tt))
+		u2 := (math.Sin(tt) - math.Cos(tt) + math.Exp(-tt)) / 2
+		e := math.Max(math.Abs(s.Values[i][0]-u1), math.Abs(s.Values[i][1]-u2))
+		t.Logf("t = %g: true error %.3g, estimate %.3g", tt, e, s.ErrEst[i])
+		if !(e <= s.ErrEst[i]) {
+			t.Errorf("t = %g: estimate %.3g below the true error %.3g", tt, s.ErrEst[i], e)
+		}
+		// Not sharp (5e4× at t = 5): the pieces are refined until M times
+		// the interpolation share c·δ·H fits, and that share ignores the
+		// cancellation in ∫e^{(t−s)A}(f − p)ds of an interpolation error
+		// that changes sign on the piece. Before the growth was carried
+		// (M = 1) the estimate was 150 times below the true error at t = 5.
+	}
+	if !s.TolMet {
+		t.Errorf("tolerance not met: %s", s.Shortfall)
+	}
+	if !strings.Contains(s.Reason, "sup‖e^{sA}‖∞") {
+		t.Errorf("the reason does not name the growth bound: %s", s.Reason)
 	}
 }
