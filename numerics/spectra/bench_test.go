@@ -1,13 +1,16 @@
 package spectra
 
 import (
+	"fmt"
 	"math"
 	"runtime"
 	"sync"
+	"syscall"
 	"testing"
 
 	"gonum.org/v1/gonum/mat"
 
+	"semiflow/numerics/expo"
 	"semiflow/numerics/linop"
 )
 
@@ -144,4 +147,77 @@ func BenchmarkKreiss200(b *testing.B) {
 			b.Logf("K = %.12g at z = %.6g", k.K, k.Z)
 		}
 	}
+}
+
+// BenchmarkGrowthEval times one value ‖e^{tA}‖₂ (scaling-and-squaring
+// exponential and SVD) of the 300×300 Grcar matrix at t = 1 and t = 8
+// (1 and 4 squarings), and reports the measured work per n³ in the units
+// of InteractiveWork (wall seconds × 2·WorkRate), beside the prediction
+// GrowthEvalWork/n³ that the curve's budget uses.
+func BenchmarkGrowthEval(b *testing.B) {
+	for _, t := range []float64{1, 8} {
+		b.Run(fmt.Sprintf("t=%g", t), func(b *testing.B) {
+			a := grcar(300)
+			g, err := GrowthCurve(bg, a, []float64{t}, &GrowthOptions{Eps: nil, NoKreiss: true})
+			if err != nil {
+				b.Fatal(err)
+			}
+			n3 := 300.0 * 300 * 300
+			b.ResetTimer()
+			c0 := cpuSeconds()
+			for i := 0; i < b.N; i++ {
+				var ta, e mat.Dense
+				ta.Scale(t, a.m)
+				if _, err := expo.Exp(&e, &ta); err != nil {
+					b.Fatal(err)
+				}
+				var svd mat.SVD
+				if !svd.Factorize(&e, mat.SVDNone) {
+					b.Fatal("SVD failed")
+				}
+			}
+			reportUnits(b, c0, n3)
+			b.ReportMetric(GrowthEvalWork(300, t*mat.Norm(a.m, 1))/n3, "predicted/n³")
+			b.ReportMetric(float64(g.ExpSquaring[0]), "squarings")
+		})
+	}
+}
+
+// BenchmarkShape times the dense shape (Schur form, numerical abscissae of
+// A and −A, spread of W(A)) of the Grcar matrix at orders 300 and 600, in
+// work units per n³ beside ShapeWork's prediction.
+func BenchmarkShape(b *testing.B) {
+	for _, n := range []int{300, 600} {
+		b.Run(fmt.Sprintf("n=%d", n), func(b *testing.B) {
+			a := grcar(n)
+			c0 := cpuSeconds()
+			for i := 0; i < b.N; i++ {
+				if _, err := newShape(bg, a.m); err != nil {
+					b.Fatal(err)
+				}
+			}
+			reportUnits(b, c0, float64(n)*float64(n)*float64(n))
+			b.ReportMetric(ShapeWork(n)/(float64(n)*float64(n)*float64(n)), "predicted/n³")
+		})
+	}
+}
+
+// reportUnits reports the work per n³ of one operation in the units of
+// InteractiveWork two ways: from the wall time (units/n³, wall seconds ×
+// 2·WorkRate, what the development machine gives with both cores free)
+// and from the CPU time of the process since c0 (cpu-units/n³, CPU
+// seconds × WorkRate), which a machine busy with other work inflates less.
+func reportUnits(b *testing.B, c0, n3 float64) {
+	op := float64(b.N)
+	b.ReportMetric(b.Elapsed().Seconds()/op*2*WorkRate/n3, "units/n³")
+	b.ReportMetric((cpuSeconds()-c0)/op*WorkRate/n3, "cpu-units/n³")
+}
+
+// cpuSeconds is the user and system CPU time of this process.
+func cpuSeconds() float64 {
+	var ru syscall.Rusage
+	if err := syscall.Getrusage(syscall.RUSAGE_SELF, &ru); err != nil {
+		return math.NaN()
+	}
+	return float64(ru.Utime.Nano()+ru.Stime.Nano()) / 1e9
 }

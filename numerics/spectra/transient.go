@@ -694,6 +694,16 @@ type GrowthOptions struct {
 	// each α_ε. A bound that would need more is left out and named in
 	// Growth.Skipped; the others are still computed. 0 means no limit.
 	Budget float64
+	// CurveBudget, if positive, is the work budget (units of
+	// InteractiveWork) of the curve itself: the values ‖e^{tA}‖₂ at the
+	// times, the refinement of the peak and its singular vector, predicted
+	// by GrowthEvalWork. When all the times do not fit, every k-th is kept
+	// (the first and the last always) for the smallest k that fits, and
+	// the peak refinement takes what is left; Growth.Asked, Stride and
+	// CurveNeeds say so. When even three times would need more than ten
+	// budgets, GrowthCurve returns a *BudgetError (AtLeast) before any
+	// work. 0 means every time and the full refinement.
+	CurveBudget float64
 	// Weight, if not nil, measures ‖e^{tA}‖ in the norm √(xᵀWx), W = RᵀR:
 	// ‖e^{tA}‖_W = ‖e^{tB}‖₂ with B = RAR⁻¹, and all bounds refer to B.
 	Weight Weight
@@ -739,6 +749,119 @@ type Growth struct {
 	Method        string
 	Accuracy      string
 	ExpSquaring   []int // scaling-and-squaring steps used at each time
+	// Asked is the number of times given; when it exceeds len(T), the
+	// curve was thinned to every Stride-th of them (and the last) to fit
+	// GrowthOptions.CurveBudget, and CurveNeeds is the predicted work of
+	// all of them with the full peak refinement (units of InteractiveWork).
+	Asked, Stride int
+	CurveNeeds    float64
+	// ShapeNeeds, when positive, is the predicted work (ShapeWork) of the
+	// Schur form and numerical ranges that the bounds and α(A) need, left
+	// out because it alone exceeded the bounds' budget: Abscissa is then
+	// NaN and every bound is in Skipped.
+	ShapeNeeds float64
+	// PeakTimeWidth bounds the error of PeakTime: the width of the last
+	// golden-section bracket (0 when the peak is at an end of the times).
+	PeakTimeWidth float64
+}
+
+// Calibration of the cost of one value ‖e^{tA}‖₂ (a scaling-and-squaring
+// exponential and the largest singular value), in work units per n³ (wall
+// seconds × 2·WorkRate), fitted to BenchmarkGrowthEval on the 300×300
+// Grcar matrix on the 2-core development machine (1.08 units/n³ with no
+// squaring, 1.65 with three, the machine shared with other work, so an
+// upper estimate): growthProductWork per matrix product of the
+// exponential (growthBaseProducts of them plus one per squaring) and
+// growthSVDWork for the SVD. See GrowthEvalWork.
+const (
+	growthProductWork  = 0.19
+	growthBaseProducts = 3
+	growthSVDWork      = 0.5
+	// padeTheta13 is θ₁₃ of the scaling-and-squaring method (Higham,
+	// SIMAX 2005, Table 2.3, to 3 digits): ‖2⁻ˢtA‖₁ ≤ θ₁₃ decides s.
+	padeTheta13 = 5.37
+	// growthRefineFull is the golden-section evaluations of a full peak
+	// refinement (bracket to 1e-8 relative), growthRefineLeast the fewest
+	// a thinned curve reserves (bracket shrunk about 150 times).
+	growthRefineFull  = 40
+	growthRefineLeast = 12
+)
+
+// GrowthEvalWork predicts the work (units of InteractiveWork) of one value
+// ‖e^{tA}‖₂ at order n with ‖tA‖₁ = tnorm: the products of the
+// exponential, one more per squaring s = ⌈log₂(tnorm/θ₁₃)⌉, and the SVD.
+// t = 0 (tnorm = 0) costs nothing: ‖e^{0A}‖ = 1.
+func GrowthEvalWork(n int, tnorm float64) float64 {
+	if tnorm == 0 {
+		return 0
+	}
+	sq := 0.0
+	if tnorm > padeTheta13 {
+		sq = math.Ceil(math.Log2(tnorm / padeTheta13))
+	}
+	n3 := float64(n) * float64(n) * float64(n)
+	return (growthProductWork*(growthBaseProducts+sq) + growthSVDWork) * n3
+}
+
+// shapeWork is the work per n³ of the dense shape of an operator (the
+// Schur form by Dhseqr, two symmetric eigenproblems and one SVD): 8.6 and
+// 6.0 units/n³ by BenchmarkShape on the Grcar matrix of orders 300 and 600
+// (wall seconds × 2·WorkRate on the shared 2-core development machine).
+const shapeWork = 8
+
+// ShapeWork predicts the work (units of InteractiveWork) of the Schur form
+// and the numerical abscissae of A and −A at order n, which every bound of
+// GrowthCurve, the Kreiss constant and α_ε start from. The QR algorithm's
+// iterations depend on the matrix; the figure is for the strongly
+// non-normal matrices the bounds are for (Grcar's), an upper estimate for
+// most others.
+func ShapeWork(n int) float64 { return shapeWork * float64(n) * float64(n) * float64(n) }
+
+// growthPlan chooses the times of a curve under a budget (≤ 0: none):
+// every time when all of them with the full refinement fit, otherwise every
+// stride-th (and the last) for the smallest stride whose samples, the peak
+// vector (two evaluations) and growthRefineLeast refinement steps fit. It
+// returns the indices kept, the stride, the predicted work of all times,
+// and the predicted work of the fewest times it would keep (3), which the
+// caller compares with the budget to refuse.
+func growthPlan(times []float64, work func(t float64) float64, budget float64) (keep []int, stride int, all, least float64) {
+	top := 0.0
+	for _, t := range times {
+		top = math.Max(top, work(t))
+	}
+	cost := func(idx []int, refine int) float64 {
+		c := float64(2+refine) * top
+		for _, k := range idx {
+			c += work(times[k])
+		}
+		return c
+	}
+	every := make([]int, len(times))
+	for k := range every {
+		every[k] = k
+	}
+	all = cost(every, growthRefineFull)
+	if budget <= 0 || all <= budget || len(times) <= 3 {
+		return every, 1, all, all
+	}
+	pick := func(stride int) []int {
+		var idx []int
+		for k := 0; k < len(times); k += stride {
+			idx = append(idx, k)
+		}
+		if idx[len(idx)-1] != len(times)-1 {
+			idx = append(idx, len(times)-1)
+		}
+		return idx
+	}
+	last := (len(times) - 1) / 2 // stride leaving three times
+	least = cost(pick(last), growthRefineLeast)
+	for stride = 2; stride < last; stride++ {
+		if idx := pick(stride); cost(idx, growthRefineLeast) <= budget {
+			return idx, stride, all, least
+		}
+	}
+	return pick(last), last, all, least
 }
 
 // GrowthCurve computes ‖e^{tA}‖₂ at each time t ≥ 0 for the dense
@@ -765,7 +888,18 @@ func GrowthCurve(ctx context.Context, a linop.Operator, times []float64, opt *Gr
 	}
 	m := weighted(m0, o.Weight)
 	n, _ := m.Dims()
-	g := &Growth{T: append([]float64(nil), times...), Norm: make([]float64, len(times))}
+	norm1 := mat.Norm(m, 1)
+	work := func(t float64) float64 { return GrowthEvalWork(n, t*norm1) }
+	keep, stride, all, least := growthPlan(times, work, o.CurveBudget)
+	if o.CurveBudget > 0 && least > 10*o.CurveBudget {
+		return nil, &BudgetError{Estimate: least, AtLeast: true}
+	}
+	g := &Growth{Asked: len(times), Stride: stride, CurveNeeds: all}
+	for _, k := range keep {
+		g.T = append(g.T, times[k])
+	}
+	g.Norm = make([]float64, len(g.T))
+	spent := 0.0
 	// The exponential and the SVD cannot be interrupted: each time runs
 	// under abandonable, so a cancellation returns at once.
 	var normAtOnce func(t float64, wantVec bool) (float64, []float64, int, error)
@@ -782,6 +916,9 @@ func GrowthCurve(ctx context.Context, a linop.Operator, times []float64, opt *Gr
 		return r.v, r.u, r.sq, err
 	}
 	normAtOnce = func(t float64, wantVec bool) (float64, []float64, int, error) {
+		if t == 0 && !wantVec {
+			return 1, nil, 0, nil // e^{0A} = I
+		}
 		var ta, e mat.Dense
 		ta.Scale(t, m)
 		info, err := expo.Exp(&e, &ta)
@@ -808,7 +945,7 @@ func GrowthCurve(ctx context.Context, a linop.Operator, times []float64, opt *Gr
 		return svd.Values(nil)[0], v, info.Squarings, nil
 	}
 	best := 0
-	for k, t := range times {
+	for k, t := range g.T {
 		if err := ctx.Err(); err != nil {
 			return nil, err
 		}
@@ -816,29 +953,70 @@ func GrowthCurve(ctx context.Context, a linop.Operator, times []float64, opt *Gr
 		if err != nil {
 			return nil, err
 		}
+		spent += work(t)
 		g.Norm[k] = nv
 		g.ExpSquaring = append(g.ExpSquaring, sq)
 		if nv > g.Norm[best] {
 			best = k
 		}
 		if o.Progress != nil {
-			o.Progress(k+1, len(times))
+			o.Progress(k+1, len(g.T))
 		}
 	}
-	g.Peak, g.PeakTime = g.Norm[best], times[best]
-	if best > 0 && best+1 < len(times) {
-		f := func(t float64) float64 { v, _, _, _ := normAt(t, false); return v }
-		tp, vp := goldenMax(f, times[best-1], times[best+1], 1e-8, 60)
-		if err := ctx.Err(); err != nil {
-			return nil, err
+	g.Peak, g.PeakTime = g.Norm[best], g.T[best]
+	if best > 0 && best+1 < len(g.T) {
+		lo, hi := g.T[best-1], g.T[best+1]
+		// Golden-section steps: all 60 without a budget (the bracket
+		// reaches 1e-8 relative in about 40), else what the budget leaves
+		// after the peak vector (two evaluations).
+		steps := 60
+		if o.CurveBudget > 0 {
+			w := work(hi)
+			steps = min(60, max(0, int((o.CurveBudget-spent)/w)-2-2))
+			if stride == 1 {
+				steps = max(steps, growthRefineFull)
+			}
 		}
-		if vp > g.Peak {
-			g.Peak, g.PeakTime = vp, tp
+		if steps > 0 {
+			f := func(t float64) float64 { v, _, _, _ := normAt(t, false); return v }
+			tp, vp := goldenMax(f, lo, hi, 1e-8, steps)
+			if err := ctx.Err(); err != nil {
+				return nil, err
+			}
+			if vp > g.Peak {
+				g.Peak, g.PeakTime = vp, tp
+			}
 		}
+		g.PeakTimeWidth = math.Max((hi-lo)*math.Pow(0.6180339887498949, float64(steps)), 1e-8*(1+math.Abs(lo)+math.Abs(hi)))
 	}
 	_, g.Initial, _, err = normAt(g.PeakTime, true)
 	if err != nil {
 		return nil, err
+	}
+	g.Method = "e^{tA} by scaling and squaring with Padé approximants (expo.Exp), ‖·‖₂ as the largest singular value (gonum SVD); peak refined by golden-section search; bounds: Kreiss constant K ≤ sup‖e^{tA}‖ ≤ e·N·K (Spijker, BIT 1991, N = dimension), α_ε/ε ≤ sup‖e^{tA}‖, initial slope ω(A)"
+	g.Accuracy = "‖e^{tA}‖₂ to a few units of u·‖e^{tA}‖·cond; the Kreiss constant is a local maximisation (lower estimate)"
+	// Under a budget, a Schur form that alone exceeds the bounds' budget
+	// is not computed: α(A) and every bound are left out, ω(A) comes from
+	// the symmetric part alone.
+	bounds := len(o.Eps)
+	if !o.NoKreiss {
+		bounds++
+	}
+	if need := ShapeWork(n); o.Budget > 0 && bounds > 0 && need > o.Budget*float64(bounds) {
+		g.ShapeNeeds = need
+		g.InitialSlope, err = abandonable(ctx, denseBytes(n, 3), fmt.Sprintf("numerical abscissa of order %d", n), func() (float64, error) { return numAbscissa(m) })
+		if err != nil {
+			return nil, err
+		}
+		g.Abscissa = math.NaN()
+		for _, eps := range o.Eps {
+			g.Skipped = append(g.Skipped, fmt.Sprintf("α_ε for ε = %g", eps))
+		}
+		if !o.NoKreiss {
+			g.Skipped = append(g.Skipped, "Kreiss constant")
+			g.KreissNeeds, g.KreissAtLeast = need, true
+		}
+		return g, nil
 	}
 	sh, err := newShape(ctx, m)
 	if err != nil {
@@ -882,8 +1060,6 @@ func GrowthCurve(ctx context.Context, a linop.Operator, times []float64, opt *Gr
 			g.Upper = math.E * float64(n) * g.Kreiss.K
 		}
 	}
-	g.Method = "e^{tA} by scaling and squaring with Padé approximants (expo.Exp), ‖·‖₂ as the largest singular value (gonum SVD); peak refined by golden-section search; bounds: Kreiss constant K ≤ sup‖e^{tA}‖ ≤ e·N·K (Spijker, BIT 1991, N = dimension), α_ε/ε ≤ sup‖e^{tA}‖, initial slope ω(A)"
-	g.Accuracy = "‖e^{tA}‖₂ to a few units of u·‖e^{tA}‖·cond; the Kreiss constant is a local maximisation (lower estimate)"
 	return g, nil
 }
 
