@@ -1,13 +1,17 @@
 package builtin_test
 
 import (
+	"bytes"
 	"context"
+	"encoding/base64"
 	"encoding/json"
 	"encoding/xml"
 	"errors"
+	"image/png"
 	"io"
 	"os"
 	"path/filepath"
+	"slices"
 	"strings"
 	"testing"
 
@@ -50,6 +54,82 @@ writesvg(sp, "`+path+`")`)
 	}
 	if root != "svg" {
 		t.Errorf("root element %q, want svg", root)
+	}
+}
+
+// TestWritePNG checks that writepng stores exactly the image/png part of
+// the display, that it decodes as PNG at two pixels per px, and that a
+// value without a figure is refused.
+func TestWritePNG(t *testing.T) {
+	dir := t.TempDir()
+	path := filepath.Join(dir, "spec.png")
+	s := run.NewSession()
+	exec(t, s, `sp = spectrum({-1, 5 | 0, -2})
+writepng(sp, "`+path+`")`)
+	b, err := os.ReadFile(path)
+	if err != nil {
+		t.Fatal(err)
+	}
+	data, _, err := s.Execute(context.Background(), "sp", nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	enc, _ := data["image/png"].(string)
+	want, err := base64.StdEncoding.DecodeString(enc)
+	if err != nil || !bytes.Equal(b, want) {
+		t.Fatalf("file differs from the displayed figure (%d vs %d bytes, %v)", len(b), len(want), err)
+	}
+	img, err := png.Decode(bytes.NewReader(b))
+	if err != nil {
+		t.Fatal(err)
+	}
+	if w, h := img.Bounds().Dx(), img.Bounds().Dy(); w != 1280 || h != 840 {
+		t.Errorf("PNG is %d × %d pixels, want 1280 × 840", w, h)
+	}
+	if _, _, err := s.Execute(context.Background(), `writepng(3, "`+filepath.Join(dir, "x.png")+`")`, nil); err == nil || !strings.Contains(err.Error(), "a number has no figure") {
+		t.Errorf("writepng of a number: %v", err)
+	}
+}
+
+// TestFigureBundle checks the MIME bundle of a result with a figure: its
+// keys, a PNG beside the SVG, the figure before the key numbers in the
+// HTML, no inline SVG there (an untrusted notebook strips it and shows its
+// text), and a long table folded away.
+func TestFigureBundle(t *testing.T) {
+	s := run.NewSession()
+	data, _, err := s.Execute(context.Background(), `resolventline({-1, 5 | 0, -2}, 0.5, n=40)`, nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	var keys []string
+	for k := range data {
+		keys = append(keys, k)
+	}
+	slices.Sort(keys)
+	if got := strings.Join(keys, " "); got != "application/json image/png image/svg+xml text/html text/plain" {
+		t.Errorf("bundle keys %q", got)
+	}
+	h, _ := data["text/html"].(string)
+	img := strings.Index(h, `<img src="data:image/png;base64,`)
+	facts := strings.Index(h, "largest norm")
+	if img < 0 || facts < 0 || img > facts {
+		t.Errorf("figure at %d, key numbers at %d: want the figure first", img, facts)
+	}
+	if strings.Contains(h, "<svg") || strings.Contains(h, "Figure with") {
+		t.Error("the HTML carries inline SVG or its description")
+	}
+	if !strings.Contains(h, `<details class="semiflow-fold"><summary>table of 40 rows`) {
+		t.Error("a 40-row table is not folded")
+	}
+	if j, _ := json.Marshal(data["application/json"]); !strings.Contains(string(j), `"rows":[[`) || strings.Count(string(j), "],[") != 39 {
+		t.Errorf("the record does not keep all 40 rows")
+	}
+	short, _, err := s.Execute(context.Background(), `spectrum({-1, 5 | 0, -2})`, nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if h, _ := short["text/html"].(string); strings.Contains(h, "<details") {
+		t.Error("a 2-row table is folded")
 	}
 }
 

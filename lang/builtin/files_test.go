@@ -30,6 +30,7 @@ x = 7`)
 		`writejson([1, 2], "` + fifo + `")`,
 		`writemm(A, "` + fifo + `")`,
 		`writesvg(r, "` + fifo + `")`,
+		`writepng(r, "` + fifo + `")`,
 		`readmm("` + fifo + `")`,
 	} {
 		t.Run(call[:strings.Index(call, "(")], func(t *testing.T) {

@@ -177,24 +177,22 @@ func (s *Solution) String() string {
 	return text
 }
 
-// MIME returns the HTML tables and, where there is something to draw, an
-// SVG figure: the profiles at the output times on a 1-D grid, a heat map
-// of the last time on a 2-D grid, and the components against t otherwise.
+// MIME returns the HTML report and, where there is something to draw, the
+// figure as SVG and PNG: the profiles at the output times on a 1-D grid, a
+// heat map of the last time on a 2-D grid, and the components against t
+// otherwise. The HTML shows a shortfall first, then the figure, the summary
+// and the table per output time (folded away beyond FoldRows rows).
 func (s *Solution) MIME() map[string]any {
 	html := "<div>"
 	if m := s.shortfall(); m != "" {
 		html += `<p class="semiflow-warning"><strong>WARNING:</strong> ` + htmlpkg.EscapeString(m) + `</p>`
 	}
-	html += s.summary().html() + s.perTime().html()
 	out := map[string]any{}
 	if f := s.Figure(); f != nil {
-		if svg, err := f.SVG(); err == nil {
-			out["image/svg+xml"] = string(svg)
-			// Front ends and nbconvert show one MIME type per output and
-			// prefer text/html, so the HTML carries the figure too.
-			html += `<div class="semiflow-figure">` + string(svg) + `</div>`
-		}
+		html += addFigure(f, out)
 	}
+	pt := s.perTime()
+	html += s.summary().html() + fold(pt.html(), len(pt.rows), pt.head)
 	out["text/html"] = html + "</div>"
 	return out
 }

@@ -192,14 +192,18 @@ func (r *Analysis) String() string {
 	return sb.String()
 }
 
-// MIME adds an HTML report with the whole table and, when the report has a
-// figure, the SVG figure. A figure that cannot be drawn is replaced by a
-// note in the HTML.
+// MIME adds an HTML report and, when the report has a figure, the figure
+// as SVG and PNG. The HTML shows the title, the figure, the facts, then the
+// table (folded away beyond FoldRows rows), method, accuracy and notes. A
+// figure that cannot be drawn is replaced by a note in the HTML.
 func (r *Analysis) MIME() map[string]any {
 	out := map[string]any{}
 	var sb strings.Builder
 	e := html.EscapeString
 	sb.WriteString(`<div class="semiflow-analysis"><p><b>` + e(r.Title) + `</b></p>`)
+	if r.Figure != nil {
+		sb.WriteString(addFigure(r.Figure, out))
+	}
 	if len(r.Facts) > 0 {
 		sb.WriteString(`<table><tbody>`)
 		for _, f := range r.Facts {
@@ -208,25 +212,27 @@ func (r *Analysis) MIME() map[string]any {
 		sb.WriteString(`</tbody></table>`)
 	}
 	if len(r.Columns) > 0 {
-		sb.WriteString(`<table><thead><tr>`)
+		var tb strings.Builder
+		tb.WriteString(`<table><thead><tr>`)
 		for _, c := range r.Columns {
-			sb.WriteString(`<th>` + e(c) + `</th>`)
+			tb.WriteString(`<th>` + e(c) + `</th>`)
 		}
-		sb.WriteString(`</tr></thead><tbody>`)
+		tb.WriteString(`</tr></thead><tbody>`)
 		for i, row := range r.Rows {
 			if n := len(r.Rows); n > MaxRowsHTML && i >= MaxRowsHTML-50 && i < n-50 {
 				if i == MaxRowsHTML-50 {
-					fmt.Fprintf(&sb, `<tr><td colspan="%d">⋮ rows %d to %d of %d not shown (index the result for them)</td></tr>`, len(r.Columns), i, n-51, n)
+					fmt.Fprintf(&tb, `<tr><td colspan="%d">⋮ rows %d to %d of %d not shown (index the result for them)</td></tr>`, len(r.Columns), i, n-51, n)
 				}
 				continue
 			}
-			sb.WriteString(`<tr>`)
+			tb.WriteString(`<tr>`)
 			for _, c := range row {
-				sb.WriteString(`<td style="text-align:right">` + e(c.String()) + `</td>`)
+				tb.WriteString(`<td style="text-align:right">` + e(c.String()) + `</td>`)
 			}
-			sb.WriteString(`</tr>`)
+			tb.WriteString(`</tr>`)
 		}
-		sb.WriteString(`</tbody></table>`)
+		tb.WriteString(`</tbody></table>`)
+		sb.WriteString(fold(tb.String(), len(r.Rows), r.Columns))
 	}
 	if r.Method != "" {
 		sb.WriteString(`<p><i>method:</i> ` + e(r.Method) + `</p>`)
@@ -236,17 +242,6 @@ func (r *Analysis) MIME() map[string]any {
 	}
 	for _, n := range r.Notes {
 		sb.WriteString(`<p><i>note:</i> ` + e(n) + `</p>`)
-	}
-	if r.Figure != nil {
-		svg, err := r.Figure.SVG()
-		if err != nil {
-			sb.WriteString(`<p><i>figure not drawn:</i> ` + e(err.Error()) + `</p>`)
-		} else {
-			out["image/svg+xml"] = string(svg)
-			// Front ends and nbconvert show one MIME type per output and
-			// prefer text/html, so the HTML carries the figure too.
-			sb.WriteString(`<div class="semiflow-figure">` + string(svg) + `</div>`)
-		}
 	}
 	sb.WriteString(`</div>`)
 	out["text/html"] = sb.String()

@@ -74,17 +74,42 @@ func lch(l, c, h float64) Lab {
 	return Lab{l, c * co, c * s}
 }
 
-// paletteLab defines the qualitative palette in OKLCh. Hues alternate between
-// the blue–yellow axis, which all common colour-vision deficiencies keep, and
-// lightness steps of at least 0.08 separate every pair, so the colours stay
-// distinct in greyscale and for dichromats. Order: most distinct first.
+// inGamut returns the colour of lightness l and hue h (degrees) with the
+// largest chroma up to c that sRGB can show, so that a colour map keeps its
+// lightness exactly where the gamut is narrow.
+func inGamut(l, c, h float64) Lab {
+	ok := func(p Lab) bool {
+		r, g, b := p.linearRGB()
+		const e = 1e-9
+		return r >= -e && r <= 1+e && g >= -e && g <= 1+e && b >= -e && b <= 1+e
+	}
+	if p := lch(l, c, h); ok(p) {
+		return p
+	}
+	lo, hi := 0.0, c
+	for range 40 {
+		m := (lo + hi) / 2
+		if ok(lch(l, m, h)) {
+			lo = m
+		} else {
+			hi = m
+		}
+	}
+	return lch(l, lo, h)
+}
+
+// paletteLab defines the qualitative line colours in OKLCh. The rule: hues
+// about 110° apart and alternating dark and light, with OKLab lightness
+// 0.1 apart between any two (0.30 to 0.80), so that
+// lines stay apart in greyscale and for dichromats (who keep lightness and
+// the blue–yellow axis). Order: most distinct first.
 var paletteLab = []Lab{
-	lch(0.45, 0.15, 262), // blue
-	lch(0.72, 0.15, 62),  // orange
-	lch(0.30, 0.09, 330), // plum
-	lch(0.62, 0.10, 190), // teal
-	lch(0.82, 0.15, 95),  // straw
-	lch(0.53, 0.15, 25),  // brick
+	inGamut(0.40, 0.14, 292), // violet ink
+	inGamut(0.70, 0.13, 68),  // ochre
+	inGamut(0.50, 0.10, 172), // sea green
+	inGamut(0.30, 0.11, 18),  // wine
+	inGamut(0.80, 0.12, 112), // citron
+	inGamut(0.60, 0.09, 236), // slate blue
 }
 
 // Palette is the qualitative colour cycle given to series without a colour.
@@ -106,16 +131,60 @@ type ColorMap struct {
 
 const lutSize = 1024
 
-// Sequential is the colour map for heat maps: from deep indigo through blue and
-// teal to pale yellow, with OKLab lightness rising monotonically from 0.22 to
-// 0.94, so order is readable in greyscale.
-var Sequential = newColorMap([]Lab{
-	lch(0.22, 0.10, 290),
-	lch(0.40, 0.13, 262),
-	lch(0.58, 0.09, 205),
-	lch(0.76, 0.13, 140),
-	lch(0.94, 0.12, 102),
-})
+// Sequential is the colour map for heat maps, built by a rule in OKLCh:
+// lightness rises linearly from 0.20 to 0.96; the hue turns steadily from
+// 265° to 95° the long way round through red (night blue, plum, rose,
+// apricot, cream); the chroma is an arch, 0.05 at the ends and 0.12 in the
+// middle, reduced where sRGB cannot show it at that lightness. Its blue–
+// yellow coordinate b rises along the whole path, the axis that red–green
+// colour-vision deficiencies keep, and lightness alone already orders it.
+var Sequential = newColorMap(sequentialStops(33))
+
+func sequentialStops(n int) []Lab {
+	out := make([]Lab, n)
+	for k := range out {
+		t := float64(k) / float64(n-1)
+		l := 0.20 + 0.76*t
+		h := 265 + 190*t
+		c := 0.05 + 0.07*math.Sin(math.Pi*t)
+		out[k] = inGamut(l, c, math.Mod(h, 360))
+	}
+	return out
+}
+
+// ContourColors returns n colours for contour levels drawn on paper, from
+// the first level to the last: lightness from 0.30 to 0.70 and hue from
+// 300° to 60° through red (violet, crimson, amber), so neighbouring levels
+// differ in both.
+func ContourColors(n int) []string {
+	out := make([]string, n)
+	for k := range out {
+		t := 0.5
+		if n > 1 {
+			t = float64(k) / float64(n-1)
+		}
+		out[k] = inGamut(0.30+0.40*t, 0.13, math.Mod(300+120*t, 360)).RGB().Hex()
+	}
+	return out
+}
+
+// contourOnMap returns a contour colour that stands out where the heat map
+// shows colour t: the map's lightness moved by 0.45 away from its nearer
+// end, and the opposite hue.
+func contourOnMap(t float64) string {
+	m := Sequential.Lab(t)
+	l := m.L - 0.45
+	if m.L < 0.55 {
+		l = m.L + 0.45
+	}
+	h := math.Atan2(m.B, m.A)*180/math.Pi + 180
+	return inGamut(math.Min(l, 0.97), 0.12, h).RGB().Hex()
+}
+
+// MarkOnMap is the colour of markers drawn over a heat map's dark end (the
+// eigenvalues on a pseudospectrum): a pale mint that neither end of
+// Sequential resembles.
+var MarkOnMap = inGamut(0.90, 0.10, 165).RGB().Hex()
 
 func newColorMap(stops []Lab) ColorMap {
 	m := ColorMap{stops: stops}

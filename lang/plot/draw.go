@@ -1,83 +1,45 @@
 package plot
 
 import (
-	"bytes"
-	"encoding/base64"
 	"fmt"
 	"image"
 	"image/color"
-	"image/png"
 	"math"
 	"strings"
 )
 
+// The figure's own colours: warm paper, a soft ink, and a frame that only
+// draws the two data axes.
 const (
-	inkColor   = "#222222"
-	frameColor = "#555555"
-	gridColor  = "#e4e4e4"
-	refColor   = "#555555"
-	noteColor  = "#777777"
+	paperColor = "#ffffff"
+	inkColor   = "#23262e"
+	frameColor = "#5c6270"
+	gridColor  = "#e9ebef"
+	refColor   = "#5c6270"
+	noteColor  = "#6e7380"
+	keyRule    = "#c9ccd3"
 )
 
-func (r *renderer) printf(format string, a ...any) { fmt.Fprintf(&r.b, format, a...) }
-
-// path returns SVG path data for the polylines.
-func path(lines [][]point, closed bool) string {
-	var b []byte
-	for _, pl := range lines {
-		for k, p := range pl {
-			if k == 0 {
-				b = append(b, 'M')
-			} else {
-				b = append(b, ' ')
-			}
-			b = appendNum(b, p.x)
-			b = append(b, ',')
-			b = appendNum(b, p.y)
-		}
-		if closed {
-			b = append(b, 'Z')
-		}
-	}
-	return string(b)
-}
-
-func (r *renderer) draw() {
+// draw paints the laid-out figure on c. It also records, for legend
+// placement, the data segments and markers in px.
+func (r *renderer) draw(c canvas) {
 	f := r.f
-	title := f.Title
-	if title == "" {
-		title = "Figure"
-	}
-	r.printf(`<svg xmlns="http://www.w3.org/2000/svg" xmlns:xlink="http://www.w3.org/1999/xlink" width="%s" height="%s" viewBox="0 0 %s %s" role="img" font-family="%s">`+"\n",
-		num(r.W), num(r.H), num(r.W), num(r.H), FontFamily)
-	r.printf("<title>%s</title>\n", escape(title))
-	r.printf("<desc>%s</desc>\n", escape(r.describe()))
 	p := r.plot
-	r.printf(`<defs><clipPath id="%s-plot"><rect x="%s" y="%s" width="%s" height="%s"/></clipPath>`,
-		r.id, num(p.x0), num(p.y0), num(p.x1-p.x0), num(p.y1-p.y0))
-	if r.heat != nil {
-		r.printf(`<linearGradient id="%s-cbar" x1="0" y1="1" x2="0" y2="0">`, r.id)
-		for k := 0; k <= 16; k++ {
-			t := float64(k) / 16
-			r.printf(`<stop offset="%s" stop-color="%s"/>`, num(t), Sequential.At(t).Hex())
-		}
-		r.printf(`</linearGradient>`)
-	}
-	r.printf("</defs>\n")
-	r.printf(`<rect width="100%%" height="100%%" fill="#ffffff"/>` + "\n")
+	r.segs, r.marks = nil, nil
+	c.begin(r)
 	if !f.NoGrid {
-		r.drawGrid()
+		r.drawGrid(c)
 	}
-	r.printf(`<g clip-path="url(#%s-plot)">`+"\n", r.id)
+	c.clip(true)
 	for _, s := range f.Series {
 		if h, ok := s.(*HeatMap); ok {
-			r.drawHeat(h)
+			r.drawHeat(c, h)
 		}
 	}
 	colour := 0
-	next := func(c string) string {
-		if c != "" {
-			return escape(c)
+	next := func(col string) string {
+		if col != "" {
+			return col
 		}
 		colour++
 		return seriesColor("", colour-1)
@@ -86,14 +48,14 @@ func (r *renderer) draw() {
 	for _, s := range f.Series {
 		switch s := s.(type) {
 		case *Band:
-			c := next(s.Color)
+			col := next(s.Color)
 			op := s.Opacity
 			if op <= 0 {
 				op = 0.22
 			}
-			r.drawBand(s, c, op)
+			r.drawBand(c, s, col, op)
 			if s.Label != "" {
-				legend = append(legend, legendEntry{kind: 'b', color: c, opacity: op, label: s.Label})
+				legend = append(legend, legendEntry{kind: 'b', color: col, opacity: op, label: s.Label})
 			}
 		case *ContourSet:
 			name := s.Name
@@ -102,83 +64,88 @@ func (r *renderer) draw() {
 			}
 			wd := s.Width
 			if wd <= 0 {
-				wd = 1.3
+				wd = 1.6
 			}
+			cols := ContourColors(len(s.Levels))
 			for k, lv := range s.Levels {
 				if !finite(lv) {
 					continue
 				}
-				c := ""
-				if k < len(s.Colors) {
-					c = s.Colors[k]
+				col := cols[k]
+				if t, ok := r.cbar.t(lv); ok && r.heat != nil {
+					col = contourOnMap(t) // drawn on the heat map: against its colour there
 				}
-				c = next(c)
-				r.drawContour(s.Lines[k], c, wd)
-				legend = append(legend, legendEntry{kind: 'l', color: c, width: wd, label: name + " = " + FormatValue(lv)})
+				if k < len(s.Colors) && s.Colors[k] != "" {
+					col = s.Colors[k]
+				}
+				r.drawContour(c, s.Lines[k], col, wd)
+				legend = append(legend, legendEntry{kind: 'l', color: col, width: wd, label: name + " = " + FormatValue(lv)})
 			}
 		case *Line:
-			c := next(s.Color)
+			col := next(s.Color)
 			wd := s.Width
 			if wd <= 0 {
-				wd = 1.5
+				wd = 1.8
 			}
-			r.drawLine(s, c, wd)
+			r.drawLine(c, s, col, wd)
 			if s.Label != "" {
-				legend = append(legend, legendEntry{kind: 'l', color: c, width: wd, dash: s.Dash, label: s.Label})
+				legend = append(legend, legendEntry{kind: 'l', color: col, width: wd, dash: s.Dash, label: s.Label})
 			}
 		case *Points:
-			c := next(s.Color)
+			col := next(s.Color)
 			sz := s.Size
 			if sz <= 0 {
 				sz = 3.5
 			}
-			r.drawPoints(s, c, sz)
+			r.drawPoints(c, s, col, sz)
 			if s.Label != "" {
-				legend = append(legend, legendEntry{kind: 'p', color: c, marker: s.Marker, label: s.Label})
+				legend = append(legend, legendEntry{kind: 'p', color: col, marker: s.Marker, label: s.Label})
 			}
 		case *HLine:
-			c := refColor
+			col := refColor
 			if s.Color != "" {
-				c = escape(s.Color)
+				col = s.Color
 			}
 			if y, ok := r.ys.px(s.Y); ok {
-				r.printf(`<path d="M%s,%s H%s" fill="none" stroke="%s" stroke-width="1.2"%s/>`+"\n", num(p.x0), num(y), num(p.x1), c, dashAttr(s.Dash))
+				c.stroke([][]point{{{p.x0, y}, {p.x1, y}}}, false, strokeStyle{color: col, width: 1.2, dash: s.Dash})
 				r.segs = append(r.segs, [2]point{{p.x0, y}, {p.x1, y}})
 			}
 			if s.Label != "" {
-				legend = append(legend, legendEntry{kind: 'l', color: c, width: 1.2, dash: s.Dash, label: s.Label})
+				legend = append(legend, legendEntry{kind: 'l', color: col, width: 1.2, dash: s.Dash, label: s.Label})
 			}
 		case *VLine:
-			c := refColor
+			col := refColor
 			if s.Color != "" {
-				c = escape(s.Color)
+				col = s.Color
 			}
 			if x, ok := r.xs.px(s.X); ok {
-				r.printf(`<path d="M%s,%s V%s" fill="none" stroke="%s" stroke-width="1.2"%s/>`+"\n", num(x), num(p.y0), num(p.y1), c, dashAttr(s.Dash))
+				c.stroke([][]point{{{x, p.y0}, {x, p.y1}}}, false, strokeStyle{color: col, width: 1.2, dash: s.Dash})
 				r.segs = append(r.segs, [2]point{{x, p.y0}, {x, p.y1}})
 			}
 			if s.Label != "" {
-				legend = append(legend, legendEntry{kind: 'l', color: c, width: 1.2, dash: s.Dash, label: s.Label})
+				legend = append(legend, legendEntry{kind: 'l', color: col, width: 1.2, dash: s.Dash, label: s.Label})
 			}
 		}
 	}
 	for _, s := range f.Series {
 		if t, ok := s.(*Text); ok {
-			r.drawText(t)
+			r.drawText(c, t)
 		}
 	}
-	r.printf("</g>\n")
-	r.printf(`<rect x="%s" y="%s" width="%s" height="%s" fill="none" stroke="%s"/>`+"\n",
-		num(p.x0), num(p.y0), num(p.x1-p.x0), num(p.y1-p.y0), frameColor)
-	r.drawAxes()
+	c.clip(false)
+	// Only the two data axes are ruled; the plot area stays open at the top
+	// and right.
+	c.stroke([][]point{{{p.x0, p.y0}, {p.x0, p.y1}, {p.x1, p.y1}}}, false, strokeStyle{color: frameColor, width: 1})
+	r.drawAxes(c)
 	if r.heat != nil {
-		r.drawColourBar()
+		r.drawColourBar(c)
 	}
+	r.entries = legend
 	if f.Legend != LegendNone && len(legend) > 0 {
-		r.drawLegend(legend)
+		r.drawLegend(c, legend)
 	}
-	r.drawLabels()
-	r.printf("</svg>\n")
+	r.drawLabels(c)
+	c.end()
 }
 
 // describe summarises the figure for the SVG <desc> element.
@@ -207,29 +174,20 @@ func (r *renderer) describe() string {
 	return d + "."
 }
 
-func dashAttr(d Dash) string {
-	if a := d.array(); a != "" {
-		return ` stroke-dasharray="` + a + `"`
-	}
-	return ""
-}
-
-func (r *renderer) drawGrid() {
+func (r *renderer) drawGrid(c canvas) {
 	p := r.plot
-	var b []byte
+	var lines [][]point
 	for _, v := range r.xt.major {
 		if x, ok := r.xs.px(v); ok && x > p.x0+0.5 && x < p.x1-0.5 {
-			b = fmt.Appendf(b, "M%s,%sV%s", num(x), num(p.y0), num(p.y1))
+			lines = append(lines, []point{{x, p.y0}, {x, p.y1}})
 		}
 	}
 	for _, v := range r.yt.major {
 		if y, ok := r.ys.px(v); ok && y > p.y0+0.5 && y < p.y1-0.5 {
-			b = fmt.Appendf(b, "M%s,%sH%s", num(p.x0), num(y), num(p.x1))
+			lines = append(lines, []point{{p.x0, y}, {p.x1, y}})
 		}
 	}
-	if len(b) > 0 {
-		r.printf(`<path d="%s" stroke="%s" stroke-width="1" fill="none"/>`+"\n", b, gridColor)
-	}
+	c.stroke(lines, false, strokeStyle{color: gridColor, width: 1})
 }
 
 // pixels transforms data points to px, splitting at undrawable points.
@@ -268,37 +226,29 @@ func (r *renderer) strokes(parts [][]point) [][]point {
 	return out
 }
 
-func (r *renderer) drawLine(s *Line, c string, wd float64) {
+func (r *renderer) drawLine(c canvas, s *Line, col string, wd float64) {
 	parts := r.strokes(r.pixels(s.X, s.Y))
-	var lines, dots [][]point
+	var lines [][]point
 	for _, pl := range parts {
-		if len(pl) == 1 {
-			dots = append(dots, pl)
+		if len(pl) == 1 { // an isolated point of a line: a dot of the line's width
+			c.dot(pl[0], math.Max(wd, 1.5), col)
+			r.marks = append(r.marks, pl[0])
 		} else {
 			lines = append(lines, pl)
 		}
 	}
-	if len(lines) > 0 {
-		r.printf(`<path d="%s" fill="none" stroke="%s" stroke-width="%s" stroke-linejoin="round" stroke-linecap="round"%s/>`+"\n",
-			path(lines, false), c, num(wd), dashAttr(s.Dash))
-	}
-	for _, d := range dots { // an isolated point of a line: a dot of the line's width
-		r.printf(`<circle cx="%s" cy="%s" r="%s" fill="%s"/>`+"\n", num(d[0].x), num(d[0].y), num(math.Max(wd, 1.5)), c)
-		r.marks = append(r.marks, d[0])
-	}
+	c.stroke(lines, false, strokeStyle{color: col, width: wd, dash: s.Dash, round: true})
 }
 
-func (r *renderer) drawContour(lines []Polyline, c string, wd float64) {
+func (r *renderer) drawContour(c canvas, lines []Polyline, col string, wd float64) {
 	var all [][]point
 	for _, pl := range lines {
 		all = append(all, r.strokes(r.pixels(pl.X, pl.Y))...)
 	}
-	if len(all) > 0 {
-		r.printf(`<path d="%s" fill="none" stroke="%s" stroke-width="%s" stroke-linejoin="round"/>`+"\n", path(all, false), c, num(wd))
-	}
+	c.stroke(all, false, strokeStyle{color: col, width: wd, round: true})
 }
 
-func (r *renderer) drawBand(s *Band, c string, op float64) {
+func (r *renderer) drawBand(c canvas, s *Band, col string, op float64) {
 	view := r.plot.inflate(4)
 	var polys [][]point
 	// Split at any index where x, lower or upper is undrawable.
@@ -333,80 +283,43 @@ func (r *renderer) drawBand(s *Band, c string, op float64) {
 		}
 	}
 	flush(len(s.X))
-	if len(polys) > 0 {
-		r.printf(`<path d="%s" fill="%s" fill-opacity="%s" stroke="none"/>`+"\n", path(polys, true), c, num(op))
-	}
+	c.fill(polys, col, op)
 }
 
-func markerPath(b []byte, m Marker, x, y, s float64) []byte {
-	n := func(v float64) string { return num(v) }
-	switch m {
-	case Square:
-		s *= 0.9
-		return fmt.Appendf(b, "M%s,%sh%sv%sh%sZ", n(x-s), n(y-s), n(2*s), n(2*s), n(-2*s))
-	case Diamond:
-		s *= 1.25
-		return fmt.Appendf(b, "M%s,%sl%s,%sl%s,%sl%s,%sZ", n(x), n(y-s), n(s), n(s), n(-s), n(s), n(-s), n(-s))
-	case Cross:
-		return fmt.Appendf(b, "M%s,%sl%s,%sm0,%sl%s,%s", n(x-s), n(y-s), n(2*s), n(2*s), n(-2*s), n(-2*s), n(2*s))
-	default:
-		return fmt.Appendf(b, "M%s,%sa%s,%s 0 1,0 %s,0a%s,%s 0 1,0 %s,0", n(x-s), n(y), n(s), n(s), n(2*s), n(s), n(s), n(-2*s))
-	}
-}
-
-func (r *renderer) drawPoints(s *Points, c string, sz float64) {
+func (r *renderer) drawPoints(c canvas, s *Points, col string, sz float64) {
 	view := r.plot.inflate(sz + 1)
-	var b []byte
+	var pts []point
 	for _, pl := range r.pixels(s.X, s.Y) {
 		for _, q := range pl {
-			if !view.contains(q.x, q.y) {
-				continue
+			if view.contains(q.x, q.y) {
+				pts = append(pts, q)
 			}
-			r.marks = append(r.marks, q)
-			b = markerPath(b, s.Marker, q.x, q.y, sz)
 		}
 	}
-	if len(b) == 0 {
-		return
-	}
-	if s.Marker == Cross {
-		r.printf(`<path d="%s" fill="none" stroke="%s" stroke-width="1.6"/>`+"\n", b, c)
-	} else {
-		r.printf(`<path d="%s" fill="%s" fill-opacity="0.85" stroke="%s" stroke-width="0.8"/>`+"\n", b, c, c)
-	}
+	r.marks = append(r.marks, pts...)
+	c.markers(s.Marker, pts, sz, col)
 }
 
-func anchorName(a Anchor) string {
-	switch a {
-	case AnchorMiddle:
-		return "middle"
-	case AnchorEnd:
-		return "end"
-	}
-	return "start"
-}
-
-func (r *renderer) drawText(t *Text) {
+func (r *renderer) drawText(c canvas, t *Text) {
 	x, okx := r.xs.px(t.X)
 	y, oky := r.ys.px(t.Y)
 	if !okx || !oky || t.S == "" {
 		return
 	}
-	c := inkColor
+	col := inkColor
 	if t.Color != "" {
-		c = escape(t.Color)
+		col = t.Color
 	}
 	sz := t.Size
 	if sz <= 0 {
 		sz = 11
 	}
-	r.printf(`<text x="%s" y="%s" font-size="%s" fill="%s" text-anchor="%s">%s</text>`+"\n",
-		num(x), num(y), num(sz), c, anchorName(t.Anchor), escape(t.S))
+	c.text(x, y, label{mant: t.S}, textStyle{size: sz, color: col, anchor: t.Anchor})
 }
 
 // drawHeat draws h as rectangles (merging runs of equal colour along y) or,
-// for more than RectCells cells, as one PNG image.
-func (r *renderer) drawHeat(h *HeatMap) {
+// for more than RectCells cells, as one image.
+func (r *renderer) drawHeat(c canvas, h *HeatMap) {
 	nx := len(h.Z)
 	if nx == 0 || len(h.Z[0]) == 0 || !finite(h.X0) || !finite(h.X1) || !finite(h.Y0) || !finite(h.Y1) {
 		return
@@ -417,8 +330,7 @@ func (r *renderer) drawHeat(h *HeatMap) {
 		cs = r.heatScale(h)
 	}
 	colourAt := func(i, j int) (RGB, bool) {
-		v := h.Z[i][j]
-		t, ok := cs.t(v)
+		t, ok := cs.t(h.Z[i][j])
 		if !ok {
 			return RGB{}, false
 		}
@@ -431,150 +343,132 @@ func (r *renderer) drawHeat(h *HeatMap) {
 		img := image.NewNRGBA(image.Rect(0, 0, nx, ny))
 		for i := 0; i < nx; i++ {
 			for j := 0; j < ny; j++ {
-				if c, ok := colourAt(i, j); ok {
-					col, row := i, ny-1-j // x grows to the right, y upwards
+				if col, ok := colourAt(i, j); ok {
+					x, y := i, ny-1-j // x grows to the right, y upwards
 					if xp(nx) < xp(0) {
-						col = nx - 1 - i
+						x = nx - 1 - i
 					}
 					if yp(ny) > yp(0) {
-						row = j
+						y = j
 					}
-					img.SetNRGBA(col, row, color.NRGBA{c.R, c.G, c.B, 255})
+					img.SetNRGBA(x, y, color.NRGBA{col.R, col.G, col.B, 255})
 				}
 			}
 		}
-		var buf bytes.Buffer
-		if err := png.Encode(&buf, img); err != nil {
-			return
-		}
-		x0, x1 := math.Min(xp(0), xp(nx)), math.Max(xp(0), xp(nx))
-		y0, y1 := math.Min(yp(0), yp(ny)), math.Max(yp(0), yp(ny))
-		r.printf(`<image x="%s" y="%s" width="%s" height="%s" preserveAspectRatio="none" style="image-rendering:pixelated" xlink:href="data:image/png;base64,%s"/>`+"\n",
-			num(x0), num(y0), num(x1-x0), num(y1-y0), base64.StdEncoding.EncodeToString(buf.Bytes()))
+		c.image(img, rect{math.Min(xp(0), xp(nx)), math.Min(yp(0), yp(ny)), math.Max(xp(0), xp(nx)), math.Max(yp(0), yp(ny))})
 		return
 	}
-	r.printf(`<g shape-rendering="crispEdges">`)
+	var cells []cell
 	for i := 0; i < nx; i++ {
 		x0, x1 := math.Min(xp(i), xp(i+1)), math.Max(xp(i), xp(i+1))
 		for j := 0; j < ny; {
-			c, ok := colourAt(i, j)
+			col, ok := colourAt(i, j)
 			k := j + 1
 			for ; ok && k < ny; k++ {
-				if c2, ok2 := colourAt(i, k); !ok2 || c2 != c {
+				if c2, ok2 := colourAt(i, k); !ok2 || c2 != col {
 					break
 				}
 			}
 			if ok {
-				y0, y1 := math.Min(yp(j), yp(k)), math.Max(yp(j), yp(k))
-				r.printf(`<rect x="%s" y="%s" width="%s" height="%s" fill="%s"/>`, num(x0), num(y0), num(x1-x0+0.4), num(y1-y0+0.4), c.Hex())
+				cells = append(cells, cell{rect{x0, math.Min(yp(j), yp(k)), x1, math.Max(yp(j), yp(k))}, col})
 			}
 			j = k
 		}
 	}
-	r.printf("</g>\n")
+	c.cells(cells)
 }
 
-func (r *renderer) drawAxes() {
+func (r *renderer) drawAxes(c canvas) {
 	p := r.plot
-	var b []byte
+	var ticks [][]point
 	for _, v := range r.xt.major {
 		if x, ok := r.xs.px(v); ok {
-			b = fmt.Appendf(b, "M%s,%sv%s", num(x), num(p.y1), num(tickLen))
+			ticks = append(ticks, []point{{x, p.y1}, {x, p.y1 + tickLen}})
 		}
 	}
 	for _, v := range r.xt.minor {
 		if x, ok := r.xs.px(v); ok && x >= p.x0-0.01 && x <= p.x1+0.01 {
-			b = fmt.Appendf(b, "M%s,%sv%s", num(x), num(p.y1), num(minorLen))
+			ticks = append(ticks, []point{{x, p.y1}, {x, p.y1 + minorLen}})
 		}
 	}
 	for _, v := range r.yt.major {
 		if y, ok := r.ys.px(v); ok {
-			b = fmt.Appendf(b, "M%s,%sh%s", num(p.x0), num(y), num(-tickLen))
+			ticks = append(ticks, []point{{p.x0, y}, {p.x0 - tickLen, y}})
 		}
 	}
 	for _, v := range r.yt.minor {
 		if y, ok := r.ys.px(v); ok && y >= p.y0-0.01 && y <= p.y1+0.01 {
-			b = fmt.Appendf(b, "M%s,%sh%s", num(p.x0), num(y), num(-minorLen))
+			ticks = append(ticks, []point{{p.x0, y}, {p.x0 - minorLen, y}})
 		}
 	}
-	if len(b) > 0 {
-		r.printf(`<path d="%s" stroke="%s" stroke-width="1" fill="none"/>`+"\n", b, frameColor)
-	}
-	r.printf(`<g font-size="%s" fill="%s">`+"\n", num(tickSize), inkColor)
+	c.stroke(ticks, false, strokeStyle{color: frameColor, width: 1})
 	for k, v := range r.xt.major {
 		if x, ok := r.xs.px(v); ok && r.xt.labels[k].mant != "" {
-			r.printf(`<text x="%s" y="%s" text-anchor="middle">%s</text>`+"\n", num(x), num(p.y1+tickLen+3+tickSize), r.xt.labels[k].svg())
+			c.text(x, p.y1+tickLen+3+tickSize, r.xt.labels[k], textStyle{size: tickSize, color: inkColor, anchor: AnchorMiddle})
 		}
 	}
 	for k, v := range r.yt.major {
 		if y, ok := r.ys.px(v); ok && r.yt.labels[k].mant != "" {
-			r.printf(`<text x="%s" y="%s" text-anchor="end">%s</text>`+"\n", num(p.x0-tickLen-3), num(y+0.36*tickSize), r.yt.labels[k].svg())
+			c.text(p.x0-tickLen-3, y+0.36*tickSize, r.yt.labels[k], textStyle{size: tickSize, color: inkColor, anchor: AnchorEnd})
 		}
 	}
-	r.printf("</g>\n")
 }
 
-func (r *renderer) drawColourBar() {
+// colourBarWidth is the width of the colour bar in px.
+const colourBarWidth = 14.0
+
+func (r *renderer) drawColourBar(c canvas) {
 	p := r.plot
 	x0 := p.x1 + 14
-	const w = 14.0
-	r.printf(`<rect x="%s" y="%s" width="%s" height="%s" fill="url(#%s-cbar)" stroke="%s"/>`+"\n",
-		num(x0), num(p.y0), num(w), num(p.y1-p.y0), r.id, frameColor)
+	const w = colourBarWidth
+	bar := rect{x0, p.y0, x0 + w, p.y1}
+	c.colourBar(bar)
+	c.box(bar, "", 1, frameColor)
 	s := newScale(r.cbar.log, r.cbar.lo, r.cbar.hi, p.y1, p.y0)
-	var b []byte
+	var ticks [][]point
 	for _, v := range r.cbt.major {
 		if y, ok := s.px(v); ok {
-			b = fmt.Appendf(b, "M%s,%sh%s", num(x0+w), num(y), num(tickLen))
+			ticks = append(ticks, []point{{x0 + w, y}, {x0 + w + tickLen, y}})
 		}
 	}
 	for _, v := range r.cbt.minor {
 		if y, ok := s.px(v); ok && y >= p.y0 && y <= p.y1 {
-			b = fmt.Appendf(b, "M%s,%sh%s", num(x0+w), num(y), num(minorLen))
+			ticks = append(ticks, []point{{x0 + w, y}, {x0 + w + minorLen, y}})
 		}
 	}
-	if len(b) > 0 {
-		r.printf(`<path d="%s" stroke="%s" fill="none"/>`+"\n", b, frameColor)
-	}
-	r.printf(`<g font-size="%s" fill="%s">`+"\n", num(tickSize), inkColor)
+	c.stroke(ticks, false, strokeStyle{color: frameColor, width: 1})
 	for k, v := range r.cbt.major {
 		if y, ok := s.px(v); ok && r.cbt.labels[k].mant != "" {
-			r.printf(`<text x="%s" y="%s">%s</text>`+"\n", num(x0+w+tickLen+3), num(y+0.36*tickSize), r.cbt.labels[k].svg())
+			c.text(x0+w+tickLen+3, y+0.36*tickSize, r.cbt.labels[k], textStyle{size: tickSize, color: inkColor})
 		}
 	}
-	r.printf("</g>\n")
 	if r.heat.Label != "" {
 		x := x0 + w + tickLen + 3 + maxWidth(r.cbt.labels, tickSize) + 8 + labelSize*0.8
 		yc := (p.y0 + p.y1) / 2
 		t := shorten(r.heat.Label, p.y1-p.y0, labelSize)
-		r.printf(`<text x="%s" y="%s" font-size="%s" fill="%s" text-anchor="middle" transform="rotate(-90 %s %s)">%s</text>`+"\n",
-			num(x), num(yc), num(labelSize), inkColor, num(x), num(yc), escape(t))
+		c.text(x, yc, label{mant: t}, textStyle{size: labelSize, color: inkColor, anchor: AnchorMiddle, vertical: true})
 	}
 }
 
-func (r *renderer) drawLabels() {
+func (r *renderer) drawLabels(c canvas) {
 	p := r.plot
 	f := r.f
 	for k, line := range r.title {
-		r.printf(`<text x="%s" y="%s" font-size="%s" fill="%s" text-anchor="middle">%s</text>`+"\n",
-			num(r.W/2), num(12+titleSize+float64(k)*(titleSize+4)), num(titleSize), inkColor, escape(line))
+		c.text(r.W/2, 12+titleSize+float64(k)*(titleSize+4), label{mant: line}, textStyle{size: titleSize, color: inkColor, anchor: AnchorMiddle})
 	}
 	ybase := p.y1 + tickLen + 3 + tickSize
 	if f.X.Label != "" {
 		ybase += 6 + labelSize
 		t := shorten(f.X.Label, p.x1-p.x0, labelSize)
-		r.printf(`<text x="%s" y="%s" font-size="%s" fill="%s" text-anchor="middle">%s</text>`+"\n",
-			num((p.x0+p.x1)/2), num(ybase), num(labelSize), inkColor, escape(t))
+		c.text((p.x0+p.x1)/2, ybase, label{mant: t}, textStyle{size: labelSize, color: inkColor, anchor: AnchorMiddle})
 	}
 	if f.Y.Label != "" {
-		x := 8 + labelSize*0.8
-		yc := (p.y0 + p.y1) / 2
 		t := shorten(f.Y.Label, p.y1-p.y0, labelSize)
-		r.printf(`<text x="%s" y="%s" font-size="%s" fill="%s" text-anchor="middle" transform="rotate(-90 %s %s)">%s</text>`+"\n",
-			num(x), num(yc), num(labelSize), inkColor, num(x), num(yc), escape(t))
+		c.text(8+labelSize*0.8, (p.y0+p.y1)/2, label{mant: t}, textStyle{size: labelSize, color: inkColor, anchor: AnchorMiddle, vertical: true})
 	}
 	if t := r.notes.text(); t != "" {
 		t = shorten(t, r.W-16, noteSize)
-		r.printf(`<text x="8" y="%s" font-size="%s" fill="%s">%s</text>`+"\n", num(r.H-6), num(noteSize), noteColor, escape(t))
+		c.text(8, r.H-6, label{mant: t}, textStyle{size: noteSize, color: noteColor})
 	}
 }
 
@@ -588,17 +482,18 @@ type legendEntry struct {
 	label   string
 }
 
-// drawLegend places the legend box in the requested corner, or in the corner
-// whose box meets the fewest data segments and markers.
-func (r *renderer) drawLegend(es []legendEntry) {
-	p := r.plot
-	const pad, row, sw = 6.0, 16.0, 22.0
-	maxText := p.x1 - p.x0 - 8 - 3*pad - sw
-	maxRows := int((p.y1 - p.y0 - 8 - 2*pad) / row)
-	if maxRows < 1 || maxText < 20 {
-		return
-	}
-	var extra int
+// Legend geometry in px: padding, row height, swatch length.
+const (
+	keyPad = 6.0
+	keyRow = 16.0
+	keySw  = 22.0
+)
+
+// legendSize returns the legend's width and height for the entries, the
+// entries that fit (labels shortened) and how many were left out.
+func (r *renderer) legendSize(es []legendEntry, maxText float64, maxRows int) (w, h float64, shown []legendEntry, more string) {
+	es = append([]legendEntry(nil), es...)
+	extra := 0
 	if len(es) > maxRows {
 		extra = len(es) - (maxRows - 1)
 		es = es[:maxRows-1]
@@ -608,63 +503,99 @@ func (r *renderer) drawLegend(es []legendEntry) {
 		es[k].label = shorten(es[k].label, maxText, legendSize)
 		tw = math.Max(tw, TextWidth(es[k].label, legendSize))
 	}
-	more := ""
-	if extra > 0 {
-		more = shorten(fmt.Sprintf("… %d more", extra), maxText+sw+pad, legendSize)
-		tw = math.Max(tw, TextWidth(more, legendSize)-sw-pad)
-	}
 	rows := len(es)
 	if extra > 0 {
+		more = shorten(fmt.Sprintf("… %d more", extra), maxText+keySw+keyPad, legendSize)
+		tw = math.Max(tw, TextWidth(more, legendSize)-keySw-keyPad)
 		rows++
 	}
-	bw, bh := 3*pad+sw+tw, 2*pad+float64(rows)*row
-	corners := map[LegendPlace]rect{
-		LegendTopRight:    {p.x1 - 4 - bw, p.y0 + 4, p.x1 - 4, p.y0 + 4 + bh},
-		LegendTopLeft:     {p.x0 + 4, p.y0 + 4, p.x0 + 4 + bw, p.y0 + 4 + bh},
-		LegendBottomRight: {p.x1 - 4 - bw, p.y1 - 4 - bh, p.x1 - 4, p.y1 - 4},
-		LegendBottomLeft:  {p.x0 + 4, p.y1 - 4 - bh, p.x0 + 4 + bw, p.y1 - 4},
+	return 3*keyPad + keySw + tw, 2*keyPad + float64(rows)*keyRow, es, more
+}
+
+// legendCorners are the four inner corners, in the order ties are broken.
+var legendCorners = []LegendPlace{LegendTopLeft, LegendTopRight, LegendBottomLeft, LegendBottomRight}
+
+func (r *renderer) cornerBox(place LegendPlace, bw, bh float64) rect {
+	p := r.plot
+	switch place {
+	case LegendTopRight:
+		return rect{p.x1 - 4 - bw, p.y0 + 4, p.x1 - 4, p.y0 + 4 + bh}
+	case LegendBottomRight:
+		return rect{p.x1 - 4 - bw, p.y1 - 4 - bh, p.x1 - 4, p.y1 - 4}
+	case LegendBottomLeft:
+		return rect{p.x0 + 4, p.y1 - 4 - bh, p.x0 + 4 + bw, p.y1 - 4}
 	}
-	place := r.f.Legend
-	if _, ok := corners[place]; !ok {
-		best := -1
-		for _, c := range []LegendPlace{LegendTopRight, LegendTopLeft, LegendBottomRight, LegendBottomLeft} {
-			if n := r.overlap(corners[c].inflate(3)); best < 0 || n < best {
-				best, place = n, c
-			}
+	return rect{p.x0 + 4, p.y0 + 4, p.x0 + 4 + bw, p.y0 + 4 + bh}
+}
+
+// drawLegend writes the legend: in the requested corner; with LegendAuto in
+// the first inner corner it leaves every data segment and marker clear of,
+// or, when no corner is clear, beside the plot in the margin the layout kept
+// for it (r.outside).
+func (r *renderer) drawLegend(c canvas, es []legendEntry) {
+	p := r.plot
+	var bx rect
+	var shown []legendEntry
+	var more string
+	if r.outside > 0 {
+		x0 := p.x1 + 10
+		if r.heat != nil {
+			x0 = r.cbarRight + 10
 		}
+		maxRows := int((r.H - p.y0 - 8) / keyRow)
+		var bw, bh float64
+		bw, bh, shown, more = r.legendSize(es, r.outside-3*keyPad-keySw-10, max(maxRows, 1))
+		bx = rect{x0, p.y0, x0 + bw, p.y0 + bh}
+	} else {
+		maxText := p.x1 - p.x0 - 8 - 3*keyPad - keySw
+		maxRows := int((p.y1 - p.y0 - 8 - 2*keyPad) / keyRow)
+		if maxRows < 1 || maxText < 20 {
+			return
+		}
+		var bw, bh float64
+		bw, bh, shown, more = r.legendSize(es, maxText, maxRows)
+		place := r.f.Legend
+		if place == LegendAuto {
+			place = r.emptiestCorner(bw, bh)
+		}
+		bx = r.cornerBox(place, bw, bh)
 	}
-	bx := corners[place]
 	r.legend = bx
-	r.printf(`<g font-size="%s" fill="%s">`+"\n", num(legendSize), inkColor)
-	r.printf(`<rect x="%s" y="%s" width="%s" height="%s" fill="#ffffff" fill-opacity="0.9" stroke="#bbbbbb"/>`+"\n",
-		num(bx.x0), num(bx.y0), num(bw), num(bh))
-	for k, e := range es {
-		yc := bx.y0 + pad + (float64(k)+0.5)*row
-		x0 := bx.x0 + pad
+	// Our key: a paper-coloured panel with a thin rule on its left edge only.
+	c.box(bx, paperColor, 0.92, "")
+	c.stroke([][]point{{{bx.x0, bx.y0 + 2}, {bx.x0, bx.y1 - 2}}}, false, strokeStyle{color: keyRule, width: 2})
+	for k, e := range shown {
+		yc := bx.y0 + keyPad + (float64(k)+0.5)*keyRow
+		x0 := bx.x0 + keyPad
 		switch e.kind {
 		case 'b':
-			r.printf(`<rect x="%s" y="%s" width="%s" height="10" fill="%s" fill-opacity="%s"/>`, num(x0), num(yc-5), num(sw), e.color, num(math.Max(e.opacity, 0.3)))
+			c.box(rect{x0, yc - 5, x0 + keySw, yc + 5}, e.color, math.Max(e.opacity, 0.3), "")
 		case 'p':
-			var m []byte
-			m = markerPath(m, e.marker, x0+sw/2, yc, 3.5)
-			if e.marker == Cross {
-				r.printf(`<path d="%s" fill="none" stroke="%s" stroke-width="1.6"/>`, m, e.color)
-			} else {
-				r.printf(`<path d="%s" fill="%s" stroke="%s" stroke-width="0.8"/>`, m, e.color, e.color)
-			}
+			c.markers(e.marker, []point{{x0 + keySw/2, yc}}, 3.5, e.color)
 		default:
-			if l, ok := lightness(e.color); ok && l > 0.9 { // a light line would vanish on the white box
-				r.printf(`<path d="M%s,%sh%s" stroke="#777777" stroke-width="%s"/>`, num(x0), num(yc), num(sw), num(math.Min(e.width, 4)+2))
+			if l, ok := lightness(e.color); ok && l > 0.9 { // a light line would vanish on the panel
+				c.stroke([][]point{{{x0, yc}, {x0 + keySw, yc}}}, false, strokeStyle{color: "#777777", width: math.Min(e.width, 4) + 2})
 			}
-			r.printf(`<path d="M%s,%sh%s" stroke="%s" stroke-width="%s"%s/>`, num(x0), num(yc), num(sw), e.color, num(math.Min(e.width, 4)), dashAttr(e.dash))
+			c.stroke([][]point{{{x0, yc}, {x0 + keySw, yc}}}, false, strokeStyle{color: e.color, width: math.Min(e.width, 4), dash: e.dash})
 		}
-		r.printf(`<text x="%s" y="%s">%s</text>`+"\n", num(x0+sw+pad), num(yc+0.36*legendSize), escape(e.label))
+		c.text(x0+keySw+keyPad, yc+0.36*legendSize, label{mant: e.label}, textStyle{size: legendSize, color: inkColor})
 	}
-	if extra > 0 {
-		yc := bx.y0 + pad + (float64(len(es))+0.5)*row
-		r.printf(`<text x="%s" y="%s">%s</text>`+"\n", num(bx.x0+pad), num(yc+0.36*legendSize), escape(more))
+	if more != "" {
+		yc := bx.y0 + keyPad + (float64(len(shown))+0.5)*keyRow
+		c.text(bx.x0+keyPad, yc+0.36*legendSize, label{mant: more}, textStyle{size: legendSize, color: inkColor})
 	}
-	r.printf("</g>\n")
+}
+
+// emptiestCorner returns the first inner corner whose legend box of the
+// given size meets the fewest data segments and markers.
+func (r *renderer) emptiestCorner(bw, bh float64) LegendPlace {
+	best, place := -1, LegendTopLeft
+	for _, c := range legendCorners {
+		if n := r.overlap(r.cornerBox(c, bw, bh).inflate(3)); best < 0 || n < best {
+			best, place = n, c
+		}
+	}
+	return place
 }
 
 // overlap counts the data segments and markers meeting the box b.

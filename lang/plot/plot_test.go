@@ -1,7 +1,11 @@
 package plot
 
 import (
+	"encoding/json"
 	"errors"
+	"fmt"
+	"os"
+	"path/filepath"
 	"math"
 	"math/rand/v2"
 	"reflect"
@@ -288,7 +292,7 @@ func TestOKLab(t *testing.T) {
 	}
 }
 
-func inGamut(p Lab) bool {
+func gamutOK(p Lab) bool {
 	r, g, b := p.linearRGB()
 	const e = 1e-3
 	return r > -e && g > -e && b > -e && r < 1+e && g < 1+e && b < 1+e
@@ -296,7 +300,7 @@ func inGamut(p Lab) bool {
 
 func TestPalette(t *testing.T) {
 	for i, p := range paletteLab {
-		if !inGamut(p) {
+		if !gamutOK(p) {
 			t.Errorf("palette colour %d out of sRGB gamut", i)
 		}
 		for j := range i {
@@ -318,14 +322,14 @@ func TestPalette(t *testing.T) {
 
 func TestColorMap(t *testing.T) {
 	for _, p := range Sequential.stops {
-		if !inGamut(p) {
+		if !gamutOK(p) {
 			t.Errorf("control point %+v out of gamut", p)
 		}
 	}
 	prev := -1.0
 	for k := 0; k <= 100; k++ {
 		p := Sequential.Lab(float64(k) / 100)
-		if !inGamut(p) {
+		if !gamutOK(p) {
 			t.Errorf("t = %g out of gamut", float64(k)/100)
 		}
 		if p.L <= prev {
@@ -338,12 +342,112 @@ func TestColorMap(t *testing.T) {
 	}
 }
 
-// Dichromat simulation matrices on linear sRGB, severity 1, from Machado,
-// Oliveira & Fernandes, IEEE TVCG 2009 (values from memory; each row sums to 1).
-var dichromats = map[string][3][3]float64{
-	"protanopia":   {{0.152286, 1.052583, -0.204868}, {0.114503, 0.786281, 0.099216}, {-0.003882, -0.048116, 1.051998}},
-	"deuteranopia": {{0.367322, 0.860646, -0.227968}, {0.280085, 0.672501, 0.047413}, {-0.011820, 0.042940, 0.968881}},
-	"tritanopia":   {{1.255528, -0.076749, -0.178779}, {-0.078411, 0.930809, 0.147602}, {0.004733, 0.691367, 0.303900}},
+// dichromats holds the dichromat simulation matrices on linear sRGB,
+// severity 1, of Machado, Oliveira & Fernandes, IEEE TVCG 2009, written by
+// testdata/plot/make_cvd.py from Debian's python3-colorspacious.
+func dichromats(t *testing.T) map[string][3][3]float64 {
+	t.Helper()
+	data, err := os.ReadFile(filepath.Join(goldenDir, "machado2009.json"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	var f struct {
+		Matrices map[string][3][3]float64
+	}
+	if err := json.Unmarshal(data, &f); err != nil || len(f.Matrices) != 3 {
+		t.Fatalf("machado2009.json: %v (%d matrices)", err, len(f.Matrices))
+	}
+	return f.Matrices
+}
+
+// simulate returns p as seen by a dichromat with matrix m, in OKLab.
+func simulate(m [3][3]float64, p Lab) Lab {
+	r, g, b := p.linearRGB()
+	c := [3]float64{r, g, b}
+	var o [3]float64
+	for k := range 3 {
+		o[k] = math.Min(1, math.Max(0, m[k][0]*c[0]+m[k][1]*c[1]+m[k][2]*c[2]))
+	}
+	l := math.Cbrt(0.4122214708*o[0] + 0.5363325363*o[1] + 0.0514459929*o[2])
+	mm := math.Cbrt(0.2119034982*o[0] + 0.6806995451*o[1] + 0.1073969566*o[2])
+	s := math.Cbrt(0.0883024619*o[0] + 0.2817188376*o[1] + 0.6299787005*o[2])
+	return Lab{0.2104542553*l + 0.7936177850*mm - 0.0040720468*s,
+		1.9779984951*l - 2.4285922050*mm + 0.4505937099*s,
+		0.0259040371*l + 0.7827717662*mm - 0.8086757660*s}
+}
+
+func deltaE(p, q Lab) float64 {
+	return math.Sqrt((p.L-q.L)*(p.L-q.L) + (p.A-q.A)*(p.A-q.A) + (p.B-q.B)*(p.B-q.B))
+}
+
+// TestColorMapColourBlind: for each dichromat of Machado et al. (2009) the
+// simulated heat-map colours still rise in lightness along the map, and 20
+// equal steps of the map stay apart (ΔE_ok ≥ 0.02 each, a threshold of
+// common practice, no source, for colours told apart side by side).
+func TestColorMapColourBlind(t *testing.T) {
+	for name, m := range dichromats(t) {
+		prev := simulate(m, Sequential.Lab(0))
+		for k := 1; k <= 20; k++ {
+			p := simulate(m, Sequential.Lab(float64(k)/20))
+			if p.L <= prev.L {
+				t.Errorf("%s: simulated lightness falls at t = %g (%.3f after %.3f)", name, float64(k)/20, p.L, prev.L)
+			}
+			if d := deltaE(p, prev); d < 0.02 {
+				t.Errorf("%s: step to t = %g is ΔE_ok = %.3f", name, float64(k)/20, d)
+			}
+			prev = p
+		}
+	}
+}
+
+// TestColorMapOwnPath: the heat map's hue turns from blue through red to
+// yellow, never passing green–teal (hue 140°–220°), and its chroma stays
+// low enough to read lightness first.
+func TestColorMapOwnPath(t *testing.T) {
+	for k := 0; k <= 100; k++ {
+		p := Sequential.Lab(float64(k) / 100)
+		c := math.Hypot(p.A, p.B)
+		h := math.Mod(math.Atan2(p.B, p.A)*180/math.Pi+360, 360)
+		if c > 0.03 && h > 140 && h < 220 {
+			t.Errorf("t = %g: hue %.0f° lies on the green–teal side", float64(k)/100, h)
+		}
+		if c > 0.13 {
+			t.Errorf("t = %g: chroma %.3f", float64(k)/100, c)
+		}
+	}
+}
+
+// TestContourColours: contour colours on paper differ from their
+// neighbours (ΔE_ok ≥ min(0.08, 0.45/(n−1)), half that for each dichromat), and a contour on the
+// heat map differs in lightness by at least 0.4 from the map under it.
+func TestContourColours(t *testing.T) {
+	ms := dichromats(t)
+	for _, n := range []int{2, 3, 5, 8} {
+		cs := ContourColors(n)
+		for k := 1; k < n; k++ {
+			a, _ := lightness(cs[k-1])
+			b, _ := lightness(cs[k])
+			var pa, pb RGB
+			fmt.Sscanf(cs[k-1], "#%02x%02x%02x", &pa.R, &pa.G, &pa.B)
+			fmt.Sscanf(cs[k], "#%02x%02x%02x", &pb.R, &pb.G, &pb.B)
+			// Many levels crowd the ramp: the bound shrinks with n.
+			if d := deltaE(pa.ToLab(), pb.ToLab()); d < math.Min(0.08, 0.45/float64(n-1)) {
+				t.Errorf("n = %d: levels %d and %d differ by ΔE_ok = %.3f (L %.2f, %.2f)", n, k-1, k, d, a, b)
+			}
+			for name, m := range ms {
+				if d := deltaE(simulate(m, pa.ToLab()), simulate(m, pb.ToLab())); d < math.Min(0.04, 0.22/float64(n-1)) {
+					t.Errorf("%s, n = %d: levels %d and %d differ by ΔE_ok = %.3f", name, n, k-1, k, d)
+				}
+			}
+		}
+	}
+	for k := 0; k <= 20; k++ {
+		tt := float64(k) / 20
+		l, _ := lightness(contourOnMap(tt))
+		if d := math.Abs(l - Sequential.Lab(tt).L); d < 0.4 {
+			t.Errorf("t = %g: contour lightness %.2f against map %.2f", tt, l, Sequential.Lab(tt).L)
+		}
+	}
 }
 
 func TestPaletteColourBlind(t *testing.T) {
@@ -355,7 +459,7 @@ func TestPaletteColourBlind(t *testing.T) {
 			1.9779984951*l - 2.4285922050*m + 0.4505937099*s,
 			0.0259040371*l + 0.7827717662*m - 0.8086757660*s}
 	}
-	for name, m := range dichromats {
+	for name, m := range dichromats(t) {
 		sim := make([]Lab, len(paletteLab))
 		for i, p := range paletteLab {
 			r, g, b := p.linearRGB()

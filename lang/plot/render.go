@@ -62,20 +62,58 @@ func (f *Figure) SVG() ([]byte, error) {
 // logarithmic axis. It panics with ErrShape if a series has inconsistent
 // lengths.
 func (f *Figure) WriteSVG(w io.Writer) (Notes, error) {
-	f.checkShapes()
-	r, err := f.prepare()
+	r, err := f.render()
 	if err != nil {
 		return Notes{}, err
 	}
-	r.draw()
-	_, err = w.Write(r.b.Bytes())
+	var c svgCanvas
+	r.draw(&c)
+	_, err = w.Write(c.b.Bytes())
 	return r.notes, err
+}
+
+// Caption is the figure's short title for a reader: its Title, or "Figure".
+func (f *Figure) Caption() string {
+	if t := strings.Join(strings.Fields(f.Title), " "); t != "" {
+		return t
+	}
+	return "Figure"
+}
+
+// render checks the figure, lays it out and places its legend: with
+// LegendAuto, in an inner corner that leaves the data clear, or beside the
+// plot when there is none (a heat map fills every corner).
+func (f *Figure) render() (*renderer, error) {
+	f.checkShapes()
+	r, err := f.prepare()
+	if err != nil {
+		return nil, err
+	}
+	if f.Legend != LegendAuto {
+		return r, nil
+	}
+	r.draw(nullCanvas{})
+	if len(r.entries) == 0 {
+		return r, nil
+	}
+	p := r.plot
+	bw, bh, _, _ := r.legendSize(r.entries, p.x1-p.x0-8-3*keyPad-keySw, max(int((p.y1-p.y0-8-2*keyPad)/keyRow), 1))
+	if r.heat == nil && r.overlap(r.cornerBox(r.emptiestCorner(bw, bh), bw, bh).inflate(3)) == 0 {
+		return r, nil
+	}
+	maxText := math.Min(0.3*r.W, 200)
+	bw, _, _, _ = r.legendSize(r.entries, maxText, 1000)
+	if r.W-bw-10 < 0.55*r.W { // too narrow a figure to give the legend a margin
+		return r, nil
+	}
+	r.outside = bw + 10
+	r.layout(&r.bx, &r.by)
+	return r, nil
 }
 
 // renderer holds one rendering of a figure.
 type renderer struct {
 	f      *Figure
-	b      bytes.Buffer
 	notes  Notes
 	id     string
 	W, H   float64
@@ -89,6 +127,11 @@ type renderer struct {
 	segs   [][2]point // data segments in px, for legend placement
 	marks  []point    // data markers in px
 	legend rect       // where the legend box went
+
+	entries   []legendEntry // the legend, as the last drawing found it
+	outside   float64       // px kept right of the plot (and colour bar) for the legend; 0 for a legend inside
+	cbarRight float64       // right end of the colour bar's labels in px
+	bx, by    bounds        // the data ranges, kept for a second layout
 }
 
 type axisTicks struct {
@@ -294,7 +337,8 @@ func (f *Figure) prepare() (*renderer, error) {
 		r.cbar = r.heatScale(r.heat)
 	}
 	r.id = f.hashID()
-	r.layout(&bx, &by)
+	r.bx, r.by = bx, by
+	r.layout(&r.bx, &r.by)
 	return r, nil
 }
 
@@ -340,11 +384,25 @@ func (r *renderer) layout(bx, by *bounds) {
 	left, right := 40.0, 20.0
 	cbarW := 0.0
 	for round := 0; round < 6; round++ {
-		pw := math.Max(r.W-left-right-cbarW, 20)
+		pw := math.Max(r.W-left-right-cbarW-r.outside, 20)
 		ph := math.Max(r.H-top-bottom, 20)
 		r.plot = rect{left, top, left + pw, top + ph}
 		xlo, xhi := bx.limits(f.X, margin)
 		ylo, yhi := by.limits(f.Y, margin)
+		if f.EqualAspect && !f.X.Log && !f.Y.Log && r.heat != nil {
+			// A heat map fills its plot: the figure shrinks to the data's
+			// aspect instead of widening a range into blank bands, unless
+			// that would leave under 40% of the width or height.
+			ux, uy := (xhi-xlo)/pw, (yhi-ylo)/ph
+			if ux > uy && (yhi-ylo)/ux >= 0.4*ph {
+				r.H -= ph - (yhi-ylo)/ux
+				ph = (yhi - ylo) / ux
+			} else if uy > ux && (xhi-xlo)/uy >= 0.4*pw {
+				r.W -= pw - (xhi-xlo)/uy
+				pw = (xhi - xlo) / uy
+			}
+			r.plot = rect{left, top, left + pw, top + ph}
+		}
 		if f.EqualAspect && !f.X.Log && !f.Y.Log {
 			ux, uy := (xhi-xlo)/pw, (yhi-ylo)/ph
 			if ux > uy {
@@ -394,6 +452,7 @@ func (r *renderer) layout(bx, by *bounds) {
 			}
 			needR = math.Max(needR-6, 8)
 		}
+		r.cbarRight = r.plot.x1 + cbarW
 		if needL <= left && needR <= right && needCbar <= cbarW {
 			break
 		}

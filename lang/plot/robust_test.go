@@ -14,14 +14,14 @@ import (
 // render renders f, checks the SVG, and returns it with the renderer's state.
 func render(t *testing.T, f *Figure) (string, *renderer) {
 	t.Helper()
-	f.checkShapes()
-	r, err := f.prepare()
+	r, err := f.render()
 	if err != nil {
-		t.Fatalf("prepare: %v", err)
+		t.Fatalf("render: %v", err)
 	}
-	r.draw()
-	checkSVG(t, r.b.Bytes())
-	return r.b.String(), r
+	var c svgCanvas
+	r.draw(&c)
+	checkSVG(t, c.b.Bytes())
+	return c.b.String(), r
 }
 
 func TestRobustness(t *testing.T) {
@@ -241,8 +241,7 @@ func TestHeatMapOrientation(t *testing.T) {
 			}
 		}
 		f := &Figure{Series: []Series{&HeatMap{Z: z, X0: 1, X1: 0, Y0: 0, Y1: 1}}}
-		_, r := render(t, f)
-		svg := r.b.String()
+		svg, r := render(t, f)
 		low := Sequential.quick(0)
 		p := r.plot
 		if n*n <= RectCells {
