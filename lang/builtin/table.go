@@ -27,6 +27,9 @@ var families = [][]*Builtin{
 	objectFamily,
 	stabilityFamily,
 	figureFamily,
+	blockFamily,
+	csvFamily,
+	sweepFamily,
 }
 
 // Example is code that must run in a fresh session, and the text/plain of

@@ -64,20 +64,43 @@ func (c *Call) Apply(f value.Value, args ...value.Value) (value.Value, error) {
 	return value.Force(v)
 }
 
-// Closure is a user function: a one-line definition f(x, k=2) = body. Its
-// body is evaluated with the parameters bound and the session variables as
-// they are at the time of the call. Defaults are evaluated at definition.
+// Closure is a user function: a one-line definition f(x, k=2) = body or
+// an anonymous function x -> body. Its body is evaluated with the
+// parameters bound, the local names of the function or where ( ) it was
+// written in (an anonymous function keeps them), and the session variables
+// as they are at the time of the call. Defaults are evaluated at
+// definition.
 type Closure struct {
-	Def    *syntax.FuncDef
 	File   *syntax.File
+	name   string
+	text   string // the source text of the definition
+	body   syntax.Expr
 	params []value.Param
 	names  []string
+	outer  *scope // nil for a definition at the top level
 }
 
 func (f *Closure) Type() string          { return "function" }
-func (f *Closure) String() string        { return f.Def.Text }
-func (f *Closure) Name() string          { return f.Def.Name.Name }
+func (f *Closure) String() string        { return f.text }
+func (f *Closure) Name() string          { return f.name }
 func (f *Closure) Params() []value.Param { return f.params }
+
+// AnonymousName is the name an anonymous function has in messages and
+// call stacks.
+const AnonymousName = "anonymous function"
+
+// funcLit makes the function value of an anonymous function written in sc.
+func (in *Interp) funcLit(sc *scope, e *syntax.FuncLit) *Closure {
+	c := &Closure{File: sc.file, name: AnonymousName, text: exprText(sc.file, e), body: e.Body}
+	if sc.outer != nil || len(sc.names) > 0 {
+		c.outer = sc
+	}
+	for _, p := range e.Params {
+		c.params = append(c.params, value.Param{Name: p.Name.Name})
+		c.names = append(c.names, p.Name.Name)
+	}
+	return c
+}
 
 // SignatureText formats a signature as name(a, b, n=50, values...).
 func SignatureText(name string, params []value.Param) string {
@@ -91,6 +114,9 @@ func SignatureText(name string, params []value.Param) string {
 		default:
 			parts[i] = p.Name
 		}
+	}
+	if name == AnonymousName {
+		return "(" + strings.Join(parts, ", ") + ") -> …"
 	}
 	return name + "(" + strings.Join(parts, ", ") + ")"
 }
@@ -261,7 +287,7 @@ func (in *Interp) callArgs(sc *scope, site syntax.Node, fn value.Callable, pos [
 			args[i] = v
 		}
 		in.depth++
-		v, err := in.evalValue(&scope{file: f.File, names: f.names, locals: args}, f.Def.Body)
+		v, err := in.evalValue(&scope{file: f.File, names: f.names, locals: args, outer: f.outer}, f.body)
 		in.depth--
 		if err != nil {
 			if e, ok := err.(*Error); ok && e.Name != value.ClassInterrupted && e.Name != value.ClassWork {

@@ -18,6 +18,9 @@ func (in *Interp) evalIndex(sc *scope, e *syntax.IndexExpr) (value.Value, error)
 	if err != nil {
 		return nil, err
 	}
+	if v, ok, err := in.stringField(sc, e, x); ok {
+		return v, err
+	}
 	switch len(e.Indices) {
 	case 1:
 		if m, ok := x.(value.Indexable2); ok {

@@ -83,17 +83,27 @@ func New(globals map[string]value.Value, builtins Builtins, out Output) *Interp 
 func (in *Interp) Steps() int64 { return in.steps }
 
 // scope is where an expression is evaluated: its file (for positions) and,
-// inside a user function, the parameters.
+// inside a user function or a where ( ), the local names; outer is the
+// scope an anonymous function or a where ( ) was written in.
 type scope struct {
 	file   *syntax.File
-	names  []string // parameter names, in order
+	names  []string // parameter and local names, in order
 	locals []value.Value
+	outer  *scope
 }
 
+// MaxScopes bounds the chain of scopes a name is looked up in (nested
+// anonymous functions and where ( ) inside one another). The parser's
+// depth bound keeps a chain far below it; the bound keeps lookups cheap
+// whatever the input.
+const MaxScopes = syntax.MaxDepth
+
 func (sc *scope) local(name string) (value.Value, bool) {
-	for i, n := range sc.names {
-		if n == name {
-			return sc.locals[i], true
+	for s, k := sc, 0; s != nil && k <= MaxScopes; s, k = s.outer, k+1 {
+		for i := len(s.names) - 1; i >= 0; i-- {
+			if s.names[i] == name {
+				return s.locals[i], true
+			}
 		}
 	}
 	return nil, false
@@ -128,7 +138,7 @@ func (in *Interp) Exec(ctx context.Context, file *syntax.File, st syntax.Stmt) (
 		in.Globals[s.Name.Name] = v
 		return nil, nil
 	case *syntax.FuncDef:
-		c := &Closure{Def: s, File: file}
+		c := &Closure{name: s.Name.Name, text: s.Text, body: s.Body, File: file}
 		for _, p := range s.Params {
 			prm := value.Param{Name: p.Name.Name}
 			if p.Default != nil {
@@ -237,6 +247,14 @@ func (in *Interp) evalNode(sc *scope, x syntax.Expr) (value.Value, error) {
 		return in.evalCall(sc, e)
 	case *syntax.IndexExpr:
 		return in.evalIndex(sc, e)
+	case *syntax.FuncLit:
+		return in.funcLit(sc, e), nil
+	case *syntax.WhereExpr:
+		return in.evalWhere(sc, e)
+	case *syntax.WithExpr:
+		return in.evalWith(sc, e)
+	case *syntax.FieldExpr:
+		return in.evalField(sc, e)
 	}
 	return nil, in.errorf(sc, x, value.ClassSyntax, "expression did not parse")
 }
@@ -272,7 +290,9 @@ func (in *Interp) lookup(sc *scope, id *syntax.Ident, what string) (value.Value,
 
 func (in *Interp) knownNames(sc *scope) []string {
 	var names []string
-	names = append(names, sc.names...)
+	for s, k := sc, 0; s != nil && k <= MaxScopes; s, k = s.outer, k+1 {
+		names = append(names, s.names...)
+	}
 	for k := range in.Globals {
 		names = append(names, k)
 	}

@@ -2,6 +2,7 @@ package objects
 
 import (
 	"fmt"
+	"strings"
 
 	"gonum.org/v1/gonum/mat"
 
@@ -47,6 +48,8 @@ func structure(op linop.Operator) string {
 		return "Kronecker sum"
 	case *linop.Diag:
 		return "diagonal"
+	case *linop.Block:
+		return fmt.Sprintf("%d×%d blocks (sizes %s)", len(t.RowSizes), len(t.ColSizes), blockSizesText(t))
 	}
 	return "matrix-free"
 }
@@ -303,4 +306,21 @@ func (a *Operator) MIME() map[string]any {
 		t.add("‖A‖∞ (max row sum)", value.FormatNum(n))
 	}
 	return map[string]any{"text/html": t.html()}
+}
+
+// blockSizesText lists a block operator's block-row sizes, and its
+// block-column sizes too when they differ.
+func blockSizesText(b *linop.Block) string {
+	text := func(s []int) string {
+		parts := make([]string, len(s))
+		for i, k := range s {
+			parts[i] = fmt.Sprint(k)
+		}
+		return strings.Join(parts, ", ")
+	}
+	r, c := text(b.RowSizes), text(b.ColSizes)
+	if r == c {
+		return r
+	}
+	return r + " by " + c
 }

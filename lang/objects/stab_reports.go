@@ -91,6 +91,8 @@ func SpectrumReport(label string, n int, s *spectra.Spectrum, what string) *Anal
 	r := &Analysis{Kind: "spectrum", Data: s, Method: s.Method, Accuracy: s.Accuracy}
 	r.Title = fmt.Sprintf("spectrum of %s (%d×%d): %s", label, n, n, what)
 	r.Facts = []Fact{{"spectral abscissa α(A)", fnum(s.Abscissa)}}
+	r.name("abscissa", num(s.Abscissa))
+	r.name("values", value.ComplexVec(cleanAll(s.Values)))
 	last := "condition"
 	if len(s.Cond) == 0 {
 		last = "residual"
@@ -145,6 +147,8 @@ func NumRangeReport(label string, n int, nr *spectra.NumericalRange, eigs []comp
 		{"numerical radius r(A) = max |W(A)|", fnum(nr.Radius)},
 		{"boundary points", fmt.Sprint(len(nr.Boundary))},
 	}
+	r.name("abscissa", num(nr.Abscissa))
+	r.name("radius", num(nr.Radius))
 	r.Columns = []string{"θ", "boundary point z", "Re z", "Im z", "support h(θ)"}
 	for k, z := range nr.Boundary {
 		z = cleanC(z)
@@ -177,6 +181,7 @@ func PseudoReport(label string, n int, ps *spectra.Pseudospectra, abscissae []fl
 		{"grid", fmt.Sprintf("%d × %d points", len(re), len(im))},
 		{"smallest σ_min on the grid", fnum(minFinite(ps.Sigma))},
 	}
+	r.name("sigma_min", num(minFinite(ps.Sigma)))
 	if ps.Unconverged > 0 {
 		r.Notes = append(r.Notes, fmt.Sprintf("%d grid points reached the iteration limit; their σ_min is less accurate", ps.Unconverged))
 	}
@@ -276,8 +281,11 @@ func ResolventLineReport(label string, n int, c float64, p *spectra.ResolventPro
 		{"attained at z", fcx(cleanC(p.ArgMax))},
 		{"points", fmt.Sprint(len(p.Z))},
 	}
+	r.name("max", num(p.Max))
+	r.name("argmax", value.Complex(cleanC(p.ArgMax)))
 	if c > 0 && !math.IsInf(p.Max, 0) {
 		r.Facts = append(r.Facts, Fact{"Re z · largest norm (a lower bound of the Kreiss constant)", fnum(c * p.Max)})
+		r.name("kreiss_lower", num(c*p.Max))
 	}
 	r.Columns = []string{"Im z", "‖(zI − A)⁻¹‖₂"}
 	y := make([]float64, len(p.Z))
@@ -304,12 +312,18 @@ func GrowthReport(label string, n int, g *spectra.Growth) *Analysis {
 		{"initial slope ω(A) = λmax((A + Aᵀ)/2)", fnum(g.InitialSlope)},
 		{"spectral abscissa α(A) (asymptotic rate)", fnum(g.Abscissa)},
 	}
+	r.name("peak", num(g.Peak))
+	r.name("peak_time", num(g.PeakTime))
+	r.name("slope", num(g.InitialSlope))
+	r.name("abscissa", num(g.Abscissa))
 	lowerName, bestLower := "", 0.0
 	if g.Kreiss != nil {
 		r.Facts = append(r.Facts,
 			Fact{"Kreiss constant K ≤ sup ‖e^{tA}‖", fnum(g.Kreiss.K) + " (near z = " + Approx(g.Kreiss.Z) + ")"},
 			Fact{"upper bound sup ‖e^{tA}‖ ≤ e·N·K", fnum(g.Upper)})
 		lowerName, bestLower = "Kreiss K", g.Kreiss.K
+		r.name("kreiss", num(g.Kreiss.K))
+		r.name("upper", num(g.Upper))
 	}
 	for _, b := range g.EpsBounds {
 		label := fmt.Sprintf("lower bound α_ε/ε, ε = %s", fnum(b.Eps))
@@ -322,8 +336,12 @@ func GrowthReport(label string, n int, g *spectra.Growth) *Analysis {
 			lowerName, bestLower = "α_ε/ε, ε = "+plot.FormatValue(b.Eps), b.Bound
 		}
 	}
+	if lowerName != "" {
+		r.name("lower", num(bestLower))
+	}
 	if len(g.Initial) > 0 {
 		r.Facts = append(r.Facts, Fact{"optimal initial condition u0 (‖u0‖ = 1)", value.RealVec(g.Initial).String()})
+		r.name("initial", value.RealVec(append([]float64(nil), g.Initial...)))
 	}
 	r.Columns = []string{"t", "‖e^{tA}‖₂"}
 	for k, t := range g.T {
@@ -407,6 +425,12 @@ func GeneratorReport(label string, ip string, g *spectra.GeneratorReport) *Analy
 		{"Hille–Yosida estimate of M", m},
 		{"verdict", g.Verdict},
 	}
+	r.name("abscissa", num(g.SpectralAbscissa))
+	r.name("numabscissa", num(g.NumericalAbscissa))
+	r.name("omega", num(g.Omega))
+	r.name("M", num(g.M))
+	r.name("dissipative", value.Bool(g.Dissipative || g.WithinRounding))
+	r.name("verdict", value.Str(g.Verdict))
 	if g.Assumptions != "" {
 		r.Notes = append(r.Notes, "assumptions: "+g.Assumptions)
 	}
@@ -457,6 +481,13 @@ func MarkovReport(label string, m *spectra.MarkovReport) *Analysis {
 		{"bound ln(4/π_min)/gap", fnum(m.MixingBound)},
 		{"reversible", rev},
 	}
+	r.name("gap", num(m.Gap))
+	r.name("gap_error", num(m.GapError))
+	r.name("relaxation", num(m.Relaxation))
+	r.name("mixing_time", num(m.MixingTime))
+	r.name("mixing_bound", num(m.MixingBound))
+	r.name("reversible", value.Bool(m.Reversible))
+	r.name("stationary", value.RealVec(append([]float64(nil), m.Stationary...)))
 	if !m.Reversible {
 		r.Notes = append(r.Notes, "the chain is not reversible: the bound ln(4/π_min)/gap is only an indication")
 	}
@@ -465,4 +496,13 @@ func MarkovReport(label string, m *spectra.MarkovReport) *Analysis {
 		r.Rows = append(r.Rows, []value.Value{num(float64(i)), num(p)})
 	}
 	return r
+}
+
+// cleanAll applies cleanC to each value (a copy).
+func cleanAll(z []complex128) []complex128 {
+	out := make([]complex128, len(z))
+	for i, v := range z {
+		out[i] = cleanC(v)
+	}
+	return out
 }

@@ -30,6 +30,8 @@ type Analysis struct {
 	Accuracy string
 	Notes    []string
 	Figure   *plot.Figure // nil for none
+	// Named are the numbers a script reads as r.name (see Field).
+	Named []Named
 	// Data is the numerics result the report was made from.
 	Data any
 }

@@ -202,3 +202,13 @@ func TypeName(v Value) string {
 	}
 	return v.Type()
 }
+
+// HasFields is implemented by values with named parts — the numbers of a
+// report, the columns of a table — read as r.name or r["name"].
+type HasFields interface {
+	Value
+	// Field returns the part called name.
+	Field(name string) (Value, bool)
+	// FieldNames lists the names Field knows, in the order they are shown.
+	FieldNames() []string
+}

@@ -1,0 +1,127 @@
+package objects
+
+import (
+	"math"
+
+	"semiflow/lang/value"
+)
+
+// Named is a number (or vector, or flag) of a report that a script can
+// read by name: r.peak, r["peak"].
+type Named struct {
+	Name string
+	X    value.Value
+}
+
+// name adds a named value to the report.
+func (r *Analysis) name(key string, x value.Value) { r.Named = append(r.Named, Named{key, x}) }
+
+// Field returns the value called name: one of the report's named numbers,
+// a column of its table by its heading (a vector), or "method" and
+// "accuracy" (strings).
+func (r *Analysis) Field(name string) (value.Value, bool) {
+	for _, n := range r.Named {
+		if n.Name == name {
+			return n.X, true
+		}
+	}
+	for j, c := range r.Columns {
+		if c == name {
+			return r.column(j), true
+		}
+	}
+	switch name {
+	case "method":
+		return value.Str(r.Method), true
+	case "accuracy":
+		return value.Str(r.Accuracy), true
+	}
+	return nil, false
+}
+
+// FieldNames lists the named numbers, the column headings and "method",
+// "accuracy".
+func (r *Analysis) FieldNames() []string {
+	var out []string
+	for _, n := range r.Named {
+		out = append(out, n.Name)
+	}
+	out = append(out, r.Columns...)
+	return append(out, "method", "accuracy")
+}
+
+// column returns column j of the table as a vector.
+func (r *Analysis) column(j int) *value.Vec {
+	cells := make([]value.Value, len(r.Rows))
+	for i, row := range r.Rows {
+		cells[i] = row[j]
+	}
+	return cellsVec(cells)
+}
+
+// Field returns the quantity's number as "value", and "method",
+// "accuracy".
+func (q *Quantity) Field(name string) (value.Value, bool) {
+	switch name {
+	case "value":
+		return q.X, true
+	case "method":
+		return value.Str(q.Method), true
+	case "accuracy":
+		return value.Str(q.Accuracy), true
+	}
+	return nil, false
+}
+
+// FieldNames lists value, method and accuracy.
+func (q *Quantity) FieldNames() []string { return []string{"value", "method", "accuracy"} }
+
+// solutionFields are the named parts of a solution, in the order listed.
+var solutionFields = []string{"times", "final", "errest", "errest_times", "tol", "tol_met", "matvecs", "solves", "crossdiff", "method"}
+
+// Field returns a named part of the solution: times (vector), final
+// (u at the last time), errest (the largest error estimate), errest_times
+// (one per time), tol, tol_met, matvecs, solves, crossdiff (nan when no
+// cross-check ran) and method.
+func (s *Solution) Field(name string) (value.Value, bool) {
+	S := s.S
+	switch name {
+	case "times":
+		return value.RealVec(append([]float64(nil), S.Times...)), true
+	case "final":
+		if len(S.Values) == 0 {
+			return value.RealVec(nil), true
+		}
+		return s.Index(len(S.Values) - 1), true
+	case "errest":
+		return value.Num(S.MaxErrEst()), true
+	case "errest_times":
+		return value.RealVec(append([]float64(nil), S.ErrEst...)), true
+	case "tol":
+		return value.Num(S.Tol), true
+	case "tol_met":
+		return value.Bool(s.shortfall() == ""), true
+	case "matvecs":
+		return value.Num(float64(S.MatVecs)), true
+	case "solves":
+		return value.Num(float64(S.Solves)), true
+	case "crossdiff":
+		if c := S.Cross; c != nil && c.Skipped == "" {
+			return value.Num(c.MaxDiff), true
+		}
+		return value.Num(math.NaN()), true
+	case "method":
+		return value.Str(S.Method), true
+	}
+	return nil, false
+}
+
+// FieldNames lists the solution's named parts.
+func (s *Solution) FieldNames() []string { return append([]string(nil), solutionFields...) }
+
+// NewTable returns a table of numbers with named columns (Kind "table"):
+// t.name (or t["name"]) is a column as a vector, t[i] row i, t[i, j] an
+// entry. Each cell is a value.Num or value.Complex.
+func NewTable(title string, columns []string, rows [][]value.Value) *Analysis {
+	return &Analysis{Kind: "table", Title: title, Columns: columns, Rows: rows}
+}
