@@ -11,7 +11,9 @@ import (
 	"semiflow/install"
 	"semiflow/kernel"
 	"semiflow/kernel/wire"
+	"semiflow/lang/builtin"
 	"semiflow/lang/run"
+	"semiflow/lang/syntax"
 )
 
 // langEvaluator adapts a language session to the kernel's Evaluator.
@@ -112,7 +114,7 @@ func cmdInstall(args []string) int {
 		fmt.Fprintln(os.Stderr, "semiflow install: choose one of --user, --sys-prefix and --prefix")
 		return 2
 	}
-	o := install.Options{Name: *name, Prefix: *prefix}
+	o := install.Options{Name: *name, Prefix: *prefix, Words: highlightWords()}
 	switch {
 	case *sys:
 		o.Scope = install.SysPrefix
@@ -137,4 +139,21 @@ func cmdInstall(args []string) int {
 	}
 	fmt.Println("installed kernelspec", *name, "in", dir)
 	return 0
+}
+
+// highlightWords lists the language's reserved words and builtins for the
+// notebook's syntax highlighting (install.KernelJS).
+func highlightWords() install.Words {
+	var w install.Words
+	for k := range syntax.Keywords {
+		w.Keywords = append(w.Keywords, k)
+	}
+	for _, b := range builtin.Default().All() {
+		if b.Const != nil {
+			w.Constants = append(w.Constants, b.Name)
+		} else {
+			w.Builtins = append(w.Builtins, b.Name)
+		}
+	}
+	return w
 }

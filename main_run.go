@@ -345,7 +345,8 @@ func cmdRepl() int {
 // The notebook's language, as the kernel reports it in kernel_info.
 var (
 	nbKernelspec   = map[string]any{"name": "semiflow", "display_name": "Semiflow", "language": "semiflow"}
-	nbLanguageInfo = map[string]any{"name": "semiflow", "version": version, "mimetype": "text/x-semiflow", "file_extension": ".sf"}
+	nbLanguageInfo = map[string]any{"name": "semiflow", "version": version, "mimetype": "text/x-semiflow", "file_extension": ".sf",
+		"pygments_lexer": "text", "codemirror_mode": "semiflow"}
 )
 
 // nbOutput collects the outputs of one code cell in nbformat 4 form, as a

@@ -142,7 +142,8 @@ func TestRunNotebook(t *testing.T) {
 	if md["title"] != "kept" || ks["name"] != "semiflow" || ks["display_name"] != "Semiflow" || ks["language"] != "semiflow" {
 		t.Errorf("metadata = %v", md)
 	}
-	if li := md["language_info"].(map[string]any); li["name"] != "semiflow" || li["version"] != version {
+	if li := md["language_info"].(map[string]any); li["name"] != "semiflow" || li["version"] != version ||
+		li["pygments_lexer"] != "text" || li["codemirror_mode"] != "semiflow" {
 		t.Errorf("language_info = %v", li)
 	}
 	cs := cellsOf(nb)

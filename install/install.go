@@ -3,8 +3,8 @@
 //
 // A kernelspec is a directory DATA/kernels/NAME holding kernel.json (the
 // command line Jupyter runs, with {connection_file} standing for the path of
-// the connection file) and optional logo-32x32.png, logo-64x64.png and
-// logo-svg.svg.
+// the connection file) and optional logo-32x32.png, logo-64x64.png,
+// logo-svg.svg and kernel.js (here: the notebook's syntax highlighting).
 package install
 
 import (
@@ -34,6 +34,8 @@ type Options struct {
 	Executable string // absolute path of the semiflow binary; default os.Executable
 	// Env looks up environment variables (default os.Getenv).
 	Env func(string) string
+	// Words are the names kernel.js highlights (see KernelJS).
+	Words Words
 }
 
 // ErrName reports a kernelspec name Jupyter would not accept.
@@ -125,7 +127,7 @@ func NewSpec(exe string) Spec {
 	}
 }
 
-// Install writes DATA/kernels/NAME/{kernel.json, logo-32x32.png,
+// Install writes DATA/kernels/NAME/{kernel.json, kernel.js, logo-32x32.png,
 // logo-64x64.png, logo-svg.svg} and returns the directory.
 func Install(o Options) (string, error) {
 	if err := o.defaults(); err != nil {
@@ -160,6 +162,7 @@ func Install(o Options) (string, error) {
 		"logo-32x32.png": LogoPNG(32),
 		"logo-64x64.png": LogoPNG(64),
 		"logo-svg.svg":   []byte(LogoSVG()),
+		"kernel.js":      []byte(KernelJS(o.Words)),
 	}
 	for name, b := range files {
 		if err := os.WriteFile(filepath.Join(dir, name), b, 0o644); err != nil {

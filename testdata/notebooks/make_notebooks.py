@@ -24,7 +24,8 @@ CAUTION = (
 def notebook(cells):
     nb = nbformat.v4.new_notebook()
     nb.metadata["kernelspec"] = {"name": "semiflow", "display_name": "Semiflow", "language": "semiflow"}
-    nb.metadata["language_info"] = {"name": "semiflow", "mimetype": "text/x-semiflow", "file_extension": ".sf"}
+    nb.metadata["language_info"] = {"name": "semiflow", "mimetype": "text/x-semiflow", "file_extension": ".sf",
+                                     "pygments_lexer": "text", "codemirror_mode": "semiflow"}
     for kind, text in cells:
         text = text.strip("\n")
         if kind == "md":
