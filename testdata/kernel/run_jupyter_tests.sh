@@ -2,7 +2,8 @@
 # Builds semiflow, installs its kernelspec into a temporary Jupyter data
 # directory, and runs the Jupyter suites with Debian's python3:
 #   test_semiflow_kernel.py  jupyter_kernel_test conformance
-#   test_client_session.py   jupyter_client execute/interrupt/restart/shutdown, nbclient
+#   test_client_session.py   jupyter_client execute/interrupt/restart/shutdown, error
+#                            reports and aborted replies, nbclient (errors as error outputs)
 #   test_console.py          jupyter console fed a script on stdin
 # Exits non-zero on any failure. Without the Python modules it skips, except
 # under CI=true, where that is a failure. The last line is 'N passed, N failed'.

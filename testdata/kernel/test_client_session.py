@@ -42,7 +42,30 @@ class ClientSession(unittest.TestCase):
         r, out = run(self.kc, "no_such_name")
         self.assertEqual(r["status"], "error")
         self.assertEqual(r["ename"], "unknown name")
-        self.assertTrue(any(m["msg_type"] == "error" for m in out))
+        self.assertIsInstance(r["execution_count"], int)  # the cell ran
+        errs = [m["content"] for m in out if m["msg_type"] == "error"]
+        self.assertEqual(len(errs), 1)
+        tb = errs[0]["traceback"]
+        # Our report in ANSI colour: position and message, numbered line, carets with the class.
+        self.assertIn("\x1b[", tb[0])
+        self.assertIn("no_such_name", tb[0])
+        self.assertTrue(tb[1].endswith("no_such_name") and "1" in tb[1], tb)
+        self.assertIn("^^^^^^^^^^^^ unknown name", tb[2])
+
+    def test_aborted_cells_have_no_count(self):
+        # A cell queued behind a failing one (stop_on_error) is aborted and
+        # carries no execution count, so a front end shows it as not run.
+        slow = self.kc.execute("s(x) = sin(x)^2; sum(map(s, 1 .. 200000))")
+        bad = self.kc.execute("no_such_name")
+        queued = self.kc.execute("1 + 1")
+        replies = {}
+        while len(replies) < 3:
+            m = self.kc.get_shell_msg(timeout=TIMEOUT)
+            replies[m["parent_header"].get("msg_id")] = m["content"]
+        self.assertEqual(replies[slow]["status"], "ok")
+        self.assertEqual(replies[bad]["status"], "error")
+        self.assertEqual(replies[queued]["status"], "aborted")
+        self.assertIsNone(replies[queued].get("execution_count"))
 
     def _interrupt(self, how):
         run(self.kc, "keep = 5; sq(x) = sin(x)^2; g(k) = sum(map(sq, 1 .. 100000))")
@@ -103,6 +126,27 @@ class ClientSession(unittest.TestCase):
         self.assertEqual(outs[1][0]["data"]["text/plain"], "3")
         self.assertEqual(outs[1][0]["execution_count"], 2)
         self.assertEqual(outs[2][0]["output_type"], "display_data")
+
+    def test_nbclient_error_output(self):
+        # A failing cell becomes an error output (not stream text) in the
+        # saved notebook, with our class as ename and a coloured traceback;
+        # without allow_errors nbclient stops with our report.
+        nb = nbformat.v4.new_notebook()
+        nb.metadata["kernelspec"] = {"name": "semiflow", "display_name": "Semiflow", "language": "semiflow"}
+        nb.cells = [nbformat.v4.new_code_cell(c) for c in ["x = 1", "x + [1, 2] * \"a\"", "x"]]
+        NotebookClient(nb, timeout=TIMEOUT, kernel_name="semiflow", allow_errors=True).execute()
+        nb2 = nbformat.reads(nbformat.writes(nb), as_version=4)
+        nbformat.validate(nb2)
+        outs = nb2.cells[1].outputs
+        self.assertEqual([o["output_type"] for o in outs], ["error"])
+        self.assertEqual(outs[0]["ename"], "wrong type")
+        self.assertTrue(any("\x1b[" in l for l in outs[0]["traceback"]))
+        self.assertEqual(nb2.cells[2].outputs[0]["data"]["text/plain"], "1")
+        from nbclient.exceptions import CellExecutionError
+        nb.cells = [nbformat.v4.new_code_cell("nope")]
+        with self.assertRaises(CellExecutionError) as cm:
+            NotebookClient(nb, timeout=TIMEOUT, kernel_name="semiflow").execute()
+        self.assertIn("unknown name", str(cm.exception))
 
 
 if __name__ == "__main__":
