@@ -29,6 +29,49 @@ var sweepFamily = []*Builtin{
 		},
 		Impl: sweepImpl,
 	},
+	{
+		Name:     "argmax",
+		Params:   []value.Param{req("v", "a real vector, range or list of numbers")},
+		Doc:      "The index k of the largest entry of v (the first one when several are equal), so v[argmax(v)] = max(v); with a table t from sweep, t.R[argmax(t.peak)] is the parameter of the largest peak. nan entries are refused.",
+		Examples: []Example{{"argmax([3, 7, 7, 1])", "1"}, {"(0 .. 4)[argmax(sin(0 .. 4))]", "2"}},
+		Impl:     func(c *eval.Call) (value.Value, error) { return argExtreme(c, 1) },
+	},
+	{
+		Name:     "argmin",
+		Params:   []value.Param{req("v", "a real vector, range or list of numbers")},
+		Doc:      "The index k of the smallest entry of v (the first one when several are equal), so v[argmin(v)] = min(v). nan entries are refused.",
+		Examples: []Example{{"argmin([3, 1, 7, 1])", "1"}},
+		Impl:     func(c *eval.Call) (value.Value, error) { return argExtreme(c, -1) },
+	},
+}
+
+// argExtreme returns the index of the first largest (sign 1) or smallest
+// (sign −1) entry.
+func argExtreme(c *eval.Call, sign float64) (value.Value, error) {
+	v, err := c.Arg(0)
+	if err != nil {
+		return nil, err
+	}
+	re, cx, err := numbers(c, "v", v)
+	if err != nil {
+		return nil, err
+	}
+	if cx != nil {
+		return nil, value.TypeErrorf("%s: v must be real; complex numbers have no order (use abs or re)", c.Name)
+	}
+	if len(re) == 0 {
+		return nil, value.ValueErrorf("%s: v is empty", c.Name)
+	}
+	best := 0
+	for k, x := range re {
+		if math.IsNaN(x) {
+			return nil, value.ValueErrorf("%s: v[%d] is nan", c.Name, k)
+		}
+		if sign*x > sign*re[best] {
+			best = k
+		}
+	}
+	return value.Num(float64(best)), nil
 }
 
 // sweepShape is how one result of f becomes a row: its column names and
