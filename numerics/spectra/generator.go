@@ -9,7 +9,6 @@ import (
 
 	"gonum.org/v1/gonum/mat"
 
-	"semiflow/numerics/expo"
 	"semiflow/numerics/linop"
 	"semiflow/numerics/roundoff"
 )
@@ -29,8 +28,14 @@ type GeneratorOptions struct {
 	Powers int
 	// Lambdas is the number of λ sampled per power; 0 means 40.
 	Lambdas int
-	// Progress, if not nil, is called after each power.
+	// Progress, if not nil, is called after each sampled λ.
 	Progress func(done, total int)
+	// Work, if positive, is the work budget of the Hille–Yosida samples in
+	// real multiply–adds (a triangular solve of order n is n²/2; see
+	// HYInteractiveWork): once spent, the
+	// remaining λ of the main range are skipped (the ones taken are spread
+	// over it) and the report says how many (Skipped).
+	Work float64
 }
 
 // HilleYosida is the estimate M_n = sup_{λ > ω} (λ−ω)^n ‖R(λ)^n‖ for one
@@ -72,9 +77,12 @@ type GeneratorReport struct {
 	// Engel & Nagel GTM 194, Thm II.3.8); finitely many n and λ give a
 	// LOWER estimate of the best M, never below the exact lower bound 1.
 	// Sampled describes the λ sampled.
-	HY          []HilleYosida
-	M           float64
-	Sampled     string
+	HY      []HilleYosida
+	M       float64
+	Sampled string
+	// Skipped is the number of λ of the main range left out by the work
+	// budget (GeneratorOptions.Work); 0 when all were sampled.
+	Skipped     int
 	Verdict     string
 	Assumptions string
 	Method      string
@@ -132,9 +140,18 @@ func Generator(ctx context.Context, a linop.Operator, opt *GeneratorOptions) (*G
 	}
 	m := weighted(m0, o.Weight)
 	n, _ := m.Dims()
-	sp, err := denseSpectrum(m)
-	if err != nil {
-		return nil, err
+	var sp *Spectrum
+	if o.Weight == nil {
+		// A reversible rate matrix: real eigenvalues by the symmetric
+		// route (relatively accurate for a birth–death chain), α = 0.
+		if sp, _, err = reversibleRateSpectrum(m); err != nil {
+			return nil, err
+		}
+	}
+	if sp == nil {
+		if sp, err = denseSpectrum(m); err != nil {
+			return nil, err
+		}
 	}
 	fn := mat.Norm(m, 2) // Frobenius
 	rep := &GeneratorReport{N: n, SpectralAbscissa: sp.Abscissa, Rounding: roundoff.Threshold(n, fn)}
@@ -189,8 +206,8 @@ func Generator(ctx context.Context, a linop.Operator, opt *GeneratorOptions) (*G
 	}
 	rep.Verdict = v.String()
 	rep.Assumptions = "finite-dimensional operator (a discretisation): generation is automatic and the constants, not existence, are the question; constants refer to " + inner + "; Hille–Yosida values use n ≤ " + fmt.Sprint(o.Powers) + " and sampled λ, hence lower estimates of the optimal M"
-	rep.Method = "α(A) from the eigenvalues (QR algorithm) with the condition of the rightmost one, ω(A) = λmax((B+Bᵀ)/2) with B = RAR⁻¹ (W = RᵀR); Hille–Yosida: R(λ) = (λI−A)⁻¹ by LU, its powers by products, norms by SVD, at λ − ω: " + rep.Sampled
-	rep.Accuracy = fmt.Sprintf("ω(A) to τ = n·u·‖B‖_F = %.2g (symmetric eigenproblem); α(A) to %.2g (%s); signs within these are reported as zero within rounding; resolvent-power norms to about u·cond(λI−A)", tau, rep.AbscissaRounding, map[bool]string{false: "τ × condition of the rightmost eigenvalue", true: "the rightmost eigenvalue is defective or nearly so: √(τ‖B‖_F), as for a 2×2 Jordan block; larger blocks can move further — see its pseudospectra"}[rep.AbscissaIllCond])
+	rep.Method = "α(A) from the eigenvalues (QR algorithm) with the condition of the rightmost one, ω(A) = λmax((B+Bᵀ)/2) with B = RAR⁻¹ (W = RᵀR); Hille–Yosida: ‖R(λ)^n‖₂, R(λ) = (λI−A)⁻¹, as the largest singular value of R(λ)^n by Golub–Kahan–Lanczos (solves with the LU factors of λI − H, H = QᵀAQ the Hessenberg form), at λ − ω: " + rep.Sampled
+	rep.Accuracy = fmt.Sprintf("ω(A) to τ = n·u·‖B‖_F = %.2g (symmetric eigenproblem); α(A) to %.2g (%s); signs within these are reported as zero within rounding; resolvent-power norms to about u·cond(λI−A), each a Lanczos estimate from below settled to 1e-8 relative (to the width of the singular-value cluster far from the spectrum)", tau, rep.AbscissaRounding, map[bool]string{false: "τ × condition of the rightmost eigenvalue", true: "the rightmost eigenvalue is defective or nearly so: √(τ‖B‖_F), as for a 2×2 Jordan block; larger blocks can move further — see its pseudospectra"}[rep.AbscissaIllCond])
 	if _, diag := o.Weight.(*linop.DiagWeight); o.Weight != nil && !diag {
 		rep.Accuracy += "; for a non-diagonal weight, forming B = RAR⁻¹ adds about n·u·‖R‖‖A‖‖R⁻¹‖, not included"
 	}
@@ -273,77 +290,115 @@ func (r *GeneratorReport) abscissaClause() string {
 // log-spaced λ − ω from 10⁻²(ω − α) to 10²·max(ω(A) − ω, ω − α), and at
 // decades beyond up to hyFar·max(‖B‖_F, that end), setting HY, M (at
 // least 1, the limit λ → ∞) and Sampled. It needs ω > α(A).
+//
+// The norms come from the Hessenberg form of m (hessenbergOf) by
+// normLanczos. λ are taken in a spreading order (the ends of the main
+// range, then midpoints of the widest gaps), so that when the work budget
+// o.Work runs out the samples taken still cover the range; ctx is checked
+// between Lanczos steps.
 func (rep *GeneratorReport) hilleYosida(ctx context.Context, m *mat.Dense, o GeneratorOptions, fn float64) error {
 	w, al, om := rep.Omega, rep.SpectralAbscissa, rep.NumericalAbscissa
 	s1 := w - al
 	s2 := math.Max(om-w, s1)
 	lams := make([]float64, o.Lambdas)
 	for k := range lams {
-		lams[k] = w + 1e-2*s1*math.Pow(1e4*s2/s1, float64(k)/float64(len(lams)-1))
+		lams[k] = w + 1e-2*s1*math.Pow(1e4*s2/s1, float64(k)/float64(max(len(lams)-1, 1)))
 	}
 	top := 1e2 * s2
 	far := hyFar * math.Max(fn, top)
-	extra := 0
+	var extra []float64
 	if far > top {
 		// hyExtra log-spaced values beyond the main range, up to far.
 		for k := 1; k <= hyExtra; k++ {
-			lams = append(lams, w+top*math.Pow(far/top, float64(k)/hyExtra))
-			extra++
+			extra = append(extra, w+top*math.Pow(far/top, float64(k)/hyExtra))
 		}
 	}
-	rep.Sampled = fmt.Sprintf("%d log-spaced values in [%.3g, %.3g] and %d beyond up to %.3g = 10⁶·max(‖B‖_F, %.3g); the sup is taken with 1, the exact limit as λ → ∞", o.Lambdas, 1e-2*s1, top, extra, far, top)
+	h, err := hessenbergOf(ctx, m)
+	if err != nil {
+		return err
+	}
+	n, _ := m.Dims()
+	f := newHessLU(n)
 	rep.M = 1
-	cache := map[float64][]float64{}
-	for p := 1; p <= o.Powers; p++ {
-		if err := ctx.Err(); err != nil {
+	best := make([]HilleYosida, o.Powers)
+	for p := range best {
+		best[p] = HilleYosida{Power: p + 1, M: 1, Lambda: math.Inf(1)}
+	}
+	used := 0.0 // real multiply–adds: one triangular solve is n²/2
+	taken := 0
+	for i, k := range spreadOrder(len(lams)) {
+		if o.Work > 0 && used > o.Work && i >= 2 {
+			break
+		}
+		solves, err := rep.hySample(ctx, f, h, lams[k], w, best)
+		if err != nil {
 			return err
 		}
-		best := HilleYosida{Power: p, M: 1, Lambda: math.Inf(1)}
-		for _, l := range lams {
-			vals, ok := cache[l]
-			if !ok {
-				var err error
-				if vals, err = resolventPowerNorms(m, l, o.Powers); err != nil {
-					return err
-				}
-				cache[l] = vals
-			}
-			if v := math.Pow(l-w, float64(p)) * vals[p-1]; v > best.M {
-				best.M, best.Lambda = v, l
-			}
-		}
-		rep.HY = append(rep.HY, best)
-		rep.M = math.Max(rep.M, best.M)
+		used += float64(solves) * float64(n) * float64(n) / 2
+		taken++
 		if o.Progress != nil {
-			o.Progress(p, o.Powers)
+			o.Progress(taken, len(lams))
 		}
+	}
+	// The values beyond the main range are near the limit 1 and cheap
+	// (Lanczos settles at once): always taken.
+	for _, l := range extra {
+		if _, err := rep.hySample(ctx, f, h, l, w, best); err != nil {
+			return err
+		}
+	}
+	cut := taken < len(lams)
+	rep.HY = best
+	for _, b := range best {
+		rep.M = math.Max(rep.M, b.M)
+	}
+	rep.Sampled = fmt.Sprintf("%d log-spaced values in [%.3g, %.3g] and %d beyond up to %.3g = 10⁶·max(‖B‖_F, %.3g); the sup is taken with 1, the exact limit as λ → ∞", o.Lambdas, 1e-2*s1, top, len(extra), far, top)
+	if cut {
+		rep.Sampled = fmt.Sprintf("%d of %d log-spaced values in [%.3g, %.3g] (spread over the range; the others were skipped to stay within the work budget of %.2g multiply–adds — ask for all of them to sample every one) and %d beyond up to %.3g = 10⁶·max(‖B‖_F, %.3g); the sup is taken with 1, the exact limit as λ → ∞", taken, o.Lambdas, 1e-2*s1, top, o.Work, len(extra), far, top)
+		rep.Skipped = o.Lambdas - taken
 	}
 	return nil
 }
 
-// resolventPowerNorms returns ‖R(λ)^p‖₂ for p = 1..k, R(λ) = (λI − A)⁻¹.
-func resolventPowerNorms(a *mat.Dense, lam float64, k int) ([]float64, error) {
-	n, _ := a.Dims()
-	sh := mat.NewDense(n, n, nil)
-	sh.Scale(-1, a)
-	for i := 0; i < n; i++ {
-		sh.Set(i, i, sh.At(i, i)+lam)
+// hySample raises best[p] to (λ−ω)^{p+1}‖R(λ)^{p+1}‖ at λ = l where that
+// is larger, and returns the number of triangular solves it took.
+func (rep *GeneratorReport) hySample(ctx context.Context, f *hessLU, h []float64, l, w float64, best []HilleYosida) (int, error) {
+	vals, solves, err := resolventPowerNormsHess(ctx, f, h, l, len(best))
+	if err != nil {
+		return solves, err
 	}
-	var r mat.Dense
-	if err := r.Inverse(sh); err != nil {
-		return nil, numErr("λI − A is singular or ill-conditioned at λ = %g: %v", lam, err)
-	}
-	out := make([]float64, k)
-	p := mat.DenseCopyOf(&r)
-	for j := 0; j < k; j++ {
-		if j > 0 {
-			var q mat.Dense
-			q.Mul(p, &r)
-			p = &q
+	for p := range best {
+		if v := math.Pow(l-w, float64(p+1)) * vals[p]; v > best[p].M {
+			best[p].M, best[p].Lambda = v, l
 		}
-		out[j] = norm2(p)
 	}
-	return out, nil
+	return solves, nil
+}
+
+// spreadOrder returns 0..m−1 in an order that spreads over the range: both
+// ends, then the middle, then the midpoints of the gaps left, widest first
+// (so any prefix samples the range evenly).
+func spreadOrder(m int) []int {
+	if m <= 0 {
+		return nil
+	}
+	out := []int{0}
+	if m > 1 {
+		out = append(out, m-1)
+	}
+	type gap struct{ a, b int }
+	queue := []gap{{0, m - 1}}
+	for len(queue) > 0 {
+		g := queue[0]
+		queue = queue[1:]
+		if g.b-g.a < 2 {
+			continue
+		}
+		c := (g.a + g.b) / 2
+		out = append(out, c)
+		queue = append(queue, gap{g.a, c}, gap{c, g.b})
+	}
+	return out
 }
 
 func norm2(m *mat.Dense) float64 {
@@ -367,8 +422,9 @@ type MarkovReport struct {
 	// Cond·n·u·‖Q‖_F for a non-reversible chain (first order; +Inf when
 	// the eigenvalue is defective or nearly so).
 	GapError float64
-	// MixingTime is the least t with max_i ‖e_iᵀe^{tQ} − π‖_TV ≤ 1/4,
-	// computed from dense exponentials by bisection (relative 1e-6).
+	// MixingTime is the least t with max_i ‖e_iᵀe^{tQ} − π‖_TV ≤ 1/4, to
+	// relative 2⁻²⁰ (one dense exponential, then products of transition
+	// matrices: mixingTime).
 	MixingTime float64
 	// MixingBound is ln(4/π_min)·Relaxation, an upper bound on MixingTime
 	// for reversible chains (Levin, Peres & Wilmer, Markov Chains and
@@ -500,64 +556,19 @@ func Markov(ctx context.Context, q linop.Operator) (*MarkovReport, error) {
 	}
 	rep.Relaxation = 1 / rep.Gap
 	rep.MixingBound = (math.Log(4) - logPiMin) * rep.Relaxation
-	dist := func(t float64) (float64, error) {
-		var tq, e mat.Dense
-		tq.Scale(t, m)
-		if _, err := expo.Exp(&e, &tq); err != nil {
-			return 0, err
-		}
-		worst := 0.0
-		for i := 0; i < n; i++ {
-			tv := 0.0
-			for j := 0; j < n; j++ {
-				tv += math.Abs(e.At(i, j) - rep.Stationary[j])
-			}
-			worst = math.Max(worst, tv/2)
-		}
-		return worst, nil
-	}
+	mixHow := "mixing time: none (a single state, or no gap)"
 	if n > 1 && rep.Gap > 0 {
-		hi := 0.1 * rep.Relaxation
-		lo := 0.0
-		for it := 0; ; it++ {
-			if err := ctx.Err(); err != nil {
-				return nil, err
-			}
-			d, err := dist(hi)
-			if err != nil {
-				return nil, err
-			}
-			if d <= 0.25 {
-				break
-			}
-			if it > 60 {
-				return nil, numErr("mixing time not found below t = %g", hi)
-			}
-			lo, hi = hi, 2*hi
+		var err error
+		if rep.MixingTime, mixHow, err = mixingTime(ctx, m, rep.Stationary, 0.1*rep.Relaxation); err != nil {
+			return nil, err
 		}
-		for hi-lo > 1e-6*hi {
-			if err := ctx.Err(); err != nil {
-				return nil, err
-			}
-			mid := (lo + hi) / 2
-			d, err := dist(mid)
-			if err != nil {
-				return nil, err
-			}
-			if d <= 0.25 {
-				hi = mid
-			} else {
-				lo = mid
-			}
-		}
-		rep.MixingTime = hi
 	}
 	piHow, piAcc := "π by the Grassmann–Taksar–Heyman elimination (no subtractions; linop.Stationary)", "every entry of π to a relative error of order n³·u at worst (O'Cinneide 1993), in practice far less"
 	if rep.BirthDeath {
 		piHow, piAcc = "π from the birth–death product π_{k+1} = π_k q_{k,k+1}/q_{k+1,k}", "π to relative 2n·u"
 	}
-	rep.Method = piHow + "; " + gapHow + "; mixing time by bisection on t of max_i ‖e_iᵀe^{tQ} − π‖_TV (expo.Exp)"
-	rep.Accuracy = fmt.Sprintf("%s; gap ± %.2g; mixing time to relative 1e-6 (reversible: %v)", piAcc, rep.GapError, rep.Reversible)
+	rep.Method = piHow + "; " + gapHow + "; " + mixHow
+	rep.Accuracy = fmt.Sprintf("%s; gap ± %.2g; mixing time to relative 2⁻²⁰ ≈ 1e-6 (reversible: %v)", piAcc, rep.GapError, rep.Reversible)
 	return rep, nil
 }
 
@@ -848,10 +859,19 @@ func generatorSparse(ctx context.Context, a *linop.CSR, o GeneratorOptions) (*Ge
 			return nil, err
 		}
 	}
-	sigma := om + 1e-3*(1+math.Abs(om))
-	sp, err := Rightmost(ctx, a, &EigsOptions{Count: 4, ShiftInvert: true, Shift: sigma})
-	if err != nil {
-		return nil, err
+	var sp *Spectrum
+	chain, bd := BirthDeathOf(a)
+	if bd {
+		var err error
+		if sp, err = chain.Spectrum(ctx, 4, false, 0); err != nil {
+			return nil, err
+		}
+	} else {
+		sigma := om + 1e-3*(1+math.Abs(om))
+		var err error
+		if sp, err = Rightmost(ctx, a, &EigsOptions{Count: 4, ShiftInvert: true, Shift: sigma}); err != nil {
+			return nil, err
+		}
 	}
 	rep := &GeneratorReport{N: n, SpectralAbscissa: sp.Abscissa, NumericalAbscissa: om}
 	// ω(A) carries the Ritz residual (relative 1e-12) besides the rounding.
@@ -861,6 +881,12 @@ func generatorSparse(ctx context.Context, a *linop.CSR, o GeneratorOptions) (*Ge
 		if k < len(sp.Residual) && real(sp.Values[k]) == sp.Abscissa {
 			rep.AbscissaRounding = math.Max(rep.AbscissaRounding, sp.Residual[k])
 		}
+	}
+	if bd {
+		// α = 0 exactly for rows summing to 0; the given rows do so within
+		// rounding, which moves the stationary eigenvalue by at most the
+		// largest row sum (first order: π·r for row sums r).
+		rep.AbscissaRounding = RowSumRounding(a)
 	}
 	rep.AbscissaSign = roundoff.Sign(sp.Abscissa, rep.AbscissaRounding)
 	tau := rep.Rounding
@@ -874,8 +900,12 @@ func generatorSparse(ctx context.Context, a *linop.CSR, o GeneratorOptions) (*Ge
 	rep.Sampled = "none: large operator"
 	var v strings.Builder
 	fmt.Fprintf(&v, "A (%d×%d, sparse) generates the semigroup e^{tA}; ", n, n)
-	v.WriteString(strings.Replace(rep.abscissaClause(), "α(A) =", "α(A) ≈", 1))
-	if rep.AbscissaSign < 0 {
+	if bd {
+		v.WriteString(rep.abscissaClause() + " (the stationary eigenvalue of a birth–death chain)")
+	} else {
+		v.WriteString(strings.Replace(rep.abscissaClause(), "α(A) =", "α(A) ≈", 1))
+	}
+	if rep.AbscissaSign < 0 && !bd {
 		v.WriteString(" (rightmost computed eigenvalue)")
 	}
 	v.WriteString("; ")
@@ -889,12 +919,35 @@ func generatorSparse(ctx context.Context, a *linop.CSR, o GeneratorOptions) (*Ge
 	}
 	rep.Verdict = v.String()
 	rep.Assumptions = "finite-dimensional operator: generation is automatic; Euclidean inner product; α(A) from the eigenvalues nearest σ = ω(A)+δ, which are the rightmost unless the spectrum has far-out parts with large imaginary parts"
+	if bd {
+		rep.Assumptions = "finite-dimensional operator: generation is automatic; Euclidean inner product; A is the rate matrix of an irreducible birth–death chain, whose eigenvalues are real: α(A) = 0 (the stationary one) and the rest −σ² < 0"
+	}
 	rep.Method = "ω(A): shift-and-invert Lanczos on (A+Aᵀ)/2 above its Gershgorin bound; α(A): " + sp.Method
 	if symZero {
 		rep.Method = fmt.Sprintf("ω(A) ≤ ‖(A+Aᵀ)/2‖_F = %.2g, which is within rounding of 0 (A is skew-symmetric to rounding); α(A): ", hf) + sp.Method
 	}
 	rep.Accuracy = fmt.Sprintf("ω(A) to τ = n·u·‖A‖_F + 10⁻¹²|ω(A)| = %.2g (rounding and Ritz residual); signs within it are reported as zero within rounding; ", rep.Rounding) + sp.Accuracy
 	return rep, nil
+}
+
+// RowSumRounding returns max_i n·u·Σ_j |a_ij| over the rows of a (by its
+// sparse form; +Inf without one): the rounding within which a rate
+// matrix's rows sum to zero (linop.CheckGenerator), and so the first-order
+// distance of its stationary eigenvalue from 0.
+func RowSumRounding(a linop.Operator) float64 {
+	q, err := linop.ToCSR(a)
+	if err != nil {
+		return math.Inf(1)
+	}
+	worst := 0.0
+	for i := 0; i < q.Rows; i++ {
+		abs := 0.0
+		for p := q.RowPtr[i]; p < q.RowPtr[i+1]; p++ {
+			abs += math.Abs(q.Val[p])
+		}
+		worst = math.Max(worst, roundoff.Threshold(q.Rows, abs))
+	}
+	return worst
 }
 
 // normFrobCSR returns the Frobenius norm of a.
