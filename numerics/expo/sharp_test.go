@@ -55,6 +55,7 @@ func TestGrowthBoundJordanLike(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
+	t.Logf("M = %.4g (%s)", M, note)
 	if M < want || M > 1.15*want {
 		t.Errorf("M = %.4g, want in [%.4g, 1.15·%.4g] (%s)", M, want, want, note)
 	}
