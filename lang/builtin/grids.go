@@ -418,7 +418,7 @@ func argOperator(c *eval.Call, i int) (*objects.Operator, error) {
 	a, err := objects.AsOperator(v)
 	if err != nil {
 		e := err.(*value.Error)
-		return nil, &value.Error{Name: e.Name, Msg: fmt.Sprintf("%s: %s %s", c.Name, paramName(c, i), e.Msg)}
+		return nil, &value.Error{Name: e.Name, Msg: fmt.Sprintf("%s: %s %s", c.Name, paramName(c, i), e.Msg), Cause: e.Cause}
 	}
 	return a, nil
 }

@@ -170,6 +170,11 @@ var operatorFamily = []*Builtin{
 			if err != nil {
 				return nil, err
 			}
+			na, _ := a.Op.Dims()
+			nb, _ := b.Op.Dims()
+			if n := float64(na) * float64(nb); n > linop.MaxOrder {
+				return nil, value.ValueErrorf("kronsum: the Kronecker sum of orders %d and %d would have order %s, beyond the largest supported, 2⁵³ ≈ 9.0e15", na, nb, value.FormatNum(n))
+			}
 			out, err := objects.KronSum(a, b)
 			if err != nil {
 				return nil, prefix(c, err)
@@ -332,7 +337,7 @@ var operatorFamily = []*Builtin{
 func prefix(c *eval.Call, err error) error {
 	var e *value.Error
 	if errors.As(err, &e) {
-		return &value.Error{Name: e.Name, Msg: c.Name + ": " + e.Msg}
+		return &value.Error{Name: e.Name, Msg: c.Name + ": " + e.Msg, Cause: e.Cause}
 	}
 	return value.ValueErrorf("%s: %v", c.Name, err)
 }
@@ -340,14 +345,14 @@ func prefix(c *eval.Call, err error) error {
 func denseOf(c *eval.Call, a *objects.Operator) (*value.Matrix, error) {
 	r, k := a.Op.Dims()
 	if err := memguard.DenseReal(r, k); err != nil {
-		return nil, value.ValueErrorf("%s: %s", c.Name, strings.TrimPrefix(err.Error(), "memguard: "))
+		return nil, value.Errorf(value.ClassMemory, "%s: %v", c.Name, err)
 	}
 	if err := c.CheckSize(float64(r)*float64(k), c.Name+": the matrix"); err != nil {
 		return nil, err
 	}
 	d, err := linop.ToDense(a.Op)
 	if err != nil {
-		return nil, value.ValueErrorf("%s: %s", c.Name, strings.TrimPrefix(err.Error(), "memguard: "))
+		return nil, value.ValueErrorf("%s: %v", c.Name, err)
 	}
 	out := value.NewMatrix(r, k)
 	for i := 0; i < r; i++ {
@@ -627,8 +632,11 @@ func writemmImpl(c *eval.Call) (value.Value, error) {
 		d = dd.Mat()
 	} else if s, err := linop.ToCSR(a.Op); err == nil {
 		sp = s
+	} else if errors.Is(err, memguard.ErrTooLarge) {
+		// A sparse form too large for memory: a dense one is larger still.
+		return nil, value.Errorf(value.ClassMemory, "writemm: %v", err)
 	} else if d, err = linop.ToDense(a.Op); err != nil {
-		return nil, value.ValueErrorf("writemm: %s", strings.TrimPrefix(err.Error(), "memguard: "))
+		return nil, value.ValueErrorf("writemm: %v", err)
 	}
 	// The Matrix Market format has no NaN or infinity.
 	if sp != nil {

@@ -163,7 +163,7 @@ func numericsError(c *eval.Call, err error) error {
 	for _, p := range []string{": expo: numerical failure", ": expo: method not applicable"} {
 		msg = strings.TrimSuffix(msg, p)
 	}
-	return value.ValueErrorf("%s: %s", c.Name, msg)
+	return &value.Error{Name: value.ClassValue, Msg: c.Name + ": " + msg, Cause: err}
 }
 
 func semigroupImpl(c *eval.Call) (value.Value, error) {

@@ -66,8 +66,12 @@ func (f Function) Name() string { return f.B.Name }
 // Params returns the signature's parameters.
 func (f Function) Params() []value.Param { return f.B.Params }
 
-// CallNative runs the implementation.
-func (f Function) CallNative(c *eval.Call) (value.Value, error) { return f.B.Impl(c) }
+// CallNative runs the implementation; its error is classified by cause
+// (classify).
+func (f Function) CallNative(c *eval.Call) (value.Value, error) {
+	v, err := f.B.Impl(c)
+	return v, classify(f.B.Name, err)
+}
 
 // Signature formats the call form, name(a, b, n=50), or the name alone for
 // a constant.

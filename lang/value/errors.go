@@ -27,17 +27,32 @@ const (
 
 // Error is a runtime error raised by an operation or a builtin, before the
 // evaluator attaches a position and a call stack. Name is its class, one of
-// the Class constants.
+// the Class constants; Cause, when set, is the error of the numerics it
+// reports, so that errors.Is and errors.As still find a sentinel (the
+// builtin table maps a memory-guard refusal to ClassMemory that way).
 type Error struct {
-	Name string
-	Msg  string
+	Name  string
+	Msg   string
+	Cause error
 }
 
 func (e *Error) Error() string { return e.Msg }
 
-// Errorf returns an *Error of class name (one of the Class constants).
+// Unwrap returns the cause.
+func (e *Error) Unwrap() error { return e.Cause }
+
+// Errorf returns an *Error of class name (one of the Class constants). The
+// first argument that is an error, whatever verb formats it, becomes the
+// Cause.
 func Errorf(name, format string, args ...any) error {
-	return &Error{Name: name, Msg: fmt.Sprintf(format, args...)}
+	e := &Error{Name: name, Msg: fmt.Sprintf(format, args...)}
+	for _, a := range args {
+		if c, ok := a.(error); ok {
+			e.Cause = c
+			break
+		}
+	}
+	return e
 }
 
 // TypeErrorf reports an operand or argument of the wrong type (ClassType).

@@ -27,13 +27,15 @@ func toDense(a linop.Operator) (*mat.Dense, error) {
 	if r != c {
 		panic(ErrShape)
 	}
+	// The matrix, a complex Schur form with its unitary factor, and
+	// workspace: about 64n² bytes, asked first (formed in floating point,
+	// so no order overflows it) so that an order no memory holds is
+	// refused as such.
+	if err := memguard.Bytes(64*float64(r)*float64(r), fmt.Sprintf("dense spectral analysis of order %d", r)); err != nil {
+		return nil, err
+	}
 	if r > maxDense {
 		return nil, numErr("dense method refused for n = %d > %d; use the sparse (Arnoldi) methods", r, maxDense)
-	}
-	// The matrix, a complex Schur form with its unitary factor, and
-	// workspace: about 64n² bytes.
-	if err := memguard.Check(r*r, 64, fmt.Sprintf("dense spectral analysis of order %d", r)); err != nil {
-		return nil, err
 	}
 	if d, ok := a.(denser); ok {
 		m, err := d.ToDense()
