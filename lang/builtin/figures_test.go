@@ -158,3 +158,21 @@ writejson(sp, "`+js+`")`)
 		t.Errorf("analysis JSON %s (%v)", b, err)
 	}
 }
+
+// TestFigureWords checks figure titles in words and the weighted norm named
+// as such in the growth figure.
+func TestFigureWords(t *testing.T) {
+	s := run.NewSession()
+	for _, c := range []struct{ code, want string }{
+		{`spectrum({-1, 5 | 0, -2})`, "<title>Eigenvalues of the 2 × 2 matrix</title>"},
+		{`growth({-1, 5 | 0, -2}, weight=[1, 4], bounds="none")`, "‖exp(tA)‖_W (weighted norm)"},
+	} {
+		data, _, err := s.Execute(context.Background(), c.code, nil)
+		if err != nil {
+			t.Fatal(err)
+		}
+		if svg, _ := data["image/svg+xml"].(string); !strings.Contains(svg, c.want) {
+			t.Errorf("%s: the figure lacks %q", c.code, c.want)
+		}
+	}
+}

@@ -1151,6 +1151,7 @@ func growthImpl(c *eval.Call) (value.Value, error) {
 	}
 	r := objects.GrowthReport(op.Label, n, g)
 	if w != nil {
+		r.WeightedNorm()
 		r.Title += ", in the " + ip
 		r.Notes = append(r.Notes, "weighted: ‖e^{tA}‖_W = ‖e^{tB}‖₂ with B = RAR⁻¹, W = RᵀR; every bound refers to B")
 	}

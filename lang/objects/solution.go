@@ -220,13 +220,23 @@ func (s *Solution) Figure() *plot.Figure {
 	if len(S.Times) == 0 || len(S.Values[0]) == 0 {
 		return nil
 	}
-	f := &plot.Figure{Title: fmt.Sprintf("%s, %s", s.Problem, S.Method)}
+	f := &plot.Figure{Title: "The solution at the output times"}
+	// The times in the legend, in one number format.
+	when := func(idx []int) []string {
+		ts := make([]float64, len(idx))
+		for k, i := range idx {
+			ts[k] = S.Times[i]
+		}
+		return plot.FormatLevels(ts)
+	}
 	switch {
 	case s.Grid != nil && s.Grid.Dim() == 1:
 		f.X.Label, f.Y.Label = "x", "u(t, x)"
-		for k, i := range shown(len(S.Times), 8) {
+		idx := shown(len(S.Times), 8)
+		names := when(idx)
+		for k, i := range idx {
 			x, u := s.Grid.Profile(S.Values[i])
-			cycleDash(f.AddLine(x, u, "t = "+plot.FormatValue(S.Times[i])), k)
+			cycleDash(f.AddLine(x, u, "t = "+names[k]), k)
 		}
 	case s.Grid != nil:
 		last := len(S.Times) - 1
@@ -236,13 +246,14 @@ func (s *Solution) Figure() *plot.Figure {
 		for ix := range z {
 			z[ix] = S.Values[last][ix*ny : (ix+1)*ny]
 		}
-		f.Title = fmt.Sprintf("u at t = %s (%s)", plot.FormatValue(S.Times[last]), S.Method)
+		f.Title = fmt.Sprintf("The solution at t = %s", plot.FormatValue(S.Times[last]))
 		f.X.Label, f.Y.Label = "x", "y"
 		f.EqualAspect = true
 		x0, x1 := cellEdges(gx)
 		y0, y1 := cellEdges(gy)
 		f.AddHeatMap(z, x0, x1, y0, y1, "u")
 	case len(S.Times) > 1 && len(S.Values[0]) <= 12:
+		f.Title = "Components of the solution"
 		f.X.Label, f.Y.Label = "t", "u_i(t)"
 		order := sortedTimes(S.Times)
 		ts := make([]float64, len(order))
@@ -258,12 +269,14 @@ func (s *Solution) Figure() *plot.Figure {
 		}
 	default:
 		f.X.Label, f.Y.Label = "index i", "u_i"
-		for k, i := range shown(len(S.Times), 8) {
+		times := shown(len(S.Times), 8)
+		names := when(times)
+		for k, i := range times {
 			idx := make([]float64, len(S.Values[i]))
 			for j := range idx {
 				idx[j] = float64(j)
 			}
-			cycleDash(f.AddLine(idx, S.Values[i], "t = "+plot.FormatValue(S.Times[i])), k)
+			cycleDash(f.AddLine(idx, S.Values[i], "t = "+names[k]), k)
 		}
 	}
 	return f

@@ -4,7 +4,6 @@ import (
 	"fmt"
 	"math"
 	"math/cmplx"
-	"sort"
 	"strconv"
 	"strings"
 
@@ -61,6 +60,19 @@ func Approx(z complex128) string {
 	return f(re) + sign + f(im) + "i"
 }
 
+// subject names the operator in a figure title in words: "the 2 × 2
+// matrix", "the rate matrix of 7 states", or "the operator of order n"
+// (the formula an operator was built from stays in the report's text).
+func subject(label string, n int) string {
+	switch label {
+	case "matrix":
+		return fmt.Sprintf("the %d × %d matrix", n, n)
+	case "rate matrix":
+		return fmt.Sprintf("the rate matrix of %d states", n)
+	}
+	return fmt.Sprintf("the operator of order %d", n)
+}
+
 // planeFigure is an empty figure of the complex plane with the imaginary
 // axis drawn.
 func planeFigure(title string) *plot.Figure {
@@ -81,8 +93,9 @@ func addEigenvalues(f *plot.Figure, vals []complex128, label string) {
 		x[i], y[i] = real(z), imag(z)
 	}
 	p := f.AddPoints(x, y, label)
-	p.Color = "#111111"
+	p.Color = "#23262e"
 	p.Marker = plot.Cross
+	p.Halo = true // visible on a heat map's dark end too
 }
 
 // SpectrumReport describes the eigenvalues of the operator labelled label
@@ -124,7 +137,7 @@ func SpectrumReport(label string, n int, s *spectra.Spectrum, what string) *Anal
 		}
 		r.Notes = append(r.Notes, fmt.Sprintf("eigenvalue(s) k = %s have condition above 1/√u ≈ %s: defective or nearly so; their computed values can be off by far more than condition × n·u·‖A‖ — pseudospectrum(A) shows where they can lie", strings.Join(bad, ", "), fnum2(spectra.IllCondLimit)))
 	}
-	f := planeFigure("eigenvalues of " + label)
+	f := planeFigure("Eigenvalues of " + subject(label, n))
 	addEigenvalues(f, s.Values, "eigenvalues")
 	if len(s.Values) > 0 {
 		f.AddVLine(s.Abscissa, "α(A) = "+plot.FormatValue(s.Abscissa)).Dash = plot.Dashed
@@ -154,7 +167,10 @@ func NumRangeReport(label string, n int, nr *spectra.NumericalRange, eigs []comp
 		z = cleanC(z)
 		r.Rows = append(r.Rows, []value.Value{num(nr.Angles[k]), value.Complex(z), num(real(z)), num(imag(z)), num(nr.Support[k])})
 	}
-	f := planeFigure("numerical range of " + label)
+	f := planeFigure("Numerical range of " + subject(label, n))
+	if nr.Weighted {
+		f.Title += " in the weighted inner product"
+	}
 	if m := len(nr.Boundary); m > 0 {
 		x := make([]float64, m+1)
 		y := make([]float64, m+1)
@@ -196,16 +212,14 @@ func PseudoReport(label string, n int, ps *spectra.Pseudospectra, abscissae []fl
 		}
 		r.Rows = append(r.Rows, []value.Value{num(c.Level), num(a), num(a / c.Level), value.Complex(z)})
 	}
-	f := planeFigure("ε-pseudospectra of " + label)
+	f := planeFigure("Pseudospectra of " + subject(label, n))
 	f.X.Min, f.X.Max = re[0], re[len(re)-1]
 	f.Y.Min, f.Y.Max = im[0], im[len(im)-1]
 	levels := make([]float64, len(ps.Contours))
 	for k, c := range ps.Contours {
 		levels[k] = c.Level
 	}
-	// σ_min as a heat map on a logarithmic colour scale spanning a decade
-	// beyond the levels on either side, so the contours sit inside it. The
-	// contour lines are traced on log₁₀ σ_min (marching squares with linear
+	// σ_min as a heat map on a logarithmic colour scale. The contour lines are traced on log₁₀ σ_min (marching squares with linear
 	// interpolation of the logarithm, which varies more evenly than σ).
 	z := make([][]float64, len(re))
 	logz := make([][]float64, len(re))
@@ -226,26 +240,18 @@ func PseudoReport(label string, n int, ps *spectra.Pseudospectra, abscissae []fl
 		lo, hi = math.Min(lo, l), math.Max(hi, l)
 	}
 	hm := f.AddHeatMap(z, re[0], re[len(re)-1], im[0], im[len(im)-1], "σ_min(zI − A)")
-	hm.Log, hm.Min, hm.Max = true, lo/10, hi*10
-	cs := f.AddContours(levels, lines, "ε")
-	// Colours that stand out on the heat map: darker for the larger levels
-	// (drawn over the pale part of the map), lighter for the smaller ones.
-	order := make([]int, len(levels))
-	for i := range order {
-		order[i] = i
-	}
-	sort.SliceStable(order, func(a, b int) bool { return levels[order[a]] > levels[order[b]] })
-	contourColors := []string{"#7f0000", "#d7301f", "#fc8d59", "#fdd49e", "#ffffff"}
-	cs.Colors = make([]string, len(levels))
-	for rank, i := range order {
-		cs.Colors[i] = contourColors[min(rank, len(contourColors)-1)]
-	}
-	addEigenvalues(f, ps.Eigenvalues, "eigenvalues")
-	if n := len(f.Series); n > 0 && len(ps.Eigenvalues) > 0 {
-		if p, ok := f.Series[n-1].(*plot.Points); ok {
-			p.Color = "#f0027f"
+	// The colours span the σ_min the grid holds, at most a decade beyond
+	// the levels on either side, so the map's contrast falls where the
+	// curves are.
+	smin, smax := math.Inf(1), 0.0
+	for _, v := range ps.Sigma {
+		if v > 0 && !math.IsInf(v, 0) {
+			smin, smax = math.Min(smin, v), math.Max(smax, v)
 		}
 	}
+	hm.Log, hm.Min, hm.Max = true, math.Max(lo/10, smin), math.Min(hi*10, smax)
+	f.AddContours(levels, lines, "ε") // coloured against the heat map under each curve
+	addEigenvalues(f, ps.Eigenvalues, "eigenvalues")
 	r.Figure = f
 	return r
 }
@@ -293,7 +299,7 @@ func ResolventLineReport(label string, n int, c float64, p *spectra.ResolventPro
 		y[k] = imag(z)
 		r.Rows = append(r.Rows, []value.Value{num(imag(z)), num(p.Norm[k])})
 	}
-	f := &plot.Figure{Title: "‖(zI − A)⁻¹‖₂ on Re z = " + plot.FormatValue(c), DropNonPositive: true}
+	f := &plot.Figure{Title: "Resolvent norm of " + subject(label, n) + " along Re z = " + plot.FormatValue(c), DropNonPositive: true}
 	f.X.Label = "Im z"
 	f.Y.Label = "‖(zI − A)⁻¹‖₂"
 	f.Y.Log = spansDecade(p.Norm)
@@ -301,6 +307,22 @@ func ResolventLineReport(label string, n int, c float64, p *spectra.ResolventPro
 	f.Legend = plot.LegendNone
 	r.Figure = f
 	return r
+}
+
+// WeightedNorm labels a growth report's figure for the weighted norm
+// ‖x‖_W = √(xᵀWx) its curve was computed in.
+func (r *Analysis) WeightedNorm() {
+	f := r.Figure
+	if f == nil {
+		return
+	}
+	f.Title += " in the weighted norm ‖·‖_W"
+	f.Y.Label = "‖exp(tA)‖_W (weighted norm)"
+	for _, s := range f.Series {
+		if l, ok := s.(*plot.Line); ok && l.Label == "‖exp(tA)‖₂" {
+			l.Label = "‖exp(tA)‖_W"
+		}
+	}
 }
 
 // GrowthReport describes the transient growth curve with its bounds.
@@ -347,7 +369,7 @@ func GrowthReport(label string, n int, g *spectra.Growth) *Analysis {
 	for k, t := range g.T {
 		r.Rows = append(r.Rows, []value.Value{num(t), num(g.Norm[k])})
 	}
-	f := &plot.Figure{Title: "‖exp(tA)‖₂ for " + label, DropNonPositive: true}
+	f := &plot.Figure{Title: "Transient growth of " + subject(label, n), DropNonPositive: true}
 	f.X.Label = "t"
 	f.Y.Label = "‖exp(tA)‖₂"
 	f.Y.Log = spansDecade(append([]float64{g.Upper}, g.Norm...))

@@ -25,7 +25,7 @@ const (
 func (r *renderer) draw(c canvas) {
 	f := r.f
 	p := r.plot
-	r.segs, r.marks = nil, nil
+	r.segs, r.marks, r.unseen = nil, nil, nil
 	c.begin(r)
 	if !f.NoGrid {
 		r.drawGrid(c)
@@ -67,6 +67,7 @@ func (r *renderer) draw(c canvas) {
 				wd = 1.6
 			}
 			cols := ContourColors(len(s.Levels))
+			names := FormatLevels(s.Levels)
 			for k, lv := range s.Levels {
 				if !finite(lv) {
 					continue
@@ -78,8 +79,11 @@ func (r *renderer) draw(c canvas) {
 				if k < len(s.Colors) && s.Colors[k] != "" {
 					col = s.Colors[k]
 				}
-				r.drawContour(c, s.Lines[k], col, wd)
-				legend = append(legend, legendEntry{kind: 'l', color: col, width: wd, label: name + " = " + FormatValue(lv)})
+				if !r.drawContour(c, s.Lines[k], col, wd) {
+					r.unseen = append(r.unseen, name+" = "+names[k])
+					continue
+				}
+				legend = append(legend, legendEntry{kind: 'l', color: col, width: wd, label: name + " = " + names[k]})
 			}
 		case *Line:
 			col := next(s.Color)
@@ -240,12 +244,30 @@ func (r *renderer) drawLine(c canvas, s *Line, col string, wd float64) {
 	c.stroke(lines, false, strokeStyle{color: col, width: wd, dash: s.Dash, round: true})
 }
 
-func (r *renderer) drawContour(c canvas, lines []Polyline, col string, wd float64) {
+// SeenSpan is the least extent in px, across or along, of the visible
+// curves of a contour level for it to count as seen: a level whose curves
+// are smaller hides under a marker (an ε-pseudospectrum of a small ε
+// around an eigenvalue).
+const SeenSpan = 16.0
+
+// drawContour strokes the level curves and reports whether the part of
+// them in the plot spans at least SeenSpan px.
+func (r *renderer) drawContour(c canvas, lines []Polyline, col string, wd float64) bool {
 	var all [][]point
 	for _, pl := range lines {
 		all = append(all, r.strokes(r.pixels(pl.X, pl.Y))...)
 	}
 	c.stroke(all, false, strokeStyle{color: col, width: wd, round: true})
+	lo, hi := point{math.Inf(1), math.Inf(1)}, point{math.Inf(-1), math.Inf(-1)}
+	for _, pl := range all {
+		for _, q := range pl {
+			if r.plot.contains(q.x, q.y) {
+				lo.x, lo.y = math.Min(lo.x, q.x), math.Min(lo.y, q.y)
+				hi.x, hi.y = math.Max(hi.x, q.x), math.Max(hi.y, q.y)
+			}
+		}
+	}
+	return hi.x-lo.x >= SeenSpan || hi.y-lo.y >= SeenSpan
 }
 
 func (r *renderer) drawBand(c canvas, s *Band, col string, op float64) {
@@ -297,6 +319,9 @@ func (r *renderer) drawPoints(c canvas, s *Points, col string, sz float64) {
 		}
 	}
 	r.marks = append(r.marks, pts...)
+	if s.Halo {
+		c.markers(s.Marker, pts, sz+1.6, paperColor)
+	}
 	c.markers(s.Marker, pts, sz, col)
 }
 
@@ -466,7 +491,7 @@ func (r *renderer) drawLabels(c canvas) {
 		t := shorten(f.Y.Label, p.y1-p.y0, labelSize)
 		c.text(8+labelSize*0.8, (p.y0+p.y1)/2, label{mant: t}, textStyle{size: labelSize, color: inkColor, anchor: AnchorMiddle, vertical: true})
 	}
-	if t := r.notes.text(); t != "" {
+	if t := r.noteText(); t != "" {
 		t = shorten(t, r.W-16, noteSize)
 		c.text(8, r.H-6, label{mant: t}, textStyle{size: noteSize, color: noteColor})
 	}
@@ -612,4 +637,17 @@ func (r *renderer) overlap(b rect) int {
 		}
 	}
 	return n
+}
+
+// noteText is the line under the figure: skipped data, and contour levels
+// not seen in the plot.
+func (r *renderer) noteText() string {
+	t := r.notes.text()
+	if len(r.unseen) > 0 {
+		if t != "" {
+			t += "; "
+		}
+		t += strings.Join(r.unseen, ", ") + ": too small to see or outside the plot, not in the legend"
+	}
+	return t
 }

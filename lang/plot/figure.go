@@ -110,6 +110,9 @@ type Points struct {
 	Color  string
 	Marker Marker
 	Size   float64 // marker radius in px; 0 means 3.5
+	// Halo rings each marker in the paper colour, so that it shows on any
+	// background (eigenvalues on a heat map).
+	Halo bool
 }
 
 // Band fills the region between the curves (X[k], Lower[k]) and
@@ -122,8 +125,11 @@ type Band struct {
 }
 
 // ContourSet draws level curves, typically from Contours: Lines[k] are the
-// curves at level Levels[k]. Each level gets its own colour and the legend
-// entry "Name = value", the value formatted by FormatValue.
+// curves at level Levels[k]. Each level gets its own colour (ContourColors,
+// or on a heat map a colour set against the map there) and the legend entry
+// "Name = value", all values of the set in one format (FormatLevels). A
+// level whose curves in the plot span less than SeenSpan px gets no legend
+// entry; a note under the figure names it instead.
 type ContourSet struct {
 	Levels []float64
 	Lines  [][]Polyline

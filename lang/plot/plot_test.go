@@ -480,3 +480,42 @@ func TestPaletteColourBlind(t *testing.T) {
 		}
 	}
 }
+
+// TestFormatLevels: one legend, one number format.
+func TestFormatLevels(t *testing.T) {
+	for _, c := range []struct {
+		in   []float64
+		want string
+	}{
+		{[]float64{0.1, 0.01, 1e-3}, "1e−1 1e−2 1e−3"},
+		{[]float64{0.5, 0.025, 2}, "0.5 0.025 2"},
+		{[]float64{-0.25, 3e-5}, "−2.5e−1 3e−5"},
+		{[]float64{1e4, 0}, "1e4 0"},
+	} {
+		if got := strings.Join(FormatLevels(c.in), " "); got != c.want {
+			t.Errorf("FormatLevels(%v) = %q, want %q", c.in, got, c.want)
+		}
+	}
+}
+
+// TestUnseenLevels: a contour level whose curves lie outside the plot is
+// left out of the legend and named under the figure; a halo rings markers.
+func TestUnseenLevels(t *testing.T) {
+	f := &Figure{X: Axis{Min: 0, Max: 1}, Y: Axis{Min: 0, Max: 1}}
+	f.AddContours([]float64{0.5, 0.01}, [][]Polyline{
+		{{X: []float64{0.2, 0.8}, Y: []float64{0.5, 0.5}}},
+		{{X: []float64{5, 6}, Y: []float64{5, 6}}}, // far outside the limits
+	}, "ε")
+	p := f.AddPoints([]float64{0.5}, []float64{0.2}, "eigenvalue")
+	p.Halo = true
+	svg, r := render(t, f)
+	if len(r.entries) != 2 || r.entries[0].label != "ε = 0.5" {
+		t.Errorf("legend %+v", r.entries)
+	}
+	if !strings.Contains(svg, "ε = 0.01: too small to see or outside the plot") {
+		t.Error("the unseen level is not named")
+	}
+	if strings.Count(svg, `fill="`+paperColor+`" fill-opacity="0.85"`) != 1 {
+		t.Error("no halo under the marker")
+	}
+}

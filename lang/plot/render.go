@@ -82,32 +82,32 @@ func (f *Figure) Caption() string {
 
 // render checks the figure, lays it out and places its legend: with
 // LegendAuto, in an inner corner that leaves the data clear, or beside the
-// plot when there is none (a heat map fills every corner).
+// plot when there is none (a heat map fills every corner). A first pass
+// draws on nothing, to learn where the data lie and which contour levels
+// show.
 func (f *Figure) render() (*renderer, error) {
 	f.checkShapes()
 	r, err := f.prepare()
 	if err != nil {
 		return nil, err
 	}
-	if f.Legend != LegendAuto {
-		return r, nil
-	}
 	r.draw(nullCanvas{})
-	if len(r.entries) == 0 {
-		return r, nil
+	again := len(r.unseen) > 0 // the note under the plot needs room
+	if f.Legend == LegendAuto && len(r.entries) > 0 {
+		p := r.plot
+		bw, bh, _, _ := r.legendSize(r.entries, p.x1-p.x0-8-3*keyPad-keySw, max(int((p.y1-p.y0-8-2*keyPad)/keyRow), 1))
+		if r.heat != nil || r.overlap(r.cornerBox(r.emptiestCorner(bw, bh), bw, bh).inflate(3)) > 0 {
+			bw, _, _, _ = r.legendSize(r.entries, math.Min(0.3*r.W, 200), 1000)
+			if w0, h0 := r.fullSize(); w0-bw-10 >= 0.55*w0 { // else too narrow a figure to give the legend a margin
+				r.outside = bw + 10
+				r.W, r.H = w0, h0 // a heat map fitted to its data shrinks the figure again
+				again = true
+			}
+		}
 	}
-	p := r.plot
-	bw, bh, _, _ := r.legendSize(r.entries, p.x1-p.x0-8-3*keyPad-keySw, max(int((p.y1-p.y0-8-2*keyPad)/keyRow), 1))
-	if r.heat == nil && r.overlap(r.cornerBox(r.emptiestCorner(bw, bh), bw, bh).inflate(3)) == 0 {
-		return r, nil
+	if again {
+		r.layout(&r.bx, &r.by)
 	}
-	maxText := math.Min(0.3*r.W, 200)
-	bw, _, _, _ = r.legendSize(r.entries, maxText, 1000)
-	if r.W-bw-10 < 0.55*r.W { // too narrow a figure to give the legend a margin
-		return r, nil
-	}
-	r.outside = bw + 10
-	r.layout(&r.bx, &r.by)
 	return r, nil
 }
 
@@ -129,6 +129,7 @@ type renderer struct {
 	legend rect       // where the legend box went
 
 	entries   []legendEntry // the legend, as the last drawing found it
+	unseen    []string      // contour levels with no curve in the plot
 	outside   float64       // px kept right of the plot (and colour bar) for the legend; 0 for a legend inside
 	cbarRight float64       // right end of the colour bar's labels in px
 	bx, by    bounds        // the data ranges, kept for a second layout
@@ -239,14 +240,7 @@ func autoRange(lo, hi float64, any, log bool, margin float64) (float64, float64)
 // prepare collects the data ranges and lays the figure out.
 func (f *Figure) prepare() (*renderer, error) {
 	r := &renderer{f: f}
-	r.W, r.H = float64(f.Width), float64(f.Height)
-	if f.Width <= 0 {
-		r.W = DefaultWidth
-	}
-	if f.Height <= 0 {
-		r.H = DefaultHeight
-	}
-	r.W, r.H = math.Max(r.W, 120), math.Max(r.H, 90)
+	r.W, r.H = r.fullSize()
 	for _, ax := range []struct {
 		a    Axis
 		name string
@@ -342,6 +336,18 @@ func (f *Figure) prepare() (*renderer, error) {
 	return r, nil
 }
 
+// fullSize is the figure's size in px before any fitting to its data.
+func (r *renderer) fullSize() (w, h float64) {
+	w, h = float64(r.f.Width), float64(r.f.Height)
+	if r.f.Width <= 0 {
+		w = DefaultWidth
+	}
+	if r.f.Height <= 0 {
+		h = DefaultHeight
+	}
+	return math.Max(w, 120), math.Max(h, 90)
+}
+
 // heatScale returns the colour scale of h and counts its undrawable cells.
 func (r *renderer) heatScale(h *HeatMap) colourScale {
 	c := colourScale{log: h.Log}
@@ -374,7 +380,7 @@ func (r *renderer) layout(bx, by *bounds) {
 	if f.X.Label != "" {
 		bottom += labelSize + 6
 	}
-	if r.notes.text() != "" {
+	if r.noteText() != "" {
 		bottom += noteSize + 4
 	}
 	margin := 0.03

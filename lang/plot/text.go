@@ -269,3 +269,31 @@ func FormatValue(v float64) string {
 	e, _ := strconv.Atoi(exp)
 	return mant + "e" + intExp(e)
 }
+
+// FormatLevels formats a set of values shown together (contour levels in
+// one legend) in one style: all by FormatValue when every nonzero |v| lies
+// in [10⁻², 10⁴), otherwise all as mantissa and exponent ("1e−1", "1e−3",
+// "2.5e−2"), so that a legend never mixes 0.1 with 1e−3.
+func FormatLevels(vs []float64) []string {
+	out := make([]string, len(vs))
+	sci := false
+	for _, v := range vs {
+		if a := math.Abs(v); finite(v) && v != 0 && (a < 1e-2 || a >= 1e4) {
+			sci = true
+		}
+	}
+	for i, v := range vs {
+		out[i] = FormatValue(v)
+		if sci && finite(v) && v != 0 && !strings.Contains(out[i], "e") {
+			s := strconv.FormatFloat(v, 'e', 3, 64)
+			mant, exp, _ := strings.Cut(s, "e")
+			mant = strings.TrimRight(strings.TrimRight(mant, "0"), ".")
+			if strings.HasPrefix(mant, "-") {
+				mant = minus + mant[1:]
+			}
+			e, _ := strconv.Atoi(exp)
+			out[i] = mant + "e" + intExp(e)
+		}
+	}
+	return out
+}
