@@ -86,12 +86,28 @@ func sweepImpl(c *eval.Call) (value.Value, error) {
 	if err != nil {
 		return nil, err
 	}
-	ps, pc, err := numbers(c, "values", v)
-	if err != nil {
-		return nil, err
+	// Every row holds the parameter and at least one more column: refuse
+	// a table beyond the entry limit before anything is made.
+	if s, ok := v.(value.Indexable); ok {
+		if err := c.CheckSize(2*float64(s.Len()), "sweep: the table"); err != nil {
+			return nil, err
+		}
 	}
-	if pc != nil {
-		return nil, value.TypeErrorf("sweep: values must be real")
+	var ps []float64
+	if r, ok := v.(*value.Range); ok {
+		ps = make([]float64, r.Len())
+		for k := range ps {
+			ps[k] = r.At(k)
+		}
+	} else {
+		re, pc, err := numbers(c, "values", v)
+		if err != nil {
+			return nil, err
+		}
+		if pc != nil {
+			return nil, value.TypeErrorf("sweep: values must be real")
+		}
+		ps = re
 	}
 	if len(ps) == 0 {
 		return nil, value.ValueErrorf("sweep: values is empty")
