@@ -50,6 +50,15 @@ func (s *Session) Complete(src string, cursor int) (matches []string, start, end
 			matches = append(matches, m)
 		}
 	}
+	if fields, ok := s.fieldsBefore(runes[:start]); ok {
+		// After r. only the named parts of r (those written as names).
+		for _, f := range fields {
+			if isName(f) {
+				add(f)
+			}
+		}
+		return matches, start, end
+	}
 	var params []string
 	if fn := s.enclosingCall(runes[:start]); fn != nil {
 		for _, p := range fn.Params() {
@@ -64,7 +73,9 @@ func (s *Session) Complete(src string, cursor int) (matches []string, start, end
 	var rest []string
 	rest = append(rest, s.Names()...)
 	rest = append(rest, s.table.Names()...)
-	rest = append(rest, "and", "or", "not", "by")
+	for k := range syntax.Keywords {
+		rest = append(rest, k)
+	}
 	sort.Strings(rest)
 	for _, n := range rest {
 		add(n)
@@ -223,4 +234,40 @@ func (s *Session) IsComplete(src string) (status, indent string) {
 		return "invalid", ""
 	}
 	return "complete", ""
+}
+
+// fieldsBefore reports the named parts of the session variable written
+// just before a '.' that ends before (r. in r.pe), if it has any.
+func (s *Session) fieldsBefore(before []rune) ([]string, bool) {
+	n := len(before)
+	if n < 2 || before[n-1] != '.' || before[n-2] == '.' {
+		return nil, false
+	}
+	i := n - 1
+	for i > 0 && isNameRune(before[i-1]) {
+		i--
+	}
+	if i == n-1 {
+		return nil, false
+	}
+	v, ok := s.Lookup(string(before[i : n-1]))
+	if !ok {
+		return nil, false
+	}
+	h, ok := v.(value.HasFields)
+	if !ok {
+		return nil, false
+	}
+	return h.FieldNames(), true
+}
+
+// isName reports whether f can be written after a dot (r.f), not only as
+// r["f"].
+func isName(f string) bool {
+	for i, r := range f {
+		if !isNameRune(r) || i == 0 && unicode.IsDigit(r) {
+			return false
+		}
+	}
+	return f != "" && syntax.Keywords[f] == 0
 }
