@@ -27,7 +27,7 @@ var blockFamily = []*Builtin{
 			"split(w, A) cuts a vector into the parts A's block columns act on.",
 		Examples: []Example{
 			{"blocks([0, 1], [{-2, 1 | 1, -2}, -0.5]) * [1, 0, 0, 1]", "[0, 1, -2, 0.5]"},
-			{"blocks([0, 1], [-laplacian(interval(0, 1, 5)), 0])", "operator blocks: 6×6, 2×2 blocks (sizes 3, 3)"},
+			{"blocks([0, 1], [-laplacian(interval(0, 1, 5)), 0])", "operator blocks: 6×6, 2×2 blocks (sizes 3, 3)\n  entries {  0,   0,   0, 1, 0, 0 |\n             0,   0,   0, 0, 1, 0 |\n             0,   0,   0, 0, 0, 1 |\n            32, -16,   0, 0, 0, 0 |\n           -16,  32, -16, 0, 0, 0 |\n             0, -16,  32, 0, 0, 0}"},
 		},
 		Impl: blocksImpl,
 	},
@@ -35,7 +35,7 @@ var blockFamily = []*Builtin{
 		Name:     "identity",
 		Params:   []value.Param{req("n", "the order, a whole number ≥ 1")},
 		Doc:      "The identity operator I of order n (stored as its diagonal).",
-		Examples: []Example{{"identity(3) * [4, 5, 6]", "[4, 5, 6]"}, {"identity(3)", "operator I: 3×3, diagonal"}},
+		Examples: []Example{{"identity(3) * [4, 5, 6]", "[4, 5, 6]"}, {"identity(3)", "operator I: 3×3, diagonal\n  entries {1, 0, 0 |\n           0, 1, 0 |\n           0, 0, 1}"}},
 		Impl: func(c *eval.Call) (value.Value, error) {
 			n, err := argCount(c, 0)
 			if err != nil {
@@ -54,7 +54,7 @@ var blockFamily = []*Builtin{
 		Name:     "diagonal",
 		Params:   []value.Param{req("d", "the diagonal entries: a real vector, range or list of numbers")},
 		Doc:      "The diagonal operator diag(d): (diag(d) u)_i = d_i u_i. Entries must be finite.",
-		Examples: []Example{{"diagonal([1, 2, 3]) * [1, 1, 1]", "[1, 2, 3]"}, {"diagonal(1 .. 4)", "operator diag(d): 4×4, diagonal"}},
+		Examples: []Example{{"diagonal([1, 2, 3]) * [1, 1, 1]", "[1, 2, 3]"}, {"diagonal(1 .. 3)", "operator diag(d): 3×3, diagonal\n  entries {1, 0, 0 |\n           0, 2, 0 |\n           0, 0, 3}"}},
 		Impl: func(c *eval.Call) (value.Value, error) {
 			v, err := c.Arg(0)
 			if err != nil {

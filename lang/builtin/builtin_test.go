@@ -4,9 +4,11 @@ import (
 	"context"
 	"flag"
 	"fmt"
+	"html"
 	"os"
 	"strings"
 	"testing"
+	"unicode/utf8"
 
 	"semiflow/lang/builtin"
 	"semiflow/lang/run"
@@ -54,14 +56,36 @@ func TestDocumented(t *testing.T) {
 
 func TestHelpListsEveryBuiltin(t *testing.T) {
 	s := run.NewSession()
-	var out strings.Builder
-	if _, _, err := s.Execute(context.Background(), "help()", writer{&out}); err != nil {
+	data, _, err := s.Execute(context.Background(), "help()", nil)
+	if err != nil {
 		t.Fatal(err)
 	}
+	text, _ := data["text/plain"].(string)
+	page, _ := data["text/html"].(string)
 	for _, n := range builtin.Default().Names() {
-		if !strings.Contains(out.String(), "\n  "+n) {
+		if !strings.Contains(text, "\n  "+n+" ") {
 			t.Errorf("help() does not list %s", n)
 		}
+		if !strings.Contains(page, "<code>"+html.EscapeString(n)) {
+			t.Errorf("help()'s table does not list %s", n)
+		}
+	}
+	for _, l := range strings.Split(text, "\n") {
+		if n := utf8.RuneCountInString(l); n > 100 {
+			t.Errorf("help() line of %d characters: %q", n, l)
+		}
+	}
+	if strings.Contains(text, "\nOther\n") {
+		t.Errorf("builtins outside every family heading of help():\n%s", text[strings.Index(text, "\nOther\n"):])
+	}
+	// Families in their reading order, each heading once.
+	last := -1
+	for _, h := range []string{"\nConstants\n", "\nGrids and grid functions\n", "\nOperators\n", "\nEvolution u(t) = e^{tA} u0\n", "\nStability: spectra, numerical range, resolvents, growth\n"} {
+		i := strings.Index(text, h)
+		if i <= last || strings.Count(text, h) != 1 {
+			t.Errorf("heading %q missing, repeated or out of order", h)
+		}
+		last = i
 	}
 }
 

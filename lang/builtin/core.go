@@ -14,11 +14,18 @@ var coreFamily = []*Builtin{
 	{
 		Name:   "help",
 		Params: []value.Param{opt("name", value.None, "a builtin or user function, or its name as a string")},
-		Doc:    "Writes documentation to standard output. Without an argument it lists every builtin with the first sentence of its documentation; help(span) or help(\"span\") shows one builtin's signature, documentation and examples; for a user function it shows its definition.",
+		Doc:    "Documentation. Without an argument it shows every builtin under the heading of its family (grids, operators, evolution, stability, …) with the first sentence of its documentation, as text and, in a notebook, as a table; help(span) or help(\"span\") writes one builtin's signature, documentation and examples to standard output; for a user function it writes its definition.",
 		Examples: []Example{
 			{"help(typeof)", ""},
 		},
 		Impl: func(c *eval.Call) (value.Value, error) {
+			if c.Args[0] == value.None {
+				t, _ := c.Interp.Builtins.(*Table)
+				if t == nil {
+					return nil, value.ValueErrorf("%s: no builtin table", c.Name)
+				}
+				return NewListing(t), nil
+			}
 			text, err := helpText(c, c.Args[0])
 			if err != nil {
 				return nil, err
@@ -266,12 +273,7 @@ func helpText(c *eval.Call, v value.Value) (string, error) {
 	}
 	switch x := v.(type) {
 	case value.NoneType:
-		var sb strings.Builder
-		sb.WriteString("Builtins (help(name) for one of them):\n")
-		for _, b := range t.All() {
-			fmt.Fprintf(&sb, "  %-22s %s\n", b.Signature(), b.Summary())
-		}
-		return sb.String(), nil
+		return NewListing(t).String() + "\n", nil
 	case Function:
 		return x.B.Help(), nil
 	case *eval.Closure:

@@ -139,7 +139,7 @@ var operatorFamily = []*Builtin{
 		Doc:    "The operator x ↦ M x of a square matrix (dense). Operators and square matrices mix in arithmetic: A + M, M * A, s * A, A * v.",
 		Examples: []Example{
 			{"operator({0, 1 | -1, 0}) * [1, 2]", "[2, -1]"},
-			{"operator({1, 2 | 3, 4})", "operator matrix: 2×2, dense"},
+			{"operator({1, 2 | 3, 4})", "operator matrix: 2×2, dense\n  entries {1, 2 |\n           3, 4}"},
 		},
 		Impl: func(c *eval.Call) (value.Value, error) {
 			if m, ok := c.Args[0].(*value.Matrix); ok && m.Rows == m.Cols {

@@ -30,7 +30,36 @@ func (a *Operator) String() string {
 	if a.Grid != nil {
 		s += "\n  on " + a.Grid.describe()
 	}
+	if m := a.smallEntries(); m != nil {
+		s += "\n  entries " + strings.ReplaceAll(m.String(), "\n", "\n          ")
+	}
 	return s
+}
+
+// ShownEntries is the largest number of rows and of columns of an
+// operator whose display lists its entries.
+const ShownEntries = 8
+
+// smallEntries returns the entries of an operator of at most ShownEntries
+// rows and columns, column j as A e_j: the stored entries of a matrix or a
+// sparse operator; for a sum, product or Kronecker sum, the entries as its
+// product forms them. A larger operator gives nil.
+func (a *Operator) smallEntries() *value.Matrix {
+	r, c := a.Op.Dims()
+	if r == 0 || c == 0 || r > ShownEntries || c > ShownEntries {
+		return nil
+	}
+	m := value.NewMatrix(r, c)
+	e, col := make([]float64, c), make([]float64, r)
+	for j := range c {
+		e[j] = 1
+		a.Op.Apply(col, e)
+		e[j] = 0
+		for i, v := range col {
+			m.Data[i*c+j] = v
+		}
+	}
+	return m
 }
 
 // Structure describes how the operator is stored: "dense", "sparse, k
@@ -290,7 +319,9 @@ func KronSum(a, b *Operator) (*Operator, error) {
 }
 
 // MIME returns an HTML table: label, size, storage, the grid, and the norms
-// ‖A‖₁ and ‖A‖∞ where one pass over the entries gives them exactly.
+// ‖A‖₁ and ‖A‖∞ where one pass over the entries gives them exactly; for an
+// operator of at most ShownEntries rows and columns, a second table of its
+// entries.
 func (a *Operator) MIME() map[string]any {
 	r, c := a.Op.Dims()
 	t := &textTable{caption: "operator " + a.Label, left: true}
@@ -305,7 +336,23 @@ func (a *Operator) MIME() map[string]any {
 	if n, ok := linop.NormInf(a.Op); ok {
 		t.add("‖A‖∞ (max row sum)", value.FormatNum(n))
 	}
-	return map[string]any{"text/html": t.html()}
+	out := t.html()
+	if m := a.smallEntries(); m != nil {
+		e := &textTable{caption: "entries a_ij (row i, column j)"}
+		e.head = append(e.head, "")
+		for j := range m.Cols {
+			e.head = append(e.head, fmt.Sprint(j))
+		}
+		for i := range m.Rows {
+			row := []string{fmt.Sprint(i)}
+			for j := range m.Cols {
+				row = append(row, value.FormatNum(m.At(i, j)))
+			}
+			e.add(row...)
+		}
+		out += e.html()
+	}
+	return map[string]any{"text/html": out}
 }
 
 // blockSizesText lists a block operator's block-row sizes, and its
