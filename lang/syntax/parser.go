@@ -307,7 +307,7 @@ func (p *parser) parseWhere(x Expr) Expr {
 	seen := map[string]bool{}
 	for p.tok.Tok != RPAREN && p.tok.Tok != EOF {
 		if p.tok.Tok != IDENT || p.peek().Tok != ASSIGN {
-			p.errorf(p.tok.Pos, p.tok.End, "expected a local definition name = value inside where ( ), found %s", p.describe())
+			p.errorf(p.tok.Pos, p.tok.End, "expected a local definition name = value inside where ( ), found %s (a local function is written g = y -> …)", p.describe())
 			for p.tok.Tok != RPAREN && p.tok.Tok != EOF && p.tok.Tok != NEWLINE && p.tok.Tok != SEMI {
 				p.next()
 			}
