@@ -180,7 +180,7 @@ func (in *Interp) wrap(sc *scope, n syntax.Node, err error) error {
 	case *value.Error:
 		return &Error{Name: e.Name, Msg: e.Msg, File: sc.file, Pos: n.Pos(), End: n.End()}
 	}
-	return &Error{Name: "Error", Msg: err.Error(), File: sc.file, Pos: n.Pos(), End: n.End()}
+	return &Error{Name: value.ClassOther, Msg: err.Error(), File: sc.file, Pos: n.Pos(), End: n.End()}
 }
 
 // tick charges n units of work and checks the budget and the context.

@@ -23,6 +23,7 @@ const (
 	ClassDepth       = "too deep"           // calls or expressions nested too deeply
 	ClassInterrupted = "interrupted"        // stopped by the user
 	ClassInternal    = "internal fault"     // a bug in Semiflow: please report the input
+	ClassOther       = "failure"            // an error that names no class
 )
 
 // Error is a runtime error raised by an operation or a builtin, before the
