@@ -305,8 +305,10 @@ func (p *parser) parseWhere(x Expr) Expr {
 	p.enter()
 	p.next()
 	seen := map[string]bool{}
+	bad := false
 	for p.tok.Tok != RPAREN && p.tok.Tok != EOF {
 		if p.tok.Tok != IDENT || p.peek().Tok != ASSIGN {
+			bad = true
 			p.errorf(p.tok.Pos, p.tok.End, "expected a local definition name = value inside where ( ), found %s (a local function is written g = y -> …)", p.describe())
 			for p.tok.Tok != RPAREN && p.tok.Tok != EOF && p.tok.Tok != NEWLINE && p.tok.Tok != SEMI {
 				p.next()
@@ -328,7 +330,7 @@ func (p *parser) parseWhere(x Expr) Expr {
 		}
 		p.next()
 	}
-	if len(w.Binds) == 0 && p.tok.Tok == RPAREN {
+	if len(w.Binds) == 0 && !bad && p.tok.Tok == RPAREN {
 		p.errorf(lp, p.tok.End, "where ( ) needs at least one definition name = value")
 	}
 	w.Rparen = p.expectClose(RPAREN, lp)
