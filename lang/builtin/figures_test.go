@@ -7,6 +7,7 @@ import (
 	"encoding/json"
 	"encoding/xml"
 	"errors"
+	"fmt"
 	"image/png"
 	"io"
 	"os"
@@ -173,6 +174,46 @@ func TestFigureWords(t *testing.T) {
 		}
 		if svg, _ := data["image/svg+xml"].(string); !strings.Contains(svg, c.want) {
 			t.Errorf("%s: the figure lacks %q", c.code, c.want)
+		}
+	}
+}
+
+// TestPicture checks a figure with a title, a time range and a unit of the
+// reader's own, its vertical axis fitted to the curve within the range, and
+// the refusals.
+func TestPicture(t *testing.T) {
+	s := run.NewSession()
+	data, _, err := s.Execute(context.Background(), `picture(growth({-1, 5 | 0, -2}, bounds="none"), title="Shear model", xspan=[0, 4], xunit="s")`, nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	svg, _ := data["image/svg+xml"].(string)
+	if data["text/plain"] != "picture: Shear model" || !strings.Contains(svg, "<title>Shear model</title>") || !strings.Contains(svg, ">t (s)</text>") {
+		t.Fatalf("picture: %v; %.300s", data["text/plain"], svg)
+	}
+	if _, ok := data["image/png"]; !ok {
+		t.Error("no PNG")
+	}
+	// Closed form: e^{tA} = [e^{−t}, 5(e^{−t} − e^{−2t}); 0, e^{−2t}], so
+	// ‖e^{tA}‖₂ ≥ 5(e^{−4} − e^{−8}) = 0.0899 at t = 4 and above it before;
+	// an axis fitted to t ∈ [0, 4] with its 3% margin starts above 0.05,
+	// while the whole curve to t = 10 reaches down to about 1e−4.
+	i := strings.Index(svg, "y from ")
+	var lo float64
+	if i < 0 {
+		t.Fatal("no description")
+	}
+	if _, err := fmt.Sscanf(strings.ReplaceAll(svg[i:], "−", "-"), "y from %g", &lo); err != nil || lo < 0.05 {
+		t.Errorf("y axis starts at %g (%v): not fitted to t ∈ [0, 4]", lo, err)
+	}
+	for _, c := range []struct{ code, want string }{
+		{`picture(3)`, "picture: a number has no figure"},
+		{`picture(spectrum({-1, 5 | 0, -2}), xspan=[1, 0])`, "picture: xspan must be an interval [a, b] with a < b"},
+		{`picture(growth({-1, 5 | 0, -2}, bounds="none"), yspan=[-1, 1])`, "picture: yspan must be positive on a logarithmic axis"},
+		{`picture(spectrum({-1, 5 | 0, -2}), title=7)`, "picture: title must be a string"},
+	} {
+		if _, _, err := s.Execute(context.Background(), c.code, nil); err == nil || !strings.Contains(err.Error(), c.want) {
+			t.Errorf("%s: error %v, want %q", c.code, err, c.want)
 		}
 	}
 }

@@ -58,3 +58,44 @@ func fold(table string, rows int, columns []string) string {
 		html.EscapeString(fmt.Sprintf("table of %d rows (%s) — folded; click to unfold", rows, cols)) +
 		`</summary>` + table + `</details>`
 }
+
+// Picture is a figure on its own: the figure of a result, with its title,
+// axis labels, ranges or units set by the reader (the builtin picture). It
+// shows as the figure (SVG, PNG and the PNG in HTML) with its caption as
+// plain text, and writesvg and writepng save it.
+type Picture struct {
+	Fig *plot.Figure
+}
+
+func (p *Picture) Type() string { return "picture" }
+
+// String is the caption and what the figure holds, in a line.
+func (p *Picture) String() string { return "picture: " + p.Fig.Caption() }
+
+// MIME returns the figure as SVG and PNG, and HTML that shows the PNG.
+func (p *Picture) MIME() map[string]any {
+	out := map[string]any{}
+	out["text/html"] = addFigure(p.Fig, out)
+	return out
+}
+
+// FigureOf returns a copy of the figure that v draws (a solution, an
+// analysis result or a picture), to be changed without changing v's, or
+// nil when v draws none.
+func FigureOf(v any) *plot.Figure {
+	var f *plot.Figure
+	switch v := v.(type) {
+	case *Solution:
+		f = v.Figure()
+	case *Analysis:
+		f = v.Figure
+	case *Picture:
+		f = v.Fig
+	}
+	if f == nil {
+		return nil
+	}
+	c := *f
+	c.Series = append([]plot.Series(nil), f.Series...)
+	return &c
+}

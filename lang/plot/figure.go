@@ -17,6 +17,8 @@ type Axis struct {
 	// limits are the data range widened by 3% of its span on each side (of the
 	// span of log₁₀ of the data on a logarithmic axis). Explicit limits
 	// narrower than 1e−9 of their magnitude are widened like a single value.
+	// Data outside explicit limits on the other axis do not count towards
+	// the data range.
 	Min, Max float64
 }
 

@@ -250,9 +250,14 @@ func (f *Figure) prepare() (*renderer, error) {
 		}
 	}
 	bx, by := newBounds(f.X.Log), newBounds(f.Y.Log)
+	// Data outside an explicit limit on one axis do not widen the other:
+	// a time range chosen for x fits y to the curve within it.
+	within := func(v float64, ax Axis) bool {
+		return !(ax.Min < ax.Max) || (v >= ax.Min && v <= ax.Max)
+	}
 	pt := func(x, y float64) {
 		okx := bx.valid(x, &r.notes)
-		if oky := by.valid(y, &r.notes); okx && oky {
+		if oky := by.valid(y, &r.notes); okx && oky && within(x, f.X) && within(y, f.Y) {
 			bx.add(x)
 			by.add(y)
 		}
