@@ -23,8 +23,9 @@ const growthDenseFlops = 2e9
 // diagonal). Otherwise, for order ≤ 400 with a
 // dense form, M = max_k ‖E^k‖∞·e^{μ∞r} over the powers of E = e^{rA} on a
 // grid of spacing r covering [0, T] (between grid points ‖e^{(kr+ρ)A}‖ ≤
-// ‖E^k‖e^{ρμ∞}), with r chosen so that e^{μ∞r} ≤ 1.1 when the work allows;
-// beyond that order, the log-norm bound e^{Tμ∞} itself, which can be
+// ‖E^k‖e^{ρμ∞}), with r chosen so that e^{μ∞r} ≤ 1.1 when the work allows
+// (otherwise sup_{ρ≤r}‖e^{ρA}‖ is bounded by a second grid of r/16 where
+// that is smaller); beyond that order, the log-norm bound e^{Tμ∞} itself, which can be
 // pessimistic by orders of magnitude for a non-normal A (even +Inf).
 func growthBound(ctx context.Context, A linop.Operator, T float64) (float64, string, error) {
 	n, _ := A.Dims()
@@ -76,8 +77,26 @@ func growthBound(ctx context.Context, A linop.Operator, T float64) (float64, str
 			return math.Inf(1), "sup‖e^{sA}‖∞ overflowed", nil
 		}
 	}
-	M := m * math.Exp(mu*r)
-	return M, fmt.Sprintf("sup‖e^{sA}‖∞ ≤ %.3g over [0, %.3g] (powers of e^{rA}, r = %.2g, times e^{rμ∞}, μ∞ = %.3g)", M, T, r, mu), nil
+	between := math.Exp(mu * r) // sup_{ρ≤r} ‖e^{ρA}‖∞ ≤ e^{rμ∞}
+	if between > 1.1 {
+		// The work allowed a coarse grid only: bound sup_{ρ≤r}‖e^{ρA}‖
+		// by the powers of e^{(r/16)A} times e^{rμ∞/16} instead, when
+		// smaller (16 more products).
+		ra.Scale(r/16, a)
+		if _, err := ExpContext(ctx, &E, &ra); err != nil {
+			return 0, "", err
+		}
+		P.Copy(&E)
+		m2 := math.Max(1, mat.Norm(P, math.Inf(1)))
+		for k := 2; k <= 16; k++ {
+			next.Mul(&E, P)
+			P, next = next, P
+			m2 = math.Max(m2, mat.Norm(P, math.Inf(1)))
+		}
+		between = math.Min(between, m2*math.Exp(mu*r/16))
+	}
+	M := m * between
+	return M, fmt.Sprintf("sup‖e^{sA}‖∞ ≤ %.3g over [0, %.3g] (powers of e^{rA}, r = %.2g, μ∞ = %.3g)", M, T, r, mu), nil
 }
 
 // logNormInf returns μ∞(A) = max_i (a_ii + Σ_{j≠i}|a_ij|).

@@ -98,3 +98,28 @@ func TestForcedGrowthJordanLike(t *testing.T) {
 		t.Errorf("the reason does not name the growth bound: %s", s.Reason)
 	}
 }
+
+// TestGrowthBoundCoarse: for order 200 the work allows 125 grid steps, too
+// few for e^{rμ∞} ≤ 1.1; A = −I + 50·(upper shift) has μ∞ = 49 and
+// ‖e^{sA}‖∞ = e^{−s}Σ_{k<200} (50s)^k/k! (a Jordan block, closed form),
+// largest at s = T = 1: e^{−1}Σ_{k<200} 50^k/k! = e^{49} (the Poisson(50)
+// mass beyond 199 is below 1e-40). The bound must hold and stay within 2×.
+func TestGrowthBoundCoarse(t *testing.T) {
+	n := 200
+	a := mat.NewDense(n, n, nil)
+	for i := 0; i < n; i++ {
+		a.Set(i, i, -1)
+		if i+1 < n {
+			a.Set(i, i+1, 50)
+		}
+	}
+	want := math.Exp(49)
+	M, note, err := growthBound(context.Background(), linop.NewDense(a), 1)
+	if err != nil {
+		t.Fatal(err)
+	}
+	t.Logf("M = %.4g, sup = %.4g (%s)", M, want, note)
+	if M < want*(1-1e-12) || M > 2*want {
+		t.Errorf("M = %.4g, want in [%.4g, 2·%.4g]", M, want, want)
+	}
+}
