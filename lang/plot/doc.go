@@ -1,21 +1,38 @@
-// Package plot draws small, stable SVG figures using only the standard library:
-// lines, markers, bands between bounds, contour lines, heat maps with a colour
-// bar, reference lines and text annotations, on linear or logarithmic axes.
+// Package plot draws small, stable figures — lines, markers, bands between
+// bounds, contour lines, heat maps with a colour bar, reference lines and text
+// annotations, on linear or logarithmic axes — as SVG (standard library only)
+// and as PNG (golang.org/x/image's vector rasteriser and the embedded Go
+// Regular font).
+//
+// One layout, two back ends. The renderer lays a figure out once (margins,
+// scales, ticks, legend place) and draws it through the canvas interface;
+// svgCanvas writes elements, rasterCanvas paints pixels at PixelDensity per
+// px. Both receive the same calls, so the PNG shows what the SVG shows
+// (raster_test.go probes one against the other). The PNG needs no font on
+// the reader's machine and survives where SVG does not (an untrusted
+// notebook, a static renderer, a document).
 //
 // It exists instead of gonum.org/v1/plot for three measured reasons: gonum/plot
 // names fonts without a fallback family, so a browser lacking the named font
 // substitutes one of different metrics and labels overlap or clip; it labels
 // embedded raster images with the wrong MIME type; and its files are large. Here
-// every text element uses the family list in FontFamily, which ends with the
+// every SVG text element uses the family list in FontFamily, which ends with the
 // generic family sans-serif; text widths are estimated conservatively (see
 // TextWidth) and margins, tick thinning and title wrapping are derived from those
 // estimates; embedded rasters are written as data:image/png;base64; and every
 // coordinate is written with at most two decimals.
 //
+// The look is our own: colours built by rules in OKLab (color.go: a heat-map
+// path from night blue through plum and rose to cream, contour colours set
+// against the map under them, line colours 0.1 apart in lightness), only the
+// two data axes ruled, and a legend on a paper-coloured panel in an empty
+// inner corner, or beside the plot when no corner is empty.
+//
 // Conventions. A Figure holds Series and is turned into SVG by Figure.SVG or
-// Figure.WriteSVG. Gridded data z[i][j] always means the value at (xs[i], ys[j]):
-// the first index runs along x, the second along y (as in a pseudospectrum grid
-// indexed by real part, then imaginary part). Non-finite data (NaN, ±Inf) are
+// Figure.WriteSVG, into PNG by Figure.PNG or Figure.WritePNG. Gridded data
+// z[i][j] always means the value at (xs[i], ys[j]): the first index runs along
+// x, the second along y (as in a pseudospectrum grid indexed by real part,
+// then imaginary part). Non-finite data (NaN, ±Inf) are
 // skipped and counted; on a logarithmic axis non-positive data are an error
 // unless Figure.DropNonPositive is set, in which case they are dropped and
 // counted. The counts are returned in Notes and written as a small note in the
@@ -30,6 +47,7 @@
 //     (a <tspan> shifted by dy, which every SVG renderer honours).
 //   - Legend entries and annotations use FormatValue: four significant digits,
 //     a decimal for 10⁻² ≤ |v| < 10⁴, otherwise an exponent written "1e−3"
-//     (U+2212 minus, no leading zeros, no plus sign).
+//     (U+2212 minus, no leading zeros, no plus sign); the levels of one
+//     contour set share one style (FormatLevels).
 //   - Negative numbers use U+2212 minus; −0 is written 0.
 package plot

@@ -1,8 +1,8 @@
 // notebook_check.js opens a notebook in a running classic Jupyter notebook
 // server under headless Chromium, runs all its cells through the Cell menu
-// with the Semiflow kernel, and checks what a reader would see: inline SVG
-// figures (an svg element from an image/svg+xml output, or one inside an HTML
-// output), HTML tables, no error output, SVG text inside its figure, figures
+// with the Semiflow kernel, and checks what a reader would see: figures (a
+// PNG image inside a result's HTML output, an svg element from an
+// image/svg+xml output), HTML tables, no error output, SVG text inside its figure, figures
 // that fit the output area, and outputs that survive saving. It saves a
 // full-page screenshot of each notebook and ends with the line 'checks: N passed, N failed'.
 //
@@ -104,7 +104,7 @@ function cellPrompts() {
 // which makes a later figure draw with an earlier one's definitions.
 function inspectOutputs() {
   const slack = 0.5; // px, for anti-aliased edges
-  const out = { svgs: 0, svgFromSvg: 0, svgInHtml: 0, tables: 0, errors: [], clipped: [], wide: [], texts: 0, figureSizes: [], ids: 0, duplicateIds: [] };
+  const out = { svgs: 0, svgFromSvg: 0, svgInHtml: 0, pngs: 0, blankPngs: [], tables: 0, errors: [], clipped: [], wide: [], texts: 0, figureSizes: [], ids: 0, duplicateIds: [] };
   const idOwner = new Map(); // id → index of the first figure that has it
   const cells = Jupyter.notebook.get_cells().filter((c) => c.cell_type === 'code');
   cells.forEach((cell, k) => {
@@ -114,6 +114,18 @@ function inspectOutputs() {
     }
     out.tables += [...el.querySelectorAll('.output_html table')].filter((t) => t.rows.length >= 2).length;
     for (const sub of el.querySelectorAll('.output_subarea')) {
+      // A result's HTML shows its figure as a PNG image (data URI); it must
+      // have loaded and fit the output area.
+      for (const img of sub.querySelectorAll('img[src^="data:image/png"]')) {
+        out.pngs++;
+        const box = img.getBoundingClientRect();
+        const area = sub.getBoundingClientRect();
+        out.figureSizes.push(`${Math.round(box.width)}×${Math.round(box.height)}`);
+        if (!img.complete || img.naturalWidth === 0) out.blankPngs.push(`cell ${k + 1}: PNG figure ${out.pngs} did not load`);
+        if (box.right > area.right + slack) {
+          out.wide.push(`cell ${k + 1}: PNG figure ${out.pngs} is ${Math.round(box.width)} px wide in an output area of ${Math.round(area.width)} px`);
+        }
+      }
       for (const svg of sub.querySelectorAll('svg')) {
         if (svg.parentElement.closest('svg')) continue; // nested svg
         if (sub.classList.contains('output_svg')) out.svgFromSvg++;
@@ -222,21 +234,22 @@ async function checkNotebook(context, opts, name, prefix, left) {
     const out = await ev(page, inspectOutputs);
     c('no error output', out.errors.length === 0, out.errors.join(' | '));
     c(
-      'at least one inline SVG figure',
-      out.svgs >= 1,
-      `${out.svgFromSvg} from image/svg+xml outputs, ${out.svgInHtml} inside HTML outputs` +
-        (out.svgs ? `; sizes ${out.figureSizes.join(', ')} px` : '; a bundle with both text/html and image/svg+xml shows only its HTML'),
+      'at least one figure shown (PNG in a result, or SVG)',
+      out.pngs + out.svgs >= 1 && out.blankPngs.length === 0,
+      `${out.pngs} PNG figures in HTML outputs, ${out.svgFromSvg} SVG from image/svg+xml outputs, ${out.svgInHtml} SVG inside HTML outputs` +
+        (out.figureSizes.length ? `; sizes ${out.figureSizes.join(', ')} px` : '') +
+        (out.blankPngs.length ? `; ${out.blankPngs.join(' | ')}` : ''),
     );
     c('at least one HTML table', out.tables >= 1, `${out.tables} tables`);
     c(
       'SVG text inside its figure',
-      out.svgs >= 1 && out.texts >= 1 && out.clipped.length === 0,
+      out.clipped.length === 0,
       out.clipped.length ? out.clipped.slice(0, 10).join(' | ') : `${out.texts} text elements checked`,
     );
-    c('figures fit the output area', out.svgs >= 1 && out.wide.length === 0, out.wide.join(' | '));
+    c('figures fit the output area', out.pngs + out.svgs >= 1 && out.wide.length === 0, out.wide.join(' | '));
     c(
       'SVG ids unique on the page',
-      out.svgs >= 1 && out.duplicateIds.length === 0,
+      out.duplicateIds.length === 0,
       out.duplicateIds.length ? `shared by several figures: ${out.duplicateIds.slice(0, 10).join(', ')}` : `${out.ids} ids`,
     );
 
@@ -256,7 +269,7 @@ async function checkNotebook(context, opts, name, prefix, left) {
     );
     c(
       'saved notebook keeps its outputs',
-      saved.status === 200 && saved.counted && saved.kinds.includes('image/svg+xml') && saved.kinds.includes('text/html'),
+      saved.status === 200 && saved.counted && saved.kinds.includes('image/svg+xml') && saved.kinds.includes('image/png') && saved.kinds.includes('text/html'),
       `status ${saved.status}, all counted ${saved.counted}, MIME types ${(saved.kinds || []).join(' ')}`,
     );
 

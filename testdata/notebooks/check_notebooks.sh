@@ -3,8 +3,9 @@
 #   1. `semiflow run` writes each notebook; nbformat.validate accepts it;
 #   2. nbclient executes each notebook against the installed kernelspec and
 #      the saved result validates and has no error outputs;
-#   3. `jupyter nbconvert --to html` renders it, and the HTML holds the SVG
-#      figures and the HTML tables.
+#   3. `jupyter nbconvert --to html` renders it, and the HTML holds the
+#      figures (as PNG images; each output also keeps its SVG) and the HTML
+#      tables.
 # Without the Python modules it skips, except under CI=true, where that is a
 # failure. The last line is 'N passed, N failed'.
 set -u
@@ -73,9 +74,14 @@ import nbformat
 
 html = open(sys.argv[1], encoding="utf-8").read()
 nb = nbformat.read(sys.argv[2], as_version=4)
-svgs = sum("image/svg+xml" in o.get("data", {}) for c in nb.cells if c.cell_type == "code" for o in c.outputs)
-assert svgs > 0, "the executed notebook has no SVG figure"
-assert html.count("<svg") >= svgs, "HTML has %d <svg, notebook %d figures" % (html.count("<svg"), svgs)
+figs = [o["data"] for c in nb.cells if c.cell_type == "code" for o in c.outputs if "image/svg+xml" in o.get("data", {})]
+assert figs, "the executed notebook has no SVG figure"
+assert all("image/png" in d for d in figs), "a figure without its PNG form"
+# A result shows its figure in its HTML as a PNG <img> (inline SVG would be
+# stripped in an untrusted notebook, its text spilling into the page).
+imgs = html.count('<img src="data:image/png;base64,')
+assert imgs >= len(figs), "HTML has %d PNG figures, notebook %d figures" % (imgs, len(figs))
+assert "Figure with" not in html, "a figure's hidden description shows as text"
 assert "<table" in html, "HTML has no table"
 assert "Caution" in html, "HTML lacks the Markdown cells"
 PY
