@@ -21,7 +21,7 @@ var sweepFamily = []*Builtin{
 		},
 		Doc: "A table of f(p) for each p in values, with named columns: the first is p, named after f's parameter (R for R -> …), the others what f returns — " +
 			"a number (column value), a vector or list of numbers (columns v0, v1, … or names), or a report whose numbers become columns named after its parts (r.peak becomes column peak). " +
-			"Every call must return the same kind and count. t.name is a column as a vector, t[i] row i; max(t.peak) and the row of the largest peak answer an arg-max question without recursion. " +
+			"Every call must return the same kind and count, and finite numbers (a report's parts that are not computed, nan, are left out). t.name is a column as a vector, t[i] row i; t.R[argmax(t.peak)] is the R of the largest peak, with no recursion. " +
 			"The calls run in order, show progress, and stop at an interrupt; the table shows a figure of each real column against p.",
 		Examples: []Example{
 			{"sweep([1, 2, 3], k -> k^2).value", "[1, 4, 9]"},
@@ -111,6 +111,11 @@ func sweepImpl(c *eval.Call) (value.Value, error) {
 	}
 	if len(ps) == 0 {
 		return nil, value.ValueErrorf("sweep: values is empty")
+	}
+	for k, p := range ps {
+		if math.IsNaN(p) || math.IsInf(p, 0) {
+			return nil, value.ValueErrorf("sweep: values[%d] = %s is not finite", k, value.FormatNum(p))
+		}
 	}
 	f, ok := c.Args[1].(value.Callable)
 	if !ok {
@@ -216,8 +221,10 @@ func sweepColumns(r value.Value, names []string) (*sweepShape, error) {
 		return &sweepShape{names: names}, nil
 	case value.HasFields:
 		if len(names) == 0 {
+			// Every numeric part with a finite value; a part that is not
+			// computed (nan, as crossdiff without a cross-check) is left out.
 			for _, n := range t.FieldNames() {
-				if x, _ := t.Field(n); value.IsNumeric(x) {
+				if x, _ := t.Field(n); value.IsNumeric(x) && finite(x) {
 					names = append(names, n)
 				}
 			}
@@ -246,6 +253,9 @@ func sweepRow(shape *sweepShape, r value.Value, at string) ([]value.Value, error
 			if !value.IsNumeric(x) {
 				return nil, value.TypeErrorf("sweep: at %s part %s is a %s, not a number", at, n, value.TypeName(x))
 			}
+			if !finite(x) {
+				return nil, value.ValueErrorf("sweep: at %s part %s is %s; a table holds finite numbers only", at, n, x)
+			}
 			cells[k] = x
 		}
 		return cells, nil
@@ -253,6 +263,9 @@ func sweepRow(shape *sweepShape, r value.Value, at string) ([]value.Value, error
 	switch t := r.(type) {
 	case value.Num, value.Complex:
 		if len(cells) == 1 {
+			if !finite(t) {
+				return nil, value.ValueErrorf("sweep: at %s f returned %s; a table holds finite numbers only", at, t)
+			}
 			cells[0] = t
 			return cells, nil
 		}
@@ -262,6 +275,9 @@ func sweepRow(shape *sweepShape, r value.Value, at string) ([]value.Value, error
 			for k := range cells {
 				if cells[k] = s.Index(k); !value.IsNumeric(cells[k]) {
 					return nil, value.TypeErrorf("sweep: at %s entry %d of f's result is a %s, not a number", at, k, value.TypeName(cells[k]))
+				}
+				if !finite(cells[k]) {
+					return nil, value.ValueErrorf("sweep: at %s entry %d of f's result is %s; a table holds finite numbers only", at, k, cells[k])
 				}
 			}
 			return cells, nil
@@ -321,4 +337,16 @@ func sweepFigure(pname string, cols []string, rows [][]value.Value) *plot.Figure
 		}
 	}
 	return f
+}
+
+// finite reports whether a number or complex number is finite.
+func finite(x value.Value) bool {
+	switch t := x.(type) {
+	case value.Num:
+		return !math.IsNaN(float64(t)) && !math.IsInf(float64(t), 0)
+	case value.Complex:
+		z := complex128(t)
+		return !math.IsNaN(real(z)) && !math.IsInf(real(z), 0) && !math.IsNaN(imag(z)) && !math.IsInf(imag(z), 0)
+	}
+	return false
 }
