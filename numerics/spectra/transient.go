@@ -571,13 +571,14 @@ func (sh *shape) kreiss(ctx context.Context) (*KreissResult, error) {
 	}
 	al, atol, ill := sh.abscissaError()
 	r.Abscissa, r.AbscissaTol = al, atol
+	noSearch := "no search: α(A) from the Schur form, with its rounding allowance, decides K = ∞"
 	switch roundoff.Sign(al, atol) {
 	case 1:
-		r.K, r.Z = math.Inf(1), 0
+		r.K, r.Z, r.Method = math.Inf(1), 0, noSearch
 		r.Accuracy = fmt.Sprintf("exact: α(A) = %.6g > 0 beyond its rounding allowance %.2g, so ‖(x − A)⁻¹‖ is unbounded as x ↓ α(A)", al, atol)
 		return r, nil
 	case 0:
-		r.K, r.Z, r.ZeroWithinRounding = math.Inf(1), 0, true
+		r.K, r.Z, r.ZeroWithinRounding, r.Method = math.Inf(1), 0, true, noSearch
 		why := "n·u·‖A‖_F × the condition of the rightmost eigenvalue"
 		if ill {
 			why = "√(n·u·‖A‖_F·‖A‖_F): the rightmost eigenvalue is defective or nearly so"
