@@ -19,6 +19,7 @@ import (
 	"semiflow/lang/value"
 	"semiflow/numerics/linop"
 	"semiflow/numerics/memguard"
+	"semiflow/numerics/roundoff"
 	"semiflow/numerics/spectra"
 )
 
@@ -155,9 +156,11 @@ var stabilityFamily = []*Builtin{
 			opt("t", rangeDefault{&value.Range{Lo: 0, Hi: 10, Step: 0.1, N: 101}}, "the times t ≥ 0: a range, vector or list"),
 			opt("weight", value.None, stabWeightDoc+"; the norm is then ‖x‖_W = √(xᵀWx) (order ≤ 1500)"),
 			opt("bounds", value.Str("auto"), `which bounds to compute: "all" (Kreiss constant and α_ε/ε, however long they take), "fast" (α_ε/ε only), "none", or "auto": each bound within a quarter of the interactive work budget (about 2.5 s of the 2-core development machine in all), the ones that would need more left out and named`),
+			opt("samples", value.Str("auto"), `which of the times to compute (order ≤ 1500): "all" (every one, and the peak refined to 1e-8, however long it takes) or "auto": as many as fit the interactive work budget (about 2.5 s), every k-th and the last when all do not fit, and refused at once when even three would take over ten times the budget`),
 		},
 		Doc: "The transient growth curve ‖e^{tA}‖₂ at the times t, with its peak (refined between samples) and the optimal initial condition u0 (‖u0‖ = 1, ‖e^{t*A}u0‖ = peak), and the bounds: the initial slope ω(A) = λmax((A + Aᵀ)/2), the asymptotic rate α(A), the Kreiss constant K ≤ sup_t ‖e^{tA}‖ ≤ e·N·K (Spijker 1991) and α_ε/ε ≤ sup_t ‖e^{tA}‖ for ε = 0.1, 0.01, 0.001 (the option bounds chooses which; the Kreiss constant costs most). " +
 			"By default (bounds = \"auto\") each of these four bounds gets a quarter of the interactive work budget, counted in n² multiply–adds so the same bounds are left out on every run; a bound that needs more is not computed, and the report says which and how to ask for it (bounds = \"all\", or kreiss(A) and psabscissa(A, ε) one at a time). " +
+			"The curve has a budget of its own (samples = \"auto\"): at order 300 one value costs about 0.05 s, so of the default 101 times only every k-th is computed, the report says which and how long all would take; samples = \"all\" asks for every one. When the Schur form alone exceeds the bounds' budget (order above about 500), α(A) and the bounds are left out and ω(A) comes from the symmetric part; bounds = \"all\" computes them. " +
 			"For order ≤ 1500, e^{tA} by scaling and squaring and its largest singular value; above, a Lanczos estimate on e^{tAᵀ}e^{tA} (a lower bound up to the propagation error, no Kreiss or α_ε bounds). With a weight W the norm is ‖e^{tA}‖_W = ‖R e^{tA} R⁻¹‖₂ (W = RᵀR). Table of (t, ‖e^{tA}‖) and a figure (logarithmic axis when the values span a factor 10) with the bounds as horizontal lines and the initial slope e^{ωt}.",
 		Examples: []Example{
 			{"g = growth({-1, 0 | 0, -2}, t=[0, 1]); g[1, 1]", "0.3678794412"},
@@ -168,7 +171,7 @@ var stabilityFamily = []*Builtin{
 		Name:   "kreiss",
 		Params: []value.Param{req("A", "an operator or a square matrix")},
 		Doc: "The Kreiss constant K(A) = sup_{Re z > 0} Re z ‖(zI − A)⁻¹‖₂, with the point where the supremum is attained. The Kreiss matrix theorem bounds K ≤ sup_{t≥0} ‖e^{tA}‖₂ ≤ e·N·K for N × N matrices (Spijker, BIT 1991). " +
-			"It is inf when α(A) ≥ 0 and 1 for a normal matrix with α(A) < 0. Order ≤ 1500. " +
+			"It is inf when α(A) ≥ 0, or when α(A) is zero within rounding (|α(A)| ≤ n·u·‖A‖_F × the condition of the rightmost eigenvalue, √(n·u·‖A‖_F·‖A‖_F) if that is defective), and 1 for a normal matrix with α(A) < 0. Order ≤ 1500. " +
 			"The search has no work budget (growth leaves K out when it does not fit its share): its cost grows with the order and the non-normality, 8.8 s for the 200×200 shifted Grcar matrix on a 2-core machine; an interrupt stops it at once.",
 		Examples: []Example{
 			{"kreiss({-1, 0 | 0, -2})[0]", "1"},
@@ -690,7 +693,7 @@ func abscissaImpl(c *eval.Call) (value.Value, error) {
 		q.Method, q.Accuracy = s.Method, s.Accuracy
 		if tol, ill := s.AbscissaError(); ill {
 			q.Where = fmt.Sprintf("the rightmost eigenvalue is defective or nearly so: α(A) is known only to about %s (see pseudospectrum(A))", fmtTol(tol))
-		} else if s.Abscissa != 0 && math.Abs(s.Abscissa) <= tol {
+		} else if roundoff.Sign(s.Abscissa, tol) == 0 {
 			q.Where = fmt.Sprintf("zero within rounding: |α(A)| ≤ %s = n·u·‖A‖_F × condition of the rightmost eigenvalue", fmtTol(tol))
 		}
 		return q, nil
@@ -780,8 +783,8 @@ func numabscissaImpl(c *eval.Call) (value.Value, error) {
 			q.Accuracy = fmt.Sprintf("to τ = n·u·‖A‖_F + 10⁻¹⁰|ω| = %s (rounding and Ritz residual)", fmtTol(tau))
 		}
 	}
-	if terr == nil && om != 0 && math.Abs(om) <= tau {
-		q.Where = fmt.Sprintf("zero within rounding (|ω(A)| ≤ τ = %s): A is dissipative within rounding in this inner product, ‖e^{tA}‖ ≤ e^{2τt}", fmtTol(tau))
+	if terr == nil && roundoff.Sign(om, tau) == 0 {
+		q.Where = fmt.Sprintf("zero within rounding (|ω(A)| = %s ≤ τ = %s): A is dissipative within rounding in this inner product, ‖e^{tA}‖ ≤ e^{2τt}", fmtTol(math.Abs(om)), fmtTol(tau))
 	}
 	return q, nil
 }
@@ -1107,9 +1110,20 @@ func growthImpl(c *eval.Call) (value.Value, error) {
 	default:
 		return nil, value.ValueErrorf(`growth: unknown bounds %s; the choices are "auto", "all", "fast" and "none"`, bounds)
 	}
+	sv, _ := c.Arg(4)
+	samples, ok := sv.(value.Str)
+	if !ok {
+		return nil, value.TypeErrorf(`growth: samples must be a string: "auto" or "all", not %s`, value.TypeName(sv))
+	}
+	if samples != "auto" && samples != "all" {
+		return nil, value.ValueErrorf(`growth: unknown samples %s; the choices are "auto" and "all"`, samples)
+	}
 	gopt := &spectra.GrowthOptions{Eps: stabGrowthEps, NoKreiss: bounds == "fast" || bounds == "none", Weight: w, Progress: stabProgress(c)}
 	if bounds == "none" {
 		gopt.Eps = nil
+	}
+	if samples == "auto" {
+		gopt.CurveBudget = spectra.InteractiveWork
 	}
 	// "auto": every bound, each within a quarter of the interactive budget.
 	share := spectra.InteractiveWork / float64(len(stabGrowthEps)+1)
@@ -1117,9 +1131,13 @@ func growthImpl(c *eval.Call) (value.Value, error) {
 		gopt.Budget = share
 	}
 	var g *spectra.Growth
+	var refused *spectra.BudgetError
 	err = stabGuard(c, func() (e error) {
 		if n <= DenseLimit {
 			g, e = spectra.GrowthCurve(c.Ctx, op.Op, ts, gopt)
+			if errors.As(e, &refused) {
+				return nil
+			}
 		} else {
 			if g, e = spectra.GrowthEstimate(c.Ctx, op.Op, ts, 0, 0, stabProgress(c)); e != nil {
 				return e
@@ -1143,6 +1161,13 @@ func growthImpl(c *eval.Call) (value.Value, error) {
 	if err != nil {
 		return nil, err
 	}
+	if be := refused; be != nil {
+		return nil, value.ValueErrorf(`growth: at order %d even three of the %d times (each a dense exponential and an SVD, with the peak's refinement) would take about %.2g s, over ten times the interactive work budget (about %.2g s); samples="all" computes them anyway`,
+			n, len(ts), spectra.WorkSeconds(be.Estimate), spectra.WorkSeconds(spectra.InteractiveWork))
+	}
+	if err != nil {
+		return nil, err
+	}
 	if g.Kreiss != nil && g.Kreiss.K < 1 {
 		h := *g
 		h.Kreiss = stabKreissFloor(g.Kreiss)
@@ -1155,9 +1180,20 @@ func growthImpl(c *eval.Call) (value.Value, error) {
 		r.Title += ", in the " + ip
 		r.Notes = append(r.Notes, "weighted: ‖e^{tA}‖_W = ‖e^{tB}‖₂ with B = RAR⁻¹, W = RᵀR; every bound refers to B")
 	}
+	if g.Asked > len(g.T) {
+		peak := "the peak is the largest of these"
+		if g.PeakTimeWidth > 0 {
+			peak += fmt.Sprintf(", refined between its neighbours to t ± %.2g", g.PeakTimeWidth)
+		}
+		r.Notes = append(r.Notes, fmt.Sprintf(`‖e^{tA}‖ at %d of the %d times (every %s and the last), to fit the interactive work budget (about %.2g s; all of them, with the peak refined to 1e-8, would take about %.2g s at this order); %s, and a narrower peak between samples can be missed; samples="all" computes every time`,
+			len(g.T), g.Asked, stabOrdinal(g.Stride), spectra.WorkSeconds(spectra.InteractiveWork), spectra.WorkSeconds(g.CurveNeeds), peak))
+	}
 	switch {
 	case n > DenseLimit:
 		r.Notes = append(r.Notes, "the Kreiss and α_ε/ε bounds need the dense methods and are not computed above order 1500")
+	case g.ShapeNeeds > 0:
+		r.Notes = append(r.Notes, fmt.Sprintf(`α(A) and the bounds (%s) were not computed: the Schur form of order %d they start from takes about %.2g s alone, beyond the bounds' share of the interactive work budget (about %.2g s); ω(A) comes from the symmetric part; bounds="all" computes them, spectrum(A) gives α(A)`,
+			strings.Join(g.Skipped, ", "), n, spectra.WorkSeconds(g.ShapeNeeds), spectra.WorkSeconds(share*float64(len(stabGrowthEps)+1))))
 	case bounds == "fast":
 		r.Notes = append(r.Notes, `the Kreiss constant (and with it the upper bound e·N·K) was not computed: it is the costliest bound; kreiss(A) or bounds="all" computes it`)
 	case bounds == "none":
@@ -1208,10 +1244,28 @@ func kreissImpl(c *eval.Call) (value.Value, error) {
 		q.Where = fmt.Sprintf("attained as z → +∞ (x‖(xI − A)⁻¹‖ → 1); K ≤ sup ‖e^{tA}‖ ≤ e·N·K = %s", value.FormatNum(math.E*float64(n)*k.K))
 	case !math.IsInf(k.K, 1):
 		q.Where = "attained near z = " + objects.Approx(k.Z) + fmt.Sprintf("; K ≤ sup ‖e^{tA}‖ ≤ e·N·K = %s", value.FormatNum(math.E*float64(n)*k.K))
+	case k.ZeroWithinRounding:
+		q.Where = fmt.Sprintf("α(A) = %s is zero within rounding (|α(A)| ≤ %s): an eigenvalue on the imaginary axis cannot be ruled out, so the resolvent norm may be unbounded in the right half plane", value.FormatNum(k.Abscissa), fmtTol(k.AbscissaTol))
 	default:
 		q.Where = "α(A) ≥ 0: the resolvent norm is unbounded in the right half plane"
 	}
 	return q, nil
+}
+
+// stabOrdinal writes k as an English ordinal: 2nd, 3rd, 11th, 21st.
+func stabOrdinal(k int) string {
+	suffix := "th"
+	if k%100 < 11 || k%100 > 13 {
+		switch k % 10 {
+		case 1:
+			suffix = "st"
+		case 2:
+			suffix = "nd"
+		case 3:
+			suffix = "rd"
+		}
+	}
+	return strconv.Itoa(k) + suffix
 }
 
 // stabKreissFloor applies K(A) ≥ lim_{x→+∞} x‖(xI − A)⁻¹‖ = 1 (x(xI − A)⁻¹ →
