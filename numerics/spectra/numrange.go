@@ -120,22 +120,31 @@ func NumRangeContext(ctx context.Context, a linop.Operator, w Weight, nAngles in
 // operators whose top eigenvalues are clustered; otherwise on S itself
 // through products with A and Aᵀ (at most 400 steps).
 func NumericalAbscissa(a linop.Operator, w Weight) (float64, error) {
+	return NumericalAbscissaContext(context.Background(), a, w)
+}
+
+// NumericalAbscissaContext is NumericalAbscissa returning ctx.Err() within
+// one Lanczos step once ctx is cancelled; the dense symmetric eigensolver,
+// which cannot be interrupted, runs under abandonable.
+func NumericalAbscissaContext(ctx context.Context, a linop.Operator, w Weight) (float64, error) {
 	if n, c := a.Dims(); n == c && n > 1500 {
 		if w != nil && w.Len() != n {
 			panic(ErrShape)
 		}
 		if w == nil {
 			if csr, err := linop.ToCSR(a); err == nil {
-				return symTopShiftInvert(csr)
+				return symTopShiftInvertContext(ctx, csr)
 			}
 		}
-		return symTopLanczos(a, w, 400, 1e-10)
+		return symTopLanczos(ctx, a, w, 400, 1e-10)
 	}
 	m, err := toDense(a)
 	if err != nil {
 		return 0, err
 	}
-	return numAbscissa(weighted(m, w))
+	b := weighted(m, w)
+	n, _ := b.Dims()
+	return abandonable(ctx, denseBytes(n, 3), fmt.Sprintf("numerical abscissa of order %d", n), func() (float64, error) { return numAbscissa(b) })
 }
 
 func numAbscissa(b *mat.Dense) (float64, error) {
@@ -349,6 +358,12 @@ func goldenMax(f func(float64) float64, a, b, tol float64, maxIter int) (float64
 // that is zero or tiny beside A (a skew-symmetric or nearly skew operator)
 // gives μ of order 1/(u‖A‖), not an overflow; S = 0 exactly gives 0.
 func symTopShiftInvert(a *linop.CSR) (float64, error) {
+	return symTopShiftInvertContext(context.Background(), a)
+}
+
+// symTopShiftInvertContext is symTopShiftInvert stopping with ctx.Err()
+// within one Lanczos step once ctx is cancelled.
+func symTopShiftInvertContext(ctx context.Context, a *linop.CSR) (float64, error) {
 	sym := linop.AddCSR(0.5, a, 0.5, a.Transpose())
 	n := sym.Rows
 	g, scale := math.Inf(-1), 0.0
@@ -386,7 +401,7 @@ func symTopShiftInvert(a *linop.CSR) (float64, error) {
 			dst[i] = real(v)
 		}
 	}})
-	mu, err := symTopLanczos(inv, nil, 300, 1e-12)
+	mu, err := symTopLanczos(ctx, inv, nil, 300, 1e-12)
 	if serr != nil {
 		return 0, serr
 	}
@@ -407,8 +422,8 @@ func (o funcOp) Apply(dst, x []float64)  { o.f(dst, x) }
 func (o funcOp) ApplyT(dst, x []float64) { o.f(dst, x) }
 
 // symTopLanczos returns λmax((B + Bᵀ)/2), B = R A R⁻¹ (B = A if w is nil),
-// by Lanczos with full reorthogonalisation.
-func symTopLanczos(a linop.Operator, w Weight, maxIter int, tol float64) (float64, error) {
+// by Lanczos with full reorthogonalisation, checking ctx at every step.
+func symTopLanczos(ctx context.Context, a linop.Operator, w Weight, maxIter int, tol float64) (float64, error) {
 	n, _ := a.Dims()
 	// Two temporaries and the basis, which grows by one vector a step:
 	// each step asks the memory guard first.
@@ -454,6 +469,9 @@ func symTopLanczos(a linop.Operator, w Weight, maxIter int, tol float64) (float6
 	var alpha, beta []float64
 	theta := math.Inf(-1)
 	for j := 0; j < min(maxIter, n); j++ {
+		if err := ctx.Err(); err != nil {
+			return 0, err
+		}
 		if err := memguard.Vectors(j+4, n, memguard.RealBytes, what); err != nil {
 			return 0, err
 		}
