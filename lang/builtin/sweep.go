@@ -93,12 +93,12 @@ func sweepImpl(c *eval.Call) (value.Value, error) {
 			return nil, err
 		}
 	}
-	var ps []float64
+	// The parameter values, read in place (a range of millions of values
+	// is not copied first, so an interrupt is felt at once).
+	var at func(k int) float64
+	var np int
 	if r, ok := v.(*value.Range); ok {
-		ps = make([]float64, r.Len())
-		for k := range ps {
-			ps[k] = r.At(k)
-		}
+		at, np = r.At, r.Len()
 	} else {
 		re, pc, err := numbers(c, "values", v)
 		if err != nil {
@@ -107,15 +107,15 @@ func sweepImpl(c *eval.Call) (value.Value, error) {
 		if pc != nil {
 			return nil, value.TypeErrorf("sweep: values must be real")
 		}
-		ps = re
-	}
-	if len(ps) == 0 {
-		return nil, value.ValueErrorf("sweep: values is empty")
-	}
-	for k, p := range ps {
-		if math.IsNaN(p) || math.IsInf(p, 0) {
-			return nil, value.ValueErrorf("sweep: values[%d] = %s is not finite", k, value.FormatNum(p))
+		for k, p := range re {
+			if math.IsNaN(p) || math.IsInf(p, 0) {
+				return nil, value.ValueErrorf("sweep: values[%d] = %s is not finite", k, value.FormatNum(p))
+			}
 		}
+		at, np = func(k int) float64 { return re[k] }, len(re)
+	}
+	if np == 0 {
+		return nil, value.ValueErrorf("sweep: values is empty")
 	}
 	f, ok := c.Args[1].(value.Callable)
 	if !ok {
@@ -153,11 +153,12 @@ func sweepImpl(c *eval.Call) (value.Value, error) {
 	progress := lazyProgress(c)
 	var shape *sweepShape
 	var rows [][]value.Value
-	for i, p := range ps {
+	for i := 0; i < np; i++ {
+		p := at(i)
 		if err := c.Tick(1); err != nil {
 			return nil, err
 		}
-		progress(i, len(ps))
+		progress(i, np)
 		r, err := c.Apply(f, value.Num(p))
 		if err != nil {
 			return nil, err
@@ -171,7 +172,7 @@ func sweepImpl(c *eval.Call) (value.Value, error) {
 					pname = "param"
 				}
 			}
-			if err := c.CheckSize(float64(len(ps))*float64(len(shape.names)+1), "sweep: the table"); err != nil {
+			if err := c.CheckSize(float64(np)*float64(len(shape.names)+1), "sweep: the table"); err != nil {
 				return nil, err
 			}
 		}
@@ -181,11 +182,11 @@ func sweepImpl(c *eval.Call) (value.Value, error) {
 		}
 		rows = append(rows, append([]value.Value{value.Num(p)}, cells...))
 	}
-	progress(len(ps), len(ps))
+	progress(np, np)
 	cols := append([]string{pname}, shape.names...)
-	title := fmt.Sprintf("sweep over %d values of %s", len(ps), pname)
+	title := fmt.Sprintf("sweep over %d values of %s", np, pname)
 	if f.Name() != eval.AnonymousName {
-		title = fmt.Sprintf("sweep of %s over %d values of %s", f.Name(), len(ps), pname)
+		title = fmt.Sprintf("sweep of %s over %d values of %s", f.Name(), np, pname)
 	}
 	t := objects.NewTable(title, cols, rows)
 	t.Figure = sweepFigure(pname, cols, rows)
