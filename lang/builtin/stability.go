@@ -19,6 +19,7 @@ import (
 	"semiflow/lang/value"
 	"semiflow/numerics/linop"
 	"semiflow/numerics/memguard"
+	"semiflow/numerics/roundoff"
 	"semiflow/numerics/spectra"
 )
 
@@ -155,9 +156,11 @@ var stabilityFamily = []*Builtin{
 			opt("t", rangeDefault{&value.Range{Lo: 0, Hi: 10, Step: 0.1, N: 101}}, "the times t ≥ 0: a range, vector or list"),
 			opt("weight", value.None, stabWeightDoc+"; the norm is then ‖x‖_W = √(xᵀWx) (order ≤ 1500)"),
 			opt("bounds", value.Str("auto"), `which bounds to compute: "all" (Kreiss constant and α_ε/ε, however long they take), "fast" (α_ε/ε only), "none", or "auto": each bound within a quarter of the interactive work budget (about 2.5 s of the 2-core development machine in all), the ones that would need more left out and named`),
+			opt("samples", value.Str("auto"), `which of the times to compute (order ≤ 1500): "all" (every one, and the peak refined to 1e-8, however long it takes) or "auto": as many as fit the interactive work budget (about 2.5 s), every k-th and the last when all do not fit, and refused at once when even three would take over ten times the budget`),
 		},
 		Doc: "The transient growth curve ‖e^{tA}‖₂ at the times t, with its peak (refined between samples) and the optimal initial condition u0 (‖u0‖ = 1, ‖e^{t*A}u0‖ = peak), and the bounds: the initial slope ω(A) = λmax((A + Aᵀ)/2), the asymptotic rate α(A), the Kreiss constant K ≤ sup_t ‖e^{tA}‖ ≤ e·N·K (Spijker 1991) and α_ε/ε ≤ sup_t ‖e^{tA}‖ for ε = 0.1, 0.01, 0.001 (the option bounds chooses which; the Kreiss constant costs most). " +
 			"By default (bounds = \"auto\") each of these four bounds gets a quarter of the interactive work budget, counted in n² multiply–adds so the same bounds are left out on every run; a bound that needs more is not computed, and the report says which and how to ask for it (bounds = \"all\", or kreiss(A) and psabscissa(A, ε) one at a time). " +
+			"The curve has a budget of its own (samples = \"auto\"): at order 300 one value costs about 0.05 s, so of the default 101 times only every k-th is computed, the report says which and how long all would take; samples = \"all\" asks for every one. When the Schur form alone exceeds the bounds' budget (order above about 500), α(A) and the bounds are left out and ω(A) comes from the symmetric part; bounds = \"all\" computes them. " +
 			"For order ≤ 1500, e^{tA} by scaling and squaring and its largest singular value; above, a Lanczos estimate on e^{tAᵀ}e^{tA} (a lower bound up to the propagation error, no Kreiss or α_ε bounds). With a weight W the norm is ‖e^{tA}‖_W = ‖R e^{tA} R⁻¹‖₂ (W = RᵀR). Table of (t, ‖e^{tA}‖) and a figure (logarithmic axis when the values span a factor 10) with the bounds as horizontal lines and the initial slope e^{ωt}.",
 		Examples: []Example{
 			{"g = growth({-1, 0 | 0, -2}, t=[0, 1]); g[1, 1]", "0.3678794412"},
@@ -168,7 +171,7 @@ var stabilityFamily = []*Builtin{
 		Name:   "kreiss",
 		Params: []value.Param{req("A", "an operator or a square matrix")},
 		Doc: "The Kreiss constant K(A) = sup_{Re z > 0} Re z ‖(zI − A)⁻¹‖₂, with the point where the supremum is attained. The Kreiss matrix theorem bounds K ≤ sup_{t≥0} ‖e^{tA}‖₂ ≤ e·N·K for N × N matrices (Spijker, BIT 1991). " +
-			"It is inf when α(A) ≥ 0 and 1 for a normal matrix with α(A) < 0. Order ≤ 1500. " +
+			"It is inf when α(A) ≥ 0, or when α(A) is zero within rounding (|α(A)| ≤ n·u·‖A‖_F × the condition of the rightmost eigenvalue, √(n·u·‖A‖_F·‖A‖_F) if that is defective), and 1 for a normal matrix with α(A) < 0. Order ≤ 1500. " +
 			"The search has no work budget (growth leaves K out when it does not fit its share): its cost grows with the order and the non-normality, 8.8 s for the 200×200 shifted Grcar matrix on a 2-core machine; an interrupt stops it at once.",
 		Examples: []Example{
 			{"kreiss({-1, 0 | 0, -2})[0]", "1"},
@@ -181,14 +184,11 @@ var stabilityFamily = []*Builtin{
 			req("A", "an operator or a square matrix"),
 			opt("weight", value.None, stabWeightDoc),
 			opt("omega", value.None, "the growth rate ω to test in ‖e^{tA}‖ ≤ M e^{ωt}; none: 0 when α(A) < 0, else a tenth of the way from α(A) to ω(A)"),
-			opt("samples", value.Str("auto"), `the Hille–Yosida λ: "auto" (as many of the 40 per power as fit the interactive work budget, about 2 s of one core, spread over the range; the report says how many were skipped) or "all" (every one, however long it takes)`),
 		},
 		Doc: "A report on A as the generator of the semigroup e^{tA}: the spectral abscissa α(A), the numerical abscissa ω(A) in the chosen inner product, Lumer–Phillips dissipativity of A − ωI (then ‖e^{tA}‖ ≤ e^{ωt}), Hille–Yosida estimates M_n = sup_{λ>ω} (λ−ω)^n ‖R(λ)^n‖ for n = 1..4 (Engel & Nagel 2000, Thm II.3.8: ‖e^{tA}‖ ≤ M e^{ωt} iff all M_n ≤ M; finitely many samples give a lower estimate of the best M), and a plain verdict with its assumptions. " +
 			"The tested ω is 0 when α(A) < 0, otherwise a tenth of the way from α(A) to ω(A). Large sparse operators (order > 1500, no weight) get the abscissae by Krylov methods and no Hille–Yosida estimates. For a rate matrix of a Markov chain see markov. " +
 			"Signs respect rounding: with τ = n·u·‖A‖_F (u = 2⁻⁵³), ω(A) ≤ ω + τ is reported as dissipative within rounding (then ‖e^{tA}‖ ≤ e^{(ω+2τ)t}), and |α(A)| within τ × the condition of the rightmost eigenvalue (√(τ‖A‖_F) if it is defective) as zero within rounding, either taken as 0 for the default ω. " +
-			"The Hille–Yosida λ run from ω + 10⁻²(ω − α) to ω + 10⁶·max(‖A‖_F, …), and each M_n is at least 1, the exact limit as λ → ∞; a dissipative A has M = 1 exactly. " +
-			"The norms ‖R(λ)^n‖₂ come from the Hessenberg form of A by Golub–Kahan–Lanczos (O(n²) per λ and step); by default the λ that do not fit the interactive work budget are skipped and counted (samples = \"all\" takes them all). " +
-			"A rate matrix of a reversible chain has its α(A) = 0 from the symmetric route (a birth–death chain's eigenvalues to high relative accuracy, at any order).",
+			"The Hille–Yosida λ run from ω + 10⁻²(ω − α) to ω + 10⁶·max(‖A‖_F, …), and each M_n is at least 1, the exact limit as λ → ∞; a dissipative A has M = 1 exactly.",
 		Examples: []Example{
 			{"len(generator({-1, 0 | 0, -2}))", "4"},
 		},
@@ -198,10 +198,9 @@ var stabilityFamily = []*Builtin{
 		Name:   "markov",
 		Params: []value.Param{req("Q", "a rate matrix: q_ij ≥ 0 for i ≠ j, rows summing to 0")},
 		Doc: "The continuous-time Markov chain with rate matrix Q, whose distributions evolve by p' = pQ (row vectors), p(t) = p(0)e^{tQ}: the stationary distribution π (πQ = 0, Σπ_i = 1), the spectral gap −max{Re λ : λ ∈ σ(Q), λ ≠ 0} and relaxation time 1/gap, " +
-			"the mixing time t_mix = min{t : max_i ‖e_iᵀe^{tQ} − π‖_TV ≤ 1/4} to relative 2⁻²⁰ (one dense exponential, then products of transition matrices: doubling t, then its binary digits; an interrupt stops it between products), the bound ln(4/π_min)/gap (for reversible chains; Levin, Peres & Wilmer 2009) and whether detailed balance holds. " +
+			"the mixing time t_mix = min{t : max_i ‖e_iᵀe^{tQ} − π‖_TV ≤ 1/4} from dense exponentials by bisection, the bound ln(4/π_min)/gap (for reversible chains; Levin, Peres & Wilmer 2009) and whether detailed balance holds. " +
 			"For two states with rates a (0→1) and b (1→0): π = (b, a)/(a + b), gap = a + b. A matrix that is not a rate matrix (a negative rate, or a row sum beyond the rounding n·u·Σ_j|q_ij|) is an error saying why. " +
-			"A birth–death chain's gap has relative accuracy: it is σ² for the smallest singular value σ of the bidiagonal factor G of −D^{1/2}QD^{-1/2} = GᵀG, D = diag(π), formed from the square roots of the rates without subtractions (dqds), so it is right to a few units of roundoff relative to itself (bound 24·n·u) however small next to ‖Q‖. " +
-			"Another reversible chain has its gap from the symmetric D^{1/2}QD^{-1/2} = [√(q_ij q_ji)] by a symmetric eigensolver, exact to n·u·‖S‖_F however strongly graded Q is; π comes from the products of the rates for a birth–death chain and otherwise from the subtraction-free elimination of Grassmann, Taksar & Heyman (1985), so every entry is accurate however widely they range; a chain that is not irreducible is an error. The gap is shown with its error bound.",
+			"A reversible chain (always a birth–death one) has its gap from the symmetric D^{1/2}QD^{-1/2} = [√(q_ij q_ji)], D = diag(π), by a symmetric eigensolver (tridiagonal for birth–death), exact to n·u·‖S‖_F however strongly graded Q is; π comes from the products of the rates for a birth–death chain and otherwise from the subtraction-free elimination of Grassmann, Taksar & Heyman (1985), so every entry is accurate however widely they range; a chain that is not irreducible is an error. The gap is shown with its error bound.",
 		Examples: []Example{
 			{"markov({-1, 1 | 3, -3})[0, 1]", "0.75"},
 		},
@@ -568,17 +567,6 @@ func spectrumImpl(c *eval.Call) (value.Value, error) {
 	if nearSet {
 		what = fmt.Sprintf("the %d eigenvalues nearest %s", k, value.FormatNum(near))
 	}
-	if chain, ok := spectra.BirthDeathOf(op.Op); ok {
-		// A birth–death rate matrix: each eigenvalue to high relative
-		// accuracy from the rates alone, at any order.
-		var s *spectra.Spectrum
-		if err := stabGuard(c, func() (e error) { s, e = chain.Spectrum(c.Ctx, k, nearSet, near); return }); err != nil {
-			return nil, err
-		}
-		r := objects.SpectrumReport(op.Label, n, s, what)
-		r.Notes = append(r.Notes, "A is the rate matrix of a birth–death chain: its eigenvalues are real, 0 and −σ² for the singular values σ of a bidiagonal factor formed from the rates without subtractions, so each is accurate relative to its own size (the gap too, however small next to ‖A‖); the last column is that error bound, |λ|·24·n·u, not a residual")
-		return r, nil
-	}
 	if n <= DenseLimit {
 		var s *spectra.Spectrum
 		if err := stabGuard(c, func() (e error) { s, e = spectra.DenseSpectrumContext(c.Ctx, op.Op); return }); err != nil {
@@ -591,18 +579,25 @@ func spectrumImpl(c *eval.Call) (value.Value, error) {
 		return nil, value.ValueErrorf("spectrum: count = %d is too many for the Krylov method on order %d", k, n)
 	}
 	o := &spectra.EigsOptions{Count: k, ShiftInvert: nearSet, Shift: near, Progress: stabProgress(c)}
+	// A birth–death rate matrix: the same spectrum from the symmetric
+	// S = D^{1/2}QD^{-1/2}, where every eigenvalue has condition 1.
+	target := op.Op
+	sym, birthDeath := spectra.SymmetrisedBirthDeath(op.Op)
+	if birthDeath {
+		target = sym
+	}
 	var s *spectra.Spectrum
 	err = stabGuard(c, func() (e error) {
-		if !nearSet && hasSparseForm(op) {
+		if !nearSet && (birthDeath || hasSparseForm(op)) {
 			// The rightmost eigenvalues as those nearest a shift just
 			// right of the spectrum: σ = ω(A) + 10⁻³(1 + |ω(A)|) ≥ α(A).
-			w, e := spectra.NumericalAbscissa(op.Op, nil)
+			w, e := spectra.NumericalAbscissa(target, nil)
 			if e != nil {
 				return e
 			}
 			o.ShiftInvert, o.Shift = true, w+1e-3*(1+math.Abs(w))
 		}
-		s, e = spectra.Rightmost(c.Ctx, op.Op, o)
+		s, e = spectra.Rightmost(c.Ctx, target, o)
 		return e
 	})
 	if err != nil {
@@ -610,6 +605,9 @@ func spectrumImpl(c *eval.Call) (value.Value, error) {
 	}
 	sortRightmost(s)
 	r := objects.SpectrumReport(op.Label, n, s, what)
+	if birthDeath {
+		r.Notes = append(r.Notes, "A is the rate matrix of a birth–death chain: computed on the symmetric S = D^{1/2}AD^{-1/2}, D = diag(π), which has the same eigenvalues, each of condition 1, so each is within its residual; the eigenvectors are those of S (x = D^{-1/2}v for A)")
+	}
 	if !nearSet && o.ShiftInvert {
 		r.Notes = append(r.Notes, fmt.Sprintf("the rightmost eigenvalues are computed as those nearest σ = ω(A) + 10⁻³(1 + |ω(A)|) = %s ≥ α(A); with eigenvalues far up the imaginary axis, give near= to choose the shift", value.FormatNum(o.Shift)))
 	}
@@ -695,15 +693,9 @@ func abscissaImpl(c *eval.Call) (value.Value, error) {
 		q.Method, q.Accuracy = s.Method, s.Accuracy
 		if tol, ill := s.AbscissaError(); ill {
 			q.Where = fmt.Sprintf("the rightmost eigenvalue is defective or nearly so: α(A) is known only to about %s (see pseudospectrum(A))", fmtTol(tol))
-		} else if s.Abscissa != 0 && math.Abs(s.Abscissa) <= tol {
+		} else if roundoff.Sign(s.Abscissa, tol) == 0 {
 			q.Where = fmt.Sprintf("zero within rounding: |α(A)| ≤ %s = n·u·‖A‖_F × condition of the rightmost eigenvalue", fmtTol(tol))
 		}
-		return q, nil
-	}
-	if _, ok := spectra.BirthDeathOf(op.Op); ok {
-		q.X = value.Num(0)
-		q.Method = "A is the rate matrix of an irreducible birth–death chain: its eigenvalues are 0 (the stationary one, A·1 = 0) and −σ² < 0 for the non-zero singular values σ of a bidiagonal factor of −D^{1/2}AD^{-1/2}, D = diag(π)"
-		q.Accuracy = fmt.Sprintf("exact for rows summing to 0; the given rows sum to 0 within %s (n·u·Σ_j|a_ij|), which moves α(A) by at most that much", fmtTol(spectra.RowSumRounding(op.Op)))
 		return q, nil
 	}
 	var s *spectra.Spectrum
@@ -769,7 +761,7 @@ func numabscissaImpl(c *eval.Call) (value.Value, error) {
 		return nil, err
 	}
 	var om float64
-	if err := stabGuard(c, func() (e error) { om, e = spectra.NumericalAbscissa(op.Op, w); return }); err != nil {
+	if err := stabGuard(c, func() (e error) { om, e = spectra.NumericalAbscissaContext(c.Ctx, op.Op, w); return }); err != nil {
 		return nil, err
 	}
 	q := &objects.Quantity{X: value.Num(om), Symbol: "ω(A)", What: "numerical abscissa λmax((A + A*)/2), " + ip}
@@ -791,8 +783,8 @@ func numabscissaImpl(c *eval.Call) (value.Value, error) {
 			q.Accuracy = fmt.Sprintf("to τ = n·u·‖A‖_F + 10⁻¹⁰|ω| = %s (rounding and Ritz residual)", fmtTol(tau))
 		}
 	}
-	if terr == nil && om != 0 && math.Abs(om) <= tau {
-		q.Where = fmt.Sprintf("zero within rounding (|ω(A)| ≤ τ = %s): A is dissipative within rounding in this inner product, ‖e^{tA}‖ ≤ e^{2τt}", fmtTol(tau))
+	if terr == nil && roundoff.Sign(om, tau) == 0 {
+		q.Where = fmt.Sprintf("zero within rounding (|ω(A)| = %s ≤ τ = %s): A is dissipative within rounding in this inner product, ‖e^{tA}‖ ≤ e^{2τt}", fmtTol(math.Abs(om)), fmtTol(tau))
 	}
 	return q, nil
 }
@@ -1118,9 +1110,20 @@ func growthImpl(c *eval.Call) (value.Value, error) {
 	default:
 		return nil, value.ValueErrorf(`growth: unknown bounds %s; the choices are "auto", "all", "fast" and "none"`, bounds)
 	}
+	sv, _ := c.Arg(4)
+	samples, ok := sv.(value.Str)
+	if !ok {
+		return nil, value.TypeErrorf(`growth: samples must be a string: "auto" or "all", not %s`, value.TypeName(sv))
+	}
+	if samples != "auto" && samples != "all" {
+		return nil, value.ValueErrorf(`growth: unknown samples %s; the choices are "auto" and "all"`, samples)
+	}
 	gopt := &spectra.GrowthOptions{Eps: stabGrowthEps, NoKreiss: bounds == "fast" || bounds == "none", Weight: w, Progress: stabProgress(c)}
 	if bounds == "none" {
 		gopt.Eps = nil
+	}
+	if samples == "auto" {
+		gopt.CurveBudget = spectra.InteractiveWork
 	}
 	// "auto": every bound, each within a quarter of the interactive budget.
 	share := spectra.InteractiveWork / float64(len(stabGrowthEps)+1)
@@ -1128,15 +1131,19 @@ func growthImpl(c *eval.Call) (value.Value, error) {
 		gopt.Budget = share
 	}
 	var g *spectra.Growth
+	var refused *spectra.BudgetError
 	err = stabGuard(c, func() (e error) {
 		if n <= DenseLimit {
 			g, e = spectra.GrowthCurve(c.Ctx, op.Op, ts, gopt)
+			if errors.As(e, &refused) {
+				return nil
+			}
 		} else {
 			if g, e = spectra.GrowthEstimate(c.Ctx, op.Op, ts, 0, 0, stabProgress(c)); e != nil {
 				return e
 			}
 			// The slopes the estimate leaves out, by the sparse methods.
-			w, e := spectra.NumericalAbscissa(op.Op, nil)
+			w, e := spectra.NumericalAbscissaContext(c.Ctx, op.Op, nil)
 			if e != nil {
 				return e
 			}
@@ -1154,6 +1161,13 @@ func growthImpl(c *eval.Call) (value.Value, error) {
 	if err != nil {
 		return nil, err
 	}
+	if be := refused; be != nil {
+		return nil, value.ValueErrorf(`growth: at order %d even three of the %d times (each a dense exponential and an SVD, with the peak's refinement) would take about %.2g s, over ten times the interactive work budget (about %.2g s); samples="all" computes them anyway`,
+			n, len(ts), spectra.WorkSeconds(be.Estimate), spectra.WorkSeconds(spectra.InteractiveWork))
+	}
+	if err != nil {
+		return nil, err
+	}
 	if g.Kreiss != nil && g.Kreiss.K < 1 {
 		h := *g
 		h.Kreiss = stabKreissFloor(g.Kreiss)
@@ -1166,9 +1180,20 @@ func growthImpl(c *eval.Call) (value.Value, error) {
 		r.Title += ", in the " + ip
 		r.Notes = append(r.Notes, "weighted: ‖e^{tA}‖_W = ‖e^{tB}‖₂ with B = RAR⁻¹, W = RᵀR; every bound refers to B")
 	}
+	if g.Asked > len(g.T) {
+		peak := "the peak is the largest of these"
+		if g.PeakTimeWidth > 0 {
+			peak += fmt.Sprintf(", refined between its neighbours to t ± %.2g", g.PeakTimeWidth)
+		}
+		r.Notes = append(r.Notes, fmt.Sprintf(`‖e^{tA}‖ at %d of the %d times (every %s and the last), to fit the interactive work budget (about %.2g s; all of them, with the peak refined to 1e-8, would take about %.2g s at this order); %s, and a narrower peak between samples can be missed; samples="all" computes every time`,
+			len(g.T), g.Asked, stabOrdinal(g.Stride), spectra.WorkSeconds(spectra.InteractiveWork), spectra.WorkSeconds(g.CurveNeeds), peak))
+	}
 	switch {
 	case n > DenseLimit:
 		r.Notes = append(r.Notes, "the Kreiss and α_ε/ε bounds need the dense methods and are not computed above order 1500")
+	case g.ShapeNeeds > 0:
+		r.Notes = append(r.Notes, fmt.Sprintf(`α(A) and the bounds (%s) were not computed: the Schur form of order %d they start from takes about %.2g s alone, beyond the bounds' share of the interactive work budget (about %.2g s); ω(A) comes from the symmetric part; bounds="all" computes them, spectrum(A) gives α(A)`,
+			strings.Join(g.Skipped, ", "), n, spectra.WorkSeconds(g.ShapeNeeds), spectra.WorkSeconds(share*float64(len(stabGrowthEps)+1))))
 	case bounds == "fast":
 		r.Notes = append(r.Notes, `the Kreiss constant (and with it the upper bound e·N·K) was not computed: it is the costliest bound; kreiss(A) or bounds="all" computes it`)
 	case bounds == "none":
@@ -1219,10 +1244,28 @@ func kreissImpl(c *eval.Call) (value.Value, error) {
 		q.Where = fmt.Sprintf("attained as z → +∞ (x‖(xI − A)⁻¹‖ → 1); K ≤ sup ‖e^{tA}‖ ≤ e·N·K = %s", value.FormatNum(math.E*float64(n)*k.K))
 	case !math.IsInf(k.K, 1):
 		q.Where = "attained near z = " + objects.Approx(k.Z) + fmt.Sprintf("; K ≤ sup ‖e^{tA}‖ ≤ e·N·K = %s", value.FormatNum(math.E*float64(n)*k.K))
+	case k.ZeroWithinRounding:
+		q.Where = fmt.Sprintf("α(A) = %s is zero within rounding (|α(A)| ≤ %s): an eigenvalue on the imaginary axis cannot be ruled out, so the resolvent norm may be unbounded in the right half plane", value.FormatNum(k.Abscissa), fmtTol(k.AbscissaTol))
 	default:
 		q.Where = "α(A) ≥ 0: the resolvent norm is unbounded in the right half plane"
 	}
 	return q, nil
+}
+
+// stabOrdinal writes k as an English ordinal: 2nd, 3rd, 11th, 21st.
+func stabOrdinal(k int) string {
+	suffix := "th"
+	if k%100 < 11 || k%100 > 13 {
+		switch k % 10 {
+		case 1:
+			suffix = "st"
+		case 2:
+			suffix = "nd"
+		case 3:
+			suffix = "rd"
+		}
+	}
+	return strconv.Itoa(k) + suffix
 }
 
 // stabKreissFloor applies K(A) ≥ lim_{x→+∞} x‖(xI − A)⁻¹‖ = 1 (x(xI − A)⁻¹ →
@@ -1258,18 +1301,7 @@ func generatorImpl(c *eval.Call) (value.Value, error) {
 			}
 		}
 	}
-	gopt := &spectra.GeneratorOptions{Weight: w, Progress: stabProgress(c), Work: spectra.HYInteractiveWork}
-	sv, _ := c.Arg(3)
-	switch sv {
-	case value.Str("auto"):
-	case value.Str("all"):
-		gopt.Work = 0
-	default:
-		if _, ok := sv.(value.Str); !ok {
-			return nil, value.TypeErrorf(`generator: samples must be a string, "auto" or "all", not %s`, value.TypeName(sv))
-		}
-		return nil, value.ValueErrorf(`generator: unknown samples %s; the choices are "auto" and "all"`, sv)
-	}
+	gopt := &spectra.GeneratorOptions{Weight: w, Progress: stabProgress(c)}
 	if v, _ := c.Arg(2); v != value.None {
 		om, err := stabRealArg(c, 2)
 		if err != nil {
@@ -1300,9 +1332,6 @@ func generatorImpl(c *eval.Call) (value.Value, error) {
 		return nil, stabNumErr(c, err)
 	}
 	r := objects.GeneratorReport(op.Label, ip, g)
-	if g.Skipped > 0 {
-		r.Notes = append(r.Notes, fmt.Sprintf("Hille–Yosida: %d of the %d λ of the main range were skipped to stay within the interactive work budget (those taken are spread over the range, so M is a lower estimate from fewer samples); generator(A, samples=\"all\") takes them all", g.Skipped, g.Skipped+g.Taken))
-	}
 	if retried != "" {
 		r.Notes = append(r.Notes, retried)
 	}
