@@ -3,6 +3,7 @@ package plot
 import (
 	"bytes"
 	"encoding/binary"
+	"image/png"
 	"math"
 	"testing"
 )
@@ -54,6 +55,17 @@ func FuzzFigure(f *testing.F) {
 		checkSVG(t, svg)
 		if bytes.Contains(svg, []byte("NaN")) || bytes.Contains(svg, []byte("Inf")) {
 			t.Fatal("non-finite number in SVG")
+		}
+		// The raster back end draws whatever the SVG writer drew (at a
+		// small size, so that fuzzing keeps its pace).
+		small := *fig
+		small.Width, small.Height = 200, 150
+		pic, err := small.PNG()
+		if err != nil {
+			t.Fatalf("SVG drawn, PNG not: %v", err)
+		}
+		if _, err := png.DecodeConfig(bytes.NewReader(pic)); err != nil {
+			t.Fatalf("PNG does not decode: %v", err)
 		}
 	})
 }

@@ -55,12 +55,12 @@ func (f *Figure) WritePNG(w io.Writer) (Notes, error) {
 
 // rasterCanvas paints a figure into an RGBA image, k pixels per px.
 type rasterCanvas struct {
-	img  *image.RGBA
-	k    float64
+	img   *image.RGBA
+	k     float64
 	clipR image.Rectangle // current clip in pixels
-	full image.Rectangle
-	plot image.Rectangle
-	z    vector.Rasterizer
+	full  image.Rectangle
+	plot  image.Rectangle
+	z     vector.Rasterizer
 }
 
 func newRaster(w, h float64, k int) *rasterCanvas {
