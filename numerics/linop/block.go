@@ -91,13 +91,10 @@ func (b *Block) apply(dst, x []float64, trans bool) {
 	out, in := Split(dst, outSizes), Split(x, inSizes)
 	var tmp []float64
 	for i := range out {
-		for k := range out[i] {
-			out[i][k] = 0
-		}
-		if len(tmp) < len(out[i]) {
-			tmp = make([]float64, len(out[i]))
-		}
-		t := tmp[:len(out[i])]
+		o := out[i]
+		// The first block writes o itself; a diagonal block adds its
+		// products in place; any other block goes through tmp.
+		written := false
 		for j := range in {
 			var blk Operator
 			if trans {
@@ -108,13 +105,34 @@ func (b *Block) apply(dst, x []float64, trans bool) {
 			if blk == nil {
 				continue
 			}
+			if d, ok := blk.(*Diag); ok && written {
+				for k, v := range d.D {
+					o[k] += v * in[j][k]
+				}
+				continue
+			}
+			t := o
+			if written {
+				if len(tmp) < len(o) {
+					tmp = make([]float64, len(o))
+				}
+				t = tmp[:len(o)]
+			}
 			if trans {
 				blk.ApplyT(t, in[j])
 			} else {
 				blk.Apply(t, in[j])
 			}
-			for k, v := range t {
-				out[i][k] += v
+			if written {
+				for k, v := range t {
+					o[k] += v
+				}
+			}
+			written = true
+		}
+		if !written {
+			for k := range o {
+				o[k] = 0
 			}
 		}
 	}

@@ -29,9 +29,9 @@ func benchBlock(b *testing.B, k int) (structured *Block, assembled *CSR) {
 // BenchmarkBlockProduct compares y = A x for the 2·10⁶-unknown block
 // operator kept block by block (the Laplacian as a Kronecker sum) with the
 // same product on its assembled sparse form. Measured on the shared 2-core
-// development machine: 74 ms block by block, 61 ms assembled; the block
-// form stores two 1000×1000 tridiagonal factors and two diagonals, the
-// assembled one 7·10⁶ entries (112 MB).
+// development machine (loaded, so ±50%): 22–29 ms block by block,
+// 24–69 ms assembled; the block form stores two 1000×1000 tridiagonal
+// factors and two diagonals, the assembled one 7·10⁶ entries (112 MB).
 func BenchmarkBlockProduct(b *testing.B) {
 	structured, assembled := benchBlock(b, 1000)
 	r, _ := structured.Dims()

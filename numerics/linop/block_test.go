@@ -119,3 +119,40 @@ func TestSplit(t *testing.T) {
 		t.Errorf("Split = %v", p)
 	}
 }
+
+// TestBlockDiagonalAfter: a diagonal block that follows another block in
+// its row (or, transposed, its column) adds its products in place; an
+// all-zero block row gives zeros. Compared with the matrix written out by
+// hand: [[C, 2I, 0], [3I, 0, 0], [0, 0, 0]] with C = [[1, 2], [3, 4]].
+func TestBlockDiagonalAfter(t *testing.T) {
+	c := CSRFromDense(mat.NewDense(2, 2, []float64{1, 2, 3, 4}), 0)
+	b := NewBlock([][]Operator{
+		{c, ScaledIdentity(2, 2), nil},
+		{ScaledIdentity(2, 3), nil, nil},
+		{nil, nil, nil},
+	}, []int{2, 2, 1}, []int{2, 2, 1})
+	want := mat.NewDense(5, 5, []float64{
+		1, 2, 2, 0, 0,
+		3, 4, 0, 2, 0,
+		3, 0, 0, 0, 0,
+		0, 3, 0, 0, 0,
+		0, 0, 0, 0, 0,
+	})
+	x := []float64{1, -2, 3, 5, 7}
+	for _, trans := range []bool{false, true} {
+		got := []float64{9, 9, 9, 9, 9} // overwritten, zero rows included
+		ref := mat.NewVecDense(5, nil)
+		if trans {
+			b.ApplyT(got, x)
+			ref.MulVec(want.T(), mat.NewVecDense(5, x))
+		} else {
+			b.Apply(got, x)
+			ref.MulVec(want, mat.NewVecDense(5, x))
+		}
+		for i := range got {
+			if got[i] != ref.AtVec(i) {
+				t.Errorf("transposed %v: entry %d = %g, want %g", trans, i, got[i], ref.AtVec(i))
+			}
+		}
+	}
+}
