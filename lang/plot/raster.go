@@ -46,7 +46,7 @@ func (f *Figure) WritePNG(w io.Writer) (Notes, error) {
 	}
 	c := newRaster(r.W, r.H, PixelDensity)
 	r.draw(c)
-	enc := png.Encoder{CompressionLevel: png.DefaultCompression}
+	enc := png.Encoder{CompressionLevel: png.BestSpeed}
 	if err := enc.Encode(w, c.img); err != nil {
 		return r.notes, err
 	}
