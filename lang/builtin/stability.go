@@ -184,11 +184,14 @@ var stabilityFamily = []*Builtin{
 			req("A", "an operator or a square matrix"),
 			opt("weight", value.None, stabWeightDoc),
 			opt("omega", value.None, "the growth rate ω to test in ‖e^{tA}‖ ≤ M e^{ωt}; none: 0 when α(A) < 0, else a tenth of the way from α(A) to ω(A)"),
+			opt("samples", value.Str("auto"), `the Hille–Yosida λ: "auto" (as many of the 40 per power as fit the interactive work budget, about 2 s of one core, spread over the range; the report says how many were skipped) or "all" (every one, however long it takes)`),
 		},
 		Doc: "A report on A as the generator of the semigroup e^{tA}: the spectral abscissa α(A), the numerical abscissa ω(A) in the chosen inner product, Lumer–Phillips dissipativity of A − ωI (then ‖e^{tA}‖ ≤ e^{ωt}), Hille–Yosida estimates M_n = sup_{λ>ω} (λ−ω)^n ‖R(λ)^n‖ for n = 1..4 (Engel & Nagel 2000, Thm II.3.8: ‖e^{tA}‖ ≤ M e^{ωt} iff all M_n ≤ M; finitely many samples give a lower estimate of the best M), and a plain verdict with its assumptions. " +
 			"The tested ω is 0 when α(A) < 0, otherwise a tenth of the way from α(A) to ω(A). Large sparse operators (order > 1500, no weight) get the abscissae by Krylov methods and no Hille–Yosida estimates. For a rate matrix of a Markov chain see markov. " +
 			"Signs respect rounding: with τ = n·u·‖A‖_F (u = 2⁻⁵³), ω(A) ≤ ω + τ is reported as dissipative within rounding (then ‖e^{tA}‖ ≤ e^{(ω+2τ)t}), and |α(A)| within τ × the condition of the rightmost eigenvalue (√(τ‖A‖_F) if it is defective) as zero within rounding, either taken as 0 for the default ω. " +
-			"The Hille–Yosida λ run from ω + 10⁻²(ω − α) to ω + 10⁶·max(‖A‖_F, …), and each M_n is at least 1, the exact limit as λ → ∞; a dissipative A has M = 1 exactly.",
+			"The Hille–Yosida λ run from ω + 10⁻²(ω − α) to ω + 10⁶·max(‖A‖_F, …), and each M_n is at least 1, the exact limit as λ → ∞; a dissipative A has M = 1 exactly. " +
+			"The norms ‖R(λ)^n‖₂ come from the Hessenberg form of A by Golub–Kahan–Lanczos (O(n²) per λ and step); by default the λ that do not fit the interactive work budget are skipped and counted (samples = \"all\" takes them all). " +
+			"A rate matrix of a reversible chain has its α(A) = 0 from the symmetric route (a birth–death chain's eigenvalues to high relative accuracy, at any order).",
 		Examples: []Example{
 			{"len(generator({-1, 0 | 0, -2}))", "4"},
 		},
@@ -198,9 +201,10 @@ var stabilityFamily = []*Builtin{
 		Name:   "markov",
 		Params: []value.Param{req("Q", "a rate matrix: q_ij ≥ 0 for i ≠ j, rows summing to 0")},
 		Doc: "The continuous-time Markov chain with rate matrix Q, whose distributions evolve by p' = pQ (row vectors), p(t) = p(0)e^{tQ}: the stationary distribution π (πQ = 0, Σπ_i = 1), the spectral gap −max{Re λ : λ ∈ σ(Q), λ ≠ 0} and relaxation time 1/gap, " +
-			"the mixing time t_mix = min{t : max_i ‖e_iᵀe^{tQ} − π‖_TV ≤ 1/4} from dense exponentials by bisection, the bound ln(4/π_min)/gap (for reversible chains; Levin, Peres & Wilmer 2009) and whether detailed balance holds. " +
+			"the mixing time t_mix = min{t : max_i ‖e_iᵀe^{tQ} − π‖_TV ≤ 1/4} to relative 2⁻²⁰ (one dense exponential, then products of transition matrices: doubling t, then its binary digits; an interrupt stops it between products), the bound ln(4/π_min)/gap (for reversible chains; Levin, Peres & Wilmer 2009) and whether detailed balance holds. " +
 			"For two states with rates a (0→1) and b (1→0): π = (b, a)/(a + b), gap = a + b. A matrix that is not a rate matrix (a negative rate, or a row sum beyond the rounding n·u·Σ_j|q_ij|) is an error saying why. " +
-			"A reversible chain (always a birth–death one) has its gap from the symmetric D^{1/2}QD^{-1/2} = [√(q_ij q_ji)], D = diag(π), by a symmetric eigensolver (tridiagonal for birth–death), exact to n·u·‖S‖_F however strongly graded Q is; π comes from the products of the rates for a birth–death chain and otherwise from the subtraction-free elimination of Grassmann, Taksar & Heyman (1985), so every entry is accurate however widely they range; a chain that is not irreducible is an error. The gap is shown with its error bound.",
+			"A birth–death chain's gap has relative accuracy: it is σ² for the smallest singular value σ of the bidiagonal factor G of −D^{1/2}QD^{-1/2} = GᵀG, D = diag(π), formed from the square roots of the rates without subtractions (dqds), so it is right to a few units of roundoff relative to itself (bound 24·n·u) however small next to ‖Q‖. " +
+			"Another reversible chain has its gap from the symmetric D^{1/2}QD^{-1/2} = [√(q_ij q_ji)] by a symmetric eigensolver, exact to n·u·‖S‖_F however strongly graded Q is; π comes from the products of the rates for a birth–death chain and otherwise from the subtraction-free elimination of Grassmann, Taksar & Heyman (1985), so every entry is accurate however widely they range; a chain that is not irreducible is an error. The gap is shown with its error bound.",
 		Examples: []Example{
 			{"markov({-1, 1 | 3, -3})[0, 1]", "0.75"},
 		},
@@ -567,6 +571,17 @@ func spectrumImpl(c *eval.Call) (value.Value, error) {
 	if nearSet {
 		what = fmt.Sprintf("the %d eigenvalues nearest %s", k, value.FormatNum(near))
 	}
+	if chain, ok := spectra.BirthDeathOf(op.Op); ok {
+		// A birth–death rate matrix: each eigenvalue to high relative
+		// accuracy from the rates alone, at any order.
+		var s *spectra.Spectrum
+		if err := stabGuard(c, func() (e error) { s, e = chain.Spectrum(c.Ctx, k, nearSet, near); return }); err != nil {
+			return nil, err
+		}
+		r := objects.SpectrumReport(op.Label, n, s, what)
+		r.Notes = append(r.Notes, "A is the rate matrix of a birth–death chain: its eigenvalues are real, 0 and −σ² for the singular values σ of a bidiagonal factor formed from the rates without subtractions, so each is accurate relative to its own size (the gap too, however small next to ‖A‖); the last column is that error bound, |λ|·24·n·u, not a residual")
+		return r, nil
+	}
 	if n <= DenseLimit {
 		var s *spectra.Spectrum
 		if err := stabGuard(c, func() (e error) { s, e = spectra.DenseSpectrumContext(c.Ctx, op.Op); return }); err != nil {
@@ -579,25 +594,18 @@ func spectrumImpl(c *eval.Call) (value.Value, error) {
 		return nil, value.ValueErrorf("spectrum: count = %d is too many for the Krylov method on order %d", k, n)
 	}
 	o := &spectra.EigsOptions{Count: k, ShiftInvert: nearSet, Shift: near, Progress: stabProgress(c)}
-	// A birth–death rate matrix: the same spectrum from the symmetric
-	// S = D^{1/2}QD^{-1/2}, where every eigenvalue has condition 1.
-	target := op.Op
-	sym, birthDeath := spectra.SymmetrisedBirthDeath(op.Op)
-	if birthDeath {
-		target = sym
-	}
 	var s *spectra.Spectrum
 	err = stabGuard(c, func() (e error) {
-		if !nearSet && (birthDeath || hasSparseForm(op)) {
+		if !nearSet && hasSparseForm(op) {
 			// The rightmost eigenvalues as those nearest a shift just
 			// right of the spectrum: σ = ω(A) + 10⁻³(1 + |ω(A)|) ≥ α(A).
-			w, e := spectra.NumericalAbscissa(target, nil)
+			w, e := spectra.NumericalAbscissa(op.Op, nil)
 			if e != nil {
 				return e
 			}
 			o.ShiftInvert, o.Shift = true, w+1e-3*(1+math.Abs(w))
 		}
-		s, e = spectra.Rightmost(c.Ctx, target, o)
+		s, e = spectra.Rightmost(c.Ctx, op.Op, o)
 		return e
 	})
 	if err != nil {
@@ -605,9 +613,6 @@ func spectrumImpl(c *eval.Call) (value.Value, error) {
 	}
 	sortRightmost(s)
 	r := objects.SpectrumReport(op.Label, n, s, what)
-	if birthDeath {
-		r.Notes = append(r.Notes, "A is the rate matrix of a birth–death chain: computed on the symmetric S = D^{1/2}AD^{-1/2}, D = diag(π), which has the same eigenvalues, each of condition 1, so each is within its residual; the eigenvectors are those of S (x = D^{-1/2}v for A)")
-	}
 	if !nearSet && o.ShiftInvert {
 		r.Notes = append(r.Notes, fmt.Sprintf("the rightmost eigenvalues are computed as those nearest σ = ω(A) + 10⁻³(1 + |ω(A)|) = %s ≥ α(A); with eigenvalues far up the imaginary axis, give near= to choose the shift", value.FormatNum(o.Shift)))
 	}
@@ -698,6 +703,12 @@ func abscissaImpl(c *eval.Call) (value.Value, error) {
 		}
 		return q, nil
 	}
+	if _, ok := spectra.BirthDeathOf(op.Op); ok {
+		q.X = value.Num(0)
+		q.Method = "A is the rate matrix of an irreducible birth–death chain: its eigenvalues are 0 (the stationary one, A·1 = 0) and −σ² < 0 for the non-zero singular values σ of a bidiagonal factor of −D^{1/2}AD^{-1/2}, D = diag(π)"
+		q.Accuracy = fmt.Sprintf("exact for rows summing to 0; the given rows sum to 0 within %s (n·u·Σ_j|a_ij|), which moves α(A) by at most that much", fmtTol(spectra.RowSumRounding(op.Op)))
+		return q, nil
+	}
 	var s *spectra.Spectrum
 	var w float64
 	err = stabGuard(c, func() (e error) {
@@ -761,7 +772,7 @@ func numabscissaImpl(c *eval.Call) (value.Value, error) {
 		return nil, err
 	}
 	var om float64
-	if err := stabGuard(c, func() (e error) { om, e = spectra.NumericalAbscissaContext(c.Ctx, op.Op, w); return }); err != nil {
+	if err := stabGuard(c, func() (e error) { om, e = spectra.NumericalAbscissa(op.Op, w); return }); err != nil {
 		return nil, err
 	}
 	q := &objects.Quantity{X: value.Num(om), Symbol: "ω(A)", What: "numerical abscissa λmax((A + A*)/2), " + ip}
@@ -1143,7 +1154,7 @@ func growthImpl(c *eval.Call) (value.Value, error) {
 				return e
 			}
 			// The slopes the estimate leaves out, by the sparse methods.
-			w, e := spectra.NumericalAbscissaContext(c.Ctx, op.Op, nil)
+			w, e := spectra.NumericalAbscissa(op.Op, nil)
 			if e != nil {
 				return e
 			}
@@ -1301,7 +1312,18 @@ func generatorImpl(c *eval.Call) (value.Value, error) {
 			}
 		}
 	}
-	gopt := &spectra.GeneratorOptions{Weight: w, Progress: stabProgress(c)}
+	gopt := &spectra.GeneratorOptions{Weight: w, Progress: stabProgress(c), Work: spectra.HYInteractiveWork}
+	sv, _ := c.Arg(3)
+	switch sv {
+	case value.Str("auto"):
+	case value.Str("all"):
+		gopt.Work = 0
+	default:
+		if _, ok := sv.(value.Str); !ok {
+			return nil, value.TypeErrorf(`generator: samples must be a string, "auto" or "all", not %s`, value.TypeName(sv))
+		}
+		return nil, value.ValueErrorf(`generator: unknown samples %s; the choices are "auto" and "all"`, sv)
+	}
 	if v, _ := c.Arg(2); v != value.None {
 		om, err := stabRealArg(c, 2)
 		if err != nil {
@@ -1332,6 +1354,9 @@ func generatorImpl(c *eval.Call) (value.Value, error) {
 		return nil, stabNumErr(c, err)
 	}
 	r := objects.GeneratorReport(op.Label, ip, g)
+	if g.Skipped > 0 {
+		r.Notes = append(r.Notes, fmt.Sprintf("Hille–Yosida: %d of the %d λ of the main range were skipped to stay within the interactive work budget (those taken are spread over the range, so M is a lower estimate from fewer samples); generator(A, samples=\"all\") takes them all", g.Skipped, g.Skipped+g.Taken))
+	}
 	if retried != "" {
 		r.Notes = append(r.Notes, retried)
 	}
