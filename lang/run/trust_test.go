@@ -31,8 +31,6 @@ var trustFamilies = []string{"second-order", "chains", "convection-diffusion", "
 // each with the defect named (measured 2026-12-02). These are the only
 // skips allowed; SEMIFLOW_TRUST_OPEN=1 runs them too.
 var trustOpen = map[string]string{
-	"balanced_queue_1000":  "gap 9.869596282e-6 from spectrum(Q, count=2, near=0.001) is 1.3e-10 relative off the closed form 9.869596284e-6 (absolute 1.3e-15 = 3·u·‖Q‖; a symmetric generator), open",
-	"pharmacy_queue_10000": "gap 3.4877176074e-7 from spectrum(Q, count=2, near=0.001) is 7.9e-10 relative off the closed form 3.4877176101e-7 (the gap is 1e-7·‖Q‖: relative accuracy needs more than a backward-stable eigensolver), open",
 }
 
 // unitRoundoff is u = 2⁻⁵³.

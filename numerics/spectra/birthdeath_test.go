@@ -178,6 +178,15 @@ func TestBirthDeathOf(t *testing.T) {
 			t.Errorf("%s: recognised as an irreducible birth–death chain", name)
 		}
 	}
+	if _, ok := BirthDeathOf(op([][]float64{{-1, 1, 0}, {0, -1, 1}, {1, 0, -1}})); ok {
+		t.Error("a cycle accepted as birth–death")
+	}
+	if _, ok := BirthDeathOf(op([][]float64{{-1, 1}, {0, 0}})); ok {
+		t.Error("an absorbing chain accepted")
+	}
+	if _, ok := BirthDeathOf(op([][]float64{{-1, 1}, {2, -3}})); ok {
+		t.Error("rows not summing to 0 accepted")
+	}
 }
 
 // The gap of a 10⁴-state queue (bisection) and all eigenvalues of a

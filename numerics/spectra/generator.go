@@ -80,13 +80,13 @@ type GeneratorReport struct {
 	HY      []HilleYosida
 	M       float64
 	Sampled string
-	// Skipped is the number of λ of the main range left out by the work
-	// budget (GeneratorOptions.Work); 0 when all were sampled.
-	Skipped     int
-	Verdict     string
-	Assumptions string
-	Method      string
-	Accuracy    string
+	// Taken and Skipped are the numbers of λ of the main range sampled
+	// and left out by the work budget (GeneratorOptions.Work).
+	Taken, Skipped int
+	Verdict        string
+	Assumptions    string
+	Method         string
+	Accuracy       string
 }
 
 // largeGenerator is the order above which Generator uses sparse methods.
@@ -348,6 +348,7 @@ func (rep *GeneratorReport) hilleYosida(ctx context.Context, m *mat.Dense, o Gen
 		}
 	}
 	cut := taken < len(lams)
+	rep.Taken = taken
 	rep.HY = best
 	for _, b := range best {
 		rep.M = math.Max(rep.M, b.M)
@@ -666,52 +667,6 @@ func reversibleSpectrum(m *mat.Dense, pi []float64) ([]float64, float64, error) 
 		return nil, 0, numErr("symmetric QR algorithm did not converge for the %d-state reversible chain", n)
 	}
 	return es.Values(nil), roundoff.Threshold(n, mat.Norm(s, 2)) + defect, nil
-}
-
-// SymmetrisedBirthDeath returns, for the rate matrix Q of an irreducible
-// birth–death chain (tridiagonal, neighbouring rates positive, rows
-// summing to zero within rounding), the symmetric tridiagonal
-// S = D^{1/2} Q D^{-1/2}, D = diag(π): S_kk = q_kk, S_{k,k+1} = S_{k+1,k} =
-// √(q_{k,k+1} q_{k+1,k}) (detailed balance always holds on a path). S has
-// the spectrum of Q, but every eigenvalue has condition 1, so a Krylov
-// method finds it to its residual, where on a strongly graded Q the
-// non-symmetric iteration can return complex pairs or miss by percents.
-// ok is false for any other operator or one without a sparse form.
-func SymmetrisedBirthDeath(a linop.Operator) (s *linop.CSR, ok bool) {
-	q, err := linop.ToCSR(a)
-	if err != nil || q.Rows != q.Cols || q.Rows < 2 || linop.CheckGenerator(q) != nil {
-		return nil, false
-	}
-	n := q.Rows
-	d := make([]float64, n)
-	up, down := make([]float64, n-1), make([]float64, n-1)
-	for i := 0; i < n; i++ {
-		for p := q.RowPtr[i]; p < q.RowPtr[i+1]; p++ {
-			switch j, v := q.ColIdx[p], q.Val[p]; {
-			case j == i:
-				d[i] += v
-			case j == i+1:
-				up[i] += v
-			case j == i-1:
-				down[j] += v
-			case v != 0:
-				return nil, false
-			}
-		}
-	}
-	var is, js []int
-	var vs []float64
-	for k := 0; k < n; k++ {
-		is, js, vs = append(is, k), append(js, k), append(vs, d[k])
-		if k+1 < n {
-			if !(up[k] > 0 && down[k] > 0) {
-				return nil, false
-			}
-			e := math.Sqrt(up[k]) * math.Sqrt(down[k])
-			is, js, vs = append(is, k, k+1), append(js, k+1, k), append(vs, e, e)
-		}
-	}
-	return linop.NewCSRFromTriplets(n, n, is, js, vs), true
 }
 
 // symmetrised returns S with S_ii = q_ii, S_ij = √(q_ij q_ji) — equal to

@@ -8,7 +8,6 @@ import (
 	"os"
 	"path/filepath"
 	"slices"
-	"sort"
 	"strconv"
 	"strings"
 	"testing"
@@ -731,60 +730,6 @@ func TestDenseSpectrumReversibleRates(t *testing.T) {
 		if rx > 1e-13 || ry > 1e-13 {
 			t.Errorf("λ_%d = %g: ‖Qx − λx‖ = %g, ‖yᵀQ − λyᵀ‖ = %g", k, l, rx, ry)
 		}
-	}
-}
-
-// Large birth–death chains through SymmetrisedBirthDeath and shift-invert
-// Krylov–Schur: the M/M/1/K queue with λ/μ = 0.98, K = 1999 (the closed
-// form −(λ+μ) + 2√(λμ)cos(jπ/(K+1)) for the two largest non-zero
-// eigenvalues, which make_birthdeath.py checks with mpmath on small K),
-// found on S to relative 1e-9; S is symmetric with Q's diagonal, and any
-// operator that is not a birth–death rate matrix is refused.
-func TestSymmetrisedBirthDeathKrylov(t *testing.T) {
-	lam, mu, K := 0.98, 1.0, 1999
-	var is, js []int
-	var vs []float64
-	for k := 0; k < K; k++ {
-		is, js, vs = append(is, k, k, k+1, k+1), append(js, k+1, k, k, k+1), append(vs, lam, -lam, mu, -mu)
-	}
-	q := linop.NewCSRFromTriplets(K+1, K+1, is, js, vs)
-	s, ok := SymmetrisedBirthDeath(q)
-	if !ok {
-		t.Fatal("M/M/1/K not recognised")
-	}
-	for i := 0; i <= K; i++ {
-		for j := max(i-1, 0); j <= min(i+1, K); j++ {
-			if s.At(i, j) != s.At(j, i) || (i == j && s.At(i, i) != q.At(i, i)) {
-				t.Fatalf("S(%d,%d) = %g, S(%d,%d) = %g, q_ii = %g", i, j, s.At(i, j), j, i, s.At(j, i), q.At(i, i))
-			}
-		}
-	}
-	sp, err := Rightmost(bg, s, &EigsOptions{Count: 3, ShiftInvert: true, Shift: 1e-3})
-	if err != nil {
-		t.Fatal(err)
-	}
-	var got []float64
-	for _, l := range sp.Values {
-		if imag(l) != 0 {
-			t.Errorf("complex eigenvalue %v of a symmetric matrix", l)
-		}
-		got = append(got, real(l))
-	}
-	sort.Sort(sort.Reverse(sort.Float64Slice(got)))
-	if math.Abs(got[0]) > 1e-10 {
-		t.Errorf("top eigenvalue %g, want 0", got[0])
-	}
-	for j := 1; j <= 2; j++ {
-		want := -(lam + mu) + 2*math.Sqrt(lam*mu)*math.Cos(float64(j)*math.Pi/float64(K+1))
-		if relDiff(got[j], want) > 1e-9 {
-			t.Errorf("λ_%d = %.12g, closed form %.12g (relative %.2g)", j, got[j], want, relDiff(got[j], want))
-		}
-	}
-	if _, ok := SymmetrisedBirthDeath(op([][]float64{{-1, 1, 0}, {0, -1, 1}, {1, 0, -1}})); ok {
-		t.Error("a cycle accepted as birth–death")
-	}
-	if _, ok := SymmetrisedBirthDeath(op([][]float64{{-1, 1}, {0, 0}})); ok {
-		t.Error("an absorbing chain accepted")
 	}
 }
 
