@@ -77,12 +77,14 @@ func (q *Quantity) Field(name string) (value.Value, bool) {
 func (q *Quantity) FieldNames() []string { return []string{"value", "method", "accuracy"} }
 
 // solutionFields are the named parts of a solution, in the order listed.
-var solutionFields = []string{"times", "final", "errest", "errest_times", "tol", "tol_met", "matvecs", "solves", "crossdiff", "method"}
+var solutionFields = []string{"times", "final", "norms", "errest", "errest_times", "tol", "tol_met", "matvecs", "solves", "factorisations", "seconds", "crossdiff", "cross_errest", "method"}
 
-// Field returns a named part of the solution: times (vector), final
-// (u at the last time), errest (the largest error estimate), errest_times
-// (one per time), tol, tol_met, matvecs, solves, crossdiff (nan when no
-// cross-check ran) and method.
+// Field returns a named part of the solution, one for each number its
+// display shows: times (vector), final (u at the last time), norms
+// (‖u(t)‖∞ per time), errest (the largest error estimate), errest_times
+// (one per time), tol, tol_met, matvecs, solves, factorisations, seconds
+// (wall time), crossdiff and cross_errest (nan when no cross-check ran)
+// and method.
 func (s *Solution) Field(name string) (value.Value, bool) {
 	S := s.S
 	switch name {
@@ -105,9 +107,22 @@ func (s *Solution) Field(name string) (value.Value, bool) {
 		return value.Num(float64(S.MatVecs)), true
 	case "solves":
 		return value.Num(float64(S.Solves)), true
-	case "crossdiff":
+	case "norms":
+		n := make([]float64, len(S.Values))
+		for i, u := range S.Values {
+			n[i] = supNorm(u)
+		}
+		return value.RealVec(n), true
+	case "factorisations":
+		return value.Num(float64(S.Factors)), true
+	case "seconds":
+		return value.Num(S.Elapsed.Seconds()), true
+	case "crossdiff", "cross_errest":
 		if c := S.Cross; c != nil && c.Skipped == "" {
-			return value.Num(c.MaxDiff), true
+			if name == "crossdiff" {
+				return value.Num(c.MaxDiff), true
+			}
+			return value.Num(c.ErrEst), true
 		}
 		return value.Num(math.NaN()), true
 	case "method":
