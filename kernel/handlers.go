@@ -290,12 +290,29 @@ func (k *Kernel) cellContext() (ctx context.Context, done func()) {
 	}
 }
 
+// strayWaiting is written on stderr by a cell that waits for an interrupted
+// cell still running.
+const strayWaiting = "[semiflow: waiting for the interrupted cell before this one, still in a call that could not be stopped; interrupt again to give up waiting]\n"
+
 // run evaluates code under ctx (from cellContext), turning a panic into an
 // error and an interrupt into an interruptedError within the grace period.
 func (k *Kernel) run(ctx context.Context, code string, out Output) (data, md map[string]any, err error) {
 	if k.stray != nil {
-		<-k.stray // an earlier interrupted cell has not returned yet
-		k.stray = nil
+		// An earlier interrupted cell has not returned yet: the session is
+		// still in use, so this cell waits for it, saying so, and an
+		// interrupt stops the wait at once.
+		select {
+		case <-k.stray:
+			k.stray = nil
+		default:
+			out.Stream("stderr", strayWaiting)
+			select {
+			case <-k.stray:
+				k.stray = nil
+			case <-ctx.Done():
+				return nil, nil, interruptedError{}
+			}
+		}
 	}
 	type result struct {
 		data, md map[string]any

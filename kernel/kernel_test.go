@@ -432,6 +432,40 @@ func TestInterruptStubbornCell(t *testing.T) {
 	}
 }
 
+// A cell waiting for a stubborn interrupted one says so on stderr, and an
+// interrupt ends the wait at once (the wait was once uninterruptible, so a
+// cell blocked for good stopped every later one); once the stubborn cell
+// returns, cells run again.
+func TestInterruptWhileWaiting(t *testing.T) {
+	_, c, _ := startKernel(t, func(cfg *Config) { cfg.InterruptGrace = 100 * time.Millisecond })
+	stub := c.send(c.shell, wire.ExecuteRequest, exec("stubborn 1500"))
+	c.waitFor(func(r recvd) bool { return r.pid == stub && r.m.Header.MsgType == wire.ExecuteInput }, wait)
+	start := time.Now()
+	c.send(c.control, wire.InterruptRequest, map[string]any{})
+	checkInterrupted(t, c, stub, start)
+	waiting := c.send(c.shell, wire.ExecuteRequest, exec("waits"))
+	m := c.waitFor(func(r recvd) bool { return r.pid == waiting && r.m.Header.MsgType == wire.Stream }, wait)
+	if txt, _ := content(m)["text"].(string); txt != strayWaiting || content(m)["name"] != "stderr" {
+		t.Errorf("stream while waiting = %v", content(m))
+	}
+	sent := time.Now()
+	c.send(c.control, wire.InterruptRequest, map[string]any{})
+	r := content(c.reply(waiting, wait))
+	if el := time.Since(sent); el > 500*time.Millisecond || r["status"] != "error" || r["ename"] != classInterrupted {
+		t.Errorf("waiting cell interrupted: %v after %v", r, el)
+	}
+	if time.Since(start) > 1400*time.Millisecond {
+		t.Fatalf("the wait ended only %v after the first interrupt, when the stubborn cell returned", time.Since(start))
+	}
+	next := c.send(c.shell, wire.ExecuteRequest, exec("after"))
+	if s := content(c.reply(next, wait))["status"]; s != "ok" {
+		t.Errorf("cell after the stubborn one returned: %v", s)
+	}
+	if el := time.Since(start); el < 1400*time.Millisecond {
+		t.Errorf("a cell ran %v after the interrupt, while the stubborn one was still running", el)
+	}
+}
+
 func TestShutdown(t *testing.T) {
 	for _, restart := range []bool{false, true} {
 		for _, onControl := range []bool{true, false} {
