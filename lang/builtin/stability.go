@@ -772,7 +772,7 @@ func numabscissaImpl(c *eval.Call) (value.Value, error) {
 		return nil, err
 	}
 	var om float64
-	if err := stabGuard(c, func() (e error) { om, e = spectra.NumericalAbscissa(op.Op, w); return }); err != nil {
+	if err := stabGuard(c, func() (e error) { om, e = spectra.NumericalAbscissaContext(c.Ctx, op.Op, w); return }); err != nil {
 		return nil, err
 	}
 	q := &objects.Quantity{X: value.Num(om), Symbol: "ω(A)", What: "numerical abscissa λmax((A + A*)/2), " + ip}
@@ -1154,7 +1154,7 @@ func growthImpl(c *eval.Call) (value.Value, error) {
 				return e
 			}
 			// The slopes the estimate leaves out, by the sparse methods.
-			w, e := spectra.NumericalAbscissa(op.Op, nil)
+			w, e := spectra.NumericalAbscissaContext(c.Ctx, op.Op, nil)
 			if e != nil {
 				return e
 			}
