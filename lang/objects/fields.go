@@ -17,8 +17,9 @@ type Named struct {
 func (r *Analysis) name(key string, x value.Value) { r.Named = append(r.Named, Named{key, x}) }
 
 // Field returns the value called name: one of the report's named numbers,
-// a column of its table by its heading (a vector), or "method" and
-// "accuracy" (strings).
+// a column of its table by its heading or by a typed name for a heading in
+// mathematics (g.norms for ‖e^{tA}‖₂), or "method" and "accuracy"
+// (strings).
 func (r *Analysis) Field(name string) (value.Value, bool) {
 	for _, n := range r.Named {
 		if n.Name == name {
@@ -29,6 +30,9 @@ func (r *Analysis) Field(name string) (value.Value, bool) {
 		if c == name {
 			return r.column(j), true
 		}
+	}
+	if j, ok := columnAliases[r.Kind][name]; ok && j < len(r.Columns) {
+		return r.column(j), true
 	}
 	switch name {
 	case "method":
@@ -46,8 +50,34 @@ func (r *Analysis) FieldNames() []string {
 	for _, n := range r.Named {
 		out = append(out, n.Name)
 	}
+	for _, a := range aliasOrder[r.Kind] {
+		if columnAliases[r.Kind][a] < len(r.Columns) {
+			out = append(out, a)
+		}
+	}
 	out = append(out, r.Columns...)
 	return append(out, "method", "accuracy")
+}
+
+// columnAliases give the table columns whose headings are mathematics
+// (‖e^{tA}‖₂, Re λ) a name that can be typed: g.norms, s.re.
+var columnAliases = map[string]map[string]int{
+	"spectrum":       {"re": 2, "im": 3},
+	"numrange":       {"angles": 0, "boundary": 1, "support": 4},
+	"pseudospectrum": {"levels": 0, "abscissae": 1, "ratios": 2, "points": 3},
+	"resolventline":  {"im": 0, "norms": 1},
+	"growth":         {"norms": 1},
+	"generator":      {"powers": 0, "M_n": 1, "lambdas": 2},
+}
+
+// aliasOrder lists each kind's aliases in column order, for FieldNames.
+var aliasOrder = map[string][]string{
+	"spectrum":       {"re", "im"},
+	"numrange":       {"angles", "boundary", "support"},
+	"pseudospectrum": {"levels", "abscissae", "ratios", "points"},
+	"resolventline":  {"im", "norms"},
+	"growth":         {"norms"},
+	"generator":      {"powers", "M_n", "lambdas"},
 }
 
 // column returns column j of the table as a vector.
