@@ -167,6 +167,12 @@ func TestFigureWords(t *testing.T) {
 	for _, c := range []struct{ code, want string }{
 		{`spectrum({-1, 5 | 0, -2})`, "<title>Eigenvalues of the 2 × 2 matrix</title>"},
 		{`growth({-1, 5 | 0, -2}, weight=[1, 4], bounds="none")`, "‖exp(tA)‖_W (weighted norm)"},
+		// The default levels 1e−1, 1e−2, 1e−3 of a 2 × 2 matrix: the two
+		// smaller ones ring each eigenvalue in a few px (radius about ε·κ),
+		// hidden under its marker, so the legend lists 1e−1 only and the
+		// note says why.
+		{`pseudospectrum({-1, 5 | 0, -2})`, ">ε = 1e−1</text>"},
+		{`pseudospectrum({-1, 5 | 0, -2})`, "ε = 1e−2, ε = 1e−3: too small to see or outside the plot, not in the legend"},
 	} {
 		data, _, err := s.Execute(context.Background(), c.code, nil)
 		if err != nil {

@@ -258,16 +258,19 @@ func (r *renderer) drawContour(c canvas, lines []Polyline, col string, wd float6
 		all = append(all, r.strokes(r.pixels(pl.X, pl.Y))...)
 	}
 	c.stroke(all, false, strokeStyle{color: col, width: wd, round: true})
-	lo, hi := point{math.Inf(1), math.Inf(1)}, point{math.Inf(-1), math.Inf(-1)}
-	for _, pl := range all {
+	for _, pl := range all { // each curve on its own: two specks are not one curve
+		lo, hi := point{math.Inf(1), math.Inf(1)}, point{math.Inf(-1), math.Inf(-1)}
 		for _, q := range pl {
 			if r.plot.contains(q.x, q.y) {
 				lo.x, lo.y = math.Min(lo.x, q.x), math.Min(lo.y, q.y)
 				hi.x, hi.y = math.Max(hi.x, q.x), math.Max(hi.y, q.y)
 			}
 		}
+		if hi.x-lo.x >= SeenSpan || hi.y-lo.y >= SeenSpan {
+			return true
+		}
 	}
-	return hi.x-lo.x >= SeenSpan || hi.y-lo.y >= SeenSpan
+	return false
 }
 
 func (r *renderer) drawBand(c canvas, s *Band, col string, op float64) {
@@ -319,7 +322,13 @@ func (r *renderer) drawPoints(c canvas, s *Points, col string, sz float64) {
 		}
 	}
 	r.marks = append(r.marks, pts...)
-	if s.Halo {
+	if s.Halo && s.Marker == Cross {
+		var arms [][]point
+		for _, q := range pts {
+			arms = append(arms, []point{{q.x - sz, q.y - sz}, {q.x + sz, q.y + sz}}, []point{{q.x - sz, q.y + sz}, {q.x + sz, q.y - sz}})
+		}
+		c.stroke(arms, false, strokeStyle{color: paperColor, width: 4.4, round: true})
+	} else if s.Halo {
 		c.markers(s.Marker, pts, sz+1.6, paperColor)
 	}
 	c.markers(s.Marker, pts, sz, col)

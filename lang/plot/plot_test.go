@@ -518,4 +518,13 @@ func TestUnseenLevels(t *testing.T) {
 	if strings.Count(svg, `fill="`+paperColor+`" fill-opacity="0.85"`) != 1 {
 		t.Error("no halo under the marker")
 	}
+	// Two specks far apart are two small curves, not one large one.
+	g := &Figure{X: Axis{Min: 0, Max: 10}, Y: Axis{Min: 0, Max: 10}}
+	speck := func(x float64) Polyline {
+		return Polyline{X: []float64{x, x + 0.01, x, x}, Y: []float64{5, 5, 5.01, 5}, Closed: true}
+	}
+	g.AddContours([]float64{0.1}, [][]Polyline{{speck(1), speck(9)}}, "ε")
+	if svg, _ := render(t, g); !strings.Contains(svg, "ε = 0.1: too small to see") {
+		t.Error("two specks counted as a visible level")
+	}
 }
