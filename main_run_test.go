@@ -307,7 +307,7 @@ func TestFirstLookExample(t *testing.T) {
 	text := out.String()
 	last := -1
 	for _, m := range []string{"── line 13 ── sol\n", "── line 14 ── errest(sol)\n", "── line 19 ── abscissa(A)\n",
-		"── line 20 ── numabscissa(A)\n", "── line 21 ── growth(A, t=0 .. 4 by 0.5)\n", "── line 22 ── generator(A)\n"} {
+		"── line 20 ── numabscissa(A)\n", "── line 21 ── growth(A, t=0 .. 4 by 0.5)\n", "── line 22 ── wellposed(A)\n"} {
 		i := strings.Index(text, m)
 		if i <= last {
 			t.Errorf("marker %q missing or out of order", m)

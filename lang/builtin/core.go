@@ -14,7 +14,7 @@ var coreFamily = []*Builtin{
 	{
 		Name:   "help",
 		Params: []value.Param{opt("name", value.None, "a builtin or user function, or its name as a string")},
-		Doc:    "Documentation. Without an argument it shows every builtin under the heading of its family (grids, operators, evolution, stability, …) with the first sentence of its documentation, as text and, in a notebook, as a table; help(span) or help(\"span\") writes one builtin's signature, documentation and examples to standard output; for a user function it writes its definition.",
+		Doc:    "Documentation. Without an argument it shows every builtin under the heading of its family (grids, operators, evolution, stability, …) with the first sentence of its documentation, as text and, in a notebook, as a table; help(equispaced) or help(\"equispaced\") writes one builtin's signature, documentation and examples to standard output; for a user function it writes its definition.",
 		Examples: []Example{
 			{"help(typeof)", ""},
 		},
@@ -183,16 +183,16 @@ var coreFamily = []*Builtin{
 		},
 	},
 	{
-		Name: "choose",
+		Name: "when",
 		Params: []value.Param{
 			req("cond", "true or false"),
 			{Name: "a", Lazy: true, Doc: "the result when cond is true (evaluated only then)"},
 			{Name: "b", Lazy: true, Doc: "the result when cond is false (evaluated only then)"},
 		},
-		Doc: "Returns a if cond is true and b otherwise. Only the chosen argument is evaluated, so a recursive user function can stop: fact(n) = choose(n <= 1, 1, n * fact(n - 1)).",
+		Doc: "Returns a if cond is true and b otherwise. Only the chosen argument is evaluated, so a recursive user function can stop: fact(n) = when(n <= 1, 1, n * fact(n - 1)).",
 		Examples: []Example{
-			{"choose(2 > 1, \"yes\", \"no\")", "\"yes\""},
-			{"fact(n) = choose(n <= 1, 1, n * fact(n - 1)); fact(10)", "3628800"},
+			{"when(2 > 1, \"yes\", \"no\")", "\"yes\""},
+			{"fact(n) = when(n <= 1, 1, n * fact(n - 1)); fact(10)", "3628800"},
 		},
 		Impl: func(c *eval.Call) (value.Value, error) {
 			v, err := c.Arg(0)
@@ -201,7 +201,7 @@ var coreFamily = []*Builtin{
 			}
 			b, ok := v.(value.Bool)
 			if !ok {
-				return nil, value.TypeErrorf("choose: cond must be true or false, not %s; write a comparison such as x > 0", value.TypeName(v))
+				return nil, value.TypeErrorf("when: cond must be true or false, not %s; write a comparison such as x > 0", value.TypeName(v))
 			}
 			if b {
 				return c.Arg(1)

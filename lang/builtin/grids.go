@@ -91,7 +91,7 @@ var gridFamily = []*Builtin{
 		},
 	},
 	{
-		Name: "tensor",
+		Name: "tensorgrid",
 		Params: []value.Param{
 			req("gx", "the 1-D grid along x"),
 			req("gy", "the 1-D grid along y"),
@@ -99,7 +99,7 @@ var gridFamily = []*Builtin{
 		Doc: "The 2-D tensor-product grid of two 1-D grids: its unknowns are the pairs (x_ix, y_iy) of unknowns of gx and gy, numbered k = ix·ny + iy (y fastest). " +
 			"Derivatives along x and y are D_x ⊗ I and I ⊗ D_y, and the Laplacian is the Kronecker sum D2_x ⊕ D2_y.",
 		Examples: []Example{
-			{"tensor(interval(0, 1, 5), interval(0, 2, 6))", "grid: tensor 3×4 unknowns\n  x: interval [0, 1], 5 points, h = 0.25, dirichlet ends, order 2, 3 unknowns\n  y: interval [0, 2], 6 points, h = 0.4, dirichlet ends, order 2, 4 unknowns"},
+			{"tensorgrid(interval(0, 1, 5), interval(0, 2, 6))", "grid: tensor 3×4 unknowns\n  x: interval [0, 1], 5 points, h = 0.25, dirichlet ends, order 2, 3 unknowns\n  y: interval [0, 2], 6 points, h = 0.4, dirichlet ends, order 2, 4 unknowns"},
 		},
 		Impl: func(c *eval.Call) (value.Value, error) {
 			gx, err := argGrid(c, 0)
@@ -111,9 +111,9 @@ var gridFamily = []*Builtin{
 				return nil, err
 			}
 			if gx.Dim() != 1 || gy.Dim() != 1 {
-				return nil, value.ValueErrorf("tensor: gx and gy must be 1-D grids")
+				return nil, value.ValueErrorf("tensorgrid: gx and gy must be 1-D grids")
 			}
-			if err := c.CheckSize(float64(gx.Size())*float64(gy.Size()), "tensor: the grid"); err != nil {
+			if err := c.CheckSize(float64(gx.Size())*float64(gy.Size()), "tensorgrid: the grid"); err != nil {
 				return nil, err
 			}
 			return objects.NewTensor(gx, gy), nil
@@ -128,7 +128,7 @@ var gridFamily = []*Builtin{
 		Doc: "The coordinate vector of the grid's unknowns: x_k for a 1-D grid; on a 2-D grid the x (or y) value of every unknown in the order k = ix·ny + iy.",
 		Examples: []Example{
 			{"coords(interval(0, 1, 5))", "[0.25, 0.5, 0.75]"},
-			{`coords(tensor(interval(0, 1, 5), interval(0, 1, 5)), axis="y")`, "[0.25, 0.5, 0.75, 0.25, 0.5, 0.75, 0.25, 0.5, 0.75]"},
+			{`coords(tensorgrid(interval(0, 1, 5), interval(0, 1, 5)), axis="y")`, "[0.25, 0.5, 0.75, 0.25, 0.5, 0.75, 0.25, 0.5, 0.75]"},
 		},
 		Impl: func(c *eval.Call) (value.Value, error) {
 			g, err := argGrid(c, 0)
@@ -150,7 +150,7 @@ var gridFamily = []*Builtin{
 		},
 	},
 	{
-		Name: "sample",
+		Name: "tabulate",
 		Params: []value.Param{
 			req("f", "a function f(x) (1-D grid) or f(x, y) (2-D grid) returning a number, or a number"),
 			req("g", "a grid"),
@@ -158,8 +158,8 @@ var gridFamily = []*Builtin{
 		Doc: "The grid function u_k = f(x_k) (or f(x_k, y_k) on a 2-D grid) at the grid's unknowns, as a vector. A number gives the constant function. " +
 			"f is first called once with the coordinate vectors (arithmetic acts entry-wise) and, if that does not give one number per unknown, once per unknown.",
 		Examples: []Example{
-			{"f(x) = x^2; sample(f, interval(0, 1, 5))", "[0.0625, 0.25, 0.5625]"},
-			{"sample(3, interval(0, 1, 5))", "[3, 3, 3]"},
+			{"f(x) = x^2; tabulate(f, interval(0, 1, 5))", "[0.0625, 0.25, 0.5625]"},
+			{"tabulate(3, interval(0, 1, 5))", "[3, 3, 3]"},
 		},
 		Impl: func(c *eval.Call) (value.Value, error) {
 			g, err := argGrid(c, 1)

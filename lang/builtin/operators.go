@@ -70,7 +70,7 @@ var operatorFamily = []*Builtin{
 			"The Kronecker structure is kept, so propagate can use e^{t(X⊕Y)} = e^{tX} ⊗ e^{tY}.",
 		Examples: []Example{
 			{"laplacian(interval(0, 1, 5)) * [1, 1, 1]", "[-16, 0, -16]"},
-			{"size(laplacian(tensor(interval(0, 1, 5), interval(0, 1, 6))))", "[12, 12]"},
+			{"size(laplacian(tensorgrid(interval(0, 1, 5), interval(0, 1, 6))))", "[12, 12]"},
 		},
 		Impl: func(c *eval.Call) (value.Value, error) {
 			g, err := argGrid(c, 0)
@@ -85,14 +85,14 @@ var operatorFamily = []*Builtin{
 		},
 	},
 	{
-		Name: "coef",
+		Name: "multiplier",
 		Params: []value.Param{
 			req("g", "a grid"),
 			req("f", "the coefficient: a function f(x) (f(x, y) on a 2-D grid), a number, or a vector of values at the unknowns"),
 		},
-		Doc: "Multiplication by a coefficient function, (M u)_k = f(x_k) u_k: the diagonal operator diag(f(x_k)) on the grid's unknowns. Combined with deriv it builds variable-coefficient operators such as coef(g, a) * deriv(g, k=2).",
+		Doc: "Multiplication by a coefficient function, (M u)_k = f(x_k) u_k: the diagonal operator diag(f(x_k)) on the grid's unknowns. Combined with deriv it builds variable-coefficient operators such as multiplier(g, a) * deriv(g, k=2).",
 		Examples: []Example{
-			{"g = interval(0, 1, 5); sq(x) = x^2; coef(g, sq) * [1, 1, 1]", "[0.0625, 0.25, 0.5625]"},
+			{"g = interval(0, 1, 5); sq(x) = x^2; multiplier(g, sq) * [1, 1, 1]", "[0.0625, 0.25, 0.5625]"},
 		},
 		Impl: func(c *eval.Call) (value.Value, error) {
 			g, err := argGrid(c, 0)
@@ -100,7 +100,7 @@ var operatorFamily = []*Builtin{
 				return nil, err
 			}
 			var d []float64
-			label := "coef"
+			label := "multiplier"
 			switch f := c.Args[1].(type) {
 			case *value.Vec, *value.Range:
 				re, _, err := numbers(c, "f", f)
@@ -108,15 +108,15 @@ var operatorFamily = []*Builtin{
 					return nil, err
 				}
 				if re == nil {
-					return nil, value.TypeErrorf("coef: the coefficient must be real")
+					return nil, value.TypeErrorf("multiplier: the coefficient must be real")
 				}
 				if len(re) != g.Size() {
-					return nil, value.ValueErrorf("coef: the grid has %d unknowns but the vector f has %d entries", g.Size(), len(re))
+					return nil, value.ValueErrorf("multiplier: the grid has %d unknowns but the vector f has %d entries", g.Size(), len(re))
 				}
 				d = append([]float64(nil), re...)
 			default:
 				if fn, ok := f.(value.Callable); ok {
-					label = "coef(" + fn.Name() + ")"
+					label = "multiplier(" + fn.Name() + ")"
 				}
 				if d, err = sampleOn(c, "f", f, g); err != nil {
 					return nil, err
@@ -128,7 +128,7 @@ var operatorFamily = []*Builtin{
 				if y != nil {
 					at = "(x, y) = (" + value.FormatNum(x[k]) + ", " + value.FormatNum(y[k]) + ")"
 				}
-				return nil, value.ValueErrorf("coef: the coefficient must be finite, but at unknown %d, %s, it is %s", k, at, value.FormatNum(d[k]))
+				return nil, value.ValueErrorf("multiplier: the coefficient must be finite, but at unknown %d, %s, it is %s", k, at, value.FormatNum(d[k]))
 			}
 			return &objects.Operator{Op: &linop.Diag{D: d}, Grid: g, Label: label}, nil
 		},
@@ -224,7 +224,7 @@ var operatorFamily = []*Builtin{
 		Doc:    "The dimensions [rows, columns] of an operator or matrix; for a grid, the number of unknowns (the length of its grid functions).",
 		Examples: []Example{
 			{"size(deriv(interval(0, 1, 11)))", "[9, 9]"},
-			{"size(tensor(interval(0, 1, 5), chebyshev(6)))", "15"},
+			{"size(tensorgrid(interval(0, 1, 5), chebyshev(6)))", "15"},
 		},
 		Impl: func(c *eval.Call) (value.Value, error) {
 			v, err := c.Arg(0)

@@ -70,12 +70,12 @@ func TestDenseRefusedByMemoryGuard(t *testing.T) {
 func TestMatrixMarketRoundTrip(t *testing.T) {
 	path := filepath.Join(t.TempDir(), "a.mtx")
 	s := run.NewSession()
-	exec(t, s, `g = tensor(interval(0, 1, 30, order=4), interval(0, 2, 25, ends="neumann"))
+	exec(t, s, `g = tensorgrid(interval(0, 1, 30, order=4), interval(0, 2, 25, ends="neumann"))
 c(x, y) = 1 + x * y / 3
-A = coef(g, c) * laplacian(g) + deriv(g, along="y")
+A = multiplier(g, c) * laplacian(g) + deriv(g, along="y")
 writemm(A, "`+path+`")
 B = readmm("`+path+`")
-u = sample(c, g)
+u = tabulate(c, g)
 d = max(abs(A * u - B * u))`)
 	if d, _ := s.Lookup("d"); d.(value.Num) != 0 {
 		t.Errorf("round trip differs by %v", d)

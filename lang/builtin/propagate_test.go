@@ -156,7 +156,7 @@ b = propagate({-1}, [0], [1, 3], nonlinear=N)`)
 // u' = −u + [t < 1], u(0) = 0 has u(2.5) = (e − 1)e^{−2.5}.
 func TestForcingSwitchesAndCrosscheck(t *testing.T) {
 	s := run.NewSession()
-	exec(t, s, `pulse(t) = choose(t < 1, 1, 0)
+	exec(t, s, `pulse(t) = when(t < 1, 1, 0)
 q = propagate({-1, 0 | 0, -2}, [0, 0], 2.5, forcing=pulse)
 p = propagate({-1, 0 | 0, -2}, [0, 0], 2.5, forcing=pulse, switches=1, crosscheck=true)
 negsq(u) = -u^2
@@ -209,7 +209,7 @@ func TestPropagateInterruptAndProgress(t *testing.T) {
 	s := run.NewSession()
 	exec(t, s, `g = interval(0, 1, 20001)
 A = laplacian(g)
-u = sample(1, g)`)
+u = tabulate(1, g)`)
 	ctx, cancel := context.WithCancel(context.Background())
 	defer cancel()
 	rec := &recorder{}
@@ -285,10 +285,10 @@ func benchCell(b *testing.B, setup, cell string) {
 // 2-D heat equation on a 200×200 tensor grid (40 000 unknowns), five output
 // times, by e^{tX} ⊗ e^{tY}.
 func BenchmarkCellHeat2DKronecker(b *testing.B) {
-	benchCell(b, `T = tensor(interval(0, 1, 202), interval(0, 1, 202))
+	benchCell(b, `T = tensorgrid(interval(0, 1, 202), interval(0, 1, 202))
 bump(x, y) = exp(-50 * ((x - 0.3)^2 + (y - 0.6)^2))
 L = laplacian(T)
-w = sample(bump, T)`,
+w = tabulate(bump, T)`,
 		`s = propagate(L, w, [0.001, 0.002, 0.005, 0.01, 0.02])`)
 }
 
@@ -297,13 +297,13 @@ func BenchmarkCellAdvDiffKrylov(b *testing.B) {
 	benchCell(b, `g = interval(0, 1, 2002)
 A = deriv(g, k=2) + 5 * deriv(g)
 f(x) = sin(pi * x) + x * (1 - x)
-u0 = sample(f, g)`,
+u0 = tabulate(f, g)`,
 		`s = propagate(A, u0, 0.01, method="krylov")`)
 }
 
 // Building operators: a variable-coefficient 2-D operator on 300×300.
 func BenchmarkCellBuildOperator(b *testing.B) {
-	benchCell(b, `T = tensor(interval(0, 1, 302), interval(0, 1, 302))
+	benchCell(b, `T = tensorgrid(interval(0, 1, 302), interval(0, 1, 302))
 c(x, y) = 1 + x * y`,
-		`A = coef(T, c) * laplacian(T) + deriv(T, along="y")`)
+		`A = multiplier(T, c) * laplacian(T) + deriv(T, along="y")`)
 }

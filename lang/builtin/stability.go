@@ -179,7 +179,7 @@ var stabilityFamily = []*Builtin{
 		Impl: kreissImpl,
 	},
 	{
-		Name: "generator",
+		Name: "wellposed",
 		Params: []value.Param{
 			req("A", "an operator or a square matrix"),
 			opt("weight", value.None, stabWeightDoc),
@@ -193,7 +193,7 @@ var stabilityFamily = []*Builtin{
 			"The norms ‖R(λ)^n‖₂ come from the Hessenberg form of A by Golub–Kahan–Lanczos (O(n²) per λ and step); by default the λ that do not fit the interactive work budget are skipped and counted (samples = \"all\" takes them all). " +
 			"A rate matrix of a reversible chain has its α(A) = 0 from the symmetric route (a birth–death chain's eigenvalues to high relative accuracy, at any order).",
 		Examples: []Example{
-			{"len(generator({-1, 0 | 0, -2}))", "4"},
+			{"len(wellposed({-1, 0 | 0, -2}))", "4"},
 		},
 		Impl: generatorImpl,
 	},
@@ -1303,12 +1303,12 @@ func generatorImpl(c *eval.Call) (value.Value, error) {
 		return nil, err
 	}
 	if n > DenseLimit && w != nil {
-		return nil, value.ValueErrorf("generator: a weight needs the dense methods (order ≤ %d); A has order %d", DenseLimit, n)
+		return nil, value.ValueErrorf("wellposed: a weight needs the dense methods (order ≤ %d); A has order %d", DenseLimit, n)
 	}
 	if n > DenseLimit {
 		if _, ok := op.Op.(linop.Sparser); !ok {
 			if _, ok := op.Op.(*linop.CSR); !ok {
-				return nil, value.ValueErrorf("generator: A has order %d and no sparse form; the dense methods are limited to order %d", n, DenseLimit)
+				return nil, value.ValueErrorf("wellposed: A has order %d and no sparse form; the dense methods are limited to order %d", n, DenseLimit)
 			}
 		}
 	}
@@ -1355,7 +1355,7 @@ func generatorImpl(c *eval.Call) (value.Value, error) {
 	}
 	r := objects.GeneratorReport(op.Label, ip, g)
 	if g.Skipped > 0 {
-		r.Notes = append(r.Notes, fmt.Sprintf("Hille–Yosida: %d of the %d λ of the main range were skipped to stay within the interactive work budget (those taken are spread over the range, so M is a lower estimate from fewer samples); generator(A, samples=\"all\") takes them all", g.Skipped, g.Skipped+g.Taken))
+		r.Notes = append(r.Notes, fmt.Sprintf("Hille–Yosida: %d of the %d λ of the main range were skipped to stay within the interactive work budget (those taken are spread over the range, so M is a lower estimate from fewer samples); wellposed(A, samples=\"all\") takes them all", g.Skipped, g.Skipped+g.Taken))
 	}
 	if retried != "" {
 		r.Notes = append(r.Notes, retried)

@@ -41,7 +41,7 @@ func BenchmarkStabilityGrowth100Fast(b *testing.B) {
 }
 
 func BenchmarkStabilityGenerator100(b *testing.B) {
-	benchStability(b, benchDense, "x = generator(A)")
+	benchStability(b, benchDense, "x = wellposed(A)")
 }
 
 func BenchmarkStabilityNumrange100(b *testing.B) {

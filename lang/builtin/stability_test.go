@@ -53,7 +53,7 @@ func TestStabilityDisplays(t *testing.T) {
 		{"pseudospectrum(A, n=24)", "pseudospectra", true, []string{"ε = 0.1", "ε = 0.01", "eigenvalues"}},
 		{"resolventline(A, 0.5, n=20)", "along Re z = 0.5", true, nil},
 		{"growth(A, t=0 .. 4 by 0.25)", "transient growth", true, []string{"upper bound e·N·K", "lower bound Kreiss K", "exp(ωt)"}},
-		{"generator(A)", "generator report", false, nil},
+		{"wellposed(A)", "generator report", false, nil},
 		{"markov({-1, 1 | 3, -3})", "Markov chain", false, nil},
 	}
 	for _, c := range cases {

@@ -142,10 +142,12 @@ func wrap(s string, width int) string {
 	return strings.Join(append(lines, line), "\n")
 }
 
-// Table is a set of builtins by name. It implements eval.Builtins.
+// Table is a set of builtins by name. It implements eval.Builtins and
+// eval.Renamer.
 type Table struct {
-	byName map[string]*Builtin
-	names  []string
+	byName  map[string]*Builtin
+	names   []string
+	renamed map[string]string // former name → present name
 }
 
 // New returns the table of the given families. It panics if a name occurs
@@ -165,7 +167,23 @@ func New(fams ...[]*Builtin) *Table {
 		}
 	}
 	sort.Strings(t.names)
+	t.renamed = map[string]string{}
+	for old, now := range Renamed {
+		if b, ok := t.byName[now]; ok {
+			if _, dup := t.byName[old]; dup {
+				panic("builtin: former name " + old + " is a builtin")
+			}
+			t.byName[old] = b
+			t.renamed[old] = now
+		}
+	}
 	return t
+}
+
+// Renamed returns the present name of a builtin's former name.
+func (t *Table) Renamed(name string) (string, bool) {
+	now, ok := t.renamed[name]
+	return now, ok
 }
 
 // Default returns a new table of all families.
@@ -183,7 +201,7 @@ func (t *Table) Lookup(name string) (value.Value, bool) {
 	return Function{b}, true
 }
 
-// Get returns the entry for name, or nil.
+// Get returns the entry for name (a present or a former one), or nil.
 func (t *Table) Get(name string) *Builtin { return t.byName[name] }
 
 // Names returns all names, sorted.

@@ -173,7 +173,7 @@ var vectorFamily = []*Builtin{
 		},
 	},
 	{
-		Name: "span",
+		Name: "equispaced",
 		Params: []value.Param{
 			req("a", "first point"),
 			req("b", "last point"),
@@ -181,8 +181,8 @@ var vectorFamily = []*Builtin{
 		},
 		Doc: "The n equally spaced points x_k = a + k (b − a)/(n − 1), k = 0 … n−1, from a to b inclusive (the last point is exactly b). With n = 1 the single point a.",
 		Examples: []Example{
-			{"span(0, 1, 5)", "[0, 0.25, 0.5, 0.75, 1]"},
-			{"len(span(-1, 1))", "50"},
+			{"equispaced(0, 1, 5)", "[0, 0.25, 0.5, 0.75, 1]"},
+			{"len(equispaced(-1, 1))", "50"},
 		},
 		Impl: func(c *eval.Call) (value.Value, error) {
 			a, err := argReal(c, 0)
@@ -198,10 +198,10 @@ var vectorFamily = []*Builtin{
 				return nil, err
 			}
 			if n < 1 {
-				return nil, value.ValueErrorf("span: n must be at least 1, not %d", n)
+				return nil, value.ValueErrorf("equispaced: n must be at least 1, not %d", n)
 			}
 			if math.IsNaN(a) || math.IsInf(a, 0) || math.IsNaN(b) || math.IsInf(b, 0) || math.IsInf(b-a, 0) {
-				return nil, value.ValueErrorf("span: needs finite end points a finite distance apart, got a = %s, b = %s", value.FormatNum(a), value.FormatNum(b))
+				return nil, value.ValueErrorf("equispaced: needs finite end points a finite distance apart, got a = %s, b = %s", value.FormatNum(a), value.FormatNum(b))
 			}
 			out := make([]float64, n)
 			if n == 1 {

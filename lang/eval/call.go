@@ -277,7 +277,7 @@ func (in *Interp) callArgs(sc *scope, site syntax.Node, fn value.Callable, pos [
 	switch f := fn.(type) {
 	case *Closure:
 		if in.depth >= in.Limits.MaxDepth {
-			return nil, in.errorf(sc, site, value.ClassDepth, "calls nested more than %d deep (in %s); a recursive function needs choose(...) to stop", in.Limits.MaxDepth, name)
+			return nil, in.errorf(sc, site, value.ClassDepth, "calls nested more than %d deep (in %s); a recursive function needs when(...) to stop", in.Limits.MaxDepth, name)
 		}
 		for i := range args {
 			v, err := value.Force(args[i])

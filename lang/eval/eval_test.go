@@ -14,7 +14,7 @@ import (
 var _ = flag.Bool("update", false, "unused here; accepted for go test ./lang/... -update")
 
 func TestSuggest(t *testing.T) {
-	names := []string{"sqrt", "span", "sum", "norm", "heat_flux", "pi", "e"}
+	names := []string{"sqrt", "equispaced", "sum", "norm", "heat_flux", "pi", "e"}
 	tests := []struct{ name, want string }{
 		{"sprt", "sqrt"}, {"nrom", "norm"}, {"pii", "pi"}, {"sun", "sum"},
 		{"heatflux", "heat_flux"}, {"zzzzqqq", ""}, {"x", ""}, {"Norm", "norm"},

@@ -32,6 +32,13 @@ type Builtins interface {
 	Names() []string
 }
 
+// Renamer is implemented by Builtins that still answer to former names:
+// Renamed returns the present name of a former one. An Interp warns on
+// standard error, once per name, where a former name is used.
+type Renamer interface {
+	Renamed(name string) (now string, ok bool)
+}
+
 // Limits bound the work of one evaluation.
 type Limits struct {
 	MaxDepth    int   // nesting of user-function calls
@@ -69,6 +76,7 @@ type Interp struct {
 	nest      int // expressions under evaluation (see MaxNesting)
 
 	progressSeq int
+	renamed     map[string]bool // former builtin names already warned about
 }
 
 // New returns an interpreter over globals (created if nil).
@@ -278,6 +286,7 @@ func (in *Interp) lookup(sc *scope, id *syntax.Ident, what string) (value.Value,
 	}
 	if in.Builtins != nil {
 		if v, ok := in.Builtins.Lookup(id.Name); ok {
+			in.warnRenamed(sc, id)
 			return v, nil
 		}
 	}
@@ -286,6 +295,25 @@ func (in *Interp) lookup(sc *scope, id *syntax.Ident, what string) (value.Value,
 		msg += fmt.Sprintf("; did you mean %s?", s)
 	}
 	return nil, &Error{Name: value.ClassName, Msg: msg, File: sc.file, Pos: id.Pos(), End: id.End()}
+}
+
+// warnRenamed warns, once per name in this Interp's life (one cell), when
+// id is a builtin's former name.
+func (in *Interp) warnRenamed(sc *scope, id *syntax.Ident) {
+	r, ok := in.Builtins.(Renamer)
+	if !ok || in.renamed[id.Name] || in.Out == nil {
+		return
+	}
+	now, ok := r.Renamed(id.Name)
+	if !ok {
+		return
+	}
+	if in.renamed == nil {
+		in.renamed = map[string]bool{}
+	}
+	in.renamed[id.Name] = true
+	p := sc.file.Position(id.Pos())
+	in.Out.Stream("stderr", fmt.Sprintf("warning: %d:%d: %s is now called %s; the old name goes in the next release\n", p.Line, p.Column, id.Name, now))
 }
 
 func (in *Interp) knownNames(sc *scope) []string {

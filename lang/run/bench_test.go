@@ -38,15 +38,15 @@ func benchExec(b *testing.B, setup, src string) {
 
 // User-function calls: 10^5 calls of a one-line function through map.
 func BenchmarkMapUserFunction(b *testing.B) {
-	benchExec(b, "f(x) = exp(-x^2) * cos(x)\nx = span(0, 1, 100000)", "y = map(f, x)")
+	benchExec(b, "f(x) = exp(-x^2) * cos(x)\nx = equispaced(0, 1, 100000)", "y = map(f, x)")
 }
 
 // The same work as whole-vector arithmetic.
 func BenchmarkVectorArithmetic(b *testing.B) {
-	benchExec(b, "x = span(0, 1, 100000)", "y = exp(-x^2) * cos(x)")
+	benchExec(b, "x = equispaced(0, 1, 100000)", "y = exp(-x^2) * cos(x)")
 }
 
 // Recursion: fib(20) makes 21891 user-function calls.
 func BenchmarkRecursion(b *testing.B) {
-	benchExec(b, "fib(n) = choose(n < 2, n, fib(n - 1) + fib(n - 2))", "fib(20)")
+	benchExec(b, "fib(n) = when(n < 2, n, fib(n - 1) + fib(n - 2))", "fib(20)")
 }

@@ -137,7 +137,7 @@ func TestInterrupt(t *testing.T) {
 	for _, src := range []string{
 		// Unbounded recursion that never nests deeply: each call makes two
 		// shallow ones, so only the interrupt can stop it.
-		"f(n) = choose(n > 20, 0, f(n + 1) + f(n + 1))\nf(0)",
+		"f(n) = when(n > 20, 0, f(n + 1) + f(n + 1))\nf(0)",
 		"g(x) = g(x)\nmap(g, 1 .. 10)",
 		"h(x) = sum(zeros(1e6)) + x\nmap(h, 1 .. 1e6)",
 	} {
@@ -188,7 +188,7 @@ func TestRecursionLimit(t *testing.T) {
 func TestWorkLimit(t *testing.T) {
 	s := NewSession()
 	s.SetLimits(eval.Limits{MaxDepth: 100, MaxElements: 1000, MaxSteps: 10000})
-	_, _, err := s.Execute(context.Background(), "f(n) = choose(n > 30, 0, f(n + 1) + f(n + 1))\nf(0)", nil)
+	_, _, err := s.Execute(context.Background(), "f(n) = when(n > 30, 0, f(n + 1) + f(n + 1))\nf(0)", nil)
 	var e *eval.Error
 	if !errors.As(err, &e) || e.Name != value.ClassWork {
 		t.Fatalf("err = %v, want “over work limit”", err)
@@ -208,9 +208,9 @@ func TestComplete(t *testing.T) {
 		want       []string
 		start, end int
 	}{
-		{"sp", 2, []string{"span", "spread"}, 0, 2},
+		{"spr", 3, []string{"spread"}, 0, 3},
 		{"x = sq", 6, []string{"sqrt"}, 4, 6},
-		{"span(0, 1, n", 12, []string{"n=", "nan", "norm", "not"}, 11, 12},
+		{"equispaced(0, 1, n", 18, []string{"n=", "nan", "norm", "not"}, 17, 18},
 		{"heat(1, ka", 10, []string{"kappa="}, 8, 10},
 		{"norm([1, 2], ", 13, nil, 13, 13}, // checked below: contains p=
 		{"λ = 1; co", 9, []string{"conj", "cos", "cosh"}, 7, 9},
@@ -257,8 +257,8 @@ func TestInspect(t *testing.T) {
 		cursor int
 		want   string
 	}{
-		{"span(0, 1)", 2, "span(a, b, n=50)"},
-		{"span(", 5, "span(a, b, n=50)"},
+		{"equispaced(0, 1)", 2, "equispaced(a, b, n=50)"},
+		{"equispaced(", 5, "equispaced(a, b, n=50)"},
 		{"v", 1, "v: vector\n[1, 2]"},
 		{"y = f(2)", 5, "f(x): user function\nf(x) = x + 1"},
 		{"pi", 0, "pi = 3.141592654"},
@@ -395,7 +395,7 @@ func TestCompleteDuringExecution(t *testing.T) {
 	ctx, cancel := context.WithCancel(context.Background())
 	done := make(chan struct{})
 	go func() {
-		s.Execute(ctx, "f(n) = choose(n > 40, 0, f(n + 1) + f(n + 1))\nf(0)", nil)
+		s.Execute(ctx, "f(n) = when(n > 40, 0, f(n + 1) + f(n + 1))\nf(0)", nil)
 		close(done)
 	}()
 	time.Sleep(20 * time.Millisecond)

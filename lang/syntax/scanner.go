@@ -199,8 +199,8 @@ func (s *Scanner) operator() (Item, bool) {
 			c := s.src[s.off]
 			s.off++
 			hint := map[byte]string{'&': "logical conjunction is written 'and'",
-				'?': "there is no conditional operator; use choose(cond, a, b)",
-				':': "there is no conditional operator; use choose(cond, a, b)"}[c]
+				'?': "there is no conditional operator; use when(cond, a, b)",
+				':': "there is no conditional operator; use when(cond, a, b)"}[c]
 			s.errorf(Pos(start), Pos(s.off), "unexpected %q: %s", c, hint)
 			continue2 := Item{Tok: ILLEGAL, Pos: Pos(start), End: Pos(s.off), Lit: string(c)}
 			return continue2, true

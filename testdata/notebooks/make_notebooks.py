@@ -106,8 +106,8 @@ falls by exactly what leaves: m(0) = m(t) + ∫₀ᵗ v c(20, s) ds.
 ts = 0 .. 30 by 0.5                          # hours
 sol = propagate(A, c0, ts, crosscheck=true)
 print("largest error estimate:", max(errest(sol)), "mg/L")
-tw(x) = choose(x < 0.01 or x > 19.99, 0.05, 0.1)
-w = sample(tw, g)
+tw(x) = when(x < 0.01 or x > 19.99, 0.05, 0.1)
+w = tabulate(tw, g)
 mass(k) = dot(w, sol[k])
 idx = 0 .. len(ts) - 1
 m = map(mass, idx)
@@ -134,9 +134,9 @@ at the intake around the passage of the pulse.
 station(k) = sol[k][120]
 cs = map(station, idx)
 print("peak at the intake:", max(cs), "mg/L")
-arrive(k) = choose(cs[k] == max(cs), ts[k], 0)
+arrive(k) = when(cs[k] == max(cs), ts[k], 0)
 print("time of the peak  :", max(map(arrive, idx)), "h  (advection alone: (12 - 3)/0.8 =", 9 / 0.8, "h)")
-above(k) = choose(cs[k] > 1, 0.5, 0)
+above(k) = when(cs[k] > 1, 0.5, 0)
 print("intake closed for about", sum(map(above, idx)), "h")
 r3(x) = round(1000 * x) / 1000
 row(k) = print("  t =", ts[k], "h   c =", r3(cs[k]), "mg/L")
@@ -192,7 +192,7 @@ lam = 4          # arrivals per unit time (10 minutes)
 mu = 1.5         # completions per agent per unit time
 c = 3            # agents
 N = 12           # capacity of the switchboard
-tr(k) = choose(k < N, [k, k + 1, lam], [k - N + 1, k - N, mu * min(k - N + 1, c)])
+tr(k) = when(k < N, [k, k + 1, lam], [k - N + 1, k - N, mu * min(k - N + 1, c)])
 Q = chain(N + 1, map(tr, 0 .. 2 * N - 1))
 Q
 """),
@@ -216,8 +216,8 @@ The report's column 1 is π; the two must agree to rounding.
 """),
     code("""
 a = lam / mu
-fact(n) = choose(n <= 1, 1, n * fact(n - 1))
-wq(k) = choose(k <= c, a^k / fact(k), a^k / (fact(c) * c^(k - c)))
+fact(n) = when(n <= 1, 1, n * fact(n - 1))
+wq(k) = when(k <= c, a^k / fact(k), a^k / (fact(c) * c^(k - c)))
 wts = map(wq, 0 .. N)
 pi_exact = wts / sum(wts)
 pi_num = rep[0 .. N, 1]
@@ -233,7 +233,7 @@ eigenvalue 0 of Qᵀ, and the Hille–Yosida estimate of M (a lower estimate fro
 at or just under 1.
 """),
     code("""
-generator(adjoint(Q), weight=1 / pi_num, omega=0.01)
+wellposed(adjoint(Q), weight=1 / pi_num, omega=0.01)
 """),
     md("""
 **What the numbers mean.** A caller waits when all c agents are busy on arrival (states k ≥ c; arrivals
@@ -241,7 +241,7 @@ see the stationary distribution, "Poisson arrivals see time averages"), and is l
 switchboard is full (state N). The mean number of callers is Σ k π_k.
 """),
     code("""
-busy(k) = choose(k >= c, 1, 0)
+busy(k) = when(k >= c, 1, 0)
 pwait = dot(map(busy, 0 .. N), pi_num)
 print("P(caller waits)       =", pwait)
 print("P(caller is lost)     =", pi_num[N])
@@ -256,7 +256,7 @@ method; the figure shows the distribution p(t) over the states 0..12 (the number
 selection of times: at t = 0 all probability is on state 0, and it spreads towards the long-run shape.
 """),
     code("""
-first(k) = choose(k == 0, 1, 0)
+first(k) = when(k == 0, 1, 0)
 e0 = map(first, 0 .. N)
 ts = 0 .. 6 by 0.25                      # one hour in steps of 2.5 minutes
 p = propagate(adjoint(Q), e0, ts, crosscheck=true)
@@ -468,7 +468,7 @@ it and uses e^{tA} = e^{tD²ₓ} ⊗ e^{tD²ᵧ} ("kronecker" in the table). The
 last time as a heat map.
 """),
     code("""
-p = tensor(interval(0, 1, 41), interval(0, 0.5, 21))
+p = tensorgrid(interval(0, 1, 41), interval(0, 0.5, 21))
 B = kappa * laplacian(p)
 P0(x, y) = 80 * sin(pi * x) * sin(2 * pi * y)
 plate = propagate(B, P0, [0, 300, 600], crosscheck=true)

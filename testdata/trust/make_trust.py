@@ -23,7 +23,7 @@ and the checks made on them:
     sol   a propagate result     ‖sol[k] − ref_k‖∞ within tol·‖u0‖∞ or flagged
                                  as not met, and true error ≤ estimate ≤
                                  1000·max(true error, u·‖ref_k‖∞)
-    gen   generator(A, omega=0)  dissipative (ω(A) ≤ 0) and stable (α(A) < 0)
+    gen   wellposed(A, omega=0)  dissipative (ω(A) ≤ 0) and stable (α(A) < 0)
     mk    markov(Q)              gap within 1e-10 relative, reversible
     gap   a number               the spectral gap, within 1e-10 relative
     spec  spectrum(A)            defective eigenvalues flagged, others not
@@ -188,7 +188,7 @@ def omega_alpha(A):
 
 
 def gen_check(dissipative, stable, omega, alpha, reference):
-    """A generator(A, omega=0) check; stable None for a marginal α = 0 (no sign to test)."""
+    """A wellposed(A, omega=0) check; stable None for a marginal α = 0 (no sign to test)."""
     c = {"var": "gen", "dissipative": bool(dissipative), "omega_A": float(omega),
          "alpha": float(alpha), "reference": reference,
          # the sign of α(A): −1 (decays), +1 (grows), 0 (α = 0 exactly)
@@ -296,7 +296,7 @@ def family_second_order():
         script = READ_A + READ_U0 + "sol = propagate(A, u0, %s, tol=1e-8)\n" % vec_lit(times)
         checks = {"propagate": prop_check(u0, times, ref, refname, U * scale)}
         if n <= 63:  # the generator report on order 254 takes tens of seconds
-            script += "gen = generator(A, omega=0)\n"
+            script += "gen = wellposed(A, omega=0)\n"
             checks["generator"] = gen_check(om <= 0, alpha < 0, om, alpha,
                                             "ω(A) = λmax((A+Aᵀ)/2) by %s eigvalsh; α(A) from the closed-form modal roots" % NUMPY)
             assert om > 1e-3, "Euclidean ω of the block operator should be clearly positive"
@@ -325,7 +325,7 @@ def family_second_order():
         scale = max(np.max(np.abs(r)) for r in ref)
         script = (READ_A + READ_U0 + 'W = dense(readmm("{name}_W.mtx"))\n' +
                   "sol = propagate(A, u0, %s, tol=1e-8)\n" % vec_lit(times) +
-                  "gen = generator(A, weight=W, omega=0)\n")
+                  "gen = wellposed(A, weight=W, omega=0)\n")
         gen = gen_check(True, None if a == 0 else alpha < 0, 0.0, alpha,
                         "closed form: ⟨Au, u⟩_W = −vᵀCv ≤ 0 in the energy inner product, so ω_W(A) = 0 exactly "
                         "(%s gives %.2e from a Cholesky factor); α(A) from the modal roots" % (NUMPY, omw))
@@ -355,7 +355,7 @@ def family_second_order():
     ref, spread = mp_pair(Ad, u0, times, name)
     om, al = omega_alpha(Ad)
     add(name, fam, "a ten-storey shear building after a ground jolt (all floors moving at 0.3 m/s), masses, storey stiffnesses and Rayleigh damping C = 0.05 M + 0.02 K",
-        READ_A + READ_U0 + "sol = propagate(A, u0, %s, tol=1e-8)\ngen = generator(A, omega=0)\n" % vec_lit(times),
+        READ_A + READ_U0 + "sol = propagate(A, u0, %s, tol=1e-8)\ngen = wellposed(A, omega=0)\n" % vec_lit(times),
         propagate=prop_check(u0, times, ref, "%s expm at 40 digits, checked against %s expm" % (MPMATH, SCIPY), spread),
         generator=gen_check(om <= 0, al < 0, om, al, "ω(A), α(A) by %s eigvalsh and eigvals" % NUMPY))
 
@@ -432,7 +432,7 @@ def family_chains():
         p0[0] = 1.0
         u0 = write_vector(name, p0)
         QT = Q.T.tocsr()
-        trans = "tr(k) = choose(k < n - 1, [k, k + 1, %s], [k - n + 2, k - n + 1, %s])\n" % (lit(lam), lit(mu))
+        trans = "tr(k) = when(k < n - 1, [k, k + 1, %s], [k - n + 2, k - n + 1, %s])\n" % (lit(lam), lit(mu))
         script = ("n = %d\n" % n + trans + "Q = chain(n, map(tr, 0 .. 2*n - 3))\n" + READ_U0 +
                   "sol = propagate(adjoint(Q), u0, %s, tol=1e-8)\n" % vec_lit(times))
         if n <= 2000:
@@ -481,7 +481,7 @@ def family_chains():
     Q = birth_death(n, up, down)
     agree(ref, expm_values(Q.T, u0, times), name, 1.0, 1e-9)
     script = ("nb = %d\nr = %s\n" % (nb, lit(r)) +
-              "tr(k) = choose(k < nb, [k, k + 1, r * (nb - k)], [k - nb + 1, k - nb, r * (k - nb + 1)])\n"
+              "tr(k) = when(k < nb, [k, k + 1, r * (nb - k)], [k - nb + 1, k - nb, r * (k - nb + 1)])\n"
               "Q = chain(nb + 1, map(tr, 0 .. 2*nb - 1))\n" + READ_U0 +
               "sol = propagate(adjoint(Q), u0, %s, tol=1e-8)\nmk = markov(Q)\n" % vec_lit(times))
     add(name, fam, "an Ehrenfest urn: 100 balls, each switching urns at rate 1/4, started with urn 1 empty", script,
@@ -505,7 +505,7 @@ def family_chains():
                                  for j in range(n)]))
         gap = float(2 * r * (1 - mpmath.cos(2 * mpmath.pi / n)))
     script = ("n = %d\nr = %s\n" % (n, lit(r)) +
-              "tr(k) = choose(k < n, [k, (k + 1) % n, r], [k - n, (k - n + n - 1) % n, r])\n"
+              "tr(k) = when(k < n, [k, (k + 1) % n, r], [k - n, (k - n + n - 1) % n, r])\n"
               "Q = chain(n, map(tr, 0 .. 2*n - 1))\n" + READ_U0 +
               "sol = propagate(adjoint(Q), u0, %s, tol=1e-8)\nmk = markov(Q)\n" % vec_lit(times))
     add(name, fam, "a ring of 120 bike-share docks, a bike moving to either neighbour at rate 1/2", script,
@@ -528,7 +528,7 @@ def family_chains():
     times = [2.0, 30.0]
     ref, spread = mp_pair(Q.T.toarray(), u0, times, name)
     script = ("n = %d\n" % n +
-              "tr(k) = choose(k < n, [k, (k + 1) %% n, %s], [k - n, (k - n + n - 1) %% n, %s])\n" % (lit(fr), lit(bk)) +
+              "tr(k) = when(k < n, [k, (k + 1) %% n, %s], [k - n, (k - n + n - 1) %% n, %s])\n" % (lit(fr), lit(bk)) +
               "Q = chain(n, map(tr, 0 .. 2*n - 1))\n" + READ_U0 +
               "sol = propagate(adjoint(Q), u0, %s, tol=1e-8)\nmk = markov(Q)\n" % vec_lit(times))
     add(name, fam, "a carousel of 60 seats, a rider moving forward at 1.5 and back at 0.5: not reversible", script,
@@ -551,7 +551,7 @@ def family_chains():
     times = [1.0, 10.0]
     ref, spread = scipy_pair(Q.T, u0, times, name)
     script = ("n = %d\n" % n +
-              "tr(k) = choose(k < n - 1, [k, k + 1, %s], [k - n + 2, k - n + 1, %s * min(k - n + 2, %d)])\n" % (lit(lam), lit(mu), c) +
+              "tr(k) = when(k < n - 1, [k, k + 1, %s], [k - n + 2, k - n + 1, %s * min(k - n + 2, %d)])\n" % (lit(lam), lit(mu), c) +
               "Q = chain(n, map(tr, 0 .. 2*n - 3))\n" + READ_U0 +
               "sol = propagate(adjoint(Q), u0, %s, tol=1e-8)\n" % vec_lit(times) +
               "spec2 = spectrum(Q, count=2, near=0.001)\ngap = -re(spec2[1, 1])\n")
@@ -652,7 +652,7 @@ def family_convection_diffusion():
                                           "closed form: eigenvectors ρ^i sin(ikπ/(n+1)) of the tridiagonal Toeplitz matrix, in %s at %d digits; checked against %s expm" % (MPMATH, dps, SCIPY),
                                           U * scale)}
         if n <= 200:
-            script += "gen = generator(A, omega=0)\n"
+            script += "gen = wellposed(A, omega=0)\n"
             checks["generator"] = gen_check(om_closed <= 0, alpha < 0, om_closed, alpha,
                                             "closed form: α = d + 2√(ab)cos(π/(n+1)), ω = d + (a+b)cos(π/(n+1)) for tridiag(a, d, b)")
         add(name, fam, scen, script, **checks)
@@ -678,7 +678,7 @@ def family_convection_diffusion():
             om, al = omega_alpha(Ad)
             omh = weighted_omega(Ad, np.diag(h))
             assert om > 1e-3 * abs(al) and omh < 0
-            script += "gen = generator(A, omega=0)\ngenh = generator(A, weight=hw, omega=0)\n"
+            script += "gen = wellposed(A, omega=0)\ngenh = wellposed(A, weight=hw, omega=0)\n"
             checks["generator"] = gen_check(False, al < 0, om, al,
                                             "ω(A) = λmax((A+Aᵀ)/2) = %.4g > 0 by %s eigvalsh; α(A) by eigvals" % (om, NUMPY))
             g2 = gen_check(True, al < 0, omh, al,
@@ -736,7 +736,7 @@ def family_matrix_market():
     ref, spread = scipy_pair(Ad, u0, times, name)
     om, al = omega_alpha(Ad)
     add(name, fam, "a server room as a thermal RC network of 150 racks: random conductances, heat capacities 1–5, leaks to ambient at 10 racks",
-        READ_A + READ_U0 + "sol = propagate(A, u0, %s, tol=1e-8)\ngen = generator(A, omega=0)\n" % vec_lit(times),
+        READ_A + READ_U0 + "sol = propagate(A, u0, %s, tol=1e-8)\ngen = wellposed(A, omega=0)\n" % vec_lit(times),
         propagate=prop_check(u0, times, ref, "%s expm, checked against expm_multiply" % SCIPY, spread),
         generator=gen_check(om <= 0, al < 0, om, al, "ω(A), α(A) by %s eigvalsh and eigvals" % NUMPY))
 
@@ -757,7 +757,7 @@ def family_matrix_market():
     ref, spread = mp_pair(Ad, u0, times, name)
     om, al = omega_alpha(Ad)
     add(name, fam, "a drug dose in a six-compartment pharmacokinetic model (gut, plasma, tissue, fat, liver, bile), array format",
-        READ_A + READ_U0 + "sol = propagate(A, u0, %s, tol=1e-8)\ngen = generator(A, omega=0)\n" % vec_lit(times),
+        READ_A + READ_U0 + "sol = propagate(A, u0, %s, tol=1e-8)\ngen = wellposed(A, omega=0)\n" % vec_lit(times),
         propagate=prop_check(u0, times, ref, "%s expm at 40 digits, checked against %s expm" % (MPMATH, SCIPY), spread),
         generator=gen_check(om <= 0, al < 0, om, al, "ω(A), α(A) by %s eigvalsh and eigvals" % NUMPY))
 
@@ -771,7 +771,7 @@ def family_matrix_market():
     times = [1.0, 10.0, 100.0]
     ref, spread = mp_pair(Ad, u0, times, name)
     add(name, fam, "a gyroscopic coupling of eight rotor states: skew-symmetric (norm preserving), skew-symmetric Matrix Market format",
-        READ_A + READ_U0 + "sol = propagate(A, u0, %s, tol=1e-8)\ngen = generator(A, omega=0)\n" % vec_lit(times),
+        READ_A + READ_U0 + "sol = propagate(A, u0, %s, tol=1e-8)\ngen = wellposed(A, omega=0)\n" % vec_lit(times),
         propagate=prop_check(u0, times, ref, "%s expm at 40 digits, checked against %s expm" % (MPMATH, SCIPY), spread),
         generator=gen_check(True, None, 0.0, 0.0, "closed form: A + Aᵀ = 0, so ω(A) = 0 and α(A) = 0 (purely imaginary spectrum)"))
 
@@ -809,7 +809,7 @@ def family_matrix_market():
     om, al = omega_alpha(A)
     assert al > 0.05
     add(name, fam, "a flour-beetle population in four stages with integer rates (integer format): growing, α > 0",
-        READ_A + READ_U0 + "sol = propagate(A, u0, %s, tol=1e-8)\ngen = generator(A, omega=0)\n" % vec_lit(times),
+        READ_A + READ_U0 + "sol = propagate(A, u0, %s, tol=1e-8)\ngen = wellposed(A, omega=0)\n" % vec_lit(times),
         propagate=prop_check(u0, times, ref, "%s expm at 40 digits, checked against %s expm" % (MPMATH, SCIPY), spread),
         generator=gen_check(False, False, om, al, "ω(A), α(A) by %s; α > 0, so not stable" % NUMPY))
 
@@ -833,7 +833,7 @@ def family_matrix_market():
                                                    for k in range(n)) / n) for j in range(n)]))
     agree(ref, expm_values(Ad, u0, times), name, max(np.max(np.abs(r)) for r in ref), 1e-10)
     add(name, fam, "a rumour on a ring of 24 people: the pattern adjacency (pattern format), growing like e^{2t}",
-        READ_A + READ_U0 + "sol = propagate(A, u0, %s, tol=1e-8)\ngen = generator(A, omega=0)\n" % vec_lit(times),
+        READ_A + READ_U0 + "sol = propagate(A, u0, %s, tol=1e-8)\ngen = wellposed(A, omega=0)\n" % vec_lit(times),
         propagate=prop_check(u0, times, ref, "closed form: Fourier modes of the cycle adjacency, eigenvalues 2cos(2πk/n), in %s at 30 digits" % MPMATH, U * max(np.max(np.abs(r)) for r in ref)),
         generator=gen_check(False, False, 2.0, 2.0, "closed form: symmetric with eigenvalues 2cos(2πk/24): α = ω = 2"))
 
@@ -925,8 +925,8 @@ def family_forcing():
     qv = write_vector(name, q, what="q")
     times = [0.2, 0.3, 0.5, 1.0]
     ref = forced_exact(A, u0, times, [(0, qv), (0.3, np.zeros(n))])
-    script = ("g = interval(0, 1, %d)\nA = laplacian(g) - coef(g, 4)\n" % (n + 2) + READ_U0 +
-              'q = dense(readmm("{name}_q.mtx"))[0 .. -1, 0]\nheat(s) = choose(s < 0.3, 1, 0) * q\n'
+    script = ("g = interval(0, 1, %d)\nA = laplacian(g) - multiplier(g, 4)\n" % (n + 2) + READ_U0 +
+              'q = dense(readmm("{name}_q.mtx"))[0 .. -1, 0]\nheat(s) = when(s < 0.3, 1, 0) * q\n'
               "sol = propagate(A, u0, %s, forcing=heat, tol=1e-8)\n" % vec_lit(times))
     add(name, fam, "a cooling fin (15 unknowns) warmed by a central heater that is switched off at t = 0.3", script,
         propagate=prop_check(u0, times, ref, "exact: variation of constants on each piece through the augmented matrix, %s expm at 40 digits" % MPMATH, U * max(np.max(np.abs(r)) for r in ref)))
@@ -935,8 +935,8 @@ def family_forcing():
     name = "cooling_fin_heater_off_switch_given"
     u0 = write_vector(name, 0.5 * np.ones(n))
     qv = write_vector(name, q, what="q")
-    script = ("g = interval(0, 1, %d)\nA = laplacian(g) - coef(g, 4)\n" % (n + 2) + READ_U0 +
-              'q = dense(readmm("{name}_q.mtx"))[0 .. -1, 0]\nheat(s) = choose(s < 0.3, 1, 0) * q\n'
+    script = ("g = interval(0, 1, %d)\nA = laplacian(g) - multiplier(g, 4)\n" % (n + 2) + READ_U0 +
+              'q = dense(readmm("{name}_q.mtx"))[0 .. -1, 0]\nheat(s) = when(s < 0.3, 1, 0) * q\n'
               "sol = propagate(A, u0, %s, forcing=heat, switches=0.3, tol=1e-8)\n" % vec_lit(times))
     add(name, fam, "the cooling fin with the heater's switch-off time t = 0.3 given to propagate (switches=0.3)", script,
         propagate=prop_check(u0, times, ref, "exact: variation of constants on each piece through the augmented matrix, %s expm at 40 digits" % MPMATH, U * max(np.max(np.abs(r)) for r in ref)))
@@ -947,8 +947,8 @@ def family_forcing():
     qv = write_vector(name, 5 * np.ones(n), what="q")
     times = [0.25, 0.75, 2.0]
     ref = forced_exact(A, u0, times, [(0, np.zeros(n)), (0.5, qv)])
-    script = ("g = interval(0, 1, %d)\nA = laplacian(g) - coef(g, 4)\n" % (n + 2) + READ_U0 +
-              'q = dense(readmm("{name}_q.mtx"))[0 .. -1, 0]\nheat(s) = choose(s < 0.5, 0, 1) * q\n'
+    script = ("g = interval(0, 1, %d)\nA = laplacian(g) - multiplier(g, 4)\n" % (n + 2) + READ_U0 +
+              'q = dense(readmm("{name}_q.mtx"))[0 .. -1, 0]\nheat(s) = when(s < 0.5, 0, 1) * q\n'
               "sol = propagate(A, u0, %s, forcing=heat, tol=1e-8)\n" % vec_lit(times))
     add(name, fam, "the fin left to cool, then heated uniformly from t = 0.5", script,
         propagate=prop_check(u0, times, ref, "exact: variation of constants on each piece, %s expm at 40 digits" % MPMATH, U * max(np.max(np.abs(r)) for r in ref)))
@@ -961,7 +961,7 @@ def family_forcing():
     times = [0.5, 1.5, 2.5, 4.0]
     ref = forced_exact(A2, u0, times, [(0, fon), (1, np.zeros(2)), (2, fon), (3, np.zeros(2))])
     script = ("A = {-0.5, 0.25 | 0.25, -0.375}\n" + READ_U0 +
-              "on(s) = choose(s < 1, 1, choose(s < 2, 0, choose(s < 3, 1, 0)))\n"
+              "on(s) = when(s < 1, 1, when(s < 2, 0, when(s < 3, 1, 0)))\n"
               "radiator(s) = on(s) * [4, 0]\n"
               "sol = propagate(A, u0, %s, forcing=radiator, tol=1e-8)\n" % vec_lit(times))
     add(name, fam, "two rooms, a radiator in the first on a thermostat: on during [0, 1) and [2, 3), off otherwise", script,
@@ -969,7 +969,7 @@ def family_forcing():
     name = "two_rooms_thermostat_switches_given"
     u0 = write_vector(name, [18.0, 15.0])
     script = ("A = {-0.5, 0.25 | 0.25, -0.375}\n" + READ_U0 +
-              "on(s) = choose(s < 1, 1, choose(s < 2, 0, choose(s < 3, 1, 0)))\n"
+              "on(s) = when(s < 1, 1, when(s < 2, 0, when(s < 3, 1, 0)))\n"
               "radiator(s) = on(s) * [4, 0]\n"
               "sol = propagate(A, u0, %s, forcing=radiator, switches=[1, 2, 3], tol=1e-8)\n" % vec_lit(times))
     add(name, fam, "the two rooms with the thermostat's switching times given to propagate (switches=[1, 2, 3])", script,
@@ -984,7 +984,7 @@ def family_forcing():
     times = [0.4, 0.8, 1.6]
     ref = forced_exact(A3, u0, times, [(0, f1), (0.8, f2)])
     script = ("A = {-1, 0.5, 0 | 0.5, -1.5, 0.5 | 0, 0.5, -2}\n" + READ_U0 +
-              "load(s) = choose(s < 0.8, [2, 0, 1], [0.5, 0.5, 0])\n"
+              "load(s) = when(s < 0.8, [2, 0, 1], [0.5, 0.5, 0])\n"
               "sol = propagate(A, u0, %s, forcing=load, tol=1e-8)\n" % vec_lit(times))
     add(name, fam, "three cells of a battery pack (temperatures) whose load steps down at t = 0.8, an output time", script,
         propagate=prop_check(u0, times, ref, "exact: variation of constants on each piece, %s expm at 40 digits" % MPMATH, U * max(np.max(np.abs(r)) for r in ref)))
@@ -1208,7 +1208,7 @@ def family_defective():
         with mpmath.workdps(30):
             om = float(lam + sup * mpmath.cos(mpmath.pi / (n + 1)))
         script = ("A = %s\n" % lit_m + READ_U0 + "sol = propagate(A, u0, %s, tol=%s)\n" % (vec_lit(times), lit(tol)) +
-                  "gen = generator(A, omega=0)\nspec = spectrum(A)\n")
+                  "gen = wellposed(A, omega=0)\nspec = spectrum(A)\n")
         add(name, fam, scen, script,
             propagate=prop_check(u0, times, ref, "closed form: e^{λt} Σ_k (ct)^k/k! N^k for J = λI + cN, in %s at 40 digits" % MPMATH,
                                  U * max(np.max(np.abs(r)) for r in ref), tol=tol),
@@ -1252,7 +1252,7 @@ def family_defective():
     ref, spread = mp_pair(A, u0, times, name)
     om, al = omega_alpha(A)
     add(name, fam, "two 2×2 Jordan blocks for λ = −1 and a simple λ = −3: −1 is defective (geometric multiplicity 2, algebraic 4)",
-        "A = %s\n" % lit_m + READ_U0 + "sol = propagate(A, u0, %s, tol=1e-8)\ngen = generator(A, omega=0)\nspec = spectrum(A)\n" % vec_lit(times),
+        "A = %s\n" % lit_m + READ_U0 + "sol = propagate(A, u0, %s, tol=1e-8)\ngen = wellposed(A, omega=0)\nspec = spectrum(A)\n" % vec_lit(times),
         propagate=prop_check(u0, times, ref, "%s expm at 40 digits, checked against %s expm" % (MPMATH, SCIPY), spread),
         generator=gen_check(om <= 0, True, om, -1.0, "ω(A) by %s eigvalsh; α = −1 (triangular)" % NUMPY),
         eigen={"var": "spec", "norm_fro": float(np.linalg.norm(A)), "eigenvalues": [[-1.0, 0.0], [-3.0, 0.0]], "defective": [True, False], "cond": [None, 1.0],
