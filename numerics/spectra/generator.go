@@ -10,6 +10,7 @@ import (
 	"gonum.org/v1/gonum/mat"
 
 	"semiflow/numerics/linop"
+	"semiflow/numerics/memguard"
 	"semiflow/numerics/roundoff"
 )
 
@@ -140,22 +141,24 @@ func Generator(ctx context.Context, a linop.Operator, opt *GeneratorOptions) (*G
 	}
 	m := weighted(m0, o.Weight)
 	n, _ := m.Dims()
-	var sp *Spectrum
-	if o.Weight == nil {
-		// A reversible rate matrix: real eigenvalues by the symmetric
-		// route (relatively accurate for a birth–death chain), α = 0.
-		if sp, _, err = reversibleRateSpectrum(m); err != nil {
-			return nil, err
+	// The dense eigensolvers cannot be interrupted: they run abandonably
+	// (A, Hessenberg and Schur workspace, complex left and right vectors).
+	sp, err := abandonable(ctx, denseBytes(n, 8), fmt.Sprintf("dense eigenvalues of order %d", n), func() (*Spectrum, error) {
+		if o.Weight == nil {
+			// A reversible rate matrix: real eigenvalues by the symmetric
+			// route (relatively accurate for a birth–death chain), α = 0.
+			if sp, ok, err := reversibleRateSpectrum(m); ok || err != nil {
+				return sp, err
+			}
 		}
-	}
-	if sp == nil {
-		if sp, err = denseSpectrum(m); err != nil {
-			return nil, err
-		}
+		return denseSpectrum(m)
+	})
+	if err != nil {
+		return nil, err
 	}
 	fn := mat.Norm(m, 2) // Frobenius
 	rep := &GeneratorReport{N: n, SpectralAbscissa: sp.Abscissa, Rounding: roundoff.Threshold(n, fn)}
-	if rep.NumericalAbscissa, err = numAbscissa(m); err != nil {
+	if rep.NumericalAbscissa, err = abandonable(ctx, denseBytes(n, 2), fmt.Sprintf("numerical abscissa of order %d", n), func() (float64, error) { return numAbscissa(m) }); err != nil {
 		return nil, err
 	}
 	al, om, tau := rep.SpectralAbscissa, rep.NumericalAbscissa, rep.Rounding
@@ -318,6 +321,9 @@ func (rep *GeneratorReport) hilleYosida(ctx context.Context, m *mat.Dense, o Gen
 		return err
 	}
 	n, _ := m.Dims()
+	if err := memguard.DenseReal(n, n); err != nil { // the LU factors of λI − H
+		return err
+	}
 	f := newHessLU(n)
 	rep.M = 1
 	best := make([]HilleYosida, o.Powers)
@@ -510,7 +516,15 @@ func Markov(ctx context.Context, q linop.Operator) (*MarkovReport, error) {
 		rep.GapError = rep.Gap * rel
 		gapHow = fmt.Sprintf("gap = σ², σ the smallest singular value of the bidiagonal factor G of −D^{1/2}QD^{-1/2} = GᵀG, D = diag(π) (G formed from the square roots of the rates by Givens rotations, no subtractions), by the differential qd algorithm (LAPACK Dlasq1 via gonum); relative accuracy: the gap to %.2g of itself (24·n·u), however small it is next to ‖Q‖", rel)
 	case rep.Reversible && n > 1:
-		vals, tol, err := reversibleSpectrum(m, rep.Stationary)
+		type valsTol struct {
+			vals []float64
+			tol  float64
+		}
+		vt, err := abandonable(ctx, denseBytes(n, 2), fmt.Sprintf("symmetric eigenvalues of order %d", n), func() (valsTol, error) {
+			v, t, err := reversibleSpectrum(m, rep.Stationary)
+			return valsTol{v, t}, err
+		})
+		vals, tol := vt.vals, vt.tol
 		if err != nil {
 			return nil, err
 		}
@@ -521,7 +535,7 @@ func Markov(ctx context.Context, q linop.Operator) (*MarkovReport, error) {
 			gapHow += fmt.Sprintf("; WARNING: the largest eigenvalue of S is %.3g, not 0 within rounding", vals[n-1])
 		}
 	case n > 1:
-		sp, err := denseSpectrum(m)
+		sp, err := abandonable(ctx, denseBytes(n, 8), fmt.Sprintf("dense eigenvalues of order %d", n), func() (*Spectrum, error) { return denseSpectrum(m) })
 		if err != nil {
 			return nil, err
 		}
@@ -661,7 +675,10 @@ func detailedBalance(m *mat.Dense, pi []float64) bool {
 // relatively accurate route instead.
 func reversibleSpectrum(m *mat.Dense, pi []float64) ([]float64, float64, error) {
 	n, _ := m.Dims()
-	s, defect := symmetrised(m, pi)
+	s, defect, err := symmetrised(m, pi)
+	if err != nil {
+		return nil, 0, err
+	}
 	var es mat.EigenSym
 	if !es.Factorize(s, false) {
 		return nil, 0, numErr("symmetric QR algorithm did not converge for the %d-state reversible chain", n)
@@ -673,9 +690,12 @@ func reversibleSpectrum(m *mat.Dense, pi []float64) ([]float64, float64, error) 
 // D^{1/2} Q D^{-1/2}, D = diag(π), when detailed balance holds exactly —
 // and the defect ‖E‖_F, E_ij = √(π_i/π_j) q_ij − S_ij (+Inf when some π_i
 // underflowed to 0; 0 when pi is nil, for a birth–death chain, whose
-// detailed balance is exact).
-func symmetrised(m *mat.Dense, pi []float64) (*mat.SymDense, float64) {
+// detailed balance is exact), or the memory guard's refusal of S.
+func symmetrised(m *mat.Dense, pi []float64) (*mat.SymDense, float64, error) {
 	n, _ := m.Dims()
+	if err := memguard.DenseReal(n, n); err != nil {
+		return nil, 0, err
+	}
 	s := mat.NewSymDense(n, nil)
 	defect := 0.0
 	for i := 0; i < n; i++ {
@@ -692,7 +712,7 @@ func symmetrised(m *mat.Dense, pi []float64) (*mat.SymDense, float64) {
 	if math.IsNaN(defect) {
 		defect = math.Inf(1)
 	}
-	return s, defect
+	return s, defect, nil
 }
 
 // reversibleRateSpectrum returns the dense spectrum of m through the
@@ -737,7 +757,14 @@ func reversibleRateSpectrum(m *mat.Dense) (*Spectrum, bool, error) {
 			lp[k] = math.Log(p)
 		}
 	}
-	s, defect := symmetrised(m, pi)
+	// S, its eigenvectors, and Q's complex right and left vectors.
+	if err := memguard.Check(6*n*n, memguard.RealBytes, fmt.Sprintf("symmetric route for the %d-state reversible chain", n)); err != nil {
+		return nil, false, err
+	}
+	s, defect, err := symmetrised(m, pi)
+	if err != nil {
+		return nil, false, err
+	}
 	var es mat.EigenSym
 	if !es.Factorize(s, true) {
 		return nil, false, numErr("symmetric QR algorithm did not converge for the %d-state reversible chain", n)
