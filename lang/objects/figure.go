@@ -40,7 +40,7 @@ func addFigure(f *plot.Figure, out map[string]any) string {
 	if c, err := png.DecodeConfig(bytes.NewReader(pic)); err == nil {
 		w, h = c.Width/plot.PixelDensity, c.Height/plot.PixelDensity
 	}
-	return fmt.Sprintf(`<div class="semiflow-figure"><img src="data:image/png;base64,%s" width="%d" height="%d" alt="%s"/></div>`,
+	return fmt.Sprintf(`<div class="semiflow-figure"><img src="data:image/png;base64,%s" width="%d" height="%d" style="max-width:100%%;height:auto" alt="%s"/></div>`,
 		data, w, h, html.EscapeString(f.Caption()))
 }
 

@@ -7,10 +7,12 @@ import (
 	"unicode/utf8"
 )
 
-// FontFamily is the font-family list written on every figure. It ends with the
-// generic family so that a renderer lacking all named fonts still has a
-// sans-serif face of similar metrics.
-const FontFamily = "DejaVu Sans, Liberation Sans, Arial, Helvetica, sans-serif"
+// FontFamily is the font-family list written on every SVG figure: the Go
+// font first (the face of our PNG figures, where a reader has it), then
+// humanist and grotesque faces common on the three desktop systems, and the
+// generic family last, so that a renderer lacking all named fonts still has
+// a sans-serif face of similar metrics.
+const FontFamily = "Go, Noto Sans, Segoe UI, Liberation Sans, Arial, DejaVu Sans, sans-serif"
 
 const minus = "\u2212"
 
@@ -49,12 +51,16 @@ func escape(s string) string {
 // runeEm is a conservative advance width, in em, of r in the fonts of
 // FontFamily. DejaVu Sans, the widest of them, sets digits at 0.636 em,
 // lower-case letters at about 0.6 em and capitals up to 0.8 em; the estimate
-// errs on the wide side so that labels placed from it never overlap.
+// errs on the wide side so that labels placed from it never overlap. It
+// bounds Go Regular, the font of our PNG figures, for every ASCII character
+// (measured).
 func runeEm(r rune) float64 {
 	switch {
 	case strings.ContainsRune(" .,:;'|!il()[]", r):
 		return 0.36
-	case strings.ContainsRune("mwMW%@", r):
+	case r == '@': // 1.02 em in Go Regular
+		return 1.05
+	case strings.ContainsRune("mwMW%", r):
 		return 0.95
 	case r >= 'A' && r <= 'Z':
 		return 0.76
