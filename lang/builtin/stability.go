@@ -1173,7 +1173,7 @@ func growthImpl(c *eval.Call) (value.Value, error) {
 		return nil, err
 	}
 	if be := refused; be != nil {
-		return nil, value.ValueErrorf(`growth: at order %d even three of the %d times (each a dense exponential and an SVD, with the peak's refinement) would take about %.2g s, over ten times the interactive work budget (about %.2g s); samples="all" computes them anyway`,
+		return nil, value.ValueErrorf(`growth: at order %d even three of the %d times (each a dense exponential and an SVD, and the peak's singular vector) would take about %.2g s, over ten times the interactive work budget (about %.2g s); samples="all" computes them anyway`,
 			n, len(ts), spectra.WorkSeconds(be.Estimate), spectra.WorkSeconds(spectra.InteractiveWork))
 	}
 	if err != nil {

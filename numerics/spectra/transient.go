@@ -701,9 +701,9 @@ type GrowthOptions struct {
 	// by GrowthEvalWork. When all the times do not fit, every k-th is kept
 	// (the first and the last always) for the smallest k that fits, and
 	// the peak refinement takes what is left; Growth.Asked, Stride and
-	// CurveNeeds say so. When even three times would need more than ten
-	// budgets, GrowthCurve returns a *BudgetError (AtLeast) before any
-	// work. 0 means every time and the full refinement.
+	// CurveNeeds say so. When even three times and the peak's singular
+	// vector (no refinement) would need more than ten budgets, GrowthCurve
+	// returns a *BudgetError (AtLeast) before any work. 0 means every time and the full refinement.
 	CurveBudget float64
 	// Weight, if not nil, measures ‖e^{tA}‖ in the norm √(xᵀWx), W = RᵀR:
 	// ‖e^{tA}‖_W = ‖e^{tB}‖₂ with B = RAR⁻¹, and all bounds refer to B.
@@ -823,8 +823,9 @@ func ShapeWork(n int) float64 { return shapeWork * float64(n) * float64(n) * flo
 // stride-th (and the last) for the smallest stride whose samples, the peak
 // vector (two evaluations) and growthRefineLeast refinement steps fit. It
 // returns the indices kept, the stride, the predicted work of all times,
-// and the predicted work of the fewest times it would keep (3), which the
-// caller compares with the budget to refuse.
+// and the predicted work of the fewest times it would keep (3) with the
+// peak vector but no refinement, which the caller compares with the budget
+// to refuse.
 func growthPlan(times []float64, work func(t float64) float64, budget float64) (keep []int, stride int, all, least float64) {
 	top := 0.0
 	for _, t := range times {
@@ -842,8 +843,11 @@ func growthPlan(times []float64, work func(t float64) float64, budget float64) (
 		every[k] = k
 	}
 	all = cost(every, growthRefineFull)
-	if budget <= 0 || all <= budget || len(times) <= 3 {
+	if budget <= 0 || all <= budget {
 		return every, 1, all, all
+	}
+	if len(times) <= 3 {
+		return every, 1, all, cost(every, 0)
 	}
 	pick := func(stride int) []int {
 		var idx []int
@@ -856,7 +860,7 @@ func growthPlan(times []float64, work func(t float64) float64, budget float64) (
 		return idx
 	}
 	last := (len(times) - 1) / 2 // stride leaving three times
-	least = cost(pick(last), growthRefineLeast)
+	least = cost(pick(last), 0)
 	for stride = 2; stride < last; stride++ {
 		if idx := pick(stride); cost(idx, growthRefineLeast) <= budget {
 			return idx, stride, all, least
@@ -974,7 +978,7 @@ func GrowthCurve(ctx context.Context, a linop.Operator, times []float64, opt *Gr
 		if o.CurveBudget > 0 {
 			w := work(hi)
 			steps = min(60, max(0, int((o.CurveBudget-spent)/w)-2-2))
-			if stride == 1 {
+			if all <= o.CurveBudget {
 				steps = max(steps, growthRefineFull)
 			}
 		}
