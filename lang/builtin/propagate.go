@@ -13,6 +13,7 @@ import (
 	"semiflow/lang/value"
 	"semiflow/numerics/expo"
 	"semiflow/numerics/linop"
+	"semiflow/numerics/spectra"
 )
 
 // propagateMethods are the method names of propagate, those of
@@ -188,7 +189,7 @@ func semigroupImpl(c *eval.Call) (value.Value, error) {
 		return nil, value.ValueErrorf("semigroup: t·A overflows double precision (t = %s, entry (%d, %d) of A is %s)", value.FormatNum(t), k/n, k%n, value.FormatNum(m.Data[k]))
 	}
 	var e mat.Dense
-	if _, err := expo.ExpContext(c.Ctx, &e, ta); err != nil {
+	if _, err := spectra.ExpContext(c.Ctx, &e, ta); err != nil {
 		return nil, numericsError(c, err)
 	}
 	if k := firstNonFinite(e.RawMatrix().Data); k >= 0 {

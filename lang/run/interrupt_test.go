@@ -16,11 +16,16 @@ func TestInterruptAnalysesKeepsSession(t *testing.T) {
 	s := NewSession()
 	mustExec(t, s, "g = interval(0, 1, 202)\nA = dense(0.005*laplacian(g) - deriv(g))\nh = interval(0, 1, 802)\nB = dense(0.01*laplacian(h) - deriv(h))\nx = 41")
 	for _, cell := range []string{
-		"y = kreiss(A)",                            // Kreiss search, order 200
-		"y = spectrum(B)",                          // dense QR with eigenvectors, order 800
-		`y = growth(B, bounds="all")`,              // 101 exponentials and SVDs of order 800
-		`y = pseudospectrum(A, abscissae="exact")`, // grid, then the α_ε searches
-		`y = growth(A, t=[0, 1], bounds="all")`,    // the α_ε and Kreiss bounds
+		"y = kreiss(A)",   // Kreiss search, order 200
+		"y = spectrum(B)", // dense QR with eigenvectors, order 800
+		`y = growth(B, bounds="all", samples="all")`, // 101 exponentials and SVDs of order 800
+		`y = pseudospectrum(A, abscissae="exact")`,   // grid, then the α_ε searches
+		`y = growth(A, t=[0, 1], bounds="all")`,      // the α_ε and Kreiss bounds
+		"y = semigroup(B, 1)",                        // dense exponential, order 800
+		"y = psabscissa(A, 0.01)",                    // α_ε search, order 200
+		"y = resolventline(B, 0.1)",                  // Schur form, then σ_min along a line
+		"y = abscissa(B)",                            // dense eigenvalues with conditions, order 800
+		`y = propagate(B, ones(800), 1, method="dense")`,
 	} {
 		t.Run(cell, func(t *testing.T) {
 			ctx, cancel := context.WithCancel(context.Background())

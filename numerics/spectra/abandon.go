@@ -7,6 +7,7 @@ import (
 
 	"gonum.org/v1/gonum/mat"
 
+	"semiflow/numerics/expo"
 	"semiflow/numerics/linop"
 	"semiflow/numerics/memguard"
 )
@@ -128,4 +129,33 @@ func schurOfContext(ctx context.Context, m *mat.Dense) (*Schur, error) {
 	return abandonable(ctx, denseBytes(n, 8), fmt.Sprintf("Schur form of order %d", n), func() (*Schur, error) {
 		return schurOf(m)
 	})
+}
+
+// ExpContext sets dst = e^A for a dense square A, as expo.ExpContext, but
+// returns ctx.Err() at once when ctx is cancelled: expo checks the context
+// between its matrix products, each of which takes up to a second at order
+// 1500 on a busy machine, so the exponential runs under abandonable (its
+// copy of A, the Padé terms and powers: about ten n×n matrices) and an
+// abandoned one stops at its next product. dst is set only on success.
+func ExpContext(ctx context.Context, dst *mat.Dense, a *mat.Dense) (expo.ExpInfo, error) {
+	n, _ := a.Dims()
+	e, err := abandonable(ctx, denseBytes(n, 10), fmt.Sprintf("dense exponential of order %d", n), func() (*expInResult, error) {
+		var r expInResult
+		r.info, r.err = expo.ExpContext(ctx, &r.e, a)
+		return &r, nil
+	})
+	if err != nil {
+		return expo.ExpInfo{}, err
+	}
+	if e.err != nil {
+		return e.info, e.err
+	}
+	dst.CloneFrom(&e.e)
+	return e.info, nil
+}
+
+type expInResult struct {
+	e    mat.Dense
+	info expo.ExpInfo
+	err  error
 }
