@@ -205,6 +205,25 @@ async function checkNotebook(context, opts, name, prefix, left) {
     )
       return;
 
+    // Syntax highlighting: the kernelspec's kernel.js defines the CodeMirror
+    // mode "semiflow", which the code cells use once the kernel is ready.
+    const hl = await pollPage(
+      page,
+      () => {
+        const cells = Jupyter.notebook.get_cells().filter((x) => x.cell_type === 'code');
+        const modes = cells.map((x) => x.code_mirror.getMode().name);
+        const marked = document.querySelectorAll('.CodeMirror .cm-builtin, .CodeMirror .cm-keyword, .CodeMirror .cm-def').length;
+        return cells.length > 0 && modes.every((m) => m === 'semiflow') && marked > 0 ? { modes: modes.length, marked } : null;
+      },
+      '',
+      Math.min(15000, left()),
+    );
+    c(
+      'code cells highlighted by the semiflow mode',
+      !!hl,
+      hl ? `${hl.modes} cells, ${hl.marked} builtins, keywords and definitions marked` : 'the mode was not applied',
+    );
+
     const nCode = (await ev(page, cellPrompts)).length;
     const t0 = Date.now();
     // Cell → Run All, as a person would.

@@ -7,7 +7,8 @@
 # 127.0.0.1 (random free port, a token, no browser) and runs notebook_check.js
 # under headless Chromium (playwright-core driving /usr/bin/chromium; no browser
 # is ever downloaded). The script runs every cell through the Cell menu and
-# checks for inline SVG figures, HTML tables, no error output, unclipped SVG
+# checks the semiflow syntax highlighting of the code cells (kernel.js), inline
+# SVG figures, HTML tables, no error output, unclipped SVG
 # text, SVG ids unique on the page and outputs that survive saving; it writes
 # a full-page screenshot of
 # each notebook to $ARTIFACT_DIR (default testdata/browser/artifacts/).
