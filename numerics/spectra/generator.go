@@ -507,14 +507,14 @@ func Markov(ctx context.Context, q linop.Operator) (*MarkovReport, error) {
 	chain, bd := birthDeathOfDense(m)
 	switch {
 	case bd:
-		vals, _, err := chain.Nearest(ctx, 2, false, 0)
+		vals, how, err := chain.Nearest(ctx, 2, false, 0)
 		if err != nil {
 			return nil, err
 		}
 		rel := chain.RelativeError()
 		rep.Gap = -vals[1]
 		rep.GapError = rep.Gap * rel
-		gapHow = fmt.Sprintf("gap = σ², σ the smallest singular value of the bidiagonal factor G of −D^{1/2}QD^{-1/2} = GᵀG, D = diag(π) (G formed from the square roots of the rates by Givens rotations, no subtractions), by the differential qd algorithm (LAPACK Dlasq1 via gonum); relative accuracy: the gap to %.2g of itself (24·n·u), however small it is next to ‖Q‖", rel)
+		gapHow = fmt.Sprintf("gap = σ², σ the smallest singular value of the bidiagonal factor G of −D^{1/2}QD^{-1/2} = GᵀG, D = diag(π) (G formed from the square roots of the rates by Givens rotations, no subtractions), by %s; relative accuracy: the gap to %.2g of itself (24·n·u), however small it is next to ‖Q‖", map[bool]string{true: "the differential qd algorithm (LAPACK Dlasq1 via gonum)", false: "bisection on the zero-diagonal Golub–Kahan form"}[how == dqdsMethod], rel)
 	case rep.Reversible && n > 1:
 		type valsTol struct {
 			vals []float64

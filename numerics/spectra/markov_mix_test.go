@@ -95,9 +95,11 @@ func TestMarkovCancel(t *testing.T) {
 // exponential per bisection step).
 func BenchmarkMarkov500(b *testing.B) {
 	q := denseOp{markovQueue(500)}
+	c0 := cpuSeconds()
 	for b.Loop() {
 		if _, err := Markov(bg, q); err != nil {
 			b.Fatal(err)
 		}
 	}
+	b.ReportMetric((cpuSeconds()-c0)/float64(b.N), "cpu-s/op")
 }
