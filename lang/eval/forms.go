@@ -19,8 +19,7 @@ func (in *Interp) evalWhere(sc *scope, e *syntax.WhereExpr) (value.Value, error)
 		if v == value.None {
 			return nil, in.errorf(local, b.Value, value.ClassValue, "%s has no value to give %s", exprText(sc.file, b.Value), syntax.Shorten(b.Name.Name, syntax.QuoteWidth))
 		}
-		local.names = append(local.names, b.Name.Name)
-		local.locals = append(local.locals, v)
+		local.bind(b.Name.Name, v)
 	}
 	return in.eval(local, e.X)
 }

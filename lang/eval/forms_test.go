@@ -2,6 +2,7 @@ package eval
 
 import (
 	"context"
+	"strconv"
 	"strings"
 	"testing"
 
@@ -127,3 +128,24 @@ type testBuiltins struct{}
 
 func (testBuiltins) Lookup(string) (value.Value, bool) { return nil, false }
 func (testBuiltins) Names() []string                    { return nil }
+
+// TestManyLocalDefinitions: a where ( ) with 20000 definitions, each using
+// the first (names are looked up in a map past a few), and a definition
+// shadowing an outer name.
+func TestManyLocalDefinitions(t *testing.T) {
+	var sb strings.Builder
+	sb.WriteString("a0 + a19999 where (a0 = 1")
+	for i := 1; i < 20000; i++ {
+		sb.WriteString(", a" + strconv.Itoa(i) + " = a0 + " + strconv.Itoa(i))
+	}
+	sb.WriteString(")")
+	in := New(nil, nil, &events{})
+	v, err := last(t, in, sb.String())
+	if err != nil || v.String() != "20001" {
+		t.Fatalf("= %v, %v; want 20001 (1 + (1 + 19999))", v, err)
+	}
+	v, err = last(t, in, "f(x) = (x + y where (x = 2*x, y = x)) where (a1 = 0, a2 = 0, a3 = 0, a4 = 0, a5 = 0, a6 = 0, a7 = 0, a8 = 0, a9 = 0, a10 = 0, a11 = 0, a12 = 0, a13 = 0, a14 = 0, a15 = 0, a16 = 0, a17 = 0, x = 100)\nf(1)")
+	if err != nil || v.String() != "400" {
+		t.Errorf("shadowing: %v, %v; want 400 (x = 100 inside, then 200 + 200)", v, err)
+	}
+}

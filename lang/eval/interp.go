@@ -98,6 +98,26 @@ type scope struct {
 	names  []string // parameter and local names, in order
 	locals []value.Value
 	outer  *scope
+	index  map[string]int // name → its last position, once there are many names
+}
+
+// indexAbove is the number of names from which a scope looks names up in
+// a map rather than by a scan (a where ( ) with thousands of definitions
+// would otherwise cost a scan per name used).
+const indexAbove = 16
+
+// bind adds a local name (a where ( ) definition).
+func (sc *scope) bind(name string, v value.Value) {
+	sc.names = append(sc.names, name)
+	sc.locals = append(sc.locals, v)
+	if sc.index == nil && len(sc.names) > indexAbove {
+		sc.index = make(map[string]int, 2*len(sc.names))
+		for i, n := range sc.names {
+			sc.index[n] = i
+		}
+	} else if sc.index != nil {
+		sc.index[name] = len(sc.names) - 1
+	}
 }
 
 // MaxScopes bounds the chain of scopes a name is looked up in (nested
@@ -108,6 +128,12 @@ const MaxScopes = syntax.MaxDepth
 
 func (sc *scope) local(name string) (value.Value, bool) {
 	for s, k := sc, 0; s != nil && k <= MaxScopes; s, k = s.outer, k+1 {
+		if s.index != nil {
+			if i, ok := s.index[name]; ok {
+				return s.locals[i], true
+			}
+			continue
+		}
 		for i := len(s.names) - 1; i >= 0; i-- {
 			if s.names[i] == name {
 				return s.locals[i], true
