@@ -61,6 +61,7 @@ type rasterCanvas struct {
 	full  image.Rectangle
 	plot  image.Rectangle
 	z     vector.Rasterizer
+	faces map[float64]font.Face // by size in pixels
 }
 
 func newRaster(w, h float64, k int) *rasterCanvas {
@@ -346,15 +347,16 @@ func (c *rasterCanvas) colourBar(b rect) {
 	}
 }
 
-// The embedded font: Go Regular (BSD licence), parsed once.
+// The embedded font: Go Regular (BSD licence), parsed once; the parsed font
+// is safe for concurrent use, its faces are not, so each canvas keeps its
+// own.
 var (
-	fontOnce  sync.Once
-	fontData  *opentype.Font
-	faceMu    sync.Mutex
-	faceCache = map[float64]font.Face{}
+	fontOnce sync.Once
+	fontData *opentype.Font
 )
 
-func faceAt(px float64) font.Face {
+// faceAt returns the canvas's face of Go Regular at px pixels.
+func (c *rasterCanvas) faceAt(px float64) font.Face {
 	fontOnce.Do(func() {
 		f, err := opentype.Parse(goregular.TTF)
 		if err != nil {
@@ -362,16 +364,17 @@ func faceAt(px float64) font.Face {
 		}
 		fontData = f
 	})
-	faceMu.Lock()
-	defer faceMu.Unlock()
-	if f, ok := faceCache[px]; ok {
+	if f, ok := c.faces[px]; ok {
 		return f
 	}
 	f, err := opentype.NewFace(fontData, &opentype.FaceOptions{Size: px, DPI: 72, Hinting: font.HintingNone})
 	if err != nil {
 		panic("plot: no face of Go Regular at " + strconv.FormatFloat(px, 'g', -1, 64) + " px: " + err.Error())
 	}
-	faceCache[px] = f
+	if c.faces == nil {
+		c.faces = map[float64]font.Face{}
+	}
+	c.faces[px] = f
 	return f
 }
 
@@ -397,7 +400,7 @@ func (c *rasterCanvas) text(x, y float64, l label, st textStyle) {
 	runs := runsOf(l, st.size)
 	full := 0.0
 	for _, r := range runs {
-		full += float64(font.MeasureString(faceAt(r.size*c.k), r.s)) / 64
+		full += float64(font.MeasureString(c.faceAt(r.size*c.k), r.s)) / 64
 	}
 	off := 0.0 // from the start of the text to its anchor, in pixels
 	switch st.anchor {
@@ -411,7 +414,7 @@ func (c *rasterCanvas) text(x, y float64, l label, st textStyle) {
 	if !st.vertical {
 		pen := x*c.k - off
 		for _, r := range runs {
-			d := font.Drawer{Dst: dst, Src: col, Face: faceAt(r.size * c.k), Dot: fx.Point26_6{X: fx.Int26_6(pen * 64), Y: fx.Int26_6((y - r.rise) * c.k * 64)}}
+			d := font.Drawer{Dst: dst, Src: col, Face: c.faceAt(r.size * c.k), Dot: fx.Point26_6{X: fx.Int26_6(pen * 64), Y: fx.Int26_6((y - r.rise) * c.k * 64)}}
 			d.DrawString(r.s)
 			pen = float64(d.Dot.X) / 64
 		}
@@ -424,7 +427,7 @@ func (c *rasterCanvas) text(x, y float64, l label, st textStyle) {
 	scratch := image.NewRGBA(image.Rect(0, 0, tw, th))
 	pen := 2.0
 	for _, r := range runs {
-		d := font.Drawer{Dst: scratch, Src: col, Face: faceAt(r.size * c.k), Dot: fx.Point26_6{X: fx.Int26_6(pen * 64), Y: fx.Int26_6((asc - r.rise*c.k) * 64)}}
+		d := font.Drawer{Dst: scratch, Src: col, Face: c.faceAt(r.size * c.k), Dot: fx.Point26_6{X: fx.Int26_6(pen * 64), Y: fx.Int26_6((asc - r.rise*c.k) * 64)}}
 		d.DrawString(r.s)
 		pen = float64(d.Dot.X) / 64
 	}

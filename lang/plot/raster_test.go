@@ -221,3 +221,28 @@ func BenchmarkPNG(b *testing.B) {
 		})
 	}
 }
+
+// TestPNGConcurrent: figures painted at once from several goroutines (two
+// sessions of one kernel, parallel tests) come out the same as one at a
+// time; run with -race to see the faces are not shared.
+func TestPNGConcurrent(t *testing.T) {
+	want, err := spectrumFigure().PNG()
+	if err != nil {
+		t.Fatal(err)
+	}
+	errs := make(chan error, 4)
+	for range 4 {
+		go func() {
+			got, err := spectrumFigure().PNG()
+			if err == nil && !bytes.Equal(got, want) {
+				err = fmt.Errorf("a PNG painted beside others differs (%d vs %d bytes)", len(got), len(want))
+			}
+			errs <- err
+		}()
+	}
+	for range 4 {
+		if err := <-errs; err != nil {
+			t.Error(err)
+		}
+	}
+}
