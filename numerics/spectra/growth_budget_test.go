@@ -113,3 +113,53 @@ func TestGrowthShapeSkipped(t *testing.T) {
 		t.Errorf("shape needs %g, α = %g, Kreiss %v", g.ShapeNeeds, g.Abscissa, g.Kreiss)
 	}
 }
+
+// TestKreissWithin: a budget below the predicted Schur form refuses at
+// once; a search that runs out reports its extrapolated cost; within the
+// budget the result is the unbudgeted one. The shifted Grcar search of
+// order 200 needs about 1.7e9 units (BenchmarkBudget*), above 3e8.
+func TestKreissWithin(t *testing.T) {
+	start := time.Now()
+	_, err := KreissWithin(bg, grcar(300), 1e6)
+	var be *BudgetError
+	if !errors.As(err, &be) || !be.AtLeast || be.Estimate != ShapeWork(300) {
+		t.Fatalf("tiny budget: got %v, want a BudgetError at least ShapeWork(300)", err)
+	}
+	if el := time.Since(start); el > time.Second {
+		t.Errorf("refusal took %v", el)
+	}
+	_, err = KreissWithin(bg, shiftedGrcar(200), 3e8)
+	if !errors.As(err, &be) || !(be.Estimate > 3e8) {
+		t.Fatalf("search over budget: got %v, want a BudgetError above 3e8", err)
+	}
+	a := op([][]float64{{-0.01, 1}, {0, -1}})
+	k1, err := KreissWithin(bg, a, InteractiveWork)
+	if err != nil {
+		t.Fatal(err)
+	}
+	k2, err := Kreiss(bg, a)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if k1.K != k2.K || !(k1.Work > 0) {
+		t.Errorf("within budget K = %.17g (work %g), unbudgeted %.17g", k1.K, k1.Work, k2.K)
+	}
+}
+
+// TestPseudoAbscissaWithin: for a normal matrix α_ε = α + ε exactly
+// (σ_ε is the union of ε-discs; Trefethen & Embree 2005, §2), within the
+// budget; a budget below the Schur form refuses at once.
+func TestPseudoAbscissaWithin(t *testing.T) {
+	a := op([][]float64{{-1, 0, 0}, {0, -2, 1}, {0, -1, -2}}) // eigenvalues −1, −2 ± i
+	r, err := PseudoAbscissaWithin(bg, a, 0.25, InteractiveWork)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if d := math.Abs(r.Alpha - (-0.75)); d > 1e-10 {
+		t.Errorf("α_ε = %.15g, want −0.75 (α + ε)", r.Alpha)
+	}
+	var be *BudgetError
+	if _, err := PseudoAbscissaWithin(bg, grcar(300), 0.1, 1e6); !errors.As(err, &be) || !be.AtLeast {
+		t.Errorf("tiny budget: got %v", err)
+	}
+}

@@ -560,6 +560,9 @@ type KreissResult struct {
 	// measure rounding.
 	Abscissa, AbscissaTol float64
 	ZeroWithinRounding    bool
+	// Work is what KreissWithin spent (the predicted Schur form and the
+	// search's count, units of InteractiveWork), 0 without a budget.
+	Work float64
 }
 
 // kreiss maximises x / min_y σ_min((x+iy)I − A) over x > 0 on a
@@ -667,6 +670,70 @@ func (sh *shape) kreiss(ctx context.Context) (*KreissResult, error) {
 	}
 	r.K, r.Z = v, complex(x, y)
 	return r, nil
+}
+
+// KreissWithin is Kreiss under a work budget (units of InteractiveWork;
+// ≤ 0: none) shared by the Schur form and the search. When the predicted
+// Schur form (ShapeWork) alone exceeds it, it returns a *BudgetError
+// (AtLeast) at once, before any dense work; when the search runs out of
+// what is left, a *BudgetError with the whole search's extrapolated cost
+// (0 when unknown).
+func KreissWithin(ctx context.Context, a linop.Operator, budget float64) (*KreissResult, error) {
+	sh, err := budgetedShape(ctx, a, budget)
+	if err != nil {
+		return nil, err
+	}
+	if budget > 0 {
+		sh.budget = newBudget(math.Max(budget-ShapeWork(sh.s.N), 1))
+	}
+	r, err := sh.kreiss(ctx)
+	if r != nil && budget > 0 {
+		r.Work = sh.budget.spent() + ShapeWork(sh.s.N)
+	}
+	var be *BudgetError
+	if errors.As(err, &be) {
+		be.Estimate += ShapeWork(sh.s.N)
+		return nil, be
+	}
+	if errors.Is(err, ErrBudget) {
+		return nil, &BudgetError{}
+	}
+	return r, err
+}
+
+// PseudoAbscissaWithin is PseudoAbscissa under a work budget as
+// KreissWithin has; a search that runs out returns a *BudgetError whose
+// Estimate is 0 (the boundary walk's length is not known in advance).
+func PseudoAbscissaWithin(ctx context.Context, a linop.Operator, eps, budget float64) (*AbscissaResult, error) {
+	if !(eps > 0) {
+		panic(ErrOption)
+	}
+	sh, err := budgetedShape(ctx, a, budget)
+	if err != nil {
+		return nil, err
+	}
+	failed, search := 0.0, 0.0
+	if budget > 0 {
+		search = math.Max(budget-ShapeWork(sh.s.N), 1)
+	}
+	r, err := sh.budgetedAbscissa(ctx, eps, search, &failed)
+	if errors.Is(err, ErrBudget) {
+		return nil, &BudgetError{}
+	}
+	return r, err
+}
+
+// budgetedShape is newShape refusing, with a *BudgetError (AtLeast), an
+// operator whose predicted shape (ShapeWork) exceeds a positive budget.
+func budgetedShape(ctx context.Context, a linop.Operator, budget float64) (*shape, error) {
+	if n, _ := a.Dims(); budget > 0 && ShapeWork(n) > budget {
+		return nil, &BudgetError{Estimate: ShapeWork(n), AtLeast: true}
+	}
+	m, err := toDense(a)
+	if err != nil {
+		return nil, err
+	}
+	return newShape(ctx, m)
 }
 
 // Kreiss computes the Kreiss constant of the dense operator A, the lower
