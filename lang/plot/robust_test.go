@@ -276,3 +276,45 @@ func TestHeatMapOrientation(t *testing.T) {
 		}
 	}
 }
+
+// TestLegendNeverOnData: with data in every corner, or a heat map filling
+// the plot, the legend goes beside the plot, right of the colour bar.
+func TestLegendNeverOnData(t *testing.T) {
+	var xs, ys []float64
+	for i := range 400 { // a filled square: every corner holds data
+		xs, ys = append(xs, float64(i%20)), append(ys, float64(i/20))
+	}
+	f := &Figure{Series: []Series{&Points{X: xs, Y: ys, Label: "grid points"}}}
+	_, r := render(t, f)
+	if r.outside == 0 || r.legend.x0 < r.plot.x1 {
+		t.Errorf("legend at %+v, plot %+v: want it beside the plot", r.legend, r.plot)
+	}
+	if n := r.overlap(r.legend); n != 0 {
+		t.Errorf("legend meets %d data marks", n)
+	}
+	h := heatFigure(24, 16)
+	_, r = render(t, h)
+	if r.legend.x0 < r.cbarRight {
+		t.Errorf("legend at x = %g, colour bar ends at %g", r.legend.x0, r.cbarRight)
+	}
+	if r.legend.x1 > r.W {
+		t.Errorf("legend ends at x = %g, beyond the figure (%g px)", r.legend.x1, r.W)
+	}
+}
+
+// TestHeatMapFitted: an equal-aspect heat map fills its plot, no blank band
+// beside it; the figure shrinks to the data's aspect instead.
+func TestHeatMapFitted(t *testing.T) {
+	z := [][]float64{{1, 2}, {3, 4}}
+	for _, c := range []struct{ x1, y1 float64 }{{1, 1}, {2, 1}, {1, 0.5}} {
+		f := &Figure{EqualAspect: true, Series: []Series{&HeatMap{Z: z, X0: 0, X1: c.x1, Y0: 0, Y1: c.y1}}}
+		_, r := render(t, f)
+		if r.xs.lo != 0 || r.xs.hi != c.x1 || r.ys.lo != 0 || r.ys.hi != c.y1 {
+			t.Errorf("[0, %g] × [0, %g]: axes %g..%g × %g..%g", c.x1, c.y1, r.xs.lo, r.xs.hi, r.ys.lo, r.ys.hi)
+		}
+		pw, ph := r.plot.x1-r.plot.x0, r.plot.y1-r.plot.y0
+		if math.Abs(pw/ph-c.x1/c.y1) > 1e-9 {
+			t.Errorf("[0, %g] × [0, %g]: plot %g × %g px", c.x1, c.y1, pw, ph)
+		}
+	}
+}
