@@ -125,6 +125,24 @@ func TestFigureBundle(t *testing.T) {
 	if j, _ := json.Marshal(data["application/json"]); !strings.Contains(string(j), `"rows":[[`) || strings.Count(string(j), "],[") != 39 {
 		t.Errorf("the record does not keep all 40 rows")
 	}
+	// The other values that draw: a solution and a picture.
+	for code, want := range map[string]string{
+		`propagate({0, 1 | -1, 0}, [1, 0], [0, 1, 2])`:  "application/json image/png image/svg+xml text/html text/plain",
+		`picture(spectrum({-1, 5 | 0, -2}), title="a")`: "image/png image/svg+xml text/html text/plain",
+	} {
+		d, _, err := s.Execute(context.Background(), code, nil)
+		if err != nil {
+			t.Fatal(err)
+		}
+		var ks []string
+		for k := range d {
+			ks = append(ks, k)
+		}
+		slices.Sort(ks)
+		if got := strings.Join(ks, " "); got != want {
+			t.Errorf("%s: bundle keys %q, want %q", code, got, want)
+		}
+	}
 	short, _, err := s.Execute(context.Background(), `spectrum({-1, 5 | 0, -2})`, nil)
 	if err != nil {
 		t.Fatal(err)
