@@ -109,6 +109,17 @@ func colouredTraceback(err error) []string {
 	return tracebackOf(err)
 }
 
+// reportFor is the error's report for w: in colour on a terminal (unless
+// NO_COLOR is set or TERM is dumb), plain text otherwise.
+func reportFor(w io.Writer, err error) []string {
+	if f, ok := w.(*os.File); ok && os.Getenv("NO_COLOR") == "" && os.Getenv("TERM") != "dumb" {
+		if st, e := f.Stat(); e == nil && st.Mode()&os.ModeCharDevice != 0 {
+			return colouredTraceback(err)
+		}
+	}
+	return tracebackOf(err)
+}
+
 // errorNameOf returns the error's class (the notebook's ename).
 func errorNameOf(err error) string {
 	var n interface{ ErrorName() string }
@@ -262,7 +273,7 @@ func runFile(ctx context.Context, path string, stdout, stderr io.Writer) int {
 	data, _, err := s.ExecuteNamed(ctx, path, string(src), out)
 	if err != nil {
 		out.pending = "" // the report names the statement itself
-		for _, l := range tracebackOf(err) {
+		for _, l := range reportFor(stderr, err) {
 			fmt.Fprintln(stderr, l)
 		}
 		return 1
@@ -331,7 +342,7 @@ func cmdRepl() int {
 		mu.Unlock()
 		c()
 		if err != nil {
-			for _, l := range tracebackOf(err) {
+			for _, l := range reportFor(os.Stderr, err) {
 				fmt.Fprintln(os.Stderr, l)
 			}
 			continue
