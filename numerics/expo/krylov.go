@@ -6,6 +6,7 @@ import (
 
 	"gonum.org/v1/gonum/mat"
 
+	"semiflow/numerics/linop"
 	"semiflow/numerics/memguard"
 )
 
@@ -45,7 +46,7 @@ func krylovRun(ctx context.Context, c *counted, u0 []float64, times []float64, o
 	// The contract is in the ∞-norm: ‖error‖_∞ ≤ Tol·‖u0‖_∞.
 	tolAbs := opts.Tol * math.Max(normInf(u0), math.SmallestNonzeroFloat64)
 	// The basis (m+1), two more and the results, through the memory guard.
-	if err := memguard.Vectors(m+3+len(times), n, memguard.RealBytes, "Krylov work vectors and results"); err != nil {
+	if err := memguard.Vectors(m+3+len(times)+linop.Scratch(c.a), n, memguard.RealBytes, "Krylov work vectors and results"); err != nil {
 		return err
 	}
 	w := append([]float64(nil), u0...)

@@ -186,6 +186,12 @@ type shifted struct {
 
 func (s *shifted) Dims() (r, c int) { return s.a.Dims() }
 
+// ScratchFloats is what a product of A holds (linop.Scratcher).
+func (s *shifted) ScratchFloats() int {
+	r, c := s.a.Dims()
+	return linop.Scratch(s.a) * max(r, c)
+}
+
 func (s *shifted) Apply(dst, x []float64) {
 	s.a.Apply(dst, x)
 	for i := range dst {

@@ -140,7 +140,7 @@ func siKrylovRun(ctx context.Context, c *counted, u0 []float64, times []float64,
 	tolAbs := opts.Tol * math.Max(normInf(u0), math.SmallestNonzeroFloat64)
 	// The largest basis (mmax+1), three more, the complex solver's two
 	// (four reals) and the results, through the memory guard.
-	if err := memguard.Vectors(mmax+8+len(times), n, memguard.RealBytes, "shift-and-invert Krylov work vectors and results"); err != nil {
+	if err := memguard.Vectors(mmax+8+len(times)+linop.Scratch(c.a), n, memguard.RealBytes, "shift-and-invert Krylov work vectors and results"); err != nil {
 		return err
 	}
 	u := append([]float64(nil), u0...)

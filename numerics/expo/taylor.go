@@ -4,6 +4,7 @@ import (
 	"context"
 	"math"
 
+	"semiflow/numerics/linop"
 	"semiflow/numerics/memguard"
 )
 
@@ -118,7 +119,7 @@ func taylorDegree(c *counted, tn *taylorNorms, h float64) (m, s int) {
 func taylorRun(ctx context.Context, c *counted, mu float64, tn *taylorNorms, u0 []float64, times []float64, tol float64, prog func(done, total int), vals [][]float64, errs []float64) error {
 	n := len(u0)
 	// Four work vectors and the results, through the memory guard.
-	if err := memguard.Vectors(4+len(times), n, memguard.RealBytes, "Taylor work vectors and results"); err != nil {
+	if err := memguard.Vectors(4+len(times)+linop.Scratch(c.a), n, memguard.RealBytes, "Taylor work vectors and results"); err != nil {
 		return err
 	}
 	type plan struct{ m, s int }

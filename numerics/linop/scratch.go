@@ -15,9 +15,10 @@ type Scratcher interface {
 }
 
 // Scratch returns how many vectors of A's order (its larger dimension) one
-// Apply or ApplyT of A holds beyond dst and x, rounded up: 0 for dense,
-// CSR (serial), diagonal and Kronecker sums of such factors, 1 for a sum
-// of two terms, and so on. A routine that asks the memory guard for k work
+// Apply or ApplyT of A holds beyond dst and x, to the nearest whole vector:
+// 0 for dense, CSR (serial), diagonal and Kronecker sums of such factors
+// (whose column buffers have the order of a factor, far below A's), 1 for
+// a sum of two terms, and so on. A routine that asks the memory guard for k work
 // vectors of order n asks for k + Scratch(A), so every vector of order n
 // that lives during the computation is counted. An operator of another
 // package that is not a Scratcher counts as needing none.
@@ -28,7 +29,7 @@ func Scratch(a Operator) int {
 	}
 	r, c := a.Dims()
 	n := max(r, c, 1)
-	return (f + n - 1) / n
+	return (f + n/2) / n
 }
 
 func scratchFloats(a Operator) int {

@@ -76,7 +76,11 @@ func TestScratchKronSum(t *testing.T) {
 		t.Errorf("ScratchFloats = %d, want 2·3 + 7", got)
 	}
 	if got := Scratch(k); got != 1 {
-		t.Errorf("Scratch = %d, want 1 (13 floats of a vector of 21)", got)
+		t.Errorf("Scratch = %d, want 1 (13 floats of a vector of 21, to the nearest vector)", got)
+	}
+	big := NewKronSum(NewDense(randDense(rng, 30, 30)), NewDense(randDense(rng, 40, 40)))
+	if got := Scratch(big); got != 0 {
+		t.Errorf("Scratch of a Kronecker sum of order 1200 = %d, want 0 (60 floats)", got)
 	}
 }
 

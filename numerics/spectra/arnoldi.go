@@ -91,6 +91,7 @@ func Rightmost(ctx context.Context, a linop.Operator, opt *EigsOptions) (*Spectr
 	if o.ShiftInvert {
 		work += 4
 	}
+	work += linop.Scratch(a) // the temporaries of A's products
 	if err := memguard.Vectors(work, n, memguard.RealBytes, "Krylov–Schur work vectors"); err != nil {
 		return nil, err
 	}

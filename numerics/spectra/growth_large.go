@@ -50,7 +50,7 @@ func GrowthEstimate(ctx context.Context, a linop.Operator, times []float64, iter
 	// Work vectors of order n, through the memory guard first: the start,
 	// one Ritz vector per time and the Lanczos basis (the propagations ask
 	// for their own).
-	if err := memguard.Vectors(len(times)+iters+2, n, memguard.RealBytes, "growth-estimate work vectors"); err != nil {
+	if err := memguard.Vectors(len(times)+iters+2+linop.Scratch(a), n, memguard.RealBytes, "growth-estimate work vectors"); err != nil {
 		return nil, err
 	}
 	v := make([]float64, n)

@@ -39,6 +39,12 @@ func TestOrder1e10Guarded(t *testing.T) {
 	if err := func() error { _, err := NumericalAbscissa(k, nil); return err }(); !strings.Contains(err.Error(), "(4 vectors of order 10000000000) needs 298 GiB") {
 		t.Errorf("numerical abscissa: %v, want 4 vectors needing 298 GiB", err)
 	}
+	// A sum's products hold one more vector of order n (linop.Scratch):
+	// 5 × 10¹⁰ × 8 B = 4e11 B ≈ 373 GiB.
+	sum := &linop.Sum{Terms: []linop.Operator{k, k}}
+	if _, err := NumericalAbscissa(sum, nil); err == nil || !strings.Contains(err.Error(), "(5 vectors of order 10000000000) needs 373 GiB") {
+		t.Errorf("numerical abscissa of a sum: %v, want 5 vectors needing 373 GiB", err)
+	}
 }
 
 // TestResolventApplyGuarded: (zI − A)⁻¹b holds six complex vectors of

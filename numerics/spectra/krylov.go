@@ -35,7 +35,7 @@ func PseudoKrylov(ctx context.Context, a linop.Operator, r Region, m int, opt *G
 	o := opt.defaults()
 	m = min(m, n)
 	// The Arnoldi basis (m+1) and the product, through the memory guard.
-	if err := memguard.Vectors(m+2, n, memguard.RealBytes, "Arnoldi work vectors for the pseudospectra"); err != nil {
+	if err := memguard.Vectors(m+2+linop.Scratch(a), n, memguard.RealBytes, "Arnoldi work vectors for the pseudospectra"); err != nil {
 		return nil, err
 	}
 	ks := &krylovSchur{n: n, m: m, apply: a.Apply}

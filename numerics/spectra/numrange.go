@@ -428,7 +428,8 @@ func symTopLanczos(ctx context.Context, a linop.Operator, w Weight, maxIter int,
 	// Two temporaries and the basis, which grows by one vector a step:
 	// each step asks the memory guard first.
 	const what = "Lanczos work vectors for the numerical abscissa"
-	if err := memguard.Vectors(4, n, memguard.RealBytes, what); err != nil {
+	scratch := linop.Scratch(a) // the temporaries of A's products
+	if err := memguard.Vectors(4+scratch, n, memguard.RealBytes, what); err != nil {
 		return 0, err
 	}
 	t1, t2 := make([]float64, n), make([]float64, n)
@@ -472,7 +473,7 @@ func symTopLanczos(ctx context.Context, a linop.Operator, w Weight, maxIter int,
 		if err := ctx.Err(); err != nil {
 			return 0, err
 		}
-		if err := memguard.Vectors(j+4, n, memguard.RealBytes, what); err != nil {
+		if err := memguard.Vectors(j+4+scratch, n, memguard.RealBytes, what); err != nil {
 			return 0, err
 		}
 		wv := make([]float64, n)
