@@ -393,3 +393,24 @@ func TestProfile(t *testing.T) {
 		t.Errorf("chebyshev profile %v %v", x, v)
 	}
 }
+
+// An operator of at most ShownEntries rows and columns lists its entries
+// (A e_j column by column) in its text and as a second HTML table; a larger
+// one does not. The Kronecker sum [[0, 1], [2, 3]] ⊕ [[4]] is the 2×2
+// matrix [[4, 1], [2, 7]] (X ⊗ I₁ + I₂ ⊗ Y with Y = 4).
+func TestSmallOperatorEntries(t *testing.T) {
+	x := &Operator{Op: linop.NewDense(mat.NewDense(2, 2, []float64{0, 1, 2, 3})), Label: "X"}
+	y := &Operator{Op: linop.NewDense(mat.NewDense(1, 1, []float64{4})), Label: "Y"}
+	k := &Operator{Op: linop.NewKronSum(x.Op, y.Op), Label: "X ⊕ Y"}
+	if s := k.String(); !strings.HasSuffix(s, "\n  entries {4, 1 |\n           2, 7}") {
+		t.Errorf("text = %q", s)
+	}
+	h := k.MIME()["text/html"].(string)
+	if strings.Count(h, "<table>") != 2 || !strings.Contains(h, "<td>7</td>") {
+		t.Errorf("html = %q", h)
+	}
+	big := &Operator{Op: linop.NewDense(mat.NewDense(ShownEntries+1, 1, nil)), Label: "tall"}
+	if strings.Contains(big.String(), "entries") || strings.Count(big.MIME()["text/html"].(string), "<table>") != 1 {
+		t.Errorf("a %d×1 operator lists its entries", ShownEntries+1)
+	}
+}
