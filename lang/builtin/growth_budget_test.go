@@ -79,3 +79,38 @@ func TestGrowthSamplesRefused(t *testing.T) {
 		}
 	}
 }
+
+// TestSearchBudget: kreiss and psabscissa share the interactive budget
+// between the Schur form and the search. At order 600 the predicted Schur
+// form alone (ShapeWork) exceeds it: refused at once; on a small matrix
+// search="full" and "auto" agree with the closed form (K = 1 for a normal
+// matrix with α < 0, α_ε = α + ε); a bad value names the choices.
+func TestSearchBudget(t *testing.T) {
+	s := run.NewSession()
+	if _, _, err := s.Execute(context.Background(), "g = interval(0, 1, 602)\nA = dense(0.01*laplacian(g) - deriv(g))", nil); err != nil {
+		t.Fatal(err)
+	}
+	for _, src := range []string{"kreiss(A)", "psabscissa(A, 0.01)"} {
+		start := time.Now()
+		_, _, err := s.Execute(context.Background(), src, nil)
+		var ee *eval.Error
+		if !errors.As(err, &ee) || !strings.Contains(ee.Msg, "at least") || !strings.Contains(ee.Msg, `search="full"`) {
+			t.Errorf("%s: got %v", src, err)
+		}
+		if el := time.Since(start); el > time.Second {
+			t.Errorf("%s: refusal took %v", src, el)
+		}
+	}
+	for _, src := range []string{`kreiss({-1, 0 | 0, -2}, search="full")[0] == 1`, `kreiss({-1, 0 | 0, -2})[0] == 1`,
+		`abs(psabscissa({-1, 0 | 0, -2}, 0.25, search="full")[0] + 0.75) < 1e-10`} {
+		data, _, err := s.Execute(context.Background(), src, nil)
+		if err != nil || data["text/plain"] != "true" {
+			t.Errorf("%s: %v, %v", src, data["text/plain"], err)
+		}
+	}
+	for _, bad := range []string{`kreiss(A, search="all")`, `psabscissa(A, 0.1, search=1)`} {
+		if _, _, err := s.Execute(context.Background(), bad, nil); err == nil || !strings.Contains(err.Error(), `"full"`) {
+			t.Errorf("%s: got %v", bad, err)
+		}
+	}
+}

@@ -109,10 +109,10 @@ var stabilityFamily = []*Builtin{
 	},
 	{
 		Name:   "psabscissa",
-		Params: []value.Param{req("A", "an operator or a square matrix"), req("eps", "the level ε > 0")},
+		Params: []value.Param{req("A", "an operator or a square matrix"), req("eps", "the level ε > 0"), stabSearchParam},
 		Doc: "The ε-pseudospectral abscissa α_ε(A) = max{Re z : σ_min(zI − A) ≤ ε}; α_ε(A)/ε is a lower bound of sup_{t≥0} ‖e^{tA}‖ (Trefethen & Embree 2005, Thm 15.4) and α(A) ≤ α_ε(A) ≤ ω(A) + ε. " +
 			"Found from the rightmost point of σ_ε on horizontal lines through the eigenvalues and across the numerical range, refined by golden-section search; order ≤ 1500. For a normal matrix α_ε = α + ε. " +
-			"No work budget: for strongly non-normal A and small ε the boundary walk can take minutes (pseudospectrum and growth leave α_ε out when it does not fit their budget); an interrupt stops it at once.",
+			"By default (search = \"auto\") the Schur form and the boundary walk share the interactive work budget (about 2.5 s of the 2-core development machine): an order whose Schur form alone would exceed it is refused at once, and a walk that runs out (strongly non-normal A, small ε: it can take minutes) is an error saying so; search = \"full\" runs it however long it takes. An interrupt stops it at once.",
 		Examples: []Example{
 			{"psabscissa({-1, 0 | 0, -2}, 0.25)[0]", "-0.75"},
 		},
@@ -169,10 +169,10 @@ var stabilityFamily = []*Builtin{
 	},
 	{
 		Name:   "kreiss",
-		Params: []value.Param{req("A", "an operator or a square matrix")},
+		Params: []value.Param{req("A", "an operator or a square matrix"), stabSearchParam},
 		Doc: "The Kreiss constant K(A) = sup_{Re z > 0} Re z ‖(zI − A)⁻¹‖₂, with the point where the supremum is attained. The Kreiss matrix theorem bounds K ≤ sup_{t≥0} ‖e^{tA}‖₂ ≤ e·N·K for N × N matrices (Spijker, BIT 1991). " +
 			"It is inf when α(A) ≥ 0, or when α(A) is zero within rounding (|α(A)| ≤ n·u·‖A‖_F × the condition of the rightmost eigenvalue, √(n·u·‖A‖_F·‖A‖_F) if that is defective), and 1 for a normal matrix with α(A) < 0. Order ≤ 1500. " +
-			"The search has no work budget (growth leaves K out when it does not fit its share): its cost grows with the order and the non-normality, 8.8 s for the 200×200 shifted Grcar matrix on a 2-core machine; an interrupt stops it at once.",
+			"Its cost grows with the order and the non-normality (8.8 s for the 200×200 shifted Grcar matrix on a 2-core machine), so by default (search = \"auto\") the Schur form and the search share the interactive work budget (about 2.5 s): an order whose Schur form alone would exceed it is refused at once, and a search that runs out is an error with the time the whole search would take (extrapolated from the part done); search = \"full\" runs it however long it takes. An interrupt stops it at once.",
 		Examples: []Example{
 			{"kreiss({-1, 0 | 0, -2})[0]", "1"},
 		},
@@ -959,9 +959,24 @@ func psabscissaImpl(c *eval.Call) (value.Value, error) {
 	if err := stabNeedDense(c, n, "pseudospectrum with re and im gives a Krylov estimate"); err != nil {
 		return nil, err
 	}
-	var a *spectra.AbscissaResult
-	if err := stabGuard(c, func() (e error) { a, e = spectra.PseudoAbscissa(c.Ctx, op.Op, eps); return }); err != nil {
+	budget, err := stabSearchArg(c, 2)
+	if err != nil {
 		return nil, err
+	}
+	var a *spectra.AbscissaResult
+	var refused *spectra.BudgetError
+	err = stabGuard(c, func() (e error) {
+		a, e = spectra.PseudoAbscissaWithin(c.Ctx, op.Op, eps, budget)
+		if errors.As(e, &refused) {
+			return nil
+		}
+		return e
+	})
+	if err != nil {
+		return nil, err
+	}
+	if refused != nil {
+		return nil, stabRefusal(c, "the boundary search for α_ε", n, refused)
 	}
 	return &objects.Quantity{X: value.Num(a.Alpha), Symbol: "α_ε(A)", What: "ε-pseudospectral abscissa, ε = " + value.FormatNum(eps),
 		Where: "attained at z = " + value.FormatComplex(a.Z), Method: a.Method, Accuracy: a.Accuracy}, nil
@@ -1242,9 +1257,24 @@ func kreissImpl(c *eval.Call) (value.Value, error) {
 	if err := stabNeedDense(c, n, ""); err != nil {
 		return nil, err
 	}
-	var k *spectra.KreissResult
-	if err := stabGuard(c, func() (e error) { k, e = spectra.Kreiss(c.Ctx, op.Op); return }); err != nil {
+	budget, err := stabSearchArg(c, 1)
+	if err != nil {
 		return nil, err
+	}
+	var k *spectra.KreissResult
+	var refused *spectra.BudgetError
+	err = stabGuard(c, func() (e error) {
+		k, e = spectra.KreissWithin(c.Ctx, op.Op, budget)
+		if errors.As(e, &refused) {
+			return nil
+		}
+		return e
+	})
+	if err != nil {
+		return nil, err
+	}
+	if refused != nil {
+		return nil, stabRefusal(c, "the Kreiss search", n, refused)
 	}
 	atInf := k.K < 1
 	k = stabKreissFloor(k)
@@ -1261,6 +1291,40 @@ func kreissImpl(c *eval.Call) (value.Value, error) {
 		q.Where = "α(A) ≥ 0: the resolvent norm is unbounded in the right half plane"
 	}
 	return q, nil
+}
+
+// stabSearchParam is the option of the searches over the complex plane.
+var stabSearchParam = opt("search", value.Str("auto"), `"auto": the Schur form and the search within the interactive work budget (about 2.5 s), refused with what it would take otherwise; "full": however long it takes`)
+
+// stabSearchArg reads the search option at index i: the work budget of
+// "auto" (spectra.InteractiveWork), or 0 (none) for "full".
+func stabSearchArg(c *eval.Call, i int) (float64, error) {
+	v, _ := c.Arg(i)
+	s, ok := v.(value.Str)
+	if !ok {
+		return 0, value.TypeErrorf(`%s: search must be a string: "auto" or "full", not %s`, c.Name, value.TypeName(v))
+	}
+	switch s {
+	case "auto":
+		return spectra.InteractiveWork, nil
+	case "full":
+		return 0, nil
+	}
+	return 0, value.ValueErrorf(`%s: unknown search %s; the choices are "auto" and "full"`, c.Name, s)
+}
+
+// stabRefusal is the error of a search refused or stopped by the
+// interactive work budget, with what it would need.
+func stabRefusal(c *eval.Call, what string, n int, be *spectra.BudgetError) error {
+	need := "more than the budget"
+	switch {
+	case be.AtLeast:
+		need = fmt.Sprintf("at least %.2g s (the Schur form of order %d alone, predicted; nothing was computed)", spectra.WorkSeconds(be.Estimate), n)
+	case be.Estimate > 0:
+		need = fmt.Sprintf("roughly %.2g s (extrapolated from the part done: within about a factor 2)", spectra.WorkSeconds(be.Estimate))
+	}
+	return value.ValueErrorf(`%s: %s needs %s, beyond the interactive work budget (about %.2g s of the 2-core development machine); search="full" runs it however long it takes, and an interrupt stops it`,
+		c.Name, what, need, spectra.WorkSeconds(spectra.InteractiveWork))
 }
 
 // stabOrdinal writes k as an English ordinal: 2nd, 3rd, 11th, 21st.
