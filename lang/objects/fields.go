@@ -4,6 +4,7 @@ import (
 	"math"
 
 	"semiflow/lang/value"
+	"semiflow/numerics/linop"
 )
 
 // Named is a number (or vector, or flag) of a report that a script can
@@ -169,4 +170,90 @@ func (s *Solution) FieldNames() []string { return append([]string(nil), solution
 // entry. Each cell is a value.Num or value.Complex.
 func NewTable(title string, columns []string, rows [][]value.Value) *Analysis {
 	return &Analysis{Kind: "table", Title: title, Columns: columns, Rows: rows}
+}
+
+// Field returns a number the grid's display shows: unknowns, and for an
+// interval a, b, points, h and order; for a Chebyshev grid a, b and
+// degree; for a tensor grid its factors x and y (grids).
+func (g *Grid) Field(name string) (value.Value, bool) {
+	if name == "unknowns" {
+		return value.Num(float64(g.Size())), true
+	}
+	switch g.Kind {
+	case KindInterval:
+		iv := g.Interval
+		switch name {
+		case "a":
+			return value.Num(iv.A), true
+		case "b":
+			return value.Num(iv.B), true
+		case "points":
+			return value.Num(float64(iv.N)), true
+		case "h":
+			return value.Num(iv.H), true
+		case "order":
+			return value.Num(float64(g.Order)), true
+		}
+	case KindChebyshev:
+		switch name {
+		case "a":
+			return value.Num(g.Cheb.A), true
+		case "b":
+			return value.Num(g.Cheb.B), true
+		case "degree":
+			return value.Num(float64(g.Cheb.N)), true
+		}
+	case KindTensor:
+		switch name {
+		case "x":
+			return g.X, true
+		case "y":
+			return g.Y, true
+		}
+	}
+	return nil, false
+}
+
+// FieldNames lists the grid's named parts.
+func (g *Grid) FieldNames() []string {
+	switch g.Kind {
+	case KindInterval:
+		return []string{"a", "b", "points", "h", "order", "unknowns"}
+	case KindChebyshev:
+		return []string{"a", "b", "degree", "unknowns"}
+	}
+	return []string{"x", "y", "unknowns"}
+}
+
+// Field returns rows, cols, nonzeros (a sparse operator only) or grid (the
+// grid it acts on, when it has one).
+func (a *Operator) Field(name string) (value.Value, bool) {
+	r, c := a.Op.Dims()
+	switch name {
+	case "rows":
+		return value.Num(float64(r)), true
+	case "cols":
+		return value.Num(float64(c)), true
+	case "nonzeros":
+		if s, ok := a.Op.(*linop.CSR); ok {
+			return value.Num(float64(s.NNZ())), true
+		}
+	case "grid":
+		if a.Grid != nil {
+			return a.Grid, true
+		}
+	}
+	return nil, false
+}
+
+// FieldNames lists the operator's named parts.
+func (a *Operator) FieldNames() []string {
+	out := []string{"rows", "cols"}
+	if _, ok := a.Op.(*linop.CSR); ok {
+		out = append(out, "nonzeros")
+	}
+	if a.Grid != nil {
+		out = append(out, "grid")
+	}
+	return out
 }
