@@ -32,6 +32,7 @@ x = 7`)
 		`writesvg(r, "` + fifo + `")`,
 		`writepng(r, "` + fifo + `")`,
 		`readmm("` + fifo + `")`,
+		`readcsv("` + fifo + `")`,
 	} {
 		t.Run(call[:strings.Index(call, "(")], func(t *testing.T) {
 			done := make(chan error, 1)
