@@ -1,9 +1,12 @@
 package builtin_test
 
 import (
+	"os"
+	"path/filepath"
 	"strings"
 	"testing"
 
+	"semiflow/lang/eval"
 	"semiflow/lang/run"
 	"semiflow/lang/value"
 	"semiflow/numerics/memguard"
@@ -41,5 +44,32 @@ w = B * stack(u, 2*u)
 d = max(abs(split(w, B)[0] - (A*u + 2*u))) + max(abs(split(w, B)[1] - 2*(A*u)))`)
 	if d := lookup[value.Num](t, s, "d"); d != 0 {
 		t.Errorf("block product differs from the blocks' products by %g", float64(d))
+	}
+}
+
+// TestReadCSVGuarded: readcsv asks the memory guard for the numbers it has
+// read, row by row, so a file larger than the guard allows is refused with
+// the size, and one beyond the entry limit with the limit.
+func TestReadCSVGuarded(t *testing.T) {
+	path := filepath.Join(t.TempDir(), "big.csv")
+	var sb strings.Builder
+	for i := 0; i < 2000; i++ {
+		sb.WriteString("1.5,2.5\n")
+	}
+	if err := os.WriteFile(path, []byte(sb.String()), 0o600); err != nil {
+		t.Fatal(err)
+	}
+	s := run.NewSession()
+	old := memguard.SetLimit(16 << 10)
+	defer memguard.SetLimit(old)
+	_, _, err := s.Execute(t.Context(), `readcsv("`+path+`")`, nil)
+	if err == nil || !strings.Contains(err.Error(), "numbers read from") || !strings.Contains(err.Error(), "limit is") {
+		t.Errorf("readcsv of 4000 numbers under a 16 KiB guard: %v, want the guard's refusal", err)
+	}
+	memguard.SetLimit(old)
+	s.SetLimits(eval.Limits{MaxDepth: 500, MaxElements: 1000})
+	_, _, err = s.Execute(t.Context(), `readcsv("`+path+`")`, nil)
+	if err == nil || !strings.Contains(err.Error(), "more than the limit of 1000") {
+		t.Errorf("readcsv of 4000 numbers under an entry limit of 1000: %v", err)
 	}
 }
