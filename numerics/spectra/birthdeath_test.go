@@ -178,14 +178,21 @@ func TestBirthDeathOf(t *testing.T) {
 			t.Errorf("%s: recognised as an irreducible birth–death chain", name)
 		}
 	}
-	if _, ok := BirthDeathOf(op([][]float64{{-1, 1, 0}, {0, -1, 1}, {1, 0, -1}})); ok {
+	sparse := func(rows [][]float64) *linop.CSR { return linop.CSRFromDense(op(rows).m, 0) }
+	if c, ok := BirthDeathOf(sparse([][]float64{{-1, 1}, {2, -2}})); !ok || c.Up[0] != 1 || c.Down[0] != 2 {
+		t.Errorf("two states: %v %+v", ok, c)
+	}
+	if _, ok := BirthDeathOf(sparse([][]float64{{-1, 1, 0}, {0, -1, 1}, {1, 0, -1}})); ok {
 		t.Error("a cycle accepted as birth–death")
 	}
-	if _, ok := BirthDeathOf(op([][]float64{{-1, 1}, {0, 0}})); ok {
+	if _, ok := BirthDeathOf(sparse([][]float64{{-1, 1}, {0, 0}})); ok {
 		t.Error("an absorbing chain accepted")
 	}
-	if _, ok := BirthDeathOf(op([][]float64{{-1, 1}, {2, -3}})); ok {
+	if _, ok := BirthDeathOf(sparse([][]float64{{-1, 1}, {2, -3}})); ok {
 		t.Error("rows not summing to 0 accepted")
+	}
+	if _, ok := BirthDeathOf(op([][]float64{{-1, 1}, {2, -2}})); ok {
+		t.Error("an operator without a sparse form accepted (BirthDeathOf reads the sparse form only)")
 	}
 }
 
