@@ -70,7 +70,11 @@ func TestKernelErrorReport(t *testing.T) {
 	}
 	sgr := regexp.MustCompile("\x1b\\[[0-9;]*m")
 	for i := range tb {
-		if !strings.Contains(tb[i], "\x1b[") || sgr.ReplaceAllString(tb[i], "") != plain[i] {
+		w := plain[i]
+		if i == 0 {
+			w = " unknown name  " + w // the class's badge leads the notebook's report
+		}
+		if !strings.Contains(tb[i], "\x1b[") || sgr.ReplaceAllString(tb[i], "") != w {
 			t.Errorf("line %d: %q, plain %q", i, tb[i], plain[i])
 		}
 	}

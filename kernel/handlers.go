@@ -179,13 +179,13 @@ const (
 	classOther          = "failure" // an evaluator error that names no class
 )
 
-// sgrClass is the ANSI SGR colour of an error's class in a traceback (bold
-// red, as the language's own reports show it); front ends render ANSI
-// colours in error outputs.
-const sgrClass = "\x1b[1;31m"
+// sgrClass is the ANSI SGR colour of an error's class in a traceback: a
+// badge in bold white on red, as the language's own reports begin; front
+// ends render ANSI colours in error outputs.
+const sgrClass = "\x1b[1;97;41m"
 
-// classLine is a traceback line that starts with the class in colour.
-func classLine(class, text string) string { return sgrClass + class + "\x1b[0m " + text }
+// classLine is a traceback line that starts with the class as a badge.
+func classLine(class, text string) string { return sgrClass + " " + class + " \x1b[0m " + text }
 
 // interruptedError is the error of a cell stopped by an interrupt.
 type interruptedError struct{}

@@ -639,16 +639,16 @@ func TestSameIdentityClients(t *testing.T) {
 }
 
 // An error that names no class is reported as a "failure", its traceback
-// one line with the class in colour; the kernel's own errors colour their
+// one line led by the class as a badge; the kernel's own errors show their
 // class the same way.
 func TestDescribeClasses(t *testing.T) {
 	ename, evalue, tb := describe(errors.New("no such thing"))
-	if ename != classOther || evalue != "no such thing" || len(tb) != 1 || tb[0] != "\x1b[1;31mfailure\x1b[0m no such thing" {
+	if ename != classOther || evalue != "no such thing" || len(tb) != 1 || tb[0] != "\x1b[1;97;41m failure \x1b[0m no such thing" {
 		t.Errorf("plain error = %q, %q, %q", ename, evalue, tb)
 	}
 	for _, e := range []EvalError{interruptedError{}, panicError{"boom"}} {
 		tb := e.Traceback()
-		if !strings.HasPrefix(tb[0], sgrClass+e.ErrorName()+"\x1b[0m ") {
+		if !strings.HasPrefix(tb[0], sgrClass+" "+e.ErrorName()+" \x1b[0m ") {
 			t.Errorf("%s traceback = %q", e.ErrorName(), tb)
 		}
 	}

@@ -8,6 +8,7 @@ import (
 // Style colours the parts of an error report with ANSI SGR parameters
 // ("1;31" is bold red); the zero Style writes plain text.
 type Style struct {
+	Badge   string // the class as a badge before the first line ("" for none)
 	Where   string // the file:line:col of the report's first line
 	Message string // the message after it
 	Gutter  string // line numbers and the rule beside the excerpt
@@ -19,9 +20,11 @@ type Style struct {
 var Plain = Style{}
 
 // Coloured is the style of reports in a notebook, whose error outputs
-// render ANSI colours: the place in cyan, the message bold, the carets and
-// the class in bold red, the call sites in magenta, the gutter in blue.
-var Coloured = Style{Where: "36", Message: "1", Gutter: "34", Caret: "1;31", Frame: "35"}
+// render ANSI colours: the class as a badge in bold white on red before the
+// place (so an error stands out from printed output), the place in cyan,
+// the message bold, the carets and the class in bold red, the call sites in
+// magenta, the gutter in blue.
+var Coloured = Style{Badge: "1;97;41", Where: "36", Message: "1", Gutter: "34", Caret: "1;31", Frame: "35"}
 
 func (s Style) paint(sgr, text string) string {
 	if sgr == "" || text == "" {
@@ -37,9 +40,13 @@ func (s Style) paint(sgr, text string) string {
 //	    │      ^^^^ unknown name
 //
 // the position and message, then the source line numbered in a gutter and
-// the carets under the span, labelled with the class.
+// the carets under the span, labelled with the class. A style with a Badge
+// puts the class before the first line too.
 func (f *File) Report(st Style, class string, pos, end Pos, msg string) []string {
 	head := st.paint(st.Where, f.Position(pos).String()+":") + " " + st.paint(st.Message, ClipMessage(msg))
+	if st.Badge != "" && class != "" {
+		head = st.paint(st.Badge, " "+class+" ") + " " + head
+	}
 	return append([]string{head}, f.numbered(st, pos, end, class)...)
 }
 
