@@ -145,7 +145,7 @@ func splitCSVLine(text string, line int) ([]csvField, error) {
 	i := 0
 	for {
 		start := i
-		for i < len(text) && text[i] == ' ' || i < len(text) && text[i] == '\t' {
+		for i < len(text) && (text[i] == ' ' || text[i] == '\t') {
 			i++
 		}
 		if i < len(text) && text[i] == '"' {
