@@ -350,21 +350,9 @@ func (p *parser) parseWith(x Expr) Expr {
 		return w
 	}
 	w.Lbrack = p.tok.Pos
-	p.enter()
-	p.next()
-	if p.tok.Tok == RBRACK {
-		p.errorf(p.tok.Pos, p.tok.End, "missing index inside []")
-	}
-	for p.tok.Tok != RBRACK && p.tok.Tok != EOF {
-		w.Indices = append(w.Indices, p.parseExpr())
-		d = max(d, p.depth)
-		if p.tok.Tok != COMMA {
-			break
-		}
-		p.next()
-	}
-	w.Rbrack = p.expectClose(RBRACK, w.Lbrack)
-	p.leave()
+	var di int
+	w.Indices, w.Rbrack, di = p.parseIndices()
+	d = max(d, di)
 	if p.tok.Tok != ASSIGN {
 		p.errorf(p.tok.Pos, p.tok.End, "expected = after %s[…]: an updated copy is written v with [i] = value", WITH)
 		w.Value = &BadExpr{From: p.tok.Pos, To: p.tok.Pos}
@@ -536,24 +524,11 @@ func (p *parser) parsePostfix() Expr {
 			p.deepen(d, call.Lparen)
 			x = call
 		case LBRACK:
-			p.enter()
 			ix := &IndexExpr{X: x, Lbrack: p.tok.Pos}
 			d := p.depth
-			p.next()
-			if p.tok.Tok == RBRACK {
-				p.errorf(p.tok.Pos, p.tok.End, "missing index inside []")
-			}
-			for p.tok.Tok != RBRACK && p.tok.Tok != EOF {
-				ix.Indices = append(ix.Indices, p.parseExpr())
-				d = max(d, p.depth)
-				if p.tok.Tok != COMMA {
-					break
-				}
-				p.next()
-			}
-			ix.Rbrack = p.expectClose(RBRACK, ix.Lbrack)
-			p.leave()
-			p.deepen(d, ix.Lbrack)
+			var di int
+			ix.Indices, ix.Rbrack, di = p.parseIndices()
+			p.deepen(max(d, di), ix.Lbrack)
 			x = ix
 		case DOT:
 			dot, d := p.tok.Pos, p.depth
@@ -701,4 +676,26 @@ func (p *parser) paramList(pl *ParamList, depth int) Expr {
 		p.errorf(pl.Lparen, pl.Rparen+1, "(a, b) is the parameter list of an anonymous function and needs -> after it: (a, b) -> a*b; brackets hold one expression otherwise")
 	}
 	return pl
+}
+
+// parseIndices parses "[" Expr { "," Expr } "]" at the current "[" and
+// returns the indices, the position of "]" and the depth of the deepest.
+func (p *parser) parseIndices() (indices []Expr, rbrack Pos, depth int) {
+	lbrack := p.tok.Pos
+	p.enter()
+	p.next()
+	if p.tok.Tok == RBRACK {
+		p.errorf(p.tok.Pos, p.tok.End, "missing index inside []")
+	}
+	for p.tok.Tok != RBRACK && p.tok.Tok != EOF {
+		indices = append(indices, p.parseExpr())
+		depth = max(depth, p.depth)
+		if p.tok.Tok != COMMA {
+			break
+		}
+		p.next()
+	}
+	rbrack = p.expectClose(RBRACK, lbrack)
+	p.leave()
+	return indices, rbrack, depth
 }
