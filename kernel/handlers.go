@@ -180,9 +180,9 @@ const (
 )
 
 // sgrClass is the ANSI SGR colour of an error's class in a traceback: a
-// badge in bold white on red, as the language's own reports begin; front
-// ends render ANSI colours in error outputs.
-const sgrClass = "\x1b[1;97;41m"
+// badge in bold white on deep red (24-bit colour), as the language's own
+// reports begin; front ends render ANSI colours in error outputs.
+const sgrClass = "\x1b[1;38;2;255;255;255;48;2;176;32;48m"
 
 // classLine is a traceback line that starts with the class as a badge.
 func classLine(class, text string) string { return sgrClass + " " + class + " \x1b[0m " + text }

@@ -643,7 +643,7 @@ func TestSameIdentityClients(t *testing.T) {
 // class the same way.
 func TestDescribeClasses(t *testing.T) {
 	ename, evalue, tb := describe(errors.New("no such thing"))
-	if ename != classOther || evalue != "no such thing" || len(tb) != 1 || tb[0] != "\x1b[1;97;41m failure \x1b[0m no such thing" {
+	if ename != classOther || evalue != "no such thing" || len(tb) != 1 || tb[0] != "\x1b[1;38;2;255;255;255;48;2;176;32;48m failure \x1b[0m no such thing" {
 		t.Errorf("plain error = %q, %q, %q", ename, evalue, tb)
 	}
 	for _, e := range []EvalError{interruptedError{}, panicError{"boom"}} {

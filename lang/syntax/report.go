@@ -20,11 +20,11 @@ type Style struct {
 var Plain = Style{}
 
 // Coloured is the style of reports in a notebook, whose error outputs
-// render ANSI colours: the class as a badge in bold white on red before the
-// place (so an error stands out from printed output), the place in cyan,
-// the message bold, the carets and the class in bold red, the call sites in
-// magenta, the gutter in blue.
-var Coloured = Style{Badge: "1;97;41", Where: "36", Message: "1", Gutter: "34", Caret: "1;31", Frame: "35"}
+// render ANSI colours: the class as a badge in bold white on deep red
+// (24-bit colour) before the place, so an error stands out from printed
+// output; the place in cyan, the message bold, the carets and the class in
+// bold red, the call sites in magenta, the gutter in blue.
+var Coloured = Style{Badge: "1;38;2;255;255;255;48;2;176;32;48", Where: "36", Message: "1", Gutter: "34", Caret: "1;31", Frame: "35"}
 
 func (s Style) paint(sgr, text string) string {
 	if sgr == "" || text == "" {
