@@ -6,19 +6,23 @@ import (
 	"testing"
 )
 
+// diff2 returns the second-difference matrix tridiag(1, −2, 1) of order k
+// (unscaled, Dirichlet ends).
+func diff2(k int) *CSR {
+	var is, js []int
+	var vs []float64
+	for i := 0; i < k; i++ {
+		is, js, vs = append(is, i), append(js, i), append(vs, -2)
+		if i > 0 {
+			is, js, vs = append(is, i, i-1), append(js, i-1, i), append(vs, 1, 1)
+		}
+	}
+	return NewCSRFromTriplets(k, k, is, js, vs)
+}
+
 // lap5 returns the 5-point Laplacian (unscaled) on a k×k Dirichlet grid.
 func lap5(k int) *CSR {
-	d := func() *CSR {
-		var is, js []int
-		var vs []float64
-		for i := 0; i < k; i++ {
-			is, js, vs = append(is, i), append(js, i), append(vs, -2)
-			if i > 0 {
-				is, js, vs = append(is, i, i-1), append(js, i-1, i), append(vs, 1, 1)
-			}
-		}
-		return NewCSRFromTriplets(k, k, is, js, vs)
-	}()
+	d := diff2(k)
 	a, _ := NewKronSum(d, d).ToCSR()
 	return a
 }

@@ -6,17 +6,7 @@ import "testing"
 // the 5-point Laplacian on a k×k grid, once with L kept as a Kronecker sum
 // and once with the whole operator assembled in sparse form.
 func benchBlock(b *testing.B, k int) (structured *Block, assembled *CSR) {
-	d := func() *CSR {
-		var is, js []int
-		var vs []float64
-		for i := 0; i < k; i++ {
-			is, js, vs = append(is, i), append(js, i), append(vs, -2)
-			if i > 0 {
-				is, js, vs = append(is, i, i-1), append(js, i-1, i), append(vs, 1, 1)
-			}
-		}
-		return NewCSRFromTriplets(k, k, is, js, vs)
-	}()
+	d := diff2(k)
 	n := k * k
 	structured = NewBlock([][]Operator{{nil, ScaledIdentity(n, 1)}, {NewKronSum(d, d), ScaledIdentity(n, -0.2)}}, []int{n, n}, []int{n, n})
 	assembled, err := structured.ToCSR()
