@@ -163,6 +163,17 @@ func (s *Session) Inspect(src string, cursor, detail int) (data map[string]any, 
 	if name == "" {
 		return nil, false
 	}
+	if fields, ok := s.fieldsBefore(runes[:start]); ok {
+		// r.name: the part of r, shown like a variable.
+		h, _ := s.partOwner(runes[:start])
+		for _, f := range fields {
+			if f == name {
+				v, _ := h.Field(name)
+				return map[string]any{"text/plain": fmt.Sprintf("%s: %s, a part of a %s\n%s\n", name, value.TypeName(v), h.Type(), v.String())}, true
+			}
+		}
+		return nil, false
+	}
 	if v, ok := s.Lookup(name); ok {
 		var text string
 		switch f := v.(type) {
@@ -239,6 +250,16 @@ func (s *Session) IsComplete(src string) (status, indent string) {
 // fieldsBefore reports the named parts of the session variable written
 // just before a '.' that ends before (r. in r.pe), if it has any.
 func (s *Session) fieldsBefore(before []rune) ([]string, bool) {
+	h, ok := s.partOwner(before)
+	if !ok {
+		return nil, false
+	}
+	return h.FieldNames(), true
+}
+
+// partOwner returns the session variable with named parts written just
+// before a '.' that ends before.
+func (s *Session) partOwner(before []rune) (value.HasFields, bool) {
 	n := len(before)
 	if n < 2 || before[n-1] != '.' || before[n-2] == '.' {
 		return nil, false
@@ -255,10 +276,7 @@ func (s *Session) fieldsBefore(before []rune) ([]string, bool) {
 		return nil, false
 	}
 	h, ok := v.(value.HasFields)
-	if !ok {
-		return nil, false
-	}
-	return h.FieldNames(), true
+	return h, ok
 }
 
 // isName reports whether f can be written after a dot (r.f), not only as

@@ -28,3 +28,16 @@ func TestCompleteParts(t *testing.T) {
 		t.Errorf("Complete(x wi) = %q, want width with", m)
 	}
 }
+
+// TestInspectPart: inspecting the name after r. shows that part of r.
+func TestInspectPart(t *testing.T) {
+	s := NewSession()
+	mustExec(t, s, "g = interval(0, 1, 5)")
+	data, found := s.Inspect("g.h + 1", 3, 0)
+	if !found || !strings.HasPrefix(data["text/plain"].(string), "h: number, a part of a grid\n0.25") {
+		t.Errorf("Inspect(g.h) = %v, %v", data, found)
+	}
+	if _, found := s.Inspect("g.nope", 4, 0); found {
+		t.Errorf("Inspect(g.nope) found something")
+	}
+}
