@@ -47,8 +47,8 @@ func TestGrowthDefaultBudget(t *testing.T) {
 		"lower bound α_ε/ε, ε = 0.1",
 		"their bounds are missing: α_ε for ε = 0.01, α_ε for ε = 0.001, Kreiss constant (roughly",
 		`bounds="all" computes every bound`,
-		"kreiss(A) the Kreiss constant alone",
-		"psabscissa(A, ε) one α_ε",
+		`kreiss(A, search="full") the Kreiss constant alone`,
+		`psabscissa(A, ε, search="full") one α_ε`,
 	} {
 		if !strings.Contains(text, want) {
 			t.Errorf("growth report lacks %q:\n%s", want, text)

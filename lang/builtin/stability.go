@@ -159,7 +159,7 @@ var stabilityFamily = []*Builtin{
 			opt("samples", value.Str("auto"), `which of the times to compute (order ≤ 1500): "all" (every one, and the peak refined to 1e-8, however long it takes) or "auto": as many as fit the interactive work budget (about 2.5 s), every k-th and the last when all do not fit, and refused at once when even three would take over ten times the budget`),
 		},
 		Doc: "The transient growth curve ‖e^{tA}‖₂ at the times t, with its peak (refined between samples) and the optimal initial condition u0 (‖u0‖ = 1, ‖e^{t*A}u0‖ = peak), and the bounds: the initial slope ω(A) = λmax((A + Aᵀ)/2), the asymptotic rate α(A), the Kreiss constant K ≤ sup_t ‖e^{tA}‖ ≤ e·N·K (Spijker 1991) and α_ε/ε ≤ sup_t ‖e^{tA}‖ for ε = 0.1, 0.01, 0.001 (the option bounds chooses which; the Kreiss constant costs most). " +
-			"By default (bounds = \"auto\") each of these four bounds gets a quarter of the interactive work budget, counted in n² multiply–adds so the same bounds are left out on every run; a bound that needs more is not computed, and the report says which and how to ask for it (bounds = \"all\", or kreiss(A) and psabscissa(A, ε) one at a time). " +
+			"By default (bounds = \"auto\") each of these four bounds gets a quarter of the interactive work budget, counted in n² multiply–adds so the same bounds are left out on every run; a bound that needs more is not computed, and the report says which and how to ask for it (bounds = \"all\", or kreiss(A, search=\"full\") and psabscissa(A, ε, search=\"full\") one at a time). " +
 			"The curve has a budget of its own (samples = \"auto\"): at order 300 one value costs about 0.05 s, so of the default 101 times only every k-th is computed, the report says which and how long all would take; samples = \"all\" asks for every one. When the Schur form alone exceeds the bounds' budget (order above about 500), α(A) and the bounds are left out and ω(A) comes from the symmetric part; bounds = \"all\" computes them. " +
 			"For order ≤ 1500, e^{tA} by scaling and squaring and its largest singular value; above, a Lanczos estimate on e^{tAᵀ}e^{tA} (a lower bound up to the propagation error, no Kreiss or α_ε bounds). With a weight W the norm is ‖e^{tA}‖_W = ‖R e^{tA} R⁻¹‖₂ (W = RᵀR). Table of (t, ‖e^{tA}‖) and a figure (logarithmic axis when the values span a factor 10) with the bounds as horizontal lines and the initial slope e^{ωt}.",
 		Examples: []Example{
@@ -918,7 +918,7 @@ func pseudospectrumImpl(c *eval.Call) (value.Value, error) {
 		r.Notes = append(r.Notes, gridNote)
 	}
 	if len(onGrid) > 0 {
-		r.Notes = append(r.Notes, fmt.Sprintf(`α_ε not computed by the boundary search for ε = %s: it needs more than its share of the interactive work budget (about %.1f s here); the table gives the rightmost grid point in σ_ε instead (a lower estimate, at most one grid step accurate); ask with abscissae="exact", or psabscissa(A, ε) for one level`,
+		r.Notes = append(r.Notes, fmt.Sprintf(`α_ε not computed by the boundary search for ε = %s: it needs more than its share of the interactive work budget (about %.1f s here); the table gives the rightmost grid point in σ_ε instead (a lower estimate, at most one grid step accurate); ask with abscissae="exact", or psabscissa(A, ε, search="full") for one level`,
 			strings.Join(onGrid, ", "), spectra.WorkSeconds(budget)))
 	}
 	return r, nil
@@ -1221,16 +1221,16 @@ func growthImpl(c *eval.Call) (value.Value, error) {
 		r.Notes = append(r.Notes, fmt.Sprintf(`α(A) and the bounds (%s) were not computed: the Schur form of order %d they start from takes about %.2g s alone, beyond the bounds' share of the interactive work budget (about %.2g s); ω(A) comes from the symmetric part; bounds="all" computes them, spectrum(A) gives α(A)`,
 			strings.Join(g.Skipped, ", "), n, spectra.WorkSeconds(g.ShapeNeeds), spectra.WorkSeconds(share*float64(len(stabGrowthEps)+1))))
 	case bounds == "fast":
-		r.Notes = append(r.Notes, `the Kreiss constant (and with it the upper bound e·N·K) was not computed: it is the costliest bound; kreiss(A) or bounds="all" computes it`)
+		r.Notes = append(r.Notes, `the Kreiss constant (and with it the upper bound e·N·K) was not computed: it is the costliest bound; kreiss(A, search="full") or bounds="all" computes it`)
 	case bounds == "none":
 		r.Notes = append(r.Notes, `the Kreiss and α_ε/ε bounds were not computed; bounds="fast" or "all" computes them`)
 	case len(g.Skipped) > 0:
 		ask := `bounds="all" computes every bound however long it takes`
 		if slices.Contains(g.Skipped, "Kreiss constant") {
-			ask += ", kreiss(A) the Kreiss constant alone"
+			ask += `, kreiss(A, search="full") the Kreiss constant alone`
 		}
 		if len(g.Skipped) > 1 || g.Skipped[0] != "Kreiss constant" {
-			ask += ", psabscissa(A, ε) one α_ε"
+			ask += `, psabscissa(A, ε, search="full") one α_ε`
 		}
 		skipped := slices.Clone(g.Skipped)
 		for k, what := range skipped {
