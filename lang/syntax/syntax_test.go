@@ -263,6 +263,11 @@ func TestParseErrors(t *testing.T) {
 		{"r.1", 1, "1:3"},
 		{"x = 1.", 1, "1:5"},
 		{strings.Repeat("x -> ", 300) + "1", 1, "1:1006"},
+		// Chains of named parts, updates and local definitions deepen the
+		// tree one level a link and stop at MaxDepth.
+		{"r" + strings.Repeat(".a", 1200), 1, "1:2000"},
+		{"v" + strings.Repeat(" with [0] = 1", 1200), 1, "1:12990"},
+		{"x" + strings.Repeat(" where (a = 1)", 1200), 1, "1:13989"},
 	}
 	for _, tt := range tests {
 		s, err := Parse("t", tt.src)
