@@ -1,6 +1,7 @@
 package eval
 
 import (
+	"strconv"
 	"strings"
 
 	"semiflow/lang/syntax"
@@ -186,7 +187,7 @@ func (in *Interp) withVec(sc *scope, e *syntax.WithExpr, t *value.Vec, idx []int
 	}
 	n := max(len(re), len(cx))
 	if n != 1 && n != len(idx) {
-		return nil, in.errorf(sc, e.Value, value.ClassValue, "%d entries are selected, so the new value must be one number or a vector of %d, not a vector of %d", len(idx), len(idx), n)
+		return nil, in.errorf(sc, e.Value, value.ClassValue, "%s, so the new value must be one number or a vector of %d, not a vector of %d", selected(len(idx)), len(idx), n)
 	}
 	at := func(k int) int {
 		if n == 1 {
@@ -268,4 +269,12 @@ func (in *Interp) withMatrix(sc *scope, e *syntax.WithExpr, m *value.Matrix, v v
 		}
 	}
 	return out, nil
+}
+
+// selected is "1 entry is selected" or "n entries are selected".
+func selected(n int) string {
+	if n == 1 {
+		return "1 entry is selected"
+	}
+	return strconv.Itoa(n) + " entries are selected"
 }
