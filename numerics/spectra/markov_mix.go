@@ -30,9 +30,11 @@ const mixLevels = 20
 // F_j = e^{2^{-j}sQ}, j = 1..mixLevels, come from one exponential at
 // j = mixLevels and squarings, and t_mix is located digit by digit
 // (P ← P·F_j while d(s + …) stays above 1/4). About 3 + 2·mixLevels + the
-// number of doublings products of order n (0.3 s at n = 500 on the
-// development machine, where 80 dense exponentials took 79 s); ctx is
-// checked between products.
+// number of doublings products of order n (the whole Markov report at
+// n = 500 took 3.2 CPU s on the shared development machine under a load
+// of 9, where a dense exponential per bisection step took 79 s); each
+// product and the exponential run abandonably, so a cancelled ctx returns
+// at once.
 func mixingTime(ctx context.Context, q *mat.Dense, pi []float64, start float64) (float64, string, error) {
 	n, _ := q.Dims()
 	// P, the candidate, a scratch, and the mixLevels factors.
@@ -40,23 +42,27 @@ func mixingTime(ctx context.Context, q *mat.Dense, pi []float64, start float64) 
 		return 0, "", err
 	}
 	exps, prods := 0, 0
+	// A product of order 1000 takes a second on a busy machine: each runs
+	// abandonably, so an interrupt returns at once (the product finishes
+	// in the background, its memory counted by the guard meanwhile).
 	expAt := func(t float64) (*mat.Dense, error) {
-		var tq, e mat.Dense
-		tq.Scale(t, q)
 		exps++
-		if _, err := expo.ExpContext(ctx, &e, &tq); err != nil {
-			return nil, err
-		}
-		return &e, nil
+		return abandonable(ctx, denseBytes(n, 6), fmt.Sprintf("exponential of order %d", n), func() (*mat.Dense, error) {
+			var tq, e mat.Dense
+			tq.Scale(t, q)
+			if _, err := expo.ExpContext(ctx, &e, &tq); err != nil {
+				return nil, err
+			}
+			return &e, nil
+		})
 	}
 	mul := func(a, b *mat.Dense) (*mat.Dense, error) {
-		if err := ctx.Err(); err != nil {
-			return nil, err
-		}
 		prods++
-		var c mat.Dense
-		c.Mul(a, b)
-		return &c, nil
+		return abandonable(ctx, denseBytes(n, 1), fmt.Sprintf("product of order %d", n), func() (*mat.Dense, error) {
+			var c mat.Dense
+			c.Mul(a, b)
+			return &c, nil
+		})
 	}
 	dist := func(p *mat.Dense) float64 {
 		worst := 0.0
