@@ -29,7 +29,8 @@ func chainValue(t *testing.T, src string) value.Value {
 }
 
 // The gap of the 2000-state queue (arrivals 0.999, service 1) through
-// spectrum(Q, count=2), nearest a shift and not, and α(Q) = 0 exactly by
+// spectrum(Q, count=2), nearest a shift and not, and spectrum(Q) (all
+// 2000 eigenvalues, beyond the dense limit), and α(Q) = 0 exactly by
 // abscissa, against the closed form at 50 digits in mpmath
 // (testdata/spectra/make_birthdeath.py, mm1k_gaps, K = 1999): the
 // relatively accurate chain route, to 1e-12 relative.
@@ -62,7 +63,7 @@ func TestChainSpectrumRelative(t *testing.T) {
 		t.Fatal("no 2000-state reference")
 	}
 	const q = "n = 2000\ntr(k) = choose(k < n - 1, [k, k + 1, 0.999], [k - n + 2, k - n + 1, 1])\nQ = chain(n, map(tr, 0 .. 2*n - 3))\n"
-	for _, call := range []string{"spectrum(Q, count=2)", "spectrum(Q, count=3, near=-0.00001)"} {
+	for _, call := range []string{"spectrum(Q, count=2)", "spectrum(Q, count=3, near=-0.00001)", "spectrum(Q)"} {
 		v := chainValue(t, q+"s = "+call+"\nr = -re(s[1, 1])")
 		got, ok := v.(value.Num)
 		if !ok {

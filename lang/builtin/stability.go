@@ -41,6 +41,7 @@ var stabilityFamily = []*Builtin{
 		Doc: "The eigenvalues λ of A (A x = λ x), ordered by decreasing real part, with the spectral abscissa α(A) = max Re λ. " +
 			"With count = 0 all of them, by the QR algorithm without balancing, each with its condition number ‖x‖‖y‖/|yᴴx| (x, y the right and left eigenvectors: a perturbation of size δ moves λ by about cond·δ); this needs order ≤ 1500. " +
 			"Eigenvalues with condition above 1/√u ≈ 9.5e7 (u = 2⁻⁵³) are flagged as defective or nearly so: for them the first-order bound cond·n·u·‖A‖_F does not hold (an m×m Jordan block moves by (δ‖A‖^{m−1})^{1/m}) and the report points to pseudospectrum instead. The rate matrix of a reversible chain (birth–death, or detailed balance π_i q_ij = π_j q_ji) takes the symmetric route D^{1/2}QD^{-1/2} = [√(q_ij q_ji)], D = diag(π): real eigenvalues exact to n·u·‖S‖_F however graded Q is. " +
+			"A birth–death rate matrix goes further, with relative accuracy: −D^{1/2}QD^{-1/2} = GᵀG with G bidiagonal and formed from √rates without subtractions, so its eigenvalues 0 and −σ² (σ the singular values of G, by dqds, or by bisection for a few) are each right to a few units of roundoff relative to their own size (bound 24·n·u, shown in the last column), however small next to ‖Q‖; it takes this route at any order with count = k, and up to 10⁴ states with count = 0. " +
 			"With count = k the k rightmost eigenvalues, or with near = σ the k nearest σ: for order ≤ 1500 selected from the dense spectrum, above by the Krylov–Schur method (Stewart 2001) on A, or on (σI − A)⁻¹ with near, each with its residual ‖Ax − λx‖/‖x‖. " +
 			"The result is a table (rows indexable as r[k, j]: k, λ, Re λ, Im λ, condition or residual) and a figure of the eigenvalues in the complex plane with the imaginary axis.",
 		Examples: []Example{
@@ -558,6 +559,17 @@ func spectrumImpl(c *eval.Call) (value.Value, error) {
 		}
 	}
 	if k == 0 {
+		if chain, ok := spectra.BirthDeathOf(op.Op); ok && n > DenseLimit && n <= spectra.BirthDeathAllMax {
+			// A large birth–death rate matrix: all eigenvalues by dqds,
+			// each to high relative accuracy (no eigenvectors).
+			var s *spectra.Spectrum
+			if err := stabGuard(c, func() (e error) { s, e = chain.Spectrum(c.Ctx, n, false, 0); return }); err != nil {
+				return nil, err
+			}
+			r := objects.SpectrumReport(op.Label, n, s, fmt.Sprintf("all %d eigenvalues", n))
+			r.Notes = append(r.Notes, stabBirthDeathNote)
+			return r, nil
+		}
 		if err := stabNeedDense(c, n, "give count = k for the k rightmost eigenvalues by Krylov–Schur"); err != nil {
 			return nil, err
 		}
@@ -579,7 +591,7 @@ func spectrumImpl(c *eval.Call) (value.Value, error) {
 			return nil, err
 		}
 		r := objects.SpectrumReport(op.Label, n, s, what)
-		r.Notes = append(r.Notes, "A is the rate matrix of a birth–death chain: its eigenvalues are real, 0 and −σ² for the singular values σ of a bidiagonal factor formed from the rates without subtractions, so each is accurate relative to its own size (the gap too, however small next to ‖A‖); the last column is that error bound, |λ|·24·n·u, not a residual")
+		r.Notes = append(r.Notes, stabBirthDeathNote)
 		return r, nil
 	}
 	if n <= DenseLimit {
@@ -618,6 +630,9 @@ func spectrumImpl(c *eval.Call) (value.Value, error) {
 	}
 	return r, nil
 }
+
+// stabBirthDeathNote explains the spectrum of a birth–death rate matrix.
+const stabBirthDeathNote = "A is the rate matrix of a birth–death chain: its eigenvalues are real, 0 and −σ² for the singular values σ of a bidiagonal factor formed from the rates without subtractions, so each is accurate relative to its own size (the gap too, however small next to ‖A‖); the last column is that error bound, |λ|·24·n·u, not a residual"
 
 // hasSparseForm reports whether the operator has an explicit sparse form,
 // so that shift-and-invert costs one sparse factorisation.

@@ -247,13 +247,13 @@ func sigmaByIndex(ctx context.Context, d, e []float64, idx []int) ([]float64, er
 // (rightmost) when near is false, else the k nearest sigma, in decreasing
 // order, each to c.RelativeError() relative to itself, and the method.
 // A few eigenvalues (k ≤ n/8, n > 64) come by bisection, about 130·n
-// operations each (interruptible between eigenvalues; 0.02 s for the gap
-// of 10⁴ states); more, up to birthDeathAllLimit states, from all of
-// them by dqds (about 30n² operations); beyond that by bisection again.
+// operations each (interruptible between eigenvalues; 0.013 s for the gap
+// of 10⁴ states); more, up to BirthDeathAllMax states, from all of them
+// by dqds (about 30n² operations); beyond that by bisection again.
 func (c *BirthDeathChain) Nearest(ctx context.Context, k int, near bool, sigma float64) ([]float64, string, error) {
 	n := c.States()
 	k = min(k, n)
-	if n <= birthDeathAllLimit && (n <= 64 || 8*k > n) {
+	if n <= BirthDeathAllMax && (n <= 64 || 8*k > n) {
 		all, err := c.Eigenvalues(ctx)
 		if err != nil {
 			return nil, "", err
@@ -324,10 +324,10 @@ func (c *BirthDeathChain) Nearest(ctx context.Context, k int, near bool, sigma f
 	return vals, bisectMethod, nil
 }
 
-// birthDeathAllLimit is the number of states up to which Nearest computes
-// every eigenvalue by dqds (0.35 s at the limit on the development machine, 3.4 s at 10⁴) rather than the
-// few asked by bisection.
-const birthDeathAllLimit = 3000
+// BirthDeathAllMax is the largest number of states for which Nearest
+// computes all eigenvalues by dqds when many are asked: 3.1 CPU s at the
+// limit on the development machine (0.38 s at 3000 states).
+const BirthDeathAllMax = 10000
 
 const (
 	dqdsMethod   = "singular values of the Cholesky-like bidiagonal factor of −D^{1/2}QD^{-1/2} (formed from √rates by Givens rotations, no subtractions), by the differential qd algorithm (LAPACK Dlasq1 via gonum)"

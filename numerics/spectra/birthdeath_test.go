@@ -92,7 +92,7 @@ func TestBirthDeathRelativeWide(t *testing.T) {
 // closed form at 50 digits): 0 and the two rightmost non-zero eigenvalues
 // by Nearest, both as the rightmost and as the ones nearest a shift
 // between them, within the stated relative bound; above
-// birthDeathAllLimit states this is the bisection route.
+// 64 states and for so few eigenvalues this is the bisection route.
 func TestBirthDeathRelativeMM1K(t *testing.T) {
 	var r bdRelRef
 	readJSON(t, &r)
