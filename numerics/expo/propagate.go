@@ -9,6 +9,7 @@ import (
 	"strings"
 	"time"
 
+	"semiflow/numerics/abandon"
 	"semiflow/numerics/linop"
 	"semiflow/numerics/memguard"
 )
@@ -471,7 +472,14 @@ func run(ctx context.Context, method string, A linop.Operator, u0 []float64, tim
 	case MethodKrylov:
 		err = krylovRun(ctx, c, u0, st, opts, vals, errs)
 	case MethodDense:
-		err = denseRun(ctx, A, u0, st, opts, vals, errs)
+		// Checked between matrix products, each up to a second at order
+		// 1500 on a busy machine: run under abandon, so an interrupt is
+		// answered at once (A, e^{hA}, the second route's difference, |e^{hA}|
+		// and the exponential's work: about ten n×n matrices).
+		n, _ := A.Dims()
+		_, err = abandon.Run(ctx, abandon.DenseBytes(n, 10), fmt.Sprintf("dense propagation of order %d", n), func() (struct{}, error) {
+			return struct{}{}, denseRun(ctx, A, u0, st, opts, vals, errs)
+		})
 	case MethodKronecker:
 		k, ok := A.(*linop.KronSum)
 		if !ok {

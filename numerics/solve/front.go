@@ -60,8 +60,9 @@ type symbolic struct {
 
 // analyse computes the elimination tree (Liu 1986) of the pattern of
 // M + Mᵀ permuted by q, the row structure of each column of L by
-// symbolic elimination, and fundamental supernodes.
-func analyse(pat *linop.CSR, q []int) (*symbolic, error) {
+// symbolic elimination, and fundamental supernodes. It returns ctx's
+// error when cancelled (checked every analyseCheck columns).
+func analyse(ctx context.Context, pat *linop.CSR, q []int) (*symbolic, error) {
 	n := pat.Rows
 	perm := make([]int, n)
 	for t, o := range q {
@@ -104,6 +105,11 @@ func analyse(pat *linop.CSR, q []int) (*symbolic, error) {
 	}
 	var total int64
 	for j := 0; j < n; j++ {
+		if j%analyseCheck == 0 {
+			if err := ctx.Err(); err != nil {
+				return nil, err
+			}
+		}
 		var s []int
 		mark[j] = j
 		for p := pat.RowPtr[q[j]]; p < pat.RowPtr[q[j]+1]; p++ {
@@ -159,6 +165,11 @@ func analyse(pat *linop.CSR, q []int) (*symbolic, error) {
 	return sym, nil
 }
 
+// analyseCheck is how many columns analyse treats between checks of its
+// context: the symbolic elimination of a 2-D grid of order 90000 took
+// 1.7 s on a busy 2-core machine without any.
+const analyseCheck = 1024
+
 func sortInts(s []int) {
 	// Insertion sort for short lists, otherwise a simple heap-free merge sort.
 	if len(s) < 32 {
@@ -202,7 +213,7 @@ func factorMultifrontal(ctx context.Context, a *linop.CSR, z complex128, q []int
 	n := a.Rows
 	at := a.Transpose()
 	pat := linop.AddCSR(1, a, 1, at)
-	sym, err := analyse(pat, q)
+	sym, err := analyse(ctx, pat, q)
 	if err != nil {
 		return nil, err
 	}

@@ -3,105 +3,31 @@ package spectra
 import (
 	"context"
 	"fmt"
-	"sync/atomic"
 
 	"gonum.org/v1/gonum/mat"
 
+	"semiflow/numerics/abandon"
 	"semiflow/numerics/expo"
 	"semiflow/numerics/linop"
-	"semiflow/numerics/memguard"
 )
 
 // Library calls that cannot be interrupted (gonum's Eigen, EigenSym, SVD,
-// Dhseqr, and our dense exponential) run through abandonable: the call
-// runs in a goroutine of its own, and the caller returns ctx.Err() as soon
-// as ctx is done. The abandoned goroutine finishes in the background and its
-// result is dropped. Until it finishes, its memory (the bytes it declared)
-// counts against the memory guard's limit for every later abandonable call,
-// so repeated interrupts cannot pile up more dense work than the guard
-// allows; it also keeps one core busy until it ends.
-
-// abandonedBytes is the memory held by abandoned computations still running.
-var abandonedBytes atomic.Int64
-
-// abandonedCount is the number of abandoned computations still running.
-var abandonedCount atomic.Int64
+// Dhseqr, and our dense exponential) run through abandonable, which is
+// abandon.Run: the caller returns ctx.Err() at once and the call finishes
+// in the background, its declared memory counted against the guard until
+// it ends (see package abandon).
 
 // Abandoned returns the number of abandoned computations still running in
 // the background and the bytes they were declared to hold.
-func Abandoned() (count int, bytes int64) {
-	return int(abandonedCount.Load()), abandonedBytes.Load()
-}
+func Abandoned() (count int, bytes int64) { return abandon.Held() }
 
-// abandonable runs f in a goroutine and returns its result, or ctx.Err() as
-// soon as ctx is done, leaving f to finish in the background (its result is
-// then dropped). bytes is the memory f holds while it runs; it is checked
-// with the memory guard together with the memory of computations abandoned
-// earlier and still running, and a refusal names both. A panic in f is
-// re-raised in the caller if the caller is still waiting, and dropped
-// otherwise. what names the computation in a refusal.
+// abandonable is abandon.Run.
 func abandonable[T any](ctx context.Context, bytes int64, what string, f func() (T, error)) (T, error) {
-	var zero T
-	if err := ctx.Err(); err != nil {
-		return zero, err
-	}
-	if held := abandonedBytes.Load(); held > 0 {
-		if err := memguard.CheckBytes(bytes+held, fmt.Sprintf("%s while %d interrupted computation(s) still finish in the background (holding %.0f MiB)", what, abandonedCount.Load(), float64(held)/(1<<20))); err != nil {
-			return zero, err
-		}
-	}
-	type result struct {
-		v     T
-		err   error
-		panic any
-	}
-	done := make(chan result, 1)
-	var abandoned atomic.Bool
-	go func() {
-		var r result
-		defer func() {
-			if p := recover(); p != nil {
-				r.panic = p
-			}
-			if abandoned.CompareAndSwap(true, false) {
-				abandonedBytes.Add(-bytes)
-				abandonedCount.Add(-1)
-			}
-			done <- r
-		}()
-		r.v, r.err = f()
-	}()
-	select {
-	case r := <-done:
-		if r.panic != nil {
-			panic(r.panic)
-		}
-		return r.v, r.err
-	case <-ctx.Done():
-		// Count f as abandoned unless it finished at the same moment.
-		abandonedBytes.Add(bytes)
-		abandonedCount.Add(1)
-		abandoned.Store(true)
-		select {
-		case r := <-done:
-			// It finished at the same moment: whichever of the two clears
-			// the flag undoes the count, and its result is returned.
-			if abandoned.CompareAndSwap(true, false) {
-				abandonedBytes.Add(-bytes)
-				abandonedCount.Add(-1)
-			}
-			if r.panic != nil {
-				panic(r.panic)
-			}
-			return r.v, r.err
-		default:
-		}
-		return zero, ctx.Err()
-	}
+	return abandon.Run(ctx, bytes, what, f)
 }
 
 // denseBytes is the memory of k real n×n matrices.
-func denseBytes(n, k int) int64 { return int64(k) * int64(n) * int64(n) * 8 }
+func denseBytes(n, k int) int64 { return abandon.DenseBytes(n, k) }
 
 // DenseSpectrumContext is DenseSpectrum returning ctx.Err() at once when ctx
 // is cancelled: the QR algorithm (gonum's Eigen) cannot be interrupted, so

@@ -105,18 +105,37 @@ func ResolventApply(a linop.Operator, z complex128, b []complex128) (x []complex
 // A x (two complex vectors' worth) and the new residual.
 const resolventVectors = 6
 
-// ResolventApplyContext is ResolventApply with a context that interrupts
-// the factorisation (its error is returned). The work vectors, and the
-// temporaries of A's products, are asked of the memory guard first.
+// ResolventApplyContext is ResolventApply returning ctx.Err() at once when
+// ctx is cancelled. The work vectors, and the temporaries of A's products,
+// are asked of the memory guard first. The factorisation checks ctx between
+// its steps, but its orderings and solves do not, and on a busy machine a
+// step can take longer than an interrupt may wait: the whole solve runs
+// under abandonable, declared with its work vectors (the factors are asked
+// of the guard where they are made), and stops at the factorisation's next
+// check when abandoned.
 func ResolventApplyContext(ctx context.Context, a linop.Operator, z complex128, b []complex128) (x []complex128, relResidual float64, err error) {
 	n, c := a.Dims()
 	if n != c || len(b) != n {
 		panic(ErrShape)
 	}
 	need := float64(n) * (resolventVectors*memguard.ComplexBytes + float64(linop.Scratch(a))*memguard.RealBytes)
-	if err := memguard.Bytes(need, fmt.Sprintf("resolvent solve work vectors (%d complex vectors of order %d)", resolventVectors, n)); err != nil {
+	what := fmt.Sprintf("resolvent solve work vectors (%d complex vectors of order %d)", resolventVectors, n)
+	if err := memguard.Bytes(need, what); err != nil {
 		return nil, 0, err
 	}
+	type solved struct {
+		x   []complex128
+		res float64
+	}
+	r, err := abandonable(ctx, int64(need), what, func() (solved, error) {
+		x, res, err := resolventApply(ctx, a, z, b)
+		return solved{x, res}, err
+	})
+	return r.x, r.res, err
+}
+
+func resolventApply(ctx context.Context, a linop.Operator, z complex128, b []complex128) (x []complex128, relResidual float64, err error) {
+	n, _ := a.Dims()
 	f, err := solve.NewShiftedContext(ctx, a, z, solve.Options{})
 	if err != nil {
 		return nil, 0, err
