@@ -3,6 +3,7 @@ package spectra
 import (
 	"errors"
 	"math"
+	"strings"
 	"testing"
 	"time"
 )
@@ -161,5 +162,38 @@ func TestPseudoAbscissaWithin(t *testing.T) {
 	var be *BudgetError
 	if _, err := PseudoAbscissaWithin(bg, grcar(300), 0.1, 1e6); !errors.As(err, &be) || !be.AtLeast {
 		t.Errorf("tiny budget: got %v", err)
+	}
+}
+
+// TestKreissWithinPartial: a budget that covers the scan but not the
+// golden-section refinement returns the scan's best value, a lower bound
+// of the full search's K (the order-60 shifted Grcar matrix: K ≈ 580 from
+// about 1.1e8 units; 8e7 gave 557). Every budget gives either an error,
+// a partial result no larger than the full one, or the full one itself.
+func TestKreissWithinPartial(t *testing.T) {
+	a := shiftedGrcar(60)
+	full, err := KreissWithin(bg, a, 0)
+	if err != nil {
+		t.Fatal(err)
+	}
+	partials := 0
+	for _, b := range []float64{7e7, 8e7, 9e7, 1e8} {
+		r, err := KreissWithin(bg, a, b)
+		var be *BudgetError
+		switch {
+		case errors.As(err, &be):
+		case err != nil:
+			t.Fatalf("budget %g: %v", b, err)
+		case r.Partial:
+			partials++
+			if !(r.K <= full.K*(1+1e-9) && r.K >= 1) || !strings.Contains(r.Accuracy, "lower bound") {
+				t.Errorf("budget %g: partial K = %.15g (%s), full %.15g", b, r.K, r.Accuracy, full.K)
+			}
+		case r.K != full.K:
+			t.Errorf("budget %g: complete K = %.17g, full %.17g", b, r.K, full.K)
+		}
+	}
+	if partials == 0 {
+		t.Errorf("no budget in 7e7 … 1e8 stopped in the refinement")
 	}
 }
