@@ -70,7 +70,7 @@ func BenchmarkStabilityGrowth100None(b *testing.B) {
 //	go test ./lang/builtin -run '^$' -bench 'Defaults' -benchtime 1x
 //
 // growth at order 300 took 38 s before its curve had a budget; kreiss at
-// order 100 stops at its budget (search="full" beside it), numabscissa of
+// order 100 stops in its refinement at the budget (search="full" beside it), numabscissa of
 // a skew-symmetric operator of order 10⁴ failed before; growth at order
 // 1000 is refused at once (even three times exceed ten budgets).
 const benchDense300 = "g = interval(0, 1, 302)\nA = dense(0.01*laplacian(g) - deriv(g))"
@@ -99,9 +99,9 @@ func BenchmarkDefaultsGrowthRefused1000(b *testing.B) {
 	benchDefault(b, "A = dense(laplacian(interval(0, 1, 1002)))", "x = growth(A)", true)
 }
 
-// kreiss at order 100 runs out of the interactive budget (its search
-// needs about 6 s): the call ends in the error that says so.
-func BenchmarkDefaultsKreiss100(b *testing.B) { benchDefault(b, benchDense, "x = kreiss(A)", true) }
+// kreiss at order 100 runs out of the interactive budget in its
+// refinement: the call gives the scan's best value, a lower bound.
+func BenchmarkDefaultsKreiss100(b *testing.B) { benchDefault(b, benchDense, "x = kreiss(A)", false) }
 func BenchmarkDefaultsKreiss100Full(b *testing.B) {
 	benchDefault(b, benchDense, `x = kreiss(A, search="full")`, false)
 }
