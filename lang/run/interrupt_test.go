@@ -24,6 +24,8 @@ func TestInterruptAnalysesKeepsSession(t *testing.T) {
 		"y = semigroup(B, 1)",                        // dense exponential, order 800
 		"y = psabscissa(A, 0.01)",                    // α_ε search, order 200
 		"y = resolventline(B, 0.1)",                  // Schur form, then σ_min along a line
+		"y = generator(B)",                           // Hille–Yosida samples, order 800
+		"y = numrange(B)",                            // boundary of the numerical range, order 800
 		"y = abscissa(B)",                            // dense eigenvalues with conditions, order 800
 		`y = propagate(B, ones(800), 1, method="dense")`,
 	} {
