@@ -257,3 +257,21 @@ func TestGeneratorBirthDeathAbscissa(t *testing.T) {
 		t.Errorf("dense graded: α = %g (sign %d)", dense.SpectralAbscissa, dense.AbscissaSign)
 	}
 }
+
+// An eigenvalue below the normal range is refused, not shown as 0: rates
+// 1e-200 make σ ≈ 1e-100 and λ ≈ 1e-200 (fine), rates 1e-310 are
+// subnormal and give λ below 2⁻¹⁰²², refused by both routes.
+func TestBirthDeathUnderflow(t *testing.T) {
+	ok := &BirthDeathChain{Up: []float64{1e-200, 1e-200}, Down: []float64{1e-200, 1e-200}}
+	if v, err := ok.Eigenvalues(bg); err != nil || !(v[1] < 0) || relDiff(v[2], -3e-200) > 1e-14 {
+		t.Errorf("rates 1e-200: %v, %v (want 0, −1e-200, −3e-200)", v, err)
+	}
+	tiny := &BirthDeathChain{Up: []float64{1e-310, 1e-310}, Down: []float64{1e-310, 1e-310}}
+	if v, err := tiny.Eigenvalues(bg); err == nil {
+		t.Errorf("rates 1e-310: %v accepted", v)
+	}
+	d, e := tiny.bidiagonal()
+	if v, err := sigmaByIndex(bg, d, e, []int{1}); err == nil {
+		t.Errorf("rates 1e-310, bisection: %v accepted", v)
+	}
+}
