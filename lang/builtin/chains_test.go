@@ -76,6 +76,9 @@ func TestChainSpectrumRelative(t *testing.T) {
 	if v := chainValue(t, q+"r = abscissa(Q)[0]"); v != value.Num(0) {
 		t.Errorf("abscissa of the 2000-state chain: %v, want exactly 0", v)
 	}
+	if _, _, err := run.NewSession().Execute(context.Background(), q+"markov(Q)", nil); err == nil || !strings.Contains(err.Error(), "spectrum(Q, count=2) gives the gap") {
+		t.Errorf("markov of the 2000-state chain: %v, want the refusal to point to spectrum(Q, count=2)", err)
+	}
 	data := stabExec(t, q+"spectrum(Q, count=2)")
 	if text, _ := data["text/plain"].(string); !strings.Contains(text, "accurate relative to its own size") {
 		t.Errorf("the report does not say the route is relatively accurate:\n%s", text)

@@ -1464,7 +1464,13 @@ func markovImpl(c *eval.Call) (value.Value, error) {
 	if err != nil {
 		return nil, err
 	}
-	if err := stabNeedDense(c, n, ""); err != nil {
+	alt := ""
+	if n > DenseLimit {
+		if _, ok := spectra.BirthDeathOf(op.Op); ok {
+			alt = "for this birth–death chain, spectrum(Q, count=2) gives the gap with relative accuracy at any order (its second eigenvalue is −gap)"
+		}
+	}
+	if err := stabNeedDense(c, n, alt); err != nil {
 		return nil, err
 	}
 	var m *spectra.MarkovReport
