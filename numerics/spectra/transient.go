@@ -910,7 +910,8 @@ func ShapeWork(n int) float64 { return shapeWork * float64(n) * float64(n) * flo
 // growthPlan chooses the times of a curve under a budget (≤ 0: none):
 // every time when all of them with the full refinement fit, otherwise every
 // stride-th (and the last) for the smallest stride whose samples, the peak
-// vector (two evaluations) and growthRefineLeast refinement steps fit. It
+// vector (two evaluations) and a reserve for the refinement
+// (growthRefineLeast steps, at most a third of the budget) fit. It
 // returns the indices kept, the stride, the predicted work of all times,
 // and the predicted work of the fewest times it would keep (3) with the
 // peak vector but no refinement, which the caller compares with the budget
@@ -950,8 +951,11 @@ func growthPlan(times []float64, work func(t float64) float64, budget float64) (
 	}
 	last := (len(times) - 1) / 2 // stride leaving three times
 	least = cost(pick(last), 0)
+	// The refinement's reserve is growthRefineLeast steps but at most a
+	// third of the budget: at large orders the samples come first.
+	reserve := math.Min(float64(growthRefineLeast)*top, budget/3)
 	for stride = 2; stride < last; stride++ {
-		if idx := pick(stride); cost(idx, growthRefineLeast) <= budget {
+		if idx := pick(stride); cost(idx, 0)+reserve <= budget {
 			return idx, stride, all, least
 		}
 	}
