@@ -334,6 +334,9 @@ func GrowthReport(label string, n int, g *spectra.Growth) *Analysis {
 		{"initial slope ω(A) = λmax((A + Aᵀ)/2)", fnum(g.InitialSlope)},
 		{"spectral abscissa α(A) (asymptotic rate)", fnum(g.Abscissa)},
 	}
+	if math.IsNaN(g.Abscissa) {
+		r.Facts[2].Value = "not computed"
+	}
 	r.name("peak", num(g.Peak))
 	r.name("peak_time", num(g.PeakTime))
 	r.name("slope", num(g.InitialSlope))
