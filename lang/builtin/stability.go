@@ -1029,7 +1029,7 @@ func resolventImpl(c *eval.Call) (value.Value, error) {
 		}
 		var x []complex128
 		var res float64
-		err := stabGuardOr(c, func() (e error) { x, res, e = spectra.ResolventApply(op.Op, z, b); return }, func(err error) error {
+		err := stabGuardOr(c, func() (e error) { x, res, e = spectra.ResolventApplyContext(c.Ctx, op.Op, z, b); return }, func(err error) error {
 			return value.Errorf(value.ClassNumerical, "resolvent: zI − A is singular at z = %s: z is an eigenvalue of A or within rounding of one (%s)", zs, strings.TrimPrefix(err.Error(), "spectra: "))
 		})
 		if err != nil {

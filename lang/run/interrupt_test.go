@@ -15,6 +15,7 @@ import (
 func TestInterruptAnalysesKeepsSession(t *testing.T) {
 	s := NewSession()
 	mustExec(t, s, "g = interval(0, 1, 202)\nA = dense(0.005*laplacian(g) - deriv(g))\nh = interval(0, 1, 802)\nB = dense(0.01*laplacian(h) - deriv(h))\nx = 41")
+	mustExec(t, s, "L = laplacian(interval(0, 1, 302))\nK = kronsum(L, L) + 0.1*kronsum(deriv(interval(0, 1, 302)), L)\nu = ones(90000)")
 	for _, cell := range []string{
 		"y = kreiss(A)",   // Kreiss search, order 200
 		"y = spectrum(B)", // dense QR with eigenvectors, order 800
@@ -28,6 +29,7 @@ func TestInterruptAnalysesKeepsSession(t *testing.T) {
 		"y = numrange(B)",                            // boundary of the numerical range, order 800
 		"y = abscissa(B)",                            // dense eigenvalues with conditions, order 800
 		`y = propagate(B, ones(800), 1, method="dense")`,
+		"y = resolvent(K, 1, data=u)", // a sparse LU of order 90000
 	} {
 		t.Run(cell, func(t *testing.T) {
 			ctx, cancel := context.WithCancel(context.Background())
