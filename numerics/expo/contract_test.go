@@ -244,7 +244,10 @@ func TestEstimateContract(t *testing.T) {
 		c.methods = []string{MethodAuto, MethodDense, MethodKrylov, MethodShiftInv}
 		// Shift-and-invert's step control keeps each local estimate
 		// near its share of the tolerance: 2000 times the true error.
-		c.loose = map[string]float64{MethodShiftInv: 1e4}
+		// In the openblas build the products round differently and the
+		// dense a-posteriori estimate kept at t = 1.8 (by auto and dense)
+		// was measured 1076 times the true error; pure Go stays under 1000.
+		c.loose = map[string]float64{MethodShiftInv: 1e4, MethodAuto: 2000, MethodDense: 2000}
 		cases = append(cases, c)
 	}
 	{
