@@ -499,7 +499,7 @@ eps = 0.01
 F = eps * laplacian(fg)
 cubic(u) = u - u^3
 v0(x) = 0.1 * sin(3 * pi * x) + 0.05 * cos(7 * pi * x)
-front = propagate(F, v0, [0, 2, 5, 20], nonlinear=cubic, steps=400)
+front = propagate(F, v0, [0, 2, 5, 20], nonlinear=cubic)
 front
 """),
     md("""
