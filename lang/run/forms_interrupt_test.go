@@ -1,11 +1,6 @@
 package run
 
-import (
-	"context"
-	"errors"
-	"testing"
-	"time"
-)
+import "testing"
 
 // TestInterruptForms interrupts cells built from sweep, anonymous
 // functions, where and with 100 ms after they start: each must end with
@@ -20,33 +15,7 @@ func TestInterruptForms(t *testing.T) {
 		"y = map(k -> (v with [0] = k)[0] where (w = v), 1 .. 1000000)", // a copy of 10⁴ entries per call
 	} {
 		t.Run(cell, func(t *testing.T) {
-			ctx, cancel := context.WithCancel(context.Background())
-			defer cancel()
-			done := make(chan error, 1)
-			go func() {
-				_, _, err := s.Execute(ctx, cell, nil)
-				done <- err
-			}()
-			time.Sleep(100 * time.Millisecond)
-			start := time.Now()
-			cancel()
-			select {
-			case err := <-done:
-				var tr tracer
-				if !errors.As(err, &tr) || tr.ErrorName() != "interrupted" {
-					t.Fatalf("err = %v, want interrupted", err)
-				}
-				lat := time.Since(start)
-				t.Logf("stopped %v after the interrupt", lat)
-				if lat > 500*time.Millisecond {
-					t.Errorf("stopped %v after the interrupt, more than 0.5 s", lat)
-				}
-			case <-time.After(30 * time.Second):
-				t.Fatal("not stopped 30 s after the interrupt")
-			}
-			if _, ok := s.Lookup("y"); ok {
-				t.Errorf("the interrupted assignment took effect")
-			}
+			interruptCell(t, s, cell)
 			if got := mustExec(t, s, "x + 1")["text/plain"]; got != "42" {
 				t.Errorf("x + 1 gave %v after the interrupt", got)
 			}

@@ -30,8 +30,7 @@ var trustFamilies = []string{"second-order", "chains", "convection-diffusion", "
 // trustOpen lists the problems that still fail because of an open defect,
 // each with the defect named (measured 2026-12-02). These are the only
 // skips allowed; SEMIFLOW_TRUST_OPEN=1 runs them too.
-var trustOpen = map[string]string{
-}
+var trustOpen = map[string]string{}
 
 // unitRoundoff is u = 2⁻⁵³.
 const unitRoundoff = 0x1p-53
