@@ -115,28 +115,10 @@ const stepGrid = 8
 // h·min(4, max(0.2, 0.9·(target/D)^{1/p})).
 func integrate(ctx context.Context, st oneStepper, u0 []float64, times []float64, tol float64, ctl StepControl, progress func(done, total int)) (*adaptResult, error) {
 	n := len(u0)
-	for _, t := range times {
-		if t < 0 || math.IsNaN(t) || math.IsInf(t, 0) {
-			return nil, fmt.Errorf("expo: output time %v: times must be finite and nonnegative", t)
-		}
+	tmax, stops, isBreak, err := stoppingTimes(times, ctl.Breaks)
+	if err != nil {
+		return nil, err
 	}
-	tmax := 0.0
-	for _, t := range times {
-		tmax = math.Max(tmax, t)
-	}
-	// Stopping times: the outputs and the breakpoints inside (0, tmax).
-	isBreak := map[float64]bool{}
-	stops := append([]float64(nil), times...)
-	for _, b := range ctl.Breaks {
-		if math.IsNaN(b) || math.IsInf(b, 0) {
-			return nil, fmt.Errorf("expo: breakpoint %v must be finite", b)
-		}
-		if b > 0 && b < tmax {
-			stops = append(stops, b)
-		}
-		isBreak[b] = true
-	}
-	sort.Float64s(stops)
 	res := &adaptResult{vals: make([][]float64, len(times)), errs: make([]float64, len(times))}
 	stats := &res.stats
 	stats.Scale = normInf(u0)
@@ -344,4 +326,30 @@ func roughNote(at []float64) string {
 		spots = append(spots, fmt.Sprintf("%.9g", t))
 	}
 	return fmt.Sprintf("N or the forcing jumps or has a kink near t ≈ %s (steps shorter than 1e-6·T still missed their error target); steps were shortened there, but give such times as breakpoints (switches) to integrate across them exactly", strings.Join(spots, ", "))
+}
+
+// stoppingTimes checks the output times (finite, nonnegative) and the
+// breakpoints (finite) and returns the sorted stopping times: the outputs
+// and the breakpoints inside (0, tmax), with tmax, the largest output time,
+// and the set of breakpoints.
+func stoppingTimes(times, breaks []float64) (tmax float64, stops []float64, isBreak map[float64]bool, err error) {
+	for _, t := range times {
+		if t < 0 || math.IsNaN(t) || math.IsInf(t, 0) {
+			return 0, nil, nil, fmt.Errorf("expo: output time %v: times must be finite and nonnegative", t)
+		}
+		tmax = math.Max(tmax, t)
+	}
+	isBreak = map[float64]bool{}
+	stops = append([]float64(nil), times...)
+	for _, b := range breaks {
+		if math.IsNaN(b) || math.IsInf(b, 0) {
+			return 0, nil, nil, fmt.Errorf("expo: breakpoint %v must be finite", b)
+		}
+		if b > 0 && b < tmax {
+			stops = append(stops, b)
+		}
+		isBreak[b] = true
+	}
+	sort.Float64s(stops)
+	return tmax, stops, isBreak, nil
 }

@@ -80,25 +80,10 @@ func forcedFunc(ctx context.Context, A linop.Operator, u0 []float64, f Forcing, 
 	if pieces <= 0 {
 		pieces = 1
 	}
-	tmax := 0.0
-	for _, t := range times {
-		if t < 0 || math.IsNaN(t) || math.IsInf(t, 0) {
-			return nil, fmt.Errorf("expo: output time %v: times must be finite and nonnegative", t)
-		}
-		tmax = math.Max(tmax, t)
+	tmax, stops, isBreak, err := stoppingTimes(times, f.Breaks)
+	if err != nil {
+		return nil, err
 	}
-	isBreak := map[float64]bool{}
-	stops := append([]float64(nil), times...)
-	for _, b := range f.Breaks {
-		if math.IsNaN(b) || math.IsInf(b, 0) {
-			return nil, fmt.Errorf("expo: breakpoint %v must be finite", b)
-		}
-		if b > 0 && b < tmax {
-			stops = append(stops, b)
-		}
-		isBreak[b] = true
-	}
-	sort.Float64s(stops)
 
 	// The interpolant's coefficients, the samples, the augmented vector
 	// and a copy of u per stopping time, through the memory guard.
