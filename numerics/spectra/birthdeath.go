@@ -336,7 +336,7 @@ func (c *BirthDeathChain) Nearest(ctx context.Context, k int, near bool, sigma f
 const BirthDeathAllMax = 10000
 
 const (
-	dqdsMethod   = "singular values of the Cholesky-like bidiagonal factor of −D^{1/2}QD^{-1/2} (formed from √rates by Givens rotations, no subtractions), by the differential qd algorithm (LAPACK Dlasq1 via gonum)"
+	dqdsMethod   = "singular values of the Cholesky-like bidiagonal factor of −D^{1/2}QD^{-1/2} (formed from √rates by Givens rotations, no subtractions), by the differential qd algorithm with shifts (Fernando & Parlett 1994)"
 	bisectMethod = "singular values of the Cholesky-like bidiagonal factor of −D^{1/2}QD^{-1/2} (formed from √rates by Givens rotations, no subtractions), by bisection on the zero-diagonal Golub–Kahan form"
 )
 

@@ -81,7 +81,7 @@ func DenseSpectrum(a linop.Operator) (*Spectrum, error) {
 func denseSpectrum(m *mat.Dense) (*Spectrum, error) {
 	n, _ := m.Dims()
 	sp := &Spectrum{Abscissa: math.Inf(-1)}
-	sp.Method = "QR algorithm on the dense matrix (LAPACK Dgeev via gonum mat.Eigen), left and right eigenvectors"
+	sp.Method = "QR algorithm on the dense matrix (Hessenberg reduction, implicit double shifts), left and right eigenvectors"
 	if n == 0 {
 		return sp, nil
 	}

@@ -514,7 +514,7 @@ func Markov(ctx context.Context, q linop.Operator) (*MarkovReport, error) {
 		rel := chain.RelativeError()
 		rep.Gap = -vals[1]
 		rep.GapError = rep.Gap * rel
-		gapHow = fmt.Sprintf("gap = σ², σ the smallest singular value of the bidiagonal factor G of −D^{1/2}QD^{-1/2} = GᵀG, D = diag(π) (G formed from the square roots of the rates by Givens rotations, no subtractions), by %s; relative accuracy: the gap to %.2g of itself (24·n·u), however small it is next to ‖Q‖", map[bool]string{true: "the differential qd algorithm (LAPACK Dlasq1 via gonum)", false: "bisection on the zero-diagonal Golub–Kahan form"}[how == dqdsMethod], rel)
+		gapHow = fmt.Sprintf("gap = σ², σ the smallest singular value of the bidiagonal factor G of −D^{1/2}QD^{-1/2} = GᵀG, D = diag(π) (G formed from the square roots of the rates by Givens rotations, no subtractions), by %s; relative accuracy: the gap to %.2g of itself (24·n·u), however small it is next to ‖Q‖", map[bool]string{true: "the differential qd algorithm with shifts (Fernando & Parlett 1994)", false: "bisection on the zero-diagonal Golub–Kahan form"}[how == dqdsMethod], rel)
 	case rep.Reversible && n > 1:
 		type valsTol struct {
 			vals []float64
@@ -530,7 +530,7 @@ func Markov(ctx context.Context, q linop.Operator) (*MarkovReport, error) {
 		}
 		// vals ascending; the largest is the stationary 0 (within tol).
 		rep.Gap, rep.GapError = -vals[n-2], tol
-		gapHow = fmt.Sprintf("gap from the symmetric S = D^{1/2}QD^{-1/2}, S_ij = √(q_ij q_ji) (symmetric QR algorithm, gonum EigenSym), absolute error ≤ %.2g = n·u·‖S‖_F plus the detailed-balance defect", tol)
+		gapHow = fmt.Sprintf("gap from the symmetric S = D^{1/2}QD^{-1/2}, S_ij = √(q_ij q_ji) (symmetric QR algorithm), absolute error ≤ %.2g = n·u·‖S‖_F plus the detailed-balance defect", tol)
 		if math.Abs(vals[n-1]) > tol {
 			gapHow += fmt.Sprintf("; WARNING: the largest eigenvalue of S is %.3g, not 0 within rounding", vals[n-1])
 		}
@@ -812,11 +812,11 @@ func reversibleRateSpectrum(m *mat.Dense) (*Spectrum, bool, error) {
 		}
 	}
 	sp.Abscissa = real(sp.Values[0])
-	sp.Method = "the rate matrix of a reversible chain (detailed balance π_i q_ij = π_j q_ji): eigenvalues of the symmetric S = D^{1/2}QD^{-1/2} = [√(q_ij q_ji)], D = diag(π), by the symmetric QR algorithm (gonum EigenSym); eigenvectors of Q are D^{∓1/2}v"
+	sp.Method = "the rate matrix of a reversible chain (detailed balance π_i q_ij = π_j q_ji): eigenvalues of the symmetric S = D^{1/2}QD^{-1/2} = [√(q_ij q_ji)], D = diag(π), by the symmetric QR algorithm; eigenvectors of Q are D^{∓1/2}v"
 	sp.Accuracy = fmt.Sprintf("every eigenvalue to %.2g = n·u·‖S‖_F (including the detailed-balance defect %.2g)", tau, defect)
 	if bd {
 		c, _ := birthDeathOfDense(m)
-		sp.Method = "the rate matrix of a birth–death chain: eigenvalue 0 and −σ² for the " + dqdsMethod + "; the diagonal is taken as minus each state's rates; eigenvectors of Q are D^{∓1/2}v for those of S = D^{1/2}QD^{-1/2} (symmetric QR algorithm, gonum EigenSym)"
+		sp.Method = "the rate matrix of a birth–death chain: eigenvalue 0 and −σ² for the " + dqdsMethod + "; the diagonal is taken as minus each state's rates; eigenvectors of Q are D^{∓1/2}v for those of S = D^{1/2}QD^{-1/2} (symmetric QR algorithm)"
 		sp.Accuracy = fmt.Sprintf("relative accuracy: every eigenvalue to %.2g = 24·n·u relative to its own size, however small next to ‖Q‖", c.RelativeError())
 	}
 	sp.Accuracy += "; the conditions shown are Q's under unstructured perturbations (large for a graded chain, whose eigenvectors are nearly parallel in the Euclidean norm and orthogonal in the π-weighted one), not the error of these values"

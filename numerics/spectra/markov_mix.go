@@ -126,6 +126,6 @@ func mixingTime(ctx context.Context, q *mat.Dense, pi []float64, start float64) 
 			p, lo = c, lo+math.Ldexp(s, -j)
 		}
 	}
-	how := fmt.Sprintf("mixing time: d(t) = max_i ‖e_iᵀe^{tQ} − π‖_TV from %d dense exponentials (expo.Exp) and %d products of transition matrices (doubling, then binary digits: e^{(s+t)Q} = e^{sQ}e^{tQ})", exps, prods)
+	how := fmt.Sprintf("mixing time: d(t) = max_i ‖e_iᵀe^{tQ} − π‖_TV from %d dense exponentials (scaling and squaring with Padé approximants) and %d products of transition matrices (doubling, then binary digits: e^{(s+t)Q} = e^{sQ}e^{tQ})", exps, prods)
 	return lo + math.Ldexp(s, -mixLevels), how, nil
 }

@@ -1091,7 +1091,7 @@ func GrowthCurve(ctx context.Context, a linop.Operator, times []float64, opt *Gr
 	if err != nil {
 		return nil, err
 	}
-	g.Method = "e^{tA} by scaling and squaring with Padé approximants (expo.Exp), ‖·‖₂ as the largest singular value (gonum SVD); peak refined by golden-section search; bounds: Kreiss constant K ≤ sup‖e^{tA}‖ ≤ e·N·K (Spijker, BIT 1991, N = dimension), α_ε/ε ≤ sup‖e^{tA}‖, initial slope ω(A)"
+	g.Method = "e^{tA} by scaling and squaring with Padé approximants, ‖·‖₂ as the largest singular value; peak refined by golden-section search; bounds: Kreiss constant K ≤ sup‖e^{tA}‖ ≤ e·N·K (Spijker, BIT 1991, N = dimension), α_ε/ε ≤ sup‖e^{tA}‖, initial slope ω(A)"
 	g.Accuracy = "‖e^{tA}‖₂ to a few units of u·‖e^{tA}‖·cond; the Kreiss constant is a local maximisation (lower estimate)"
 	// Under a budget, a Schur form that alone exceeds the bounds' budget
 	// is not computed: α(A) and every bound are left out, ω(A) comes from
