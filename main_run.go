@@ -17,6 +17,7 @@ import (
 	"sync"
 	"syscall"
 
+	"semiflow/lang/builtin"
 	"semiflow/lang/run"
 	"semiflow/lang/syntax"
 )
@@ -242,22 +243,10 @@ func readRegular(path string) ([]byte, error) {
 // regularFile returns an error naming what path is unless st describes a
 // regular file.
 func regularFile(path string, st os.FileInfo) error {
-	m := st.Mode()
-	if m.IsRegular() {
+	if st.Mode().IsRegular() {
 		return nil
 	}
-	what := "not a regular file"
-	switch {
-	case m.IsDir():
-		what = "a directory"
-	case m&os.ModeNamedPipe != 0:
-		what = "a FIFO (named pipe)"
-	case m&os.ModeSocket != 0:
-		what = "a socket"
-	case m&os.ModeDevice != 0:
-		what = "a device"
-	}
-	return fmt.Errorf("%s: is %s; only a regular file is run", path, what)
+	return fmt.Errorf("%s: is %s; only a regular file is run", path, builtin.FileKind(st.Mode()))
 }
 
 // runFile evaluates a script in one session, printing every displayed

@@ -100,7 +100,7 @@ func parseCSV(r io.Reader, header bool, check func(entries int) error) (*csvTabl
 			if header {
 				what = "the header"
 			}
-			return nil, &csvError{line, fields[min(len(fields), want) - 1].col, fmt.Sprintf("this row has %d fields but %s (line %d) has %d", len(fields), what, first, want)}
+			return nil, &csvError{line, fields[min(len(fields), want)-1].col, fmt.Sprintf("this row has %d fields but %s (line %d) has %d", len(fields), what, first, want)}
 		}
 		if first == 0 {
 			first = line

@@ -582,18 +582,23 @@ func regular(name, path string, st os.FileInfo) error {
 	if st.Mode().IsRegular() {
 		return nil
 	}
-	what := "not a regular file"
-	switch m := st.Mode(); {
+	return value.Errorf(value.ClassFile, "%s: %s: is %s; only regular files are read and written", name, path, FileKind(st.Mode()))
+}
+
+// FileKind names what a file that is not a regular one is, for refusals:
+// "a directory", "a FIFO (named pipe)", "a socket", "a device".
+func FileKind(m os.FileMode) string {
+	switch {
 	case m.IsDir():
-		what = "a directory"
+		return "a directory"
 	case m&os.ModeNamedPipe != 0:
-		what = "a FIFO (named pipe)"
+		return "a FIFO (named pipe)"
 	case m&os.ModeSocket != 0:
-		what = "a socket"
+		return "a socket"
 	case m&os.ModeDevice != 0:
-		what = "a device"
+		return "a device"
 	}
-	return value.Errorf(value.ClassFile, "%s: %s: is %s; only regular files are read and written", name, path, what)
+	return "not a regular file"
 }
 
 func writeFile(c *eval.Call, path string, write func(w *bufio.Writer) error) error {

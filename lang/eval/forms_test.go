@@ -128,7 +128,7 @@ func TestClosureInterrupt(t *testing.T) {
 type testBuiltins struct{}
 
 func (testBuiltins) Lookup(string) (value.Value, bool) { return nil, false }
-func (testBuiltins) Names() []string                    { return nil }
+func (testBuiltins) Names() []string                   { return nil }
 
 // TestManyLocalDefinitions: a where ( ) with 20000 definitions, each using
 // the first (names are looked up in a map past a few), and a definition
