@@ -6,10 +6,19 @@
 // that fit the output area, and outputs that survive saving. It saves a
 // full-page screenshot of each notebook and ends with the line 'checks: N passed, N failed'.
 //
+// With --committed it first opens each notebook as committed — outputs kept,
+// not trusted, not run — as a colleague opening a shared notebook meets it,
+// and checks that every output carrying a figure shows it, that no hidden
+// figure description leaks into the page, that error outputs render as
+// errors (coloured, no raw escape codes), and that the layout (outputs per
+// cell, figure sizes, output heights) matches the stored reference
+// DIR/NAME.json of --layout (written instead when --update-layout is 1).
+//
 // Started by run_browser_test.sh, which owns the server and the temporary
 // directories:
 //   node notebook_check.js --url URL --token T --notebooks A.ipynb[,B.ipynb...]
 //     --chromium PATH --profile DIR --artifacts DIR [--timeout SECONDS]
+//     [--committed C.ipynb[,D.ipynb...] --layout DIR [--update-layout 1]]
 // Each notebook gets its own page, kernel and screenshot DIR/NAME.png.
 'use strict';
 
@@ -25,9 +34,11 @@ function parseArgs(argv) {
     }
     opts[argv[i].slice(2)] = argv[i + 1];
   }
-  for (const k of ['url', 'token', 'notebooks', 'chromium', 'profile', 'artifacts']) {
+  for (const k of ['url', 'token', 'chromium', 'profile', 'artifacts']) {
     if (!opts[k]) throw new Error(`missing --${k}`);
   }
+  if (!opts.notebooks && !opts.committed) throw new Error('missing --notebooks or --committed');
+  if (opts.committed && !opts.layout) throw new Error('--committed needs --layout');
   opts.timeout = Number(opts.timeout) * 1000;
   return opts;
 }
@@ -317,6 +328,165 @@ async function checkNotebook(context, opts, name, prefix, left) {
   }
 }
 
+// What a committed notebook shows before anything runs, per code cell:
+// the outputs that carry a figure in the file (image/png, image/svg+xml, or
+// HTML with an image) against the output areas that show a visible figure;
+// the figure descriptions (<title>, <desc> of the SVGs in the file) that
+// appear as page text; the error outputs in the file against those rendered
+// as errors, with their colouring; raw escape codes left in the text; and
+// the layout: output areas, figure sizes and output height.
+function inspectCommitted() {
+  const out = { trusted: !!Jupyter.notebook.trusted, cells: [], problems: [] };
+  const visible = (el) => {
+    const r = el.getBoundingClientRect();
+    if (r.width < 20 || r.height < 20) return null;
+    if (el.tagName.toLowerCase() === 'img' && (!el.complete || el.naturalWidth === 0)) return null;
+    const st = getComputedStyle(el);
+    if (st.display === 'none' || st.visibility === 'hidden' || Number(st.opacity) === 0) return null;
+    return `${Math.round(r.width)}×${Math.round(r.height)}`;
+  };
+  const parser = new DOMParser();
+  const cells = Jupyter.notebook.get_cells().filter((c) => c.cell_type === 'code');
+  cells.forEach((cell, k) => {
+    const where = `cell ${k + 1}`;
+    const outputs = (cell.output_area && cell.output_area.outputs) || [];
+    let figureOutputs = 0;
+    let errorOutputs = 0;
+    const hidden = [];
+    for (const o of outputs) {
+      if (o.output_type === 'error') errorOutputs++;
+      const d = o.data || {};
+      const html = typeof d['text/html'] === 'string' ? d['text/html'] : Array.isArray(d['text/html']) ? d['text/html'].join('') : '';
+      if (d['image/png'] || d['image/svg+xml'] || /<img|<svg/i.test(html)) figureOutputs++;
+      for (const src of [d['image/svg+xml'], html]) {
+        if (!src) continue;
+        const text = Array.isArray(src) ? src.join('') : String(src);
+        if (!/<svg/i.test(text)) continue;
+        const doc = parser.parseFromString(text, 'text/html');
+        for (const e of doc.querySelectorAll('svg title, svg desc')) {
+          const t = e.textContent.trim();
+          if (t.length >= 12) hidden.push(t);
+        }
+      }
+    }
+    const el = cell.output_area ? cell.output_area.element[0] : null;
+    const areas = el ? [...el.querySelectorAll(':scope > .output_area, :scope .output > .output_area')] : [];
+    const uniq = [...new Set(areas)];
+    const figures = [];
+    let shown = 0;
+    for (const a of uniq) {
+      let any = false;
+      for (const f of a.querySelectorAll('img, svg')) {
+        if (f.tagName.toLowerCase() === 'svg' && f.parentElement.closest('svg')) continue;
+        const size = visible(f);
+        if (size) { figures.push(size); any = true; }
+      }
+      if (any) shown++;
+    }
+    if (shown < figureOutputs) out.problems.push(`${where}: ${figureOutputs} outputs carry a figure, ${shown} show one`);
+    const pageText = el ? el.innerText : '';
+    for (const t of hidden) {
+      if (pageText.includes(t)) out.problems.push(`${where}: the figure description "${t.slice(0, 60)}" shows as text`);
+    }
+    const errs = el ? el.querySelectorAll('.output_error') : [];
+    if (errs.length !== errorOutputs) out.problems.push(`${where}: ${errorOutputs} error outputs in the file, ${errs.length} rendered as errors`);
+    for (const e of errs) {
+      if (!e.querySelector('span[class^="ansi-"], span[class*=" ansi-"], span[style*="color"]')) {
+        out.problems.push(`${where}: an error output without colour`);
+      }
+    }
+    if (/\u001b\[|\[[0-9;]+m/.test(pageText)) out.problems.push(`${where}: raw terminal escape codes in the text`);
+    out.cells.push({
+      outputs: uniq.length,
+      figures,
+      errors: errs.length,
+      height: el ? Math.round(el.getBoundingClientRect().height) : 0,
+    });
+  });
+  return out;
+}
+
+// compareLayout lists how a committed notebook's layout differs from its
+// reference: the same code cells, output areas, error outputs and figure
+// sizes (±3 px: anti-aliasing and rounding), output heights within
+// max(24 px, 8%) (font metrics on another machine).
+function compareLayout(got, want) {
+  const diffs = [];
+  if (got.length !== want.length) return [`${got.length} code cells, reference ${want.length}`];
+  got.forEach((g, k) => {
+    const w = want[k];
+    const where = `cell ${k + 1}`;
+    if (g.outputs !== w.outputs) diffs.push(`${where}: ${g.outputs} output areas, reference ${w.outputs}`);
+    if (g.errors !== w.errors) diffs.push(`${where}: ${g.errors} errors, reference ${w.errors}`);
+    if (g.figures.length !== w.figures.length) {
+      diffs.push(`${where}: ${g.figures.length} figures, reference ${w.figures.length}`);
+    } else {
+      g.figures.forEach((f, j) => {
+        const [gw, gh] = f.split('×').map(Number);
+        const [ww, wh] = w.figures[j].split('×').map(Number);
+        if (Math.abs(gw - ww) > 3 || Math.abs(gh - wh) > 3) diffs.push(`${where}: figure ${j + 1} is ${f}, reference ${w.figures[j]}`);
+      });
+    }
+    if (Math.abs(g.height - w.height) > Math.max(24, 0.08 * w.height)) diffs.push(`${where}: outputs ${g.height} px high, reference ${w.height}`);
+  });
+  return diffs;
+}
+
+// Opens a notebook as committed (its outputs, untrusted, not run) and checks
+// what a colleague would see.
+async function checkCommitted(context, opts, name, prefix, left) {
+  const pageErrors = [];
+  const page = await context.newPage();
+  page.on('pageerror', (e) => pageErrors.push(String(e.message || e).slice(0, 200)));
+  page.setDefaultTimeout(30000);
+  const c = (what, ok, detail) => check(prefix + what, ok, detail);
+  const base = path.basename(name).replace(/\.ipynb$/, '');
+  try {
+    const url = `${opts.url}/notebooks/${name.split('/').map(encodeURIComponent).join('/')}?token=${opts.token}`;
+    const resp = await page.goto(url, { waitUntil: 'load', timeout: Math.min(30000, left()) });
+    if (!c('page loads', resp && resp.ok(), `HTTP ${resp ? resp.status() : 'none'} for /notebooks/${name}`)) return;
+    const loaded = await pollPage(page, () => !!(window.Jupyter && Jupyter.notebook && Jupyter.notebook._fully_loaded), '', Math.min(30000, left()));
+    if (!c('notebook loads', !!loaded, loaded ? '' : 'not loaded within 30 s')) return;
+    await page.waitForTimeout(500); // images decode
+    const out = await ev(page, inspectCommitted);
+    c('opens not trusted, as a colleague meets it', !out.trusted, `trusted=${out.trusted}`);
+    const nfig = out.cells.reduce((n, x) => n + x.figures.length, 0);
+    const nerr = out.cells.reduce((n, x) => n + x.errors, 0);
+    c(
+      'every figure visible, no description leaks, errors render as errors',
+      out.problems.length === 0,
+      out.problems.length ? out.problems.slice(0, 8).join(' | ') : `${out.cells.length} code cells, ${nfig} figures, ${nerr} error outputs`,
+    );
+    const ref = path.join(opts.layout, base + '.json');
+    if (opts['update-layout'] === '1') {
+      fs.mkdirSync(opts.layout, { recursive: true });
+      fs.writeFileSync(ref, JSON.stringify(out.cells, null, 1) + '\n');
+      c('layout reference written', true, ref);
+    } else if (!fs.existsSync(ref)) {
+      c('layout matches its reference', false, `no reference ${ref}: write it with UPDATE_LAYOUT=1`);
+    } else {
+      const diffs = compareLayout(out.cells, JSON.parse(fs.readFileSync(ref, 'utf8')));
+      c('layout matches its reference', diffs.length === 0, diffs.length ? diffs.slice(0, 8).join(' | ') + ' (if intended: UPDATE_LAYOUT=1)' : ref);
+    }
+    await ev(page, () => Jupyter.notebook.get_cells().forEach((x) => x.output_area && x.output_area.unscroll_area()));
+    await page.addStyleTag({
+      content:
+        'html, body { height: auto !important; overflow: visible !important; position: static !important; }' +
+        ' #site { height: auto !important; overflow: visible !important; display: block !important; }' +
+        ' #header { position: static !important; }',
+    });
+    await page.waitForTimeout(300);
+    fs.mkdirSync(opts.artifacts, { recursive: true });
+    const shot = path.join(opts.artifacts, base + '.committed.png');
+    await page.screenshot({ path: shot, fullPage: true, timeout: Math.min(30000, left()) });
+    c('full-page screenshot of the committed view', fs.statSync(shot).size > 10000, shot);
+  } finally {
+    if (pageErrors.length) console.log(`note: ${prefix}page script errors: ${pageErrors.slice(0, 5).join(' | ')}`);
+    await ev(page, () => Jupyter.notebook.session && Jupyter.notebook.session.delete()).catch(() => {});
+    await bounded(page.close(), 10000, 'closing the page').catch(() => {});
+  }
+}
+
 async function main() {
   const opts = parseArgs(process.argv.slice(2));
   const deadline = Date.now() + opts.timeout;
@@ -327,7 +497,8 @@ async function main() {
     process.exit(1);
   }, opts.timeout + 3000).unref();
   const left = () => Math.max(1000, deadline - Date.now());
-  const names = opts.notebooks.split(',').filter((x) => x);
+  const names = (opts.notebooks || '').split(',').filter((x) => x);
+  const committed = (opts.committed || '').split(',').filter((x) => x);
 
   const context = await chromium.launchPersistentContext(opts.profile, {
     executablePath: opts.chromium,
@@ -344,6 +515,15 @@ async function main() {
     viewport: { width: 1280, height: 900 },
   });
   try {
+    for (const name of committed) {
+      if (deadline - Date.now() < 5000) {
+        check(`${name}: started`, false, 'no time left');
+        continue;
+      }
+      const t0 = Date.now();
+      await checkCommitted(context, opts, name, `${name} (as committed): `, left);
+      console.log(`time: ${name} as committed ${((Date.now() - t0) / 1000).toFixed(1)} s`);
+    }
     for (const name of names) {
       if (deadline - Date.now() < 5000) {
         check(`${name}: started`, false, 'no time left');

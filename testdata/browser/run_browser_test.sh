@@ -13,15 +13,24 @@
 # a full-page screenshot of
 # each notebook to $ARTIFACT_DIR (default testdata/browser/artifacts/).
 #
+# Before that it opens every example notebook as committed (outputs kept, not
+# trusted, not run) plus testdata/browser/error_outputs.ipynb, and checks that
+# every figure shows, no hidden figure text leaks, error outputs render as
+# errors, and the layout matches testdata/browser/layout/NAME.json.
+#
 # Environment:
 #   CI=true            missing chromium, node, npm or the notebook server is a failure, not a skip
 #   NOTEBOOK=paths     the notebooks to run, separated by spaces, or "all" for every
 #                      notebooks/*.ipynb (default: notebooks/shear_transient_growth.ipynb,
-#                      else the first notebooks/*.ipynb, else testdata/browser/smoke.ipynb)
+#                      else the first notebooks/*.ipynb, else testdata/browser/smoke.ipynb;
+#                      "none" to run none)
+#   COMMITTED=paths    the notebooks to open as committed (default: every notebooks/*.ipynb and
+#                      testdata/browser/error_outputs.ipynb; "none" for none)
+#   UPDATE_LAYOUT=1    write the layout references instead of comparing with them
 #   SEMIFLOW_BIN=path  use this binary instead of building one
 #   SEMIFLOW_PYTHON    the interpreter that has the notebook server (default /usr/bin/python3)
 #   ARTIFACT_DIR       where the screenshot goes
-#   BROWSER_TIMEOUT    overall limit of the browser part in seconds (default 150)
+#   BROWSER_TIMEOUT    overall limit of the browser part in seconds (default 240)
 #
 # Debian packages: chromium jupyter-notebook python3-nbformat nodejs npm.
 # The last line is 'N passed, N failed'; the exit status is non-zero on any failure.
@@ -31,7 +40,7 @@ root="$(cd "$here/../.." && pwd)"
 py="${SEMIFLOW_PYTHON:-/usr/bin/python3}"
 chromium=/usr/bin/chromium
 artifacts="${ARTIFACT_DIR:-$here/artifacts}"
-limit="${BROWSER_TIMEOUT:-150}"
+limit="${BROWSER_TIMEOUT:-240}"
 start=$(date +%s)
 
 skip_or_fail() {
@@ -107,6 +116,7 @@ case "${NOTEBOOK:-}" in
 		[ -n "$notebooks" ] || notebooks="$here/smoke.ipynb"
 	fi
 	;;
+none) notebooks="" ;;
 all)
 	notebooks="$(ls "$root"/notebooks/*.ipynb 2>/dev/null)"
 	[ -n "$notebooks" ] || fail "no notebooks/*.ipynb"
@@ -133,6 +143,21 @@ EOF
 	names="${names:+$names,}$name"
 done
 
+# The notebooks as committed: copied unchanged (a fresh Jupyter data
+# directory has no signatures, so they open untrusted).
+case "${COMMITTED:-}" in
+"") committed_paths="$(ls "$root"/notebooks/*.ipynb 2>/dev/null) $here/error_outputs.ipynb" ;;
+none) committed_paths="" ;;
+*) committed_paths="$COMMITTED" ;;
+esac
+mkdir -p "$tmp/nb/committed"
+committed=""
+for nb in $committed_paths; do
+	[ -f "$nb" ] || fail "notebook $nb not found"
+	cp "$nb" "$tmp/nb/committed/" || fail "cannot copy $nb"
+	committed="${committed:+$committed,}committed/$(basename "$nb")"
+done
+
 port="$("$py" -c 'import socket; s = socket.socket(); s.bind(("127.0.0.1", 0)); print(s.getsockname()[1]); s.close()')"
 token="$("$py" -c 'import secrets; print(secrets.token_hex(24))')"
 "$py" -m notebook --no-browser --ip=127.0.0.1 --port="$port" --NotebookApp.port_retries=0 \
@@ -157,8 +182,10 @@ done
 
 mkdir -p "$artifacts"
 (cd "$here" && timeout -k 5 "$limit" node notebook_check.js \
-	--url "http://127.0.0.1:$port" --token "$token" --notebooks "$names" \
+	--url "http://127.0.0.1:$port" --token "$token" ${names:+--notebooks "$names"} \
 	--chromium "$chromium" --profile "$tmp/profile" --artifacts "$artifacts" \
+	${committed:+--committed "$committed" --layout "$here/layout"} \
+	${UPDATE_LAYOUT:+--update-layout "$UPDATE_LAYOUT"} \
 	--timeout "$((limit - 10))") >"$tmp/check.log" 2>&1
 rc=$?
 cat "$tmp/check.log"
