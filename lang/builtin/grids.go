@@ -7,6 +7,7 @@ import (
 
 	"semiflow/lang/eval"
 	"semiflow/lang/objects"
+	"semiflow/lang/syntax"
 	"semiflow/lang/value"
 	"semiflow/numerics/grid"
 )
@@ -31,17 +32,19 @@ var gridFamily = []*Builtin{
 			req("a", "left end"),
 			req("b", "right end, b > a"),
 			req("n", "number of grid points, counting both ends (for periodic ends x = b is x = a and there are n unknowns)"),
-			opt("ends", value.Str("dirichlet"), `boundary condition at both ends: "dirichlet" (u = 0), "neumann" (u' = 0), "periodic" or "robin" (αu + βu' = 0)`),
+			opt("ends", value.Str("dirichlet"), `boundary condition at both ends, or a list [left, right] of two: "dirichlet" (u = 0), "neumann" (u' = 0), "robin" (αu + βu' = 0) or "periodic" (both ends only)`),
 			opt("order", value.Num(2), "order of the finite differences, 2 or 4"),
-			opt("alpha", value.Num(1), "α of the Robin condition αu + βu' = 0"),
-			opt("beta", value.Num(0), "β of the Robin condition αu + βu' = 0"),
+			opt("alpha", value.Num(1), "α of the Robin condition αu + βu' = 0: one number for both ends or [left, right]"),
+			opt("beta", value.Num(0), "β of the Robin condition αu + βu' = 0: one number for both ends or [left, right]"),
 		},
 		Doc: "The uniform grid x_j = a + j h, h = (b − a)/(n − 1), j = 0..n−1, on [a, b] with a boundary condition at both ends and finite differences of order 2 or 4. " +
 			"The unknowns of a grid function are the points where u is not prescribed: Dirichlet end points are left out (u = 0 there); with periodic ends h = (b − a)/n and x = b is identified with x = a. " +
-			"Robin ends impose αu + βu' = 0 with u' = du/dx at both ends.",
+			"Robin ends impose αu + βu' = 0 with u' = du/dx (not the outward normal derivative) at either end. " +
+			`The two ends may differ: ends=["dirichlet", "neumann"] is u(a) = 0, u'(b) = 0, and alpha, beta given as [left, right] set each Robin end's coefficients.`,
 		Examples: []Example{
 			{"interval(0, 1, 11)", "grid: interval [0, 1], 11 points, h = 0.1, dirichlet ends, order 2, 9 unknowns"},
 			{`interval(0, 2*pi, 64, ends="periodic", order=4)`, "grid: interval [0, 6.283185307], 64 points, h = 0.0981748, periodic ends, order 4, 64 unknowns"},
+			{`interval(0, 1, 11, ends=["dirichlet", "robin"], alpha=[0, 2], beta=[0, 1])`, "grid: interval [0, 1], 11 points, h = 0.1, left end dirichlet, right end robin 2·u + 1·u' = 0, order 2, 10 unknowns"},
 		},
 		Impl: intervalImpl,
 	},
@@ -188,7 +191,7 @@ func intervalImpl(c *eval.Call) (value.Value, error) {
 	if err != nil {
 		return nil, err
 	}
-	ends, err := argChoice(c, 3, "dirichlet", "neumann", "periodic", "robin")
+	kinds, err := endsArg(c, 3)
 	if err != nil {
 		return nil, err
 	}
@@ -199,11 +202,11 @@ func intervalImpl(c *eval.Call) (value.Value, error) {
 	if order != 2 && order != 4 {
 		return nil, value.ValueErrorf("interval: order must be 2 or 4, not %d", order)
 	}
-	alpha, err := argReal(c, 5)
+	alpha, err := perEndReals(c, 5)
 	if err != nil {
 		return nil, err
 	}
-	beta, err := argReal(c, 6)
+	beta, err := perEndReals(c, 6)
 	if err != nil {
 		return nil, err
 	}
@@ -213,41 +216,47 @@ func intervalImpl(c *eval.Call) (value.Value, error) {
 	if err := c.CheckSize(float64(n), "interval: the grid"); err != nil {
 		return nil, err
 	}
+	periodic := kinds[0] == "periodic" || kinds[1] == "periodic"
+	if periodic && kinds[0] != kinds[1] {
+		return nil, value.ValueErrorf("interval: a periodic grid is periodic at both ends, not %q at the left end and %q at the right", kinds[0], kinds[1])
+	}
 	// The fewest points the stencils of the order need: the central
 	// stencil and its one-sided closures (order + 3 points) at ends, the
 	// central stencil alone (order + 1) on a periodic grid.
 	least := order + 3
-	if ends == "periodic" {
+	if periodic {
 		least = order + 1
 	}
-	if n < least && ends == "periodic" {
+	if n < least && periodic {
 		return nil, value.ValueErrorf("interval: periodic grid of %d points for order %d (at least %d)", n, order, least)
 	}
 	if n < least {
 		return nil, value.ValueErrorf("interval: %d points for a derivative of order %d (at least %d)", n, order, least)
 	}
 	cells := float64(n - 1)
-	if ends == "periodic" {
+	if periodic {
 		cells = float64(n)
 	}
 	if h := (b - a) / cells; math.IsInf(b-a, 0) || math.IsInf(1/(h*h), 0) {
 		return nil, value.ValueErrorf("interval: the spacing h = (b − a)/%s is out of range for differences (1/h² must be finite); got a = %s, b = %s", value.FormatNum(cells), value.FormatNum(a), value.FormatNum(b))
 	}
-	var e grid.End
-	switch ends {
-	case "dirichlet":
-		e = grid.DirichletEnd
-	case "neumann":
-		e = grid.NeumannEnd
-	case "periodic":
-		e = grid.PeriodicEnd
-	case "robin":
-		if math.IsNaN(alpha) || math.IsNaN(beta) || math.IsInf(alpha, 0) || math.IsInf(beta, 0) {
-			return nil, value.ValueErrorf("interval: alpha and beta must be finite")
+	var e [2]grid.End
+	for side, kind := range kinds {
+		switch kind {
+		case "dirichlet":
+			e[side] = grid.DirichletEnd
+		case "neumann":
+			e[side] = grid.NeumannEnd
+		case "periodic":
+			e[side] = grid.PeriodicEnd
+		case "robin":
+			if alpha[side] == 0 && beta[side] == 0 {
+				return nil, value.ValueErrorf("interval: the Robin condition αu + βu' = 0 at the %s end needs α or β non-zero; both are 0", sideName[side])
+			}
+			e[side] = grid.RobinEnd(alpha[side], beta[side])
 		}
-		e = grid.RobinEnd(alpha, beta)
 	}
-	iv, err := grid.NewInterval(a, b, n, e, e)
+	iv, err := grid.NewInterval(a, b, n, e[0], e[1])
 	if err != nil {
 		return nil, value.ValueErrorf("interval: %s", strings.TrimPrefix(err.Error(), "grid: invalid grid: "))
 	}
@@ -261,6 +270,87 @@ func intervalImpl(c *eval.Call) (value.Value, error) {
 		}
 	}
 	return g, nil
+}
+
+// sideName names the ends of an interval, left (index 0) and right (1).
+var sideName = [2]string{"left", "right"}
+
+// endKinds are the boundary conditions an interval's end may carry.
+var endKinds = []string{"dirichlet", "neumann", "periodic", "robin"}
+
+// endsArg is argument i as the conditions at the two ends: one name for
+// both, or a list [left, right] of two names.
+func endsArg(c *eval.Call, i int) ([2]string, error) {
+	v, err := c.Arg(i)
+	if err != nil {
+		return [2]string{}, err
+	}
+	check := func(s value.Value, where string) (string, error) {
+		str, ok := s.(value.Str)
+		if !ok {
+			return "", value.TypeErrorf("%s: %s must be a condition name or a list [left, right] of two, not %s", c.Name, where, value.TypeName(s))
+		}
+		for _, k := range endKinds {
+			if string(str) == k {
+				return k, nil
+			}
+		}
+		q := make([]string, len(endKinds))
+		for k, v := range endKinds {
+			q[k] = fmt.Sprintf("%q", v)
+		}
+		return "", value.ValueErrorf("%s: unknown %s %q; valid values are %s", c.Name, where, syntax.Shorten(string(str), syntax.QuoteWidth), strings.Join(q, ", "))
+	}
+	name := paramName(c, i)
+	if l, ok := v.(value.List); ok {
+		if len(l) != 2 {
+			return [2]string{}, value.ValueErrorf("%s: %s as a list names the left and the right end: two entries, not %d", c.Name, name, len(l))
+		}
+		var out [2]string
+		for side := range out {
+			if out[side], err = check(l[side], fmt.Sprintf("%s[%d] (%s end)", name, side, sideName[side])); err != nil {
+				return out, err
+			}
+		}
+		return out, nil
+	}
+	k, err := check(v, name)
+	return [2]string{k, k}, err
+}
+
+// perEndReals is argument i as a finite real for both ends, or a vector
+// [left, right] of two.
+func perEndReals(c *eval.Call, i int) ([2]float64, error) {
+	v, err := c.Arg(i)
+	if err != nil {
+		return [2]float64{}, err
+	}
+	re, cx, err := numbers(c, paramName(c, i), v)
+	if err != nil {
+		return [2]float64{}, err
+	}
+	if cx != nil {
+		return [2]float64{}, value.TypeErrorf("%s: %s must be real, not complex", c.Name, paramName(c, i))
+	}
+	var out [2]float64
+	switch len(re) {
+	case 1:
+		out = [2]float64{re[0], re[0]}
+	case 2:
+		if _, one := v.(value.Num); !one {
+			out = [2]float64{re[0], re[1]}
+			break
+		}
+		fallthrough
+	default:
+		return out, value.ValueErrorf("%s: %s is one number for both ends or [left, right], not %d numbers", c.Name, paramName(c, i), len(re))
+	}
+	for side, x := range out {
+		if math.IsNaN(x) || math.IsInf(x, 0) {
+			return out, value.ValueErrorf("%s: %s at the %s end must be finite, not %s", c.Name, paramName(c, i), sideName[side], value.FormatNum(x))
+		}
+	}
+	return out, nil
 }
 
 // sampleOn evaluates f (a function or a number) at the unknowns of g.

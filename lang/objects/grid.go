@@ -110,12 +110,12 @@ func (g *Grid) describe() string {
 	switch g.Kind {
 	case KindInterval:
 		iv := g.Interval
-		ends := iv.Left.Kind.String()
-		if iv.Left.Kind == grid.Robin {
-			ends = fmt.Sprintf("robin %s·u + %s·u' = 0", value.FormatNum(iv.Left.Alpha), value.FormatNum(iv.Left.Beta))
+		ends := endText(iv.Left) + " ends"
+		if iv.Left != iv.Right {
+			ends = "left end " + endText(iv.Left) + ", right end " + endText(iv.Right)
 		}
-		return fmt.Sprintf("interval [%s, %s], %d points, h = %.6g, %s ends, order %d, %d unknowns",
-			value.FormatNum(iv.A), value.FormatNum(iv.B), iv.N, iv.H, strings.ToLower(ends), g.Order, iv.Size())
+		return fmt.Sprintf("interval [%s, %s], %d points, h = %.6g, %s, order %d, %d unknowns",
+			value.FormatNum(iv.A), value.FormatNum(iv.B), iv.N, iv.H, ends, g.Order, iv.Size())
 	case KindChebyshev:
 		c := g.Cheb
 		return fmt.Sprintf("chebyshev [%s, %s], degree %d, dirichlet ends, %d unknowns", value.FormatNum(c.A), value.FormatNum(c.B), c.N, c.N-1)
@@ -128,6 +128,19 @@ func (g *Grid) String() string {
 		return "grid: " + g.describe() + "\n  x: " + g.X.describe() + "\n  y: " + g.Y.describe()
 	}
 	return "grid: " + g.describe()
+}
+
+// endText names one end's condition in lower case, with the Robin
+// coefficients.
+func endText(e grid.End) string {
+	if e.Kind == grid.Robin {
+		sign, beta := "+", e.Beta
+		if beta < 0 {
+			sign, beta = "−", -beta
+		}
+		return fmt.Sprintf("robin %s·u %s %s·u' = 0", value.FormatNum(e.Alpha), sign, value.FormatNum(beta))
+	}
+	return strings.ToLower(e.Kind.String())
 }
 
 // NewTensor returns the tensor-product grid of two 1-D grids. It panics if
