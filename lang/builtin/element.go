@@ -30,6 +30,40 @@ type elem struct {
 	// cr maps a complex argument to a real result (abs, re, im, arg).
 	cr       func(z complex128) float64
 	examples []Example
+	// onMatrix: the function acts entry-wise on matrices too (re, im,
+	// conj, abs: the parts of a complex matrix).
+	onMatrix bool
+}
+
+// applyMatrix applies e to each entry of a real or complex matrix.
+func (e elem) applyMatrix(v value.Value) (value.Value, error) {
+	var z *value.CMatrix
+	switch t := v.(type) {
+	case *value.Matrix:
+		out := value.NewMatrix(t.Rows, t.Cols)
+		for i, x := range t.Data {
+			y, err := e.real(x)
+			if err != nil {
+				return nil, err
+			}
+			out.Data[i] = y
+		}
+		return out, nil
+	case *value.CMatrix:
+		z = t
+	}
+	if e.cr != nil {
+		out := value.NewMatrix(z.Rows, z.Cols)
+		for i, x := range z.Data {
+			out.Data[i] = e.cr(x)
+		}
+		return out, nil
+	}
+	out := value.NewCMatrix(z.Rows, z.Cols)
+	for i, x := range z.Data {
+		out.Data[i] = e.cx(x)
+	}
+	return out, nil
 }
 
 func always(f func(float64) float64) func(float64) (float64, bool) {
@@ -70,16 +104,20 @@ var elements = []elem{
 	{name: "atan", doc: "Inverse tangent: the angle in (-π/2, π/2) whose tangent is x; principal value for complex z.",
 		re: always(math.Atan), cx: cmplx.Atan, examples: []Example{{"atan(1) * 4", "3.141592654"}}},
 	{name: "abs", doc: "Absolute value |x|; for complex z the modulus √(a² + b²), computed without overflow.",
-		re: always(math.Abs), cr: cmplx.Abs, examples: []Example{{"abs(3 - 4i)", "5"}, {"abs([-1, 2])", "[1, 2]"}}},
+		re: always(math.Abs), cr: cmplx.Abs, onMatrix: true,
+		examples: []Example{{"abs(3 - 4i)", "5"}, {"abs([-1, 2])", "[1, 2]"}}},
 	{name: "re", doc: "Real part: a for z = a + bi; x itself for real x.",
 		re: always(func(x float64) float64 { return x }), cr: func(z complex128) float64 { return real(z) },
-		examples: []Example{{"re(2 + 3i)", "2"}}},
+		onMatrix: true,
+		examples: []Example{{"re(2 + 3i)", "2"}, {"re({1 + 2i, 3 | 0, 1i})", "{1, 3 |\n 0, 0}"}}},
 	{name: "im", doc: "Imaginary part: b for z = a + bi; 0 for real x.",
 		re: always(func(x float64) float64 { return 0 }), cr: func(z complex128) float64 { return imag(z) },
+		onMatrix: true,
 		examples: []Example{{"im(2 + 3i)", "3"}}},
 	{name: "conj", doc: "Complex conjugate a − bi of z = a + bi; x itself for real x.",
 		re: always(func(x float64) float64 { return x }), cx: cmplx.Conj,
-		examples: []Example{{"conj(2 + 3i)", "2-3i"}}},
+		onMatrix: true,
+		examples: []Example{{"conj(2 + 3i)", "2-3i"}, {"conj({1 + 2i, 3 | 0, 1i})", "{1-2i, 3+0i |\n 0+0i, 0-1i}"}}},
 	{name: "arg", doc: "Argument (phase) of z in (-π, π]: atan2(b, a) for z = a + bi; 0 for x ≥ 0 and π for x < 0.",
 		re: always(func(x float64) float64 {
 			if math.Signbit(x) && !math.IsNaN(x) && x != 0 {
@@ -104,8 +142,8 @@ func buildElements() []*Builtin {
 		e := e
 		out = append(out, &Builtin{
 			Name:     e.name,
-			Params:   []value.Param{req("x", "a number, complex number, vector or range")},
-			Doc:      e.doc + " Applies to each entry of a vector.",
+			Params:   []value.Param{req("x", e.paramDoc())},
+			Doc:      e.doc + e.entryDoc(),
 			Examples: e.examples,
 			Impl:     func(c *eval.Call) (value.Value, error) { return e.apply(c.Args[0]) },
 		})
@@ -121,6 +159,20 @@ func buildElements() []*Builtin {
 		Impl: atan2Impl,
 	})
 	return out
+}
+
+func (e elem) paramDoc() string {
+	if e.onMatrix {
+		return "a number, complex number, vector, range or matrix"
+	}
+	return "a number, complex number, vector or range"
+}
+
+func (e elem) entryDoc() string {
+	if e.onMatrix {
+		return " Applies to each entry of a vector or matrix."
+	}
+	return " Applies to each entry of a vector."
 }
 
 func (e elem) scalarErr(x float64) error {
@@ -202,7 +254,10 @@ func (e elem) apply(v value.Value) (value.Value, error) {
 			out[i] = complex128(y.(value.Complex))
 		}
 		return value.ComplexVec(out), nil
-	case *value.Matrix:
+	case *value.Matrix, *value.CMatrix:
+		if e.onMatrix {
+			return e.applyMatrix(t)
+		}
 		return nil, value.TypeErrorf("%s acts on numbers and vectors, not on a matrix; for entries use map(%s, M[i]) on a row", e.name, e.name)
 	}
 	return nil, value.TypeErrorf("%s needs a number or a vector, not %s", e.name, value.TypeName(v))

@@ -122,7 +122,7 @@ var vectorFamily = []*Builtin{
 			req("x", "a vector (real or complex) or a matrix"),
 			opt("p", value.Num(2), "1, 2, inf, or for vectors any real p ≥ 1"),
 		},
-		Doc: "The p-norm. For a vector ‖v‖_p = (Σ_k |v_k|^p)^{1/p}, with ‖v‖_inf = max_k |v_k|; the 2-norm is computed with scaling, so it neither overflows nor underflows needlessly. For a matrix the induced norm: p = 1 the largest column sum of |a_ij|, p = inf the largest row sum, p = 2 the largest singular value σ_max.",
+		Doc: "The p-norm. For a vector ‖v‖_p = (Σ_k |v_k|^p)^{1/p}, with ‖v‖_inf = max_k |v_k|; the 2-norm is computed with scaling, so it neither overflows nor underflows needlessly. For a matrix the induced norm: p = 1 the largest column sum of |a_ij|, p = inf the largest row sum, p = 2 the largest singular value σ_max; for a complex matrix the same with moduli |a_ij|.",
 		Examples: []Example{
 			{"norm([3, 4])", "5"},
 			{"norm([3, -4], p=1)", "7"},
@@ -287,11 +287,15 @@ var vectorFamily = []*Builtin{
 	{
 		Name:   "transpose",
 		Params: []value.Param{req("M", "a matrix")},
-		Doc:    "The transpose Mᵀ, (Mᵀ)_ij = M_ji. Vectors are columns and have no transpose of their own.",
+		Doc:    "The transpose Mᵀ, (Mᵀ)_ij = M_ji, of a real or complex matrix (no conjugation: the conjugate transpose M* is transpose(conj(M))). Vectors are columns and have no transpose of their own.",
 		Examples: []Example{
 			{"transpose({1, 2, 3 | 4, 5, 6})", "{1, 4 |\n 2, 5 |\n 3, 6}"},
+			{"transpose(conj({1, 2i | 0, 3}))", "{1+0i, 0+0i |\n 0-2i, 3+0i}"},
 		},
 		Impl: func(c *eval.Call) (value.Value, error) {
+			if z, ok := c.Args[0].(*value.CMatrix); ok {
+				return z.Transpose(false), nil
+			}
 			m, ok := c.Args[0].(*value.Matrix)
 			if !ok {
 				return nil, value.TypeErrorf("transpose needs a matrix, not %s", value.TypeName(c.Args[0]))
@@ -357,6 +361,9 @@ func normImpl(c *eval.Call) (value.Value, error) {
 	if m, ok := c.Args[0].(*value.Matrix); ok {
 		return matrixNorm(m, p)
 	}
+	if m, ok := c.Args[0].(*value.CMatrix); ok {
+		return complexMatrixNorm(m, p)
+	}
 	re, cx, err := numbers(c, "x", c.Args[0])
 	if err != nil {
 		return nil, err
@@ -398,6 +405,39 @@ func vectorNorm(a []float64, p float64) float64 {
 		return scale * math.Sqrt(s)
 	}
 	return scale * math.Pow(s, 1/p)
+}
+
+// complexMatrixNorm is the induced p-norm of a complex matrix: for p = 1
+// and inf those of the matrix of moduli |m_ij| (the same sums); for p = 2
+// the 2-norm of the realification [[B, −C], [C, B]] of M = B + iC, whose
+// singular values are M's, each twice.
+func complexMatrixNorm(m *value.CMatrix, p float64) (value.Value, error) {
+	if p == 2 {
+		b, cm := m.Parts()
+		return matrixNorm(realify(b, cm), 2)
+	}
+	abs := value.NewMatrix(m.Rows, m.Cols)
+	for i, z := range m.Data {
+		abs.Data[i] = cmplx.Abs(z)
+	}
+	return matrixNorm(abs, p)
+}
+
+// realify returns [[B, −C], [C, B]], the real matrix of B + iC acting on
+// [re x; im x].
+func realify(b, cm *value.Matrix) *value.Matrix {
+	r, c := b.Rows, b.Cols
+	out := value.NewMatrix(2*r, 2*c)
+	for i := 0; i < r; i++ {
+		for j := 0; j < c; j++ {
+			x, y := b.At(i, j), cm.At(i, j)
+			out.Data[i*2*c+j] = x
+			out.Data[i*2*c+c+j] = -y
+			out.Data[(r+i)*2*c+j] = y
+			out.Data[(r+i)*2*c+c+j] = x
+		}
+	}
+	return out
 }
 
 func matrixNorm(m *value.Matrix, p float64) (value.Value, error) {

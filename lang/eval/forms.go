@@ -147,6 +147,8 @@ func (in *Interp) evalWith(sc *scope, e *syntax.WithExpr) (value.Value, error) {
 		return out, in.checkList(sc, e, out)
 	case *value.Matrix:
 		return in.withMatrix(sc, e, t, v)
+	case *value.CMatrix:
+		return in.withMatrix(sc, e, t, v)
 	}
 	return nil, in.errorf(sc, e.X, value.ClassType, "with [i] = value makes an updated copy of a vector, list or matrix, not of a %s", value.TypeName(x))
 }
@@ -213,59 +215,87 @@ func (in *Interp) withVec(sc *scope, e *syntax.WithExpr, t *value.Vec, idx []int
 	return value.ComplexVec(out), nil
 }
 
-// withMatrix replaces M[i, j], a row M[i], or a block M[a .. b, c .. d] by v.
-func (in *Interp) withMatrix(sc *scope, e *syntax.WithExpr, m *value.Matrix, v value.Value) (value.Value, error) {
+// withMatrix replaces M[i, j], a row M[i], or a block M[a .. b, c .. d] by
+// v. mv is a real or complex matrix; the copy is complex when either mv or
+// v is.
+func (in *Interp) withMatrix(sc *scope, e *syntax.WithExpr, mv value.Indexable2, v value.Value) (value.Value, error) {
+	rows, cols := mv.Dims()
 	if len(e.Indices) > 2 {
 		return nil, in.errorf(sc, e, value.ClassIndex, "a matrix takes at most two indices in with [i, j] = value, got %d", len(e.Indices))
 	}
-	ri, _, err := in.indexSpec(sc, e.Indices[0], m.Rows)
+	ri, _, err := in.indexSpec(sc, e.Indices[0], rows)
 	if err != nil {
 		return nil, err
 	}
-	ci := make([]int, m.Cols)
+	ci := make([]int, cols)
 	for j := range ci {
 		ci[j] = j
 	}
 	if len(e.Indices) == 2 {
-		if ci, _, err = in.indexSpec(sc, e.Indices[1], m.Cols); err != nil {
+		if ci, _, err = in.indexSpec(sc, e.Indices[1], cols); err != nil {
 			return nil, err
 		}
 	}
-	if err := in.tick(sc, e, len(m.Data)); err != nil {
+	if err := in.tick(sc, e, rows*cols); err != nil {
 		return nil, err
 	}
-	var src func(a, b int) float64
+	var src func(a, b int) complex128
+	cplx := false
 	switch s := v.(type) {
 	case value.Num:
-		src = func(int, int) float64 { return float64(s) }
-	case *value.Matrix:
-		if s.Rows != len(ri) || s.Cols != len(ci) {
-			return nil, in.errorf(sc, e.Value, value.ClassValue, "the selection is %d×%d, so the new value must be a number or a %d×%d matrix, not %d×%d", len(ri), len(ci), len(ri), len(ci), s.Rows, s.Cols)
+		src = func(int, int) complex128 { return complex(float64(s), 0) }
+	case value.Complex:
+		src, cplx = func(int, int) complex128 { return complex128(s) }, true
+	case *value.Matrix, *value.CMatrix:
+		sm := s.(value.Indexable2)
+		sr, scn := sm.Dims()
+		if sr != len(ri) || scn != len(ci) {
+			return nil, in.errorf(sc, e.Value, value.ClassValue, "the selection is %d×%d, so the new value must be a number or a %d×%d matrix, not %d×%d", len(ri), len(ci), len(ri), len(ci), sr, scn)
 		}
-		src = func(a, b int) float64 { return s.Data[a*s.Cols+b] }
+		if c, ok := s.(*value.CMatrix); ok {
+			src, cplx = func(a, b int) complex128 { return c.Data[a*c.Cols+b] }, true
+		} else {
+			r := s.(*value.Matrix)
+			src = func(a, b int) complex128 { return complex(r.Data[a*r.Cols+b], 0) }
+		}
 	case *value.Vec, *value.Range:
-		var x []float64
+		var x []complex128
 		if r, ok := s.(*value.Range); ok {
-			x = r.Vec().R
-		} else if x = s.(*value.Vec).R; s.(*value.Vec).IsComplex() {
-			return nil, in.errorf(sc, e.Value, value.ClassType, "matrices are real: the new value must be real")
+			x = r.Vec().Complex128()
+		} else {
+			x, cplx = s.(*value.Vec).Complex128(), s.(*value.Vec).IsComplex()
 		}
 		switch {
 		case len(ri) == 1 && len(x) == len(ci):
-			src = func(_, b int) float64 { return x[b] }
+			src = func(_, b int) complex128 { return x[b] }
 		case len(ci) == 1 && len(x) == len(ri):
-			src = func(a, _ int) float64 { return x[a] }
+			src = func(a, _ int) complex128 { return x[a] }
 		default:
 			return nil, in.errorf(sc, e.Value, value.ClassValue, "the selection is %d×%d, so a vector for it must be one of its rows or columns; got a vector of %d", len(ri), len(ci), len(x))
 		}
 	default:
-		return nil, in.errorf(sc, e.Value, value.ClassType, "matrices are real: the new value must be a real number, vector or matrix, not a %s", value.TypeName(v))
+		return nil, in.errorf(sc, e.Value, value.ClassType, "a matrix's entries are numbers: the new value must be a number, vector or matrix, not a %s", value.TypeName(v))
 	}
-	out := value.NewMatrix(m.Rows, m.Cols)
-	copy(out.Data, m.Data)
+	if m, ok := mv.(*value.Matrix); ok && !cplx {
+		out := value.NewMatrix(rows, cols)
+		copy(out.Data, m.Data)
+		for a, i := range ri {
+			for b, j := range ci {
+				out.Data[i*cols+j] = real(src(a, b))
+			}
+		}
+		return out, nil
+	}
+	var out *value.CMatrix
+	switch m := mv.(type) {
+	case *value.Matrix:
+		out = value.Complexify(m)
+	case *value.CMatrix:
+		out = &value.CMatrix{Rows: rows, Cols: cols, Data: append([]complex128(nil), m.Data...)}
+	}
 	for a, i := range ri {
 		for b, j := range ci {
-			out.Data[i*m.Cols+j] = src(a, b)
+			out.Data[i*cols+j] = src(a, b)
 		}
 	}
 	return out, nil

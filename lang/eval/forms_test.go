@@ -79,7 +79,7 @@ func TestFormErrors(t *testing.T) {
 		{"[1, 2, 3] with [0 .. 1] = [1, 2, 3]", value.ClassValue, "1:27", "must be one number or a vector of 2"},
 		{"[1, 2] with [0] = \"s\"", value.ClassType, "1:19", "must be a number or a vector"},
 		{"[1, 2] with [0] = [3, 4]", value.ClassValue, "1:19", "1 entry is selected, so the new value must be one number or a vector of 1, not a vector of 2"},
-		{"{1, 2 | 3, 4} with [0, 0] = 1i", value.ClassType, "1:29", "matrices are real"},
+		{"{1, 2 | 3, 4} with [0, 0] = \"s\"", value.ClassType, "1:29", "a matrix's entries are numbers"},
 		{"{1, 2 | 3, 4} with [0 .. 1, 0 .. 1] = {1, 2}", value.ClassValue, "1:39", "must be a number or a 2×2 matrix"},
 		{"3 with [0] = 1", value.ClassType, "1:1", "vector, list or matrix"},
 		{"x = 3\nx.peak", value.ClassType, "2:3", "has no named parts"},

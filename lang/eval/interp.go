@@ -383,6 +383,7 @@ func (in *Interp) evalMatrix(sc *scope, e *syntax.MatrixLit) (value.Value, error
 	rows := len(e.Rows)
 	cols := len(e.Rows[0])
 	m := value.NewMatrix(rows, cols)
+	var cm *value.CMatrix // set at the first complex entry
 	for i, r := range e.Rows {
 		if len(r) != cols {
 			return nil, in.errorf(sc, e, value.ClassValue, "matrix row %d has %d entries but row 1 has %d", i+1, len(r), cols)
@@ -392,12 +393,25 @@ func (in *Interp) evalMatrix(sc *scope, e *syntax.MatrixLit) (value.Value, error
 			if err != nil {
 				return nil, err
 			}
-			n, ok := v.(value.Num)
-			if !ok {
-				return nil, in.errorf(sc, x, value.ClassType, "matrix entries must be real numbers; entry (%d, %d) is of type %s", i, j, value.TypeName(v))
+			switch n := v.(type) {
+			case value.Num:
+				if cm != nil {
+					cm.Data[i*cols+j] = complex(float64(n), 0)
+				} else {
+					m.Data[i*cols+j] = float64(n)
+				}
+			case value.Complex:
+				if cm == nil {
+					cm = value.Complexify(m)
+				}
+				cm.Data[i*cols+j] = complex128(n)
+			default:
+				return nil, in.errorf(sc, x, value.ClassType, "matrix entries must be numbers (real or complex); entry (%d, %d) is of type %s", i, j, value.TypeName(v))
 			}
-			m.Data[i*cols+j] = float64(n)
 		}
+	}
+	if cm != nil {
+		return cm, nil
 	}
 	return m, nil
 }
@@ -428,6 +442,8 @@ func (in *Interp) chargeResult(sc *scope, at syntax.Node, r value.Value) error {
 		return in.tick(sc, at, t.Len())
 	case *value.Matrix:
 		return in.tick(sc, at, len(t.Data))
+	case *value.CMatrix:
+		return in.tick(sc, at, 4*len(t.Data))
 	case value.Str:
 		if len(t) > in.Limits.MaxElements {
 			return in.errorf(sc, at, value.ClassValue, "string of %d bytes, more than the limit of %d", len(t), in.Limits.MaxElements)
@@ -466,8 +482,9 @@ func (in *Interp) evalBinary(sc *scope, e *syntax.BinaryExpr) (value.Value, erro
 	if err != nil {
 		return nil, err
 	}
-	if a, ok := x.(*value.Matrix); ok {
-		if err := in.chargeMatrix(sc, e, e.Op, a, y); err != nil {
+	switch a := x.(type) {
+	case *value.Matrix, *value.CMatrix:
+		if err := in.chargeMatrix(sc, e, e.Op, a.(value.Indexable2), y); err != nil {
 			return nil, err
 		}
 	}
@@ -480,21 +497,34 @@ func (in *Interp) evalBinary(sc *scope, e *syntax.BinaryExpr) (value.Value, erro
 
 // chargeMatrix checks the size and charges the work of a matrix product or
 // power before it is computed.
-func (in *Interp) chargeMatrix(sc *scope, e syntax.Node, op syntax.Token, a *value.Matrix, y value.Value) error {
+func (in *Interp) chargeMatrix(sc *scope, e syntax.Node, op syntax.Token, a value.Indexable2, y value.Value) error {
 	var work float64
+	ar, ac := a.Dims()
+	_, cplx := a.(*value.CMatrix)
+	if _, ok := y.(*value.CMatrix); ok {
+		cplx = true
+	}
 	switch b := y.(type) {
-	case *value.Matrix:
-		if op == syntax.MUL && a.Cols == b.Rows {
-			if err := in.checkSize(float64(a.Rows)*float64(b.Cols), "the matrix product"); err != nil {
+	case *value.Matrix, *value.CMatrix:
+		br, bc := b.(value.Indexable2).Dims()
+		if op == syntax.MUL && ac == br {
+			if err := in.checkSize(float64(ar)*float64(bc), "the matrix product"); err != nil {
 				return in.wrap(sc, e, err)
 			}
-			work = float64(a.Rows) * float64(a.Cols) * float64(b.Cols)
+			work = float64(ar) * float64(ac) * float64(bc)
 		}
-	case value.Num:
-		if op == syntax.POW && float64(b) >= 1 {
-			n := float64(a.Rows)
-			work = n * n * n * 2 * math.Ceil(math.Log2(float64(b)+1))
+	case value.Num, value.Complex:
+		k, _ := b.(value.Num)
+		if z, ok := b.(value.Complex); ok {
+			k = value.Num(real(z))
 		}
+		if op == syntax.POW && float64(k) >= 1 && ar == ac {
+			n := float64(ar)
+			work = n * n * n * 2 * math.Ceil(math.Log2(float64(k)+1))
+		}
+	}
+	if cplx {
+		work *= 4 // a complex multiply-add is four real ones
 	}
 	if work > 0 {
 		if work > 1e15 {

@@ -18,7 +18,8 @@ import (
 //     lengths.
 //   - M * N is the matrix product, M * v the matrix–vector product, M ± N
 //     needs equal shapes, c*M, M*c and M/c scale, M^k (integer k ≥ 0) is a
-//     power. Matrices are real.
+//     power. A matrix with a complex entry is a CMatrix; a real matrix
+//     with a complex number or a CMatrix gives a CMatrix (cmatrixOp).
 //   - Division by zero (x/0, x%0, 0^negative) is a "bad value" error, also inside
 //     vectors (the message names the index). Overflow follows IEEE 754 and
 //     gives inf; nan and inf operands propagate.
@@ -42,6 +43,9 @@ func Binary(op syntax.Token, x, y Value) (Value, error) {
 	}
 	if r, ok := y.(*Range); ok {
 		y = r.Vec()
+	}
+	if complexMatrixOperands(x, y) {
+		return cmatrixOp(op, x, y)
 	}
 	switch a := x.(type) {
 	case Num:
@@ -124,6 +128,11 @@ func Unary(op syntax.Token, x Value) (Value, error) {
 		}
 		return vecOp(syntax.MUL, Num(-1), a)
 	case *Matrix:
+		if !neg {
+			return a, nil
+		}
+		return a.scale(-1), nil
+	case *CMatrix:
 		if !neg {
 			return a, nil
 		}
@@ -474,7 +483,7 @@ func compare(op syntax.Token, x, y Value) (Value, error) {
 func cmpTypeError(op syntax.Token, x, y Value) error {
 	for _, v := range []Value{x, y} {
 		switch v.(type) {
-		case *Vec, *Range, *Matrix, List:
+		case *Vec, *Range, *Matrix, *CMatrix, List:
 			return TypeErrorf("comparison %s needs scalars, got %s and %s; compare entries, e.g. v[0] %s 1, or use min, max or norm",
 				op, TypeName(x), TypeName(y), op)
 		}

@@ -199,6 +199,8 @@ func TypeName(v Value) string {
 		return "vector"
 	case *Matrix:
 		return "matrix"
+	case *CMatrix:
+		return "complex matrix"
 	}
 	return v.Type()
 }

@@ -203,11 +203,17 @@ func (m *Matrix) Index(i int) Value {
 // Matrices with more than MaxShown rows or columns show the first and last
 // few, with ... between them.
 func (m *Matrix) String() string {
-	if m.Rows == 0 || m.Cols == 0 {
-		return fmt.Sprintf("{} (%d×%d)", m.Rows, m.Cols)
+	return formatGrid(m.Rows, m.Cols, func(i, j int) string { return FormatNum(m.At(i, j)) })
+}
+
+// formatGrid lays out a rows×cols matrix in literal syntax, cell(i, j)
+// giving the text of entry (i, j); see Matrix.String.
+func formatGrid(rows, cols int, cell func(i, j int) string) string {
+	if rows == 0 || cols == 0 {
+		return fmt.Sprintf("{} (%d×%d)", rows, cols)
 	}
-	ri := shownIndices(m.Rows)
-	ci := shownIndices(m.Cols)
+	ri := shownIndices(rows)
+	ci := shownIndices(cols)
 	cells := make([][]string, len(ri))
 	width := make([]int, len(ci))
 	for a, i := range ri {
@@ -215,7 +221,7 @@ func (m *Matrix) String() string {
 		for b, j := range ci {
 			s := "..."
 			if i >= 0 && j >= 0 {
-				s = FormatNum(m.At(i, j))
+				s = cell(i, j)
 			} else if i < 0 && j >= 0 {
 				s = ":"
 			}
@@ -240,8 +246,8 @@ func (m *Matrix) String() string {
 		}
 	}
 	sb.WriteByte('}')
-	if len(ri) < m.Rows || len(ci) < m.Cols {
-		fmt.Fprintf(&sb, " (%d×%d)", m.Rows, m.Cols)
+	if len(ri) < rows || len(ci) < cols {
+		fmt.Fprintf(&sb, " (%d×%d)", rows, cols)
 	}
 	return sb.String()
 }
