@@ -1,0 +1,389 @@
+package expo
+
+import (
+	"context"
+	"encoding/json"
+	"errors"
+	"math"
+	"os"
+	"path/filepath"
+	"testing"
+	"time"
+
+	"gonum.org/v1/gonum/mat"
+
+	"semiflow/numerics/linop"
+)
+
+func dense2(a, b, c, d float64) *linop.Dense {
+	return linop.NewDense(mat.NewDense(2, 2, []float64{a, b, c, d}))
+}
+
+// exp2x2 is the closed form of the exponential of a real 2×2 matrix M:
+// with m = tr M/2 and D = M − mI (traceless, D² = −det(D)·I),
+// e^M = e^m (cosh s·I + (sinh s/s)·D), s² = −det D; for s² < 0 the cosh and
+// sinh become cos and sin of |s|.
+func exp2x2(M [4]float64) [4]float64 {
+	m := (M[0] + M[3]) / 2
+	D := [4]float64{M[0] - m, M[1], M[2], M[3] - m}
+	s2 := -(D[0]*D[3] - D[1]*D[2])
+	var c, sh float64
+	switch {
+	case s2 > 0:
+		s := math.Sqrt(s2)
+		c, sh = math.Cosh(s), math.Sinh(s)/s
+	case s2 < 0:
+		s := math.Sqrt(-s2)
+		c, sh = math.Cos(s), math.Sin(s)/s
+	default:
+		c, sh = 1, 1
+	}
+	e := math.Exp(m)
+	return [4]float64{e * (c + sh*D[0]), e * sh * D[1], e * sh * D[2], e * (c + sh*D[3])}
+}
+
+func mul2(M [4]float64, v []float64) []float64 {
+	return []float64{M[0]*v[0] + M[1]*v[1], M[2]*v[0] + M[3]*v[1]}
+}
+
+// checkMagnus asserts checkContract (etd_test.go) against a closed form
+// of t, and that the tolerance was met.
+func checkMagnus(t *testing.T, sol *Solution, exact func(float64) []float64, scale float64) {
+	t.Helper()
+	checkContract(t, t.Name(), sol, func(i int) []float64 { return exact(sol.Times[i]) }, scale)
+	if !sol.TolMet {
+		t.Errorf("tolerance not met: %s", sol.Shortfall)
+	}
+}
+
+func TestMagnusScalarAndDiagonal(t *testing.T) {
+	times := []float64{0.5, 1.5, 3}
+	t.Run("scalar", func(t *testing.T) {
+		// u' = (cos t − 1/2)u: u = u0·exp(sin t − t/2) (closed form).
+		at := func(s float64) (linop.Operator, error) {
+			return linop.NewDense(mat.NewDense(1, 1, []float64{math.Cos(s) - 0.5})), nil
+		}
+		sol, st, err := PropagateMagnus(context.Background(), at, []float64{2}, times, StepControl{}, Options{Tol: 1e-9})
+		if err != nil {
+			t.Fatal(err)
+		}
+		checkMagnus(t, sol, func(s float64) []float64 { return []float64{2 * math.Exp(math.Sin(s)-s/2)} }, 2)
+		t.Logf("%s; %d exponentials", sol.Reason, st.Exponentials)
+	})
+	t.Run("diagonal", func(t *testing.T) {
+		// u_1' = (−1 + sin 2t)u_1, u_2' = −t u_2: u_1 = exp(−t + (1 − cos 2t)/2),
+		// u_2 = exp(−t²/2) (closed form).
+		at := func(s float64) (linop.Operator, error) {
+			return &linop.Diag{D: []float64{-1 + math.Sin(2*s), -s}}, nil
+		}
+		sol, _, err := PropagateMagnus(context.Background(), at, []float64{1, 1}, times, StepControl{}, Options{Tol: 1e-10})
+		if err != nil {
+			t.Fatal(err)
+		}
+		checkMagnus(t, sol, func(s float64) []float64 {
+			return []float64{math.Exp(-s + (1-math.Cos(2*s))/2), math.Exp(-s * s / 2)}
+		}, 1)
+	})
+}
+
+// rotatingFrame is A(t) = R(ωt) B R(ωt)ᵀ with R(θ) = e^{θJ}, J = {0, −1 | 1, 0}:
+// v = R(ωt)ᵀu solves v' = (B − ωJ)v, so u(t) = R(ωt) e^{t(B − ωJ)} u0
+// (closed form; the values A(t) do not commute).
+type rotatingFrame struct {
+	B [4]float64
+	w float64
+}
+
+func rot(th float64) [4]float64 {
+	return [4]float64{math.Cos(th), -math.Sin(th), math.Sin(th), math.Cos(th)}
+}
+
+func mul22(X, Y [4]float64) [4]float64 {
+	return [4]float64{X[0]*Y[0] + X[1]*Y[2], X[0]*Y[1] + X[1]*Y[3], X[2]*Y[0] + X[3]*Y[2], X[2]*Y[1] + X[3]*Y[3]}
+}
+
+func (r rotatingFrame) at(s float64) (linop.Operator, error) {
+	R := rot(r.w * s)
+	Rt := [4]float64{R[0], R[2], R[1], R[3]}
+	M := mul22(mul22(R, r.B), Rt)
+	return dense2(M[0], M[1], M[2], M[3]), nil
+}
+
+func (r rotatingFrame) exact(u0 []float64) func(float64) []float64 {
+	return func(s float64) []float64 {
+		M := [4]float64{s * r.B[0], s * (r.B[1] + r.w), s * (r.B[2] - r.w), s * r.B[3]}
+		return mul2(rot(r.w*s), mul2(exp2x2(M), u0))
+	}
+}
+
+func TestMagnusTwoByTwo(t *testing.T) {
+	u0 := []float64{1, -0.5}
+	times := []float64{0.25, 1, 2.5}
+	t.Run("commuting", func(t *testing.T) {
+		// A(t) = (1 + t²)N, N = {−0.1, 1 | −1, −0.1}: u(t) = e^{θN}u0 with
+		// θ = t + t³/3 and e^{θN} = e^{−0.1θ}{cos θ, sin θ | −sin θ, cos θ}
+		// (closed form).
+		N := dense2(-0.1, 1, -1, -0.1)
+		at := func(s float64) (linop.Operator, error) { return &linop.Scaled{Alpha: 1 + s*s, A: N}, nil }
+		sol, _, err := PropagateMagnus(context.Background(), at, u0, times, StepControl{}, Options{Tol: 1e-10})
+		if err != nil {
+			t.Fatal(err)
+		}
+		checkMagnus(t, sol, func(s float64) []float64 {
+			th := s + s*s*s/3
+			e := math.Exp(-0.1 * th)
+			return mul2([4]float64{e * math.Cos(th), e * math.Sin(th), -e * math.Sin(th), e * math.Cos(th)}, u0)
+		}, 1)
+	})
+	t.Run("rotating frame", func(t *testing.T) {
+		r := rotatingFrame{B: [4]float64{-1, 2, 0, -0.3}, w: 1.5}
+		sol, st, err := PropagateMagnus(context.Background(), r.at, u0, times, StepControl{}, Options{Tol: 1e-10})
+		if err != nil {
+			t.Fatal(err)
+		}
+		checkMagnus(t, sol, r.exact(u0), 1)
+		t.Logf("%s; accepted %d rejected %d", sol.Reason, st.Accepted, st.Rejected)
+	})
+}
+
+func TestMagnusOrder(t *testing.T) {
+	// Observed order on the rotating frame (closed form above): the error
+	// at T = 2 with 8, 16, 32, 64 fixed steps falls by 2⁴ = 16 per halving.
+	r := rotatingFrame{B: [4]float64{-1, 2, 0, -0.3}, w: 1.5}
+	u0 := []float64{1, -0.5}
+	want := r.exact(u0)(2)
+	var errs []float64
+	for _, steps := range []int{8, 16, 32, 64} {
+		sol, _, err := PropagateMagnus(context.Background(), r.at, u0, []float64{2}, StepControl{Steps: steps}, Options{Tol: 1e-12, Method: MethodDense})
+		if err != nil {
+			t.Fatal(err)
+		}
+		errs = append(errs, maxAbsDiff(sol.Values[0], want))
+	}
+	for k := 1; k < len(errs); k++ {
+		p := math.Log2(errs[k-1] / errs[k])
+		t.Logf("steps %d → %d: error %.3g → %.3g, observed order %.2f", 8<<(k-1), 8<<k, errs[k-1], errs[k], p)
+		if p < 3.7 || p > 4.5 {
+			t.Errorf("observed order %.2f, want 4", p)
+		}
+	}
+}
+
+// heatLaplacian is tridiag(1, −2, 1)/h² on n interior points of (0, 1).
+func heatLaplacian(n int) (*linop.CSR, []float64) {
+	h := 1 / float64(n+1)
+	var is, js []int
+	var vs []float64
+	x := make([]float64, n)
+	for i := 0; i < n; i++ {
+		x[i] = float64(i+1) * h
+		is, js, vs = append(is, i), append(js, i), append(vs, -2/(h*h))
+		if i > 0 {
+			is, js, vs = append(is, i), append(js, i-1), append(vs, 1/(h*h))
+		}
+		if i < n-1 {
+			is, js, vs = append(is, i), append(js, i+1), append(vs, 1/(h*h))
+		}
+	}
+	return linop.NewCSRFromTriplets(n, n, is, js, vs), x
+}
+
+func TestMagnusHeatVaryingDiffusivity(t *testing.T) {
+	// u' = D(t)Lu, D(t) = 1 + 0.5 sin(2πt), L the second difference on
+	// n = 60 interior points: sin(kπx_j) is an eigenvector of L with
+	// λ_k = −(4/h²) sin²(kπh/2) (closed form), so the mode amplitudes are
+	// c_k·exp(λ_k ∫₀ᵗ D), ∫₀ᵗ D = t + (1 − cos 2πt)/(4π).
+	n := 60
+	L, x := heatLaplacian(n)
+	h := 1 / float64(n+1)
+	D := func(s float64) float64 { return 1 + 0.5*math.Sin(2*math.Pi*s) }
+	intD := func(s float64) float64 { return s + (1-math.Cos(2*math.Pi*s))/(4*math.Pi) }
+	modes := []struct {
+		k int
+		c float64
+	}{{1, 1}, {3, 0.5}, {7, 0.2}}
+	u0 := make([]float64, n)
+	for _, m := range modes {
+		for j := range u0 {
+			u0[j] += m.c * math.Sin(float64(m.k)*math.Pi*x[j])
+		}
+	}
+	exact := func(s float64) []float64 {
+		u := make([]float64, n)
+		for _, m := range modes {
+			sk := math.Sin(float64(m.k) * math.Pi * h / 2)
+			amp := m.c * math.Exp(-4/(h*h)*sk*sk*intD(s))
+			for j := range u {
+				u[j] += amp * math.Sin(float64(m.k)*math.Pi*x[j])
+			}
+		}
+		return u
+	}
+	at := func(s float64) (linop.Operator, error) { return &linop.Scaled{Alpha: D(s), A: L}, nil }
+	sol, _, err := PropagateMagnus(context.Background(), at, u0, []float64{0.01, 0.05, 0.2}, StepControl{}, Options{Tol: 1e-8})
+	if err != nil {
+		t.Fatal(err)
+	}
+	checkMagnus(t, sol, exact, normInf(u0))
+	t.Log(sol.Reason)
+}
+
+// magnusRef is testdata/expo/magnus_ref.json, written by
+// testdata/expo/make_magnus_ref.py: scipy's solve_ivp (DOP853 and Radau,
+// rtol 1e-12, atol 1e-14) on a drift–diffusion problem with a drift that
+// reverses direction.
+type magnusRef struct {
+	Cases map[string]struct {
+		N      int         `json:"n"`
+		Nu     float64     `json:"nu"`
+		U0     []float64   `json:"u0"`
+		Times  []float64   `json:"times"`
+		Values [][]float64 `json:"values"`
+		Spread float64     `json:"spread"`
+	} `json:"cases"`
+}
+
+func TestMagnusAgainstScipy(t *testing.T) {
+	b, err := os.ReadFile(filepath.Join("..", "..", "testdata", "expo", "magnus_ref.json"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	var ref magnusRef
+	if err := json.Unmarshal(b, &ref); err != nil {
+		t.Fatal(err)
+	}
+	c := ref.Cases["drift_diffusion"]
+	n := c.N
+	L, x := heatLaplacian(n)
+	h := 1 / float64(n+1)
+	var is, js []int
+	var vs []float64
+	for i := 0; i < n; i++ {
+		if i > 0 {
+			is, js, vs = append(is, i), append(js, i-1), append(vs, -1/(2*h))
+		}
+		if i < n-1 {
+			is, js, vs = append(is, i), append(js, i+1), append(vs, 1/(2*h))
+		}
+	}
+	G := linop.NewCSRFromTriplets(n, n, is, js, vs)
+	at := func(s float64) (linop.Operator, error) {
+		d := make([]float64, n)
+		for i := range d {
+			d[i] = -(0.5 + 0.5*math.Sin(s)) * x[i]
+		}
+		return &linop.Sum{Terms: []linop.Operator{&linop.Scaled{Alpha: c.Nu, A: L}, &linop.Scaled{Alpha: math.Cos(2 * s), A: G}, &linop.Diag{D: d}}}, nil
+	}
+	sol, st, err := PropagateMagnus(context.Background(), at, c.U0, c.Times, StepControl{}, Options{Tol: 1e-9})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if !sol.TolMet {
+		t.Errorf("tolerance not met: %s", sol.Shortfall)
+	}
+	for i, tt := range c.Times {
+		e := maxAbsDiff(sol.Values[i], c.Values[i])
+		// The reference's own error: its DOP853–Radau spread, at least 1e-11.
+		refErr := math.Max(c.Spread, 1e-11)
+		if e > sol.ErrEst[i]+refErr {
+			t.Errorf("t = %g: difference from scipy %.3g exceeds the estimate %.3g + the reference's error %.3g", tt, e, sol.ErrEst[i], refErr)
+		}
+		if e > sol.Tol*normInf(c.U0)+refErr {
+			t.Errorf("t = %g: difference from scipy %.3g exceeds tol", tt, e)
+		}
+		t.Logf("t = %g: |Magnus − scipy| = %.3g, estimate %.3g", tt, e, sol.ErrEst[i])
+	}
+	t.Logf("%s; %d exponentials", sol.Reason, st.Exponentials)
+}
+
+func TestMagnusSwitchesAndPiecewise(t *testing.T) {
+	// A = A0 = {−1, 1 | 0, −2} on [0, 1), A1 = {0, 1 | −1, 0} after: for
+	// t ≥ 1, u(t) = e^{(t−1)A1} e^{A0} u0, with e^{sA0} = {e^{−s}, e^{−s} − e^{−2s}
+	// | 0, e^{−2s}} and e^{sA1} the rotation {cos s, sin s | −sin s, cos s}
+	// (closed forms).
+	A0, A1 := dense2(-1, 1, 0, -2), dense2(0, 1, -1, 0)
+	u0 := []float64{1, 2}
+	exact := func(s float64) []float64 {
+		e0 := func(s float64) [4]float64 {
+			return [4]float64{math.Exp(-s), math.Exp(-s) - math.Exp(-2*s), 0, math.Exp(-2 * s)}
+		}
+		if s < 1 {
+			return mul2(e0(s), u0)
+		}
+		r := s - 1
+		return mul2([4]float64{math.Cos(r), math.Sin(r), -math.Sin(r), math.Cos(r)}, mul2(e0(1), u0))
+	}
+	times := []float64{0.5, 1, 2, 4}
+	t.Run("piecewise", func(t *testing.T) {
+		sol, err := PropagatePiecewise(context.Background(), []linop.Operator{A0, A1}, []float64{1}, u0, times, Options{Tol: 1e-10})
+		if err != nil {
+			t.Fatal(err)
+		}
+		checkMagnus(t, sol, exact, 2)
+		t.Log(sol.Reason)
+	})
+	t.Run("magnus with a switch", func(t *testing.T) {
+		at := func(s float64) (linop.Operator, error) {
+			if s < 1 {
+				return A0, nil
+			}
+			return A1, nil
+		}
+		sol, st, err := PropagateMagnus(context.Background(), at, u0, times, StepControl{Breaks: []float64{1}}, Options{Tol: 1e-10})
+		if err != nil {
+			t.Fatal(err)
+		}
+		checkMagnus(t, sol, exact, 2)
+		// Constant on each piece: the step is e^{hA} exactly, so few steps.
+		if st.Accepted > 40 {
+			t.Errorf("%d steps for a piecewise-constant A", st.Accepted)
+		}
+	})
+	t.Run("bad switches", func(t *testing.T) {
+		if _, err := PropagatePiecewise(context.Background(), []linop.Operator{A0, A1}, []float64{1, 2}, u0, times, Options{}); err == nil {
+			t.Error("two switches for two operators accepted")
+		}
+		if _, err := PropagatePiecewise(context.Background(), []linop.Operator{A0, A1, A0}, []float64{2, 1}, u0, times, Options{}); err == nil {
+			t.Error("decreasing switches accepted")
+		}
+	})
+}
+
+func TestMagnusErrors(t *testing.T) {
+	t.Run("wrong size", func(t *testing.T) {
+		at := func(s float64) (linop.Operator, error) {
+			if s > 0.5 {
+				return &linop.Diag{D: []float64{-1, -1, -1}}, nil
+			}
+			return &linop.Diag{D: []float64{-1, -1}}, nil
+		}
+		_, _, err := PropagateMagnus(context.Background(), at, []float64{1, 1}, []float64{1}, StepControl{}, Options{})
+		if !errors.Is(err, ErrOperatorSize) {
+			t.Fatalf("got %v, want ErrOperatorSize", err)
+		}
+		t.Log(err)
+	})
+	t.Run("interrupt", func(t *testing.T) {
+		// A long integration (rapid oscillation at a tight tolerance)
+		// stops within 0.5 s of the cancellation.
+		n := 200
+		L, _ := heatLaplacian(n)
+		at := func(s float64) (linop.Operator, error) {
+			return &linop.Scaled{Alpha: 1 + 0.9*math.Sin(200*s), A: L}, nil
+		}
+		u0 := make([]float64, n)
+		for i := range u0 {
+			u0[i] = 1
+		}
+		ctx, cancel := context.WithCancel(context.Background())
+		time.AfterFunc(100*time.Millisecond, cancel)
+		start := time.Now()
+		_, _, err := PropagateMagnus(ctx, at, u0, []float64{100}, StepControl{}, Options{Tol: 1e-12})
+		if el := time.Since(start); el > 600*time.Millisecond {
+			t.Errorf("returned %v after the cancellation", el-100*time.Millisecond)
+		}
+		if !errors.Is(err, context.Canceled) {
+			t.Errorf("got %v, want context.Canceled", err)
+		}
+	})
+}
