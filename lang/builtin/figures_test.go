@@ -10,12 +10,15 @@ import (
 	"fmt"
 	"image/png"
 	"io"
+	"math"
 	"os"
 	"path/filepath"
 	"slices"
+	"strconv"
 	"strings"
 	"testing"
 
+	"semiflow/lang/plot"
 	"semiflow/lang/run"
 )
 
@@ -185,12 +188,12 @@ func TestFigureWords(t *testing.T) {
 	for _, c := range []struct{ code, want string }{
 		{`spectrum({-1, 5 | 0, -2})`, "<title>Eigenvalues of the 2 × 2 matrix</title>"},
 		{`growth({-1, 5 | 0, -2}, weight=[1, 4], bounds="none")`, "‖exp(tA)‖_W (weighted norm)"},
-		// The default levels 1e−1, 1e−2, 1e−3 of a 2 × 2 matrix: the two
+		// Levels 1e−1, 1e−2, 1e−3 given for a 2 × 2 matrix: the two
 		// smaller ones ring each eigenvalue in a few px (radius about ε·κ),
 		// hidden under its marker, so the legend lists 1e−1 only and the
 		// note says why.
-		{`pseudospectrum({-1, 5 | 0, -2})`, ">ε = 1e−1</text>"},
-		{`pseudospectrum({-1, 5 | 0, -2})`, "ε = 1e−2, ε = 1e−3: too small to see or outside the plot, not in the legend"},
+		{`pseudospectrum({-1, 5 | 0, -2}, levels=[0.1, 0.01, 0.001])`, ">ε = 1e−1</text>"},
+		{`pseudospectrum({-1, 5 | 0, -2}, levels=[0.1, 0.01, 0.001])`, "ε = 1e−2, ε = 1e−3: too small to see or outside the plot, not in the legend"},
 	} {
 		data, _, err := s.Execute(context.Background(), c.code, nil)
 		if err != nil {
@@ -238,6 +241,70 @@ func TestPicture(t *testing.T) {
 	} {
 		if _, _, err := s.Execute(context.Background(), c.code, nil); err == nil || !strings.Contains(err.Error(), c.want) {
 			t.Errorf("%s: error %v, want %q", c.code, err, c.want)
+		}
+	}
+}
+
+// TestPseudospectrumDefaultLevels checks that the levels a pseudospectrum
+// chooses by itself are all drawn: each level of the table has its legend
+// entry, none is named as too small to see, and each closes inside the
+// region. For the normal matrix diag(−1, −2), σ_min(zI − A) = min |z − λ|
+// (closed form), so α_ε = −1 + ε for every ε below the distance to the edge.
+func TestPseudospectrumDefaultLevels(t *testing.T) {
+	s := run.NewSession()
+	for _, c := range []struct {
+		code   string
+		normal bool
+	}{
+		{`pseudospectrum({-1, 5 | 0, -2})`, false},
+		{`pseudospectrum({-1, 0 | 0, -2})`, true},
+		{`pseudospectrum({0, 1 | 0, 0})`, false},
+		{`pseudospectrum({-1, 100 | 0, -1.5})`, false},
+		{`pseudospectrum({-1, 1, 1, 1 | 0, -1, 1, 1 | 0, 0, -1, 1 | 0, 0, 0, -1})`, false},
+	} {
+		data, _, err := s.Execute(context.Background(), "p = "+c.code+"\np", nil)
+		if err != nil {
+			t.Fatalf("%s: %v", c.code, err)
+		}
+		svg, _ := data["image/svg+xml"].(string)
+		if strings.Contains(svg, "too small to see") {
+			t.Errorf("%s: a chosen level is not drawn", c.code)
+		}
+		v, _, err := s.Execute(context.Background(), "p.levels", nil)
+		if err != nil {
+			t.Fatal(err)
+		}
+		levels := strings.Split(strings.Trim(v["text/plain"].(string), "[]"), ", ")
+		if len(levels) < 2 || len(levels) > 4 { // psMaxLevels
+			t.Errorf("%s: %d levels chosen (%v); want 2 to 4", c.code, len(levels), levels)
+		}
+		var eps []float64
+		for _, l := range levels {
+			e, err := strconv.ParseFloat(l, 64)
+			if err != nil {
+				t.Fatalf("%s: level %q: %v", c.code, l, err)
+			}
+			eps = append(eps, e)
+		}
+		names := plot.FormatLevels(eps)
+		for _, n := range names {
+			if !strings.Contains(svg, ">ε = "+n+"</text>") {
+				t.Errorf("%s: the legend lacks ε = %s", c.code, n)
+			}
+		}
+		if !c.normal {
+			continue
+		}
+		a, _, err := s.Execute(context.Background(), "p.abscissae", nil)
+		if err != nil {
+			t.Fatal(err)
+		}
+		got := strings.Split(strings.Trim(a["text/plain"].(string), "[]"), ", ")
+		for k, e := range eps {
+			x, _ := strconv.ParseFloat(got[k], 64)
+			if math.Abs(x-(-1+e)) > 1e-6 {
+				t.Errorf("%s: α_ε at ε = %g is %g; closed form −1 + ε = %g", c.code, e, x, -1+e)
+			}
 		}
 	}
 }

@@ -95,7 +95,7 @@ var stabilityFamily = []*Builtin{
 			req("A", "an operator or a square matrix"),
 			opt("re", value.None, "the interval [a, b] of Re z; none: the numerical range's extent widened by the largest level"),
 			opt("im", value.None, "the interval [c, d] of Im z; none: as for re"),
-			opt("levels", value.List{value.Num(1e-1), value.Num(1e-2), value.Num(1e-3)}, "the levels ε > 0 of the contour lines"),
+			opt("levels", value.None, "the levels ε > 0 of the contour lines; none: up to four levels chosen from the computed σ_min, from 1, 2, 5 × 10ᵏ (powers of ten first), each closed inside the region and large enough to be seen in the figure"),
 			opt("n", value.None, "grid points along each side, 2 ≤ n ≤ 400; none: 80, or fewer (at least 10) where 80 × 80 points would exceed the interactive work budget (dense operators of order above about 100)"),
 			opt("abscissae", value.Str("auto"), `how to find α_ε (order ≤ 1500): "exact" (the boundary search, however long it takes), "grid" (the rightmost grid point in σ_ε: a lower estimate, one grid step accurate), or "auto": the boundary search within the interactive work budget (a share per level), the grid estimate for a level that would need more`),
 		},
@@ -828,11 +828,14 @@ func pseudospectrumImpl(c *eval.Call) (value.Value, error) {
 	if err != nil {
 		return nil, err
 	}
-	levels, err := stabListArg(c, 3, "pseudospectrum: levels must hold at least one ε > 0",
-		func(e float64) bool { return e > 0 }, "pseudospectrum: every level ε must be positive, not %s")
-	if err != nil {
-		return nil, err
+	var levels []float64 // nil: chosen from the data once the grid is known
+	if lv, _ := c.Arg(3); lv != value.None {
+		if levels, err = stabListArg(c, 3, "pseudospectrum: levels must hold at least one ε > 0",
+			func(e float64) bool { return e > 0 }, "pseudospectrum: every level ε must be positive, not %s"); err != nil {
+			return nil, err
+		}
 	}
+	autoLevels := levels == nil
 	m, gridNote := stabDefaultGrid, ""
 	if nv, _ := c.Arg(4); nv != value.None {
 		if m, err = stabCountArg(c, 4, 2, 400); err != nil {
@@ -864,6 +867,9 @@ func pseudospectrumImpl(c *eval.Call) (value.Value, error) {
 		}
 		lo, hi, blo, bhi := -nr.Support[2], nr.Support[0], -nr.Support[3], nr.Support[1]
 		pad := 0.0
+		if autoLevels {
+			pad = psAutoPad
+		}
 		for _, l := range levels {
 			pad = math.Max(pad, l)
 		}
@@ -881,11 +887,21 @@ func pseudospectrumImpl(c *eval.Call) (value.Value, error) {
 	reg := spectra.Region{Re0: re0, Re1: re1, Im0: im0, Im1: im1, NRe: m, NIm: m}
 	opts := &spectra.GridOptions{Levels: levels, Progress: stabProgress(c)}
 	var ps *spectra.Pseudospectra
-	alpha := make([]float64, len(levels))
-	pts := make([]complex128, len(levels))
-	how := ""
+	var alpha []float64
+	var pts []complex128
+	how, levelNote := "", ""
 	var onGrid []string // levels whose α_ε is the grid estimate in "auto"
-	budget := spectra.InteractiveWork / float64(len(levels))
+	var budget float64
+	// pick sets the levels (chosen from the grid when none were given)
+	// and the room for their abscissae.
+	pick := func() {
+		if autoLevels {
+			levels, levelNote = psChooseLevels(op.Label, n, ps)
+			ps.SetLevels(levels)
+		}
+		alpha, pts = make([]float64, len(levels)), make([]complex128, len(levels))
+		budget = spectra.InteractiveWork / float64(len(levels))
+	}
 	err = stabGuard(c, func() (e error) {
 		if dense {
 			s, e := spectra.NewSchurContext(c.Ctx, op.Op)
@@ -895,6 +911,7 @@ func pseudospectrumImpl(c *eval.Call) (value.Value, error) {
 			if ps, e = s.Pseudo(c.Ctx, reg, opts); e != nil {
 				return e
 			}
+			pick()
 			stabGridAbscissae(ps, levels, alpha, pts)
 			if absc == "grid" {
 				how = "rightmost grid point with σ_min ≤ ε (a lower estimate, at most one grid step accurate; nan when no grid point is in σ_ε)"
@@ -921,6 +938,7 @@ func pseudospectrumImpl(c *eval.Call) (value.Value, error) {
 		if ps, e = spectra.PseudoKrylov(c.Ctx, op.Op, reg, min(100, n-1), opts); e != nil {
 			return e
 		}
+		pick()
 		stabGridAbscissae(ps, levels, alpha, pts)
 		how = "rightmost grid point with σ_min ≤ ε (Krylov approximation from inside: a lower estimate, at most one grid step accurate; nan when no grid point is in σ_ε)"
 		return nil
@@ -931,6 +949,9 @@ func pseudospectrumImpl(c *eval.Call) (value.Value, error) {
 	r := objects.PseudoReport(op.Label, n, ps, alpha, pts, how)
 	if gridNote != "" {
 		r.Notes = append(r.Notes, gridNote)
+	}
+	if levelNote != "" {
+		r.Notes = append(r.Notes, levelNote)
 	}
 	if len(onGrid) > 0 {
 		r.Notes = append(r.Notes, fmt.Sprintf(`α_ε not computed by the boundary search for ε = %s: it needs more than its share of the interactive work budget (about %.1f s here); the table gives the rightmost grid point in σ_ε instead (a lower estimate, at most one grid step accurate); ask with abscissae="exact", or psabscissa(A, ε, search="full") for one level`,

@@ -72,6 +72,19 @@ func (f *Figure) WriteSVG(w io.Writer) (Notes, error) {
 	return r.notes, err
 }
 
+// Unseen lays the figure out and returns the contour levels whose curves
+// would not be seen in it (each "name = level", as the note under the
+// figure writes them): curves spanning less than SeenSpan px, or outside
+// the plot. It returns the error WriteSVG would.
+func (f *Figure) Unseen() ([]string, error) {
+	r, err := f.render()
+	if err != nil {
+		return nil, err
+	}
+	r.draw(nullCanvas{})
+	return append([]string(nil), r.unseen...), nil
+}
+
 // Caption is the figure's short title for a reader: its Title, or "Figure".
 func (f *Figure) Caption() string {
 	if t := strings.Join(strings.Fields(f.Title), " "); t != "" {

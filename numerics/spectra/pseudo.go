@@ -104,6 +104,18 @@ type Pseudospectra struct {
 	Accuracy    string
 }
 
+// SetLevels replaces the contour lines by those at the given levels ε > 0,
+// traced on the grid already computed. It panics with ErrOption for a level
+// that is not positive.
+func (p *Pseudospectra) SetLevels(levels []float64) {
+	for _, e := range levels {
+		if !(e > 0) {
+			panic(ErrOption)
+		}
+	}
+	p.Contours = contours(p.Re, p.Im, p.Sigma, levels)
+}
+
 // At returns σ_min at grid point (i, j).
 func (p *Pseudospectra) At(i, j int) float64 { return p.Sigma[i*len(p.Im)+j] }
 
