@@ -47,7 +47,9 @@ func BenchmarkETDFisherKPP(b *testing.B) {
 			}
 			b.ReportMetric(float64(st.Accepted), "accepted")
 			b.ReportMetric(float64(st.Rejected), "rejected")
-			b.ReportMetric(s.MaxErrEst(), "errest")
+			b.ReportMetric(s.MaxErrEst()*1e9, "errest·1e9")
+			b.ReportMetric(float64(s.Solves), "solves")
+			b.ReportMetric(float64(s.Factors), "factors")
 			if !s.TolMet {
 				b.Errorf("tol %g: %s", tol, s.Shortfall)
 			}

@@ -42,7 +42,7 @@ type etdSparseStepper struct {
 	sigma           float64
 	z, c            []complex128
 	rate            float64
-	cache           map[float64][]solve.ShiftedSolver
+	cache           map[float64]*etdFactors
 	keys            []float64
 	limit           int          // step lengths whose factorisations are kept
 	tri             [3][]float64 // sub-, main and superdiagonal when L is tridiagonal
@@ -59,8 +59,17 @@ type etdSparseStepper struct {
 type etdNodeWork struct {
 	rhs, x []complex128
 	acc    []float64
+	e      [4][]float64 // the fused kernel's forward sweep (tridiagonal L)
 	round  float64
 	err    error
+}
+
+// etdFactors holds the factorisations of s_k − L for one step length:
+// general shifted solvers, or, when L is tridiagonal and no node needs a
+// row interchange, the split form the fused kernel takes.
+type etdFactors struct {
+	fs   []solve.ShiftedSolver
+	fast []*triNoPivot
 }
 
 // sparseETDApplies reports whether L takes the contour path.
@@ -77,7 +86,7 @@ func sparseETDApplies(L linop.Operator) bool {
 
 func newETDSparseStepper(ctx context.Context, L linop.Operator, N Nonlinear, tol float64) (*etdSparseStepper, error) {
 	n, _ := L.Dims()
-	s := &etdSparseStepper{ctx: ctx, L: L, N: N, cache: map[float64][]solve.ShiftedSolver{}}
+	s := &etdSparseStepper{ctx: ctx, L: L, N: N, cache: map[float64]*etdFactors{}}
 	if g, ok := gershgorinRight(L); ok && g > 0 {
 		s.sigma = g
 	}
@@ -103,11 +112,16 @@ func newETDSparseStepper(ctx context.Context, L linop.Operator, N Nonlinear, tol
 	}
 	s.limit = min(max(etdCacheBytes/(per*len(s.z)+1), 3), 12)
 	s.work = make([]etdNodeWork, min(runtime.GOMAXPROCS(0), len(s.z)))
-	if err := memguard.Bytes(float64(s.limit*len(s.z)*per+len(s.work)*n*(2*memguard.ComplexBytes+memguard.RealBytes)), "ETDRK4 contour factorisations and work vectors"); err != nil {
+	if err := memguard.Bytes(float64(s.limit*len(s.z)*per+len(s.work)*n*(2*memguard.ComplexBytes+5*memguard.RealBytes)), "ETDRK4 contour factorisations and work vectors"); err != nil {
 		return nil, err
 	}
 	for i := range s.work {
 		s.work[i] = etdNodeWork{rhs: make([]complex128, n), x: make([]complex128, n), acc: make([]float64, n)}
+		if s.tri[1] != nil {
+			for j := range s.work[i].e {
+				s.work[i].e[j] = make([]float64, n)
+			}
+		}
 	}
 	return s, nil
 }
@@ -117,43 +131,74 @@ func (s *etdSparseStepper) name() string      { return "ETDRK4" }
 func (s *etdSparseStepper) extraErr() float64 { return s.extra }
 
 // solvers returns the factorisations of s_k − L, s_k = z_k/τ + σ.
-func (s *etdSparseStepper) solvers(tau float64) ([]solve.ShiftedSolver, error) {
+func (s *etdSparseStepper) solvers(tau float64) (*etdFactors, error) {
 	if f, ok := s.cache[tau]; ok {
 		return f, nil
 	}
-	fs := make([]solve.ShiftedSolver, len(s.z))
-	for k, z := range s.z {
-		sh := z/complex(tau, 0) + complex(s.sigma, 0)
-		var f solve.ShiftedSolver
-		var err error
-		if s.tri[1] != nil {
-			f, err = factorTri(sh, s.tri[0], s.tri[1], s.tri[2])
-		} else {
-			f, err = solve.NewShiftedContext(s.ctx, s.L, sh, solve.Options{})
+	f := &etdFactors{}
+	if s.tri[1] != nil {
+		// Each factorisation is one recurrence through complex
+		// reciprocals: the nodes are shared among the workers.
+		f.fast = make([]*triNoPivot, len(s.z))
+		oks, errs := make([]bool, len(s.z)), make([]error, len(s.z))
+		var wg sync.WaitGroup
+		for id := range s.work {
+			wg.Add(1)
+			go func(first int) {
+				defer wg.Done()
+				for k := first; k < len(s.z); k += len(s.work) {
+					sh := s.z[k]/complex(tau, 0) + complex(s.sigma, 0)
+					f.fast[k], oks[k], errs[k] = factorTriNoPivot(sh, s.tri[0], s.tri[1], s.tri[2])
+				}
+			}(id)
 		}
-		if err != nil {
-			return nil, err
+		wg.Wait()
+		for k := range s.z {
+			if errs[k] != nil {
+				return nil, errs[k]
+			}
+			if !oks[k] {
+				f.fast = nil
+				break
+			}
 		}
-		fs[k] = f
 	}
-	s.factors += len(fs)
+	if f.fast == nil {
+		f.fs = make([]solve.ShiftedSolver, len(s.z))
+		for k, z := range s.z {
+			sh := z/complex(tau, 0) + complex(s.sigma, 0)
+			var fk solve.ShiftedSolver
+			var err error
+			if s.tri[1] != nil {
+				fk, err = factorTri(sh, s.tri[0], s.tri[1], s.tri[2])
+			} else {
+				fk, err = solve.NewShiftedContext(s.ctx, s.L, sh, solve.Options{})
+			}
+			if err != nil {
+				return nil, err
+			}
+			f.fs[k] = fk
+		}
+	}
+	s.factors += len(s.z)
 	if len(s.keys) >= s.limit {
 		delete(s.cache, s.keys[0])
 		s.keys = s.keys[1:]
 	}
-	s.cache[tau] = fs
+	s.cache[tau] = f
 	s.keys = append(s.keys, tau)
-	return fs, nil
+	return f, nil
 }
 
 // combine sets dst = e^{τL}v + Σ_j τ^{j+1}φ_{j+1}(τL) w_j (dst may be v).
 // The nodes are shared among the workers, each with its own buffers; the
 // factorisations are only read.
 func (s *etdSparseStepper) combine(dst []float64, tau float64, v []float64, w [][]float64) error {
-	fs, err := s.solvers(tau)
+	f, err := s.solvers(tau)
 	if err != nil {
 		return err
 	}
+	fs := f.fs
 	size := normInf(v)
 	tj := tau
 	for _, wj := range w {
@@ -165,6 +210,13 @@ func (s *etdSparseStepper) combine(dst []float64, tau float64, v []float64, w []
 	var wg sync.WaitGroup
 	for id := range s.work {
 		wg.Add(1)
+		if f.fast != nil {
+			go func(wk *etdNodeWork, first int) {
+				defer wg.Done()
+				s.fusedShare(wk, first, f.fast, tau, v, w)
+			}(&s.work[id], id)
+			continue
+		}
 		go func(wk *etdNodeWork, first int) {
 			defer wg.Done()
 			for i := range wk.acc {
@@ -219,6 +271,45 @@ func (s *etdSparseStepper) combine(dst []float64, tau float64, v []float64, w []
 	}
 	s.extra += 10*math.Pow(s.rate, -float64(len(s.z)*2))*g*size + 10*unitRoundoff*g*round
 	return nil
+}
+
+// fusedShare is combine's work for one worker on the fused path: the
+// pairs of nodes first, first + workers, … (an odd last node is paired
+// with itself, weight zero).
+func (s *etdSparseStepper) fusedShare(wk *etdNodeWork, first int, fast []*triNoPivot, tau float64, v []float64, w [][]float64) {
+	for i := range wk.acc {
+		wk.acc[i] = 0
+	}
+	wk.round, wk.err = 0, nil
+	var ws [3][]float64
+	for j := range ws {
+		ws[j] = v
+		if j < len(w) {
+			ws[j] = w[j]
+		}
+	}
+	coef := func(k int) (p [3]complex128, ck complex128) {
+		r := complex(tau, 0) / (s.z[k] + complex(tau*s.sigma, 0))
+		q := r
+		for j := range w {
+			p[j] = q
+			q *= r
+		}
+		return p, 2 * s.c[k] / complex(tau, 0)
+	}
+	for u := first; 2*u < len(s.z); u += len(s.work) {
+		k0, k1 := 2*u, 2*u+1
+		p0, c0 := coef(k0)
+		var p1 [3]complex128
+		var c1 complex128
+		if k1 < len(s.z) {
+			p1, c1 = coef(k1)
+		} else {
+			k1, p1 = k0, p0
+		}
+		m0, m1 := etdFusedPair(wk.acc, &wk.e, fast[k0], fast[k1], v, ws, p0, p1, c0, c1)
+		wk.round += cmplx.Abs(c0)*m0 + cmplx.Abs(c1)*m1
+	}
 }
 
 // step is Cox & Matthews' ETDRK4 with each stage one combination.

@@ -283,6 +283,7 @@ func TestTridiagShiftedSolve(t *testing.T) {
 	// tested against dense LU: the residual of (sI − T)x = b, for shifts
 	// on and off the spectrum and a T whose small diagonal forces row
 	// interchanges.
+	noPivot, refused := 0, 0
 	for _, tc := range []struct {
 		name string
 		T    linop.Operator
@@ -334,6 +335,33 @@ func TestTridiagShiftedSolve(t *testing.T) {
 			if dx > 1e-10*ny {
 				t.Errorf("%s, s = %v: differs from the band solver by %.3g (‖x‖ %.3g)", tc.name, s, dx, ny)
 			}
+			// The factorisation without interchanges, where partial
+			// pivoting would make none.
+			g, ok, err := factorTriNoPivot(s, sub, diag, sup)
+			if err != nil {
+				t.Fatal(err)
+			}
+			if tc.name == "laplacian" && real(s) > 0 && !ok {
+				t.Errorf("%s, s = %v: a shift right of the spectrum asked for interchanges", tc.name, s)
+			}
+			if !ok {
+				refused++
+				continue
+			}
+			noPivot++
+			if err := g.Solve(x, b); err != nil {
+				t.Fatal(err)
+			}
+			dx = 0
+			for i := range x {
+				dx = math.Max(dx, cmplx.Abs(x[i]-y[i]))
+			}
+			if dx > 1e-10*ny {
+				t.Errorf("%s, s = %v: no-interchange solve differs from the band solver by %.3g (‖x‖ %.3g)", tc.name, s, dx, ny)
+			}
 		}
+	}
+	if noPivot == 0 || refused == 0 {
+		t.Errorf("the no-interchange factorisation was taken %d times and refused %d times; want both", noPivot, refused)
 	}
 }

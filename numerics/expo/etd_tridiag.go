@@ -114,3 +114,132 @@ func (f *triShifted) Solve(dst, b []complex128) error {
 	}
 	return nil
 }
+
+// triNoPivot is the LU factorisation of sI − T when partial pivoting
+// interchanges no rows (|d_i| ≥ |t_{i+1,i}| at every step, the test of
+// zgttrf), which is the rule for the contour shifts of a negative
+// semidefinite T: then L and U are bidiagonal and the solve is
+//
+//	y_i = b_i − l_i y_{i−1},  x_i = y_i/d_i + q_i x_{i+1},
+//
+// with l_i = −t_{i,i−1}/d_{i−1} and q_i = t_{i,i+1}/d_i (l_0 = q_{n−1} = 0).
+// Real and imaginary parts are kept apart, so that etdFusedPair can run
+// the recurrences of two nodes side by side.
+type triNoPivot struct {
+	lr, li []float64 // l_i
+	rr, ri []float64 // 1/d_i
+	qr, qi []float64 // q_i
+}
+
+// recip returns 1/(a + ib) by Smith's scaling (no overflow for large a, b).
+func recip(a, b float64) (float64, float64) {
+	if math.Abs(a) >= math.Abs(b) {
+		r := b / a
+		den := a + b*r
+		return 1 / den, -r / den
+	}
+	r := a / b
+	den := a*r + b
+	return r / den, -1 / den
+}
+
+// factorTriNoPivot factors sI − T as triNoPivot; ok is false when partial
+// pivoting would interchange a row (use factorTri then), err non-nil for an
+// exactly singular pivot.
+func factorTriNoPivot(s complex128, sub, diag, sup []float64) (f *triNoPivot, ok bool, err error) {
+	n := len(diag)
+	f = &triNoPivot{lr: make([]float64, n), li: make([]float64, n), rr: make([]float64, n),
+		ri: make([]float64, n), qr: make([]float64, n), qi: make([]float64, n)}
+	sr, si := real(s), imag(s)
+	for i := 0; i < n; i++ {
+		dr, di := sr-diag[i], si
+		if i > 0 {
+			// d_i = s − t_ii − l_i·t_{i−1,i}, with the entries −t of sI − T.
+			dr += f.lr[i] * sup[i-1]
+			di += f.li[i] * sup[i-1]
+		}
+		if dr == 0 && di == 0 {
+			return nil, false, errorf("sI − A is singular (s = %v)", s)
+		}
+		if i < n-1 && math.Abs(dr)+math.Abs(di) < math.Abs(sub[i]) {
+			return nil, false, nil
+		}
+		f.rr[i], f.ri[i] = recip(dr, di)
+		if i < n-1 {
+			f.lr[i+1], f.li[i+1] = -sub[i]*f.rr[i], -sub[i]*f.ri[i]
+			f.qr[i], f.qi[i] = sup[i]*f.rr[i], sup[i]*f.ri[i]
+		}
+	}
+	return f, true, nil
+}
+
+// Solve sets dst = (sI − T)⁻¹b (for tests; the stepper uses etdFusedPair).
+func (f *triNoPivot) Solve(dst, b []complex128) error {
+	n := len(f.rr)
+	if len(dst) != n || len(b) != n {
+		panic(ErrShape)
+	}
+	var yr, yi float64
+	for i := 0; i < n; i++ {
+		br, bi := real(b[i]), imag(b[i])
+		yr, yi = br-(f.lr[i]*yr-f.li[i]*yi), bi-(f.lr[i]*yi+f.li[i]*yr)
+		dst[i] = complex(yr*f.rr[i]-yi*f.ri[i], yr*f.ri[i]+yi*f.rr[i])
+	}
+	var xr, xi float64
+	for i := n - 1; i >= 0; i-- {
+		xr, xi = real(dst[i])+f.qr[i]*xr-f.qi[i]*xi, imag(dst[i])+f.qr[i]*xi+f.qi[i]*xr
+		dst[i] = complex(xr, xi)
+	}
+	return nil
+}
+
+// etdFusedPair adds to acc the real parts of c0·x0 + c1·x1, where x_k
+// solves (s_k I − T)x_k = v + Σ_j p_{k,j} w_j (f0, f1 the factorisations,
+// p_k their three coefficients, zero for an absent w_j), and returns
+// max_i |x_k,i| (re + im) for each. The right sides are formed in e, the
+// forward substitution runs over e in place and the backward one adds
+// into acc as it goes; the two nodes' recurrences run side by side, since a
+// single recurrence waits on the latency of its complex multiply at every
+// row (1.9× faster per node than one node at a time, measured at n = 1000).
+// e holds four work vectors of length n.
+func etdFusedPair(acc []float64, e *[4][]float64, f0, f1 *triNoPivot, v []float64, w [3][]float64, p0, p1 [3]complex128, c0, c1 complex128) (m0, m1 float64) {
+	n := len(v)
+	acc = acc[:n]
+	w0, w1, w2 := w[0][:n], w[1][:n], w[2][:n]
+	e0r, e0i, e1r, e1i := e[0][:n], e[1][:n], e[2][:n], e[3][:n]
+	l0r, l0i, r0r, r0i := f0.lr[:n], f0.li[:n], f0.rr[:n], f0.ri[:n]
+	l1r, l1i, r1r, r1i := f1.lr[:n], f1.li[:n], f1.rr[:n], f1.ri[:n]
+	a0r, a0i, b0r, b0i, g0r, g0i := real(p0[0]), imag(p0[0]), real(p0[1]), imag(p0[1]), real(p0[2]), imag(p0[2])
+	a1r, a1i, b1r, b1i, g1r, g1i := real(p1[0]), imag(p1[0]), real(p1[1]), imag(p1[1]), real(p1[2]), imag(p1[2])
+	// The right sides first: with the recurrences in the same loop, their
+	// twelve coefficients push the recurrences' values out of registers.
+	for i := 0; i < n; i++ {
+		vi, x, y, z := v[i], w0[i], w1[i], w2[i]
+		e0r[i] = vi + x*a0r + y*b0r + z*g0r
+		e0i[i] = x*a0i + y*b0i + z*g0i
+		e1r[i] = vi + x*a1r + y*b1r + z*g1r
+		e1i[i] = x*a1i + y*b1i + z*g1i
+	}
+	var y0r, y0i, y1r, y1i float64
+	for i := 0; i < n; i++ {
+		y0r, y0i = e0r[i]-(l0r[i]*y0r-l0i[i]*y0i), e0i[i]-(l0r[i]*y0i+l0i[i]*y0r)
+		y1r, y1i = e1r[i]-(l1r[i]*y1r-l1i[i]*y1i), e1i[i]-(l1r[i]*y1i+l1i[i]*y1r)
+		e0r[i], e0i[i] = y0r*r0r[i]-y0i*r0i[i], y0r*r0i[i]+y0i*r0r[i]
+		e1r[i], e1i[i] = y1r*r1r[i]-y1i*r1i[i], y1r*r1i[i]+y1i*r1r[i]
+	}
+	q0r, q0i, q1r, q1i := f0.qr[:n], f0.qi[:n], f1.qr[:n], f1.qi[:n]
+	c0r, c0i, c1r, c1i := real(c0), imag(c0), real(c1), imag(c1)
+	var x0r, x0i, x1r, x1i float64
+	for i := n - 1; i >= 0; i-- {
+		x0r, x0i = e0r[i]+(q0r[i]*x0r-q0i[i]*x0i), e0i[i]+(q0r[i]*x0i+q0i[i]*x0r)
+		x1r, x1i = e1r[i]+(q1r[i]*x1r-q1i[i]*x1i), e1i[i]+(q1r[i]*x1i+q1i[i]*x1r)
+		acc[i] += (c0r*x0r - c0i*x0i) + (c1r*x1r - c1i*x1i)
+		if a := math.Abs(x0r) + math.Abs(x0i); a > m0 {
+			m0 = a
+		}
+		if a := math.Abs(x1r) + math.Abs(x1i); a > m1 {
+			m1 = a
+		}
+	}
+	return m0, m1
+}
