@@ -12,6 +12,7 @@ import (
 	"semiflow/numerics/abandon"
 	"semiflow/numerics/linop"
 	"semiflow/numerics/memguard"
+	"semiflow/numerics/solve"
 )
 
 // Method names accepted in Options.Method.
@@ -382,6 +383,9 @@ func chooseMethod(A linop.Operator, times []float64) (method, reason string) {
 	nrm := opNorm1(&counted{a: A})
 	stiff := tmax * nrm
 	if stiff > 1000 {
+		if _, ok := A.(solve.Shifter); ok {
+			return MethodShiftInv, fmt.Sprintf("t‖A‖₁ = %.3g is stiff and A factors its own shifts (a mass matrix or a second-order pencil): Krylov on (I − γA)⁻¹, whose convergence does not depend on ‖A‖", stiff)
+		}
 		if _, ok := A.(linop.Sparser); ok {
 			return MethodShiftInv, fmt.Sprintf("t‖A‖₁ = %.3g is stiff and A has a sparse form: Krylov on (I − γA)⁻¹, whose convergence does not depend on ‖A‖", stiff)
 		}

@@ -43,6 +43,16 @@ func NewShifted(a linop.Operator, z complex128) (ShiftedSolver, error) {
 	return NewShiftedContext(context.Background(), a, z, Options{})
 }
 
+// Shifter is implemented by operators that factor zI − A from structure
+// of their own, never forming A: A = M⁻¹K factors the pencil zM − K, the
+// first-order form of a second-order system the quadratic pencil
+// z²M + zC + K. NewShiftedContext hands such an operator its shifts (with
+// Options.Method Auto), so every shifted solve (shift-and-invert,
+// contour, resolvent powers, eigenvalue searches) uses that structure.
+type Shifter interface {
+	NewShifted(ctx context.Context, z complex128, opt Options) (ShiftedSolver, error)
+}
+
 // Options control NewShiftedContext.
 type Options struct {
 	// Method forces a factorisation; Auto (the zero value) chooses.
@@ -65,6 +75,9 @@ func NewShiftedContext(ctx context.Context, a linop.Operator, z complex128, opt 
 		panic(ErrShape)
 	}
 	m := opt.Method
+	if s, ok := a.(Shifter); ok && m == Auto {
+		return s.NewShifted(ctx, z, opt)
+	}
 	var csr *linop.CSR
 	if m == Auto {
 		m, csr = choose(a)
