@@ -31,6 +31,7 @@ func init() {
 		{"Evolution u(t) = e^{tA} u0", [][]*Builtin{propagateFamily}},
 		{"Stability: spectra, numerical range, resolvents, growth", [][]*Builtin{stabilityFamily}},
 		{"Data, tables and files", [][]*Builtin{csvFamily, sweepFamily, figureFamily}},
+		{"Figures and tables of your own data", [][]*Builtin{plotFamily}},
 		{"Output, help and choice", [][]*Builtin{coreFamily}},
 	}
 }

@@ -27,6 +27,7 @@ var families = [][]*Builtin{
 	objectFamily,
 	stabilityFamily,
 	figureFamily,
+	plotFamily,
 	blockFamily,
 	csvFamily,
 	sweepFamily,

@@ -81,8 +81,9 @@ var aliasOrder = map[string][]string{
 	"generator":      {"powers", "M_n", "lambdas"},
 }
 
-// column returns column j of the table as a vector.
-func (r *Analysis) column(j int) *value.Vec {
+// column returns column j of the table as a vector (a list when it holds
+// strings).
+func (r *Analysis) column(j int) value.Value {
 	cells := make([]value.Value, len(r.Rows))
 	for i, row := range r.Rows {
 		cells[i] = row[j]

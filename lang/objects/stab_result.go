@@ -4,6 +4,7 @@ import (
 	"fmt"
 	"html"
 	"math"
+	"strconv"
 	"strings"
 
 	"semiflow/lang/plot"
@@ -34,6 +35,9 @@ type Analysis struct {
 	Named []Named
 	// Data is the numerics result the report was made from.
 	Data any
+	// Digits, when positive, is the number of significant digits the
+	// table's numbers show (text and HTML); the values keep full precision.
+	Digits int
 }
 
 // Fact is one labelled line of a report.
@@ -86,9 +90,55 @@ func (r *Analysis) Index2(ri, ci []int, scalarRow, scalarCol bool) value.Value {
 	return out
 }
 
+// cell is the text of table entry (i, j): a number with r.Digits
+// significant digits when set, a string as it is (unquoted).
+func (r *Analysis) cell(i, j int) string {
+	switch x := r.Rows[i][j].(type) {
+	case value.Str:
+		return string(x)
+	case value.Num:
+		if r.Digits > 0 {
+			return FormatDigits(float64(x), r.Digits)
+		}
+	case value.Complex:
+		if r.Digits > 0 {
+			re, im := real(complex128(x)), imag(complex128(x))
+			sign := "+"
+			if im < 0 || math.IsInf(im, -1) {
+				sign, im = "-", -im
+			}
+			return FormatDigits(re, r.Digits) + sign + FormatDigits(im, r.Digits) + "i"
+		}
+	}
+	return r.Rows[i][j].String()
+}
+
+// FormatDigits writes x with d significant digits in the display style of
+// numbers (no padded exponent, no trailing zeros, nan, inf, −0 as 0).
+func FormatDigits(x float64, d int) string {
+	if math.IsNaN(x) || math.IsInf(x, 0) || x == 0 {
+		return value.FormatNum(x)
+	}
+	s := strconv.FormatFloat(x, 'g', d, 64)
+	if i := strings.IndexByte(s, 'e'); i >= 0 {
+		mant, exp := s[:i], s[i+1:]
+		sign := ""
+		if exp[0] == '-' {
+			sign = "-"
+		}
+		s = mant + "e" + sign + strings.TrimLeft(exp[1:], "0")
+	}
+	return s
+}
+
 // cellsVec packs numbers into a real vector, or a complex one if any cell
-// is complex.
-func cellsVec(cells []value.Value) *value.Vec {
+// is complex; cells holding a string give a list.
+func cellsVec(cells []value.Value) value.Value {
+	for _, c := range cells {
+		if _, ok := c.(value.Str); ok {
+			return value.List(append([]value.Value(nil), cells...))
+		}
+	}
 	cplx := false
 	for _, c := range cells {
 		if _, ok := c.(value.Complex); ok {
@@ -161,7 +211,7 @@ func (r *Analysis) String() string {
 				if i < 0 {
 					row[j] = "⋮"
 				} else {
-					row[j] = r.Rows[i][j].String()
+					row[j] = r.cell(i, j)
 				}
 			}
 			cells = append(cells, row)
@@ -228,8 +278,8 @@ func (r *Analysis) MIME() map[string]any {
 				continue
 			}
 			tb.WriteString(`<tr>`)
-			for _, c := range row {
-				tb.WriteString(`<td style="text-align:right">` + e(c.String()) + `</td>`)
+			for j := range row {
+				tb.WriteString(`<td style="text-align:right">` + e(r.cell(i, j)) + `</td>`)
 			}
 			tb.WriteString(`</tr>`)
 		}
