@@ -199,6 +199,9 @@ func blockRow(c *eval.Call, i int, rv value.Value) ([]blockEntry, error) {
 			}
 			row[j] = blockEntry{scale: x, r: -1, c: -1}
 		case *objects.Operator:
+			if len(t.Lift) > 0 {
+				return nil, value.ValueErrorf("blocks: block (%d, %d) carries boundary data, which a block operator cannot pass on; build it on a grid with homogeneous ends and give the data as a forcing", i, j)
+			}
 			r, k := t.Op.Dims()
 			row[j] = blockEntry{op: t.Op, r: r, c: k}
 		case *value.Matrix:

@@ -36,11 +36,14 @@ var gridFamily = []*Builtin{
 			opt("order", value.Num(2), "order of the finite differences, 2 or 4"),
 			opt("alpha", value.Num(1), "α of the Robin condition αu + βu' = 0: one number for both ends or [left, right]"),
 			opt("beta", value.Num(0), "β of the Robin condition αu + βu' = 0: one number for both ends or [left, right]"),
+			opt("boundary", value.None, "boundary data [g_left, g_right]: the right-hand sides of the end conditions (u = g, u' = g, αu + βu' = g), each a number or a function g(t); none for 0 at both ends"),
 		},
 		Doc: "The uniform grid x_j = a + j h, h = (b − a)/(n − 1), j = 0..n−1, on [a, b] with a boundary condition at both ends and finite differences of order 2 or 4. " +
 			"The unknowns of a grid function are the points where u is not prescribed: Dirichlet end points are left out (u = 0 there); with periodic ends h = (b − a)/n and x = b is identified with x = a. " +
 			"Robin ends impose αu + βu' = 0 with u' = du/dx (not the outward normal derivative) at either end. " +
-			`The two ends may differ: ends=["dirichlet", "neumann"] is u(a) = 0, u'(b) = 0, and alpha, beta given as [left, right] set each Robin end's coefficients.`,
+			`The two ends may differ: ends=["dirichlet", "neumann"] is u(a) = 0, u'(b) = 0, and alpha, beta given as [left, right] set each Robin end's coefficients. ` +
+			"Non-zero boundary data (boundary=[g_left, g_right], numbers or functions of t) are lifted into a forcing: deriv and laplacian on the grid stay homogeneous operators A and carry the data, so that a derivative of the grid function is A u + b(t), and propagate adds b(t) to any forcing given (spectrum, growth and the other analyses see A alone). " +
+			"A function g(t) is taken as smooth; give the times where it jumps to propagate as switches.",
 		Examples: []Example{
 			{"interval(0, 1, 11)", "grid: interval [0, 1], 11 points, h = 0.1, dirichlet ends, order 2, 9 unknowns"},
 			{`interval(0, 2*pi, 64, ends="periodic", order=4)`, "grid: interval [0, 6.283185307], 64 points, h = 0.0981748, periodic ends, order 4, 64 unknowns"},
@@ -115,6 +118,9 @@ var gridFamily = []*Builtin{
 			}
 			if gx.Dim() != 1 || gy.Dim() != 1 {
 				return nil, value.ValueErrorf("tensorgrid: gx and gy must be 1-D grids")
+			}
+			if gx.HasData() || gy.HasData() {
+				return nil, value.ValueErrorf("tensorgrid: a factor carries boundary data, which on a tensor grid would vary along the boundary; give the factors homogeneous ends and the data as a forcing")
 			}
 			if err := c.CheckSize(float64(gx.Size())*float64(gy.Size()), "tensorgrid: the grid"); err != nil {
 				return nil, err
@@ -261,6 +267,9 @@ func intervalImpl(c *eval.Call) (value.Value, error) {
 		return nil, value.ValueErrorf("interval: %s", strings.TrimPrefix(err.Error(), "grid: invalid grid: "))
 	}
 	g := &objects.Grid{Kind: objects.KindInterval, Interval: iv, Order: order}
+	if g.Data, err = boundaryArg(c, 7, periodic); err != nil {
+		return nil, err
+	}
 	// Too few points for the stencils is reported now rather than by the
 	// first derivative built on the grid. Grids of more than 8 points have
 	// enough for both orders, and building D2 of a large grid is not free.
@@ -270,6 +279,54 @@ func intervalImpl(c *eval.Call) (value.Value, error) {
 		}
 	}
 	return g, nil
+}
+
+// boundaryArg is argument i as the boundary data [g_left, g_right]: each
+// a finite number or a function of t (nil stands for 0).
+func boundaryArg(c *eval.Call, i int, periodic bool) ([2]value.Value, error) {
+	var out [2]value.Value
+	v, err := c.Arg(i)
+	if err != nil || v == value.None {
+		return out, err
+	}
+	name := paramName(c, i)
+	var items []value.Value
+	switch t := v.(type) {
+	case value.List:
+		items = t
+	case *value.Vec, *value.Range:
+		s := t.(value.Indexable)
+		for k := 0; k < s.Len(); k++ {
+			items = append(items, s.Index(k))
+		}
+	default:
+		return out, value.TypeErrorf("%s: %s must be a list [g_left, g_right] of numbers or functions of t, not %s", c.Name, name, value.TypeName(v))
+	}
+	if len(items) != 2 {
+		return out, value.ValueErrorf("%s: %s holds the data at the left and the right end: two entries, not %d", c.Name, name, len(items))
+	}
+	for side, it := range items {
+		switch g := it.(type) {
+		case value.Num:
+			if math.IsNaN(float64(g)) || math.IsInf(float64(g), 0) {
+				return out, value.ValueErrorf("%s: %s at the %s end must be finite, not %s", c.Name, name, sideName[side], value.FormatNum(float64(g)))
+			}
+			if g != 0 {
+				out[side] = g
+			}
+		case value.Callable:
+			if requiredParams(g) > 1 || (len(g.Params()) < 1 && !variadic(g)) {
+				return out, value.TypeErrorf("%s: %s at the %s end must be a function of t alone, not %s", c.Name, name, sideName[side], eval.SignatureText(g.Name(), g.Params()))
+			}
+			out[side] = g
+		default:
+			return out, value.TypeErrorf("%s: %s at the %s end must be a number or a function of t, not %s", c.Name, name, sideName[side], value.TypeName(it))
+		}
+	}
+	if periodic && (out[0] != nil || out[1] != nil) {
+		return out, value.ValueErrorf("%s: a periodic grid has no ends to carry boundary data", c.Name)
+	}
+	return out, nil
 }
 
 // sideName names the ends of an interval, left (index 0) and right (1).

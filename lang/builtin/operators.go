@@ -60,7 +60,11 @@ var operatorFamily = []*Builtin{
 			if k == 2 {
 				label = "d²/d" + along + "²"
 			}
-			return &objects.Operator{Op: op, Grid: g, Label: label}, nil
+			lift, err := objects.LiftOf(g, k)
+			if err != nil {
+				return nil, err
+			}
+			return &objects.Operator{Op: op, Grid: g, Label: label, Lift: lift}, nil
 		},
 	},
 	{
@@ -81,7 +85,11 @@ var operatorFamily = []*Builtin{
 			if err != nil {
 				return nil, err
 			}
-			return &objects.Operator{Op: op, Grid: g, Label: "Δ"}, nil
+			lift, err := objects.LiftOf(g, 2)
+			if err != nil {
+				return nil, err
+			}
+			return &objects.Operator{Op: op, Grid: g, Label: "Δ", Lift: lift}, nil
 		},
 	},
 	{

@@ -335,8 +335,8 @@ func propagateImpl(c *eval.Call) (value.Value, error) {
 	if haveSwitches {
 		_, fn := c.Args[5].(value.Callable)
 		_, nl := c.Args[6].(value.Callable)
-		if !fn && !nl {
-			return nil, value.ValueErrorf("propagate: switches applies to a forcing function of t or a nonlinear term; without them nothing jumps")
+		if !fn && !nl && !liftHasFunc(a.Lift) {
+			return nil, value.ValueErrorf("propagate: switches applies to a forcing function of t, boundary data given as functions of t or a nonlinear term; without them nothing jumps")
 		}
 	}
 	if _, ok := a.Op.(*linop.KronSum); method == expo.MethodKronecker && !ok {
@@ -387,6 +387,16 @@ func propagateImpl(c *eval.Call) (value.Value, error) {
 		forceDesc = " + f(t)"
 	default:
 		return nil, value.TypeErrorf("propagate: forcing must be none, a vector, a number or a function of t, not %s", value.TypeName(f))
+	}
+
+	if len(a.Lift) > 0 {
+		if forcing, err = withLift(c, a.Lift, forcing, n, switches, &callErr); err != nil {
+			return nil, err
+		}
+		forceDesc += " + b(t)"
+		if !liftHasFunc(a.Lift) && forcing.Func == nil {
+			forceDesc = strings.Replace(forceDesc, " + b(t)", " + b", 1)
+		}
 	}
 
 	var sol *expo.Solution
@@ -478,7 +488,14 @@ func propagateImpl(c *eval.Call) (value.Value, error) {
 				value.FormatNum(sol.Times[i]), k, value.FormatNum(u[k]))
 		}
 	}
-	return &objects.Solution{S: sol, Grid: a.Grid, Problem: problem, Label: a.Label}, nil
+	ends, err := endValues(c, a, sol.Times)
+	if err != nil {
+		return nil, err
+	}
+	if len(a.Lift) > 0 {
+		problem += " (b: boundary data)"
+	}
+	return &objects.Solution{S: sol, Grid: a.Grid, Problem: problem, Label: a.Label, EndValues: ends}, nil
 }
 
 // maxContourNodes bounds the quadrature nodes of the contour method: each

@@ -92,3 +92,23 @@ func Laplacian(g *Grid) (linop.Operator, error) {
 	}
 	return linop.NewKronSum(dx, dy), nil
 }
+
+// LiftOf returns the terms through which the boundary data of a 1-D
+// interval enter its k-th derivative (k = 1, 2): one per end with data
+// (grid.Interval.Lift). Other grids give none.
+func LiftOf(g *Grid, k int) ([]LiftTerm, error) {
+	if g.Kind != KindInterval || !g.HasData() {
+		return nil, nil
+	}
+	left, right, err := g.Interval.Lift(k, g.Order)
+	if err != nil {
+		return nil, value.ValueErrorf("%v", err)
+	}
+	var out []LiftTerm
+	for side, vec := range [2][]float64{left, right} {
+		if g.Data[side] != nil {
+			out = append(out, LiftTerm{Vec: vec, G: g.Data[side], Side: [2]string{"left", "right"}[side]})
+		}
+	}
+	return out, nil
+}

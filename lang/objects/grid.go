@@ -32,7 +32,15 @@ type Grid struct {
 	Order    int             // finite-difference order (2 or 4) of an interval
 	Cheb     *grid.Chebyshev // KindChebyshev
 	X, Y     *Grid           // KindTensor: the 1-D factors
+	// Data holds the right-hand sides of an interval's end conditions,
+	// left and right (u = g, u' = g or αu + βu' = g): a value.Num or a
+	// value.Callable of t, nil for 0. Operators built on the grid carry
+	// them as LiftTerms.
+	Data [2]value.Value
 }
+
+// HasData reports whether an end of the grid carries boundary data.
+func (g *Grid) HasData() bool { return g.Data[0] != nil || g.Data[1] != nil }
 
 func (g *Grid) Type() string { return "grid" }
 
@@ -114,8 +122,18 @@ func (g *Grid) describe() string {
 		if iv.Left != iv.Right {
 			ends = "left end " + endText(iv.Left) + ", right end " + endText(iv.Right)
 		}
-		return fmt.Sprintf("interval [%s, %s], %d points, h = %.6g, %s, order %d, %d unknowns",
-			value.FormatNum(iv.A), value.FormatNum(iv.B), iv.N, iv.H, ends, g.Order, iv.Size())
+		data := ""
+		if g.HasData() {
+			var parts []string
+			for side, d := range g.Data {
+				if d != nil {
+					parts = append(parts, [2]string{"left ", "right "}[side]+dataText(d))
+				}
+			}
+			data = ", boundary data " + strings.Join(parts, ", ")
+		}
+		return fmt.Sprintf("interval [%s, %s], %d points, h = %.6g, %s%s, order %d, %d unknowns",
+			value.FormatNum(iv.A), value.FormatNum(iv.B), iv.N, iv.H, ends, data, g.Order, iv.Size())
 	case KindChebyshev:
 		c := g.Cheb
 		return fmt.Sprintf("chebyshev [%s, %s], degree %d, dirichlet ends, %d unknowns", value.FormatNum(c.A), value.FormatNum(c.B), c.N, c.N-1)

@@ -17,6 +17,11 @@ type Operator struct {
 	Op    linop.Operator
 	Grid  *Grid // may be nil
 	Label string
+	// Lift holds the boundary data of the grid's ends that entered the
+	// operator (derivatives on an interval with data, and what sums,
+	// multiples and products made of them): the affine part b(t) of
+	// u ↦ Op u + b(t), which propagate adds as a forcing. Op stays linear.
+	Lift []LiftTerm
 }
 
 func (a *Operator) Type() string { return "operator" }
@@ -29,6 +34,9 @@ func (a *Operator) String() string {
 	s := fmt.Sprintf("operator %s: %d×%d, %s", a.Label, r, c, structure(a.Op))
 	if a.Grid != nil {
 		s += "\n  on " + a.Grid.describe()
+	}
+	if l := liftText(a.Lift); l != "" {
+		s += "\n  " + l
 	}
 	if m := a.smallEntries(); m != nil {
 		s += "\n  entries " + strings.ReplaceAll(m.String(), "\n", "\n          ")
@@ -193,7 +201,7 @@ func SameGrid(a, b *Grid) *Grid {
 }
 
 func (a *Operator) scale(s float64, label string) *Operator {
-	out := &Operator{Grid: a.Grid, Label: label}
+	out := &Operator{Grid: a.Grid, Label: label, Lift: scaleLift(s, a.Lift)}
 	switch t := a.Op.(type) {
 	case *linop.CSR:
 		out.Op = linop.ScaleCSR(s, t)
@@ -232,12 +240,15 @@ func (a *Operator) combine(op syntax.Token, b *Operator) (value.Value, error) {
 		if op == syntax.SUB {
 			sign = -1
 		}
-		return &Operator{Op: addOps(a.Op, sign, b.Op), Grid: g, Label: "(" + a.Label + " " + op.String() + " " + b.Label + ")"}, nil
+		lift := append(append([]LiftTerm(nil), a.Lift...), scaleLift(sign, b.Lift)...)
+		return &Operator{Op: addOps(a.Op, sign, b.Op), Grid: g, Label: "(" + a.Label + " " + op.String() + " " + b.Label + ")", Lift: lift}, nil
 	case syntax.MUL:
 		if ac != br {
 			return nil, value.ValueErrorf("operator product needs inner sizes to agree: %d×%d times %d×%d", ar, ac, br, bc)
 		}
-		return &Operator{Op: mulOps(a.Op, b.Op), Grid: g, Label: a.Label + "·" + b.Label}, nil
+		// A(Bu + b) + a = ABu + (Ab + a).
+		lift := append(mapLift(a.Op, b.Lift), a.Lift...)
+		return &Operator{Op: mulOps(a.Op, b.Op), Grid: g, Label: a.Label + "·" + b.Label, Lift: lift}, nil
 	}
 	return nil, value.TypeErrorf("unsupported operands for %s: operator and operator (use +, −, * or kronsum)", op)
 }
@@ -311,6 +322,9 @@ func KronSum(a, b *Operator) (*Operator, error) {
 	if ar != ac || br != bc {
 		return nil, value.ValueErrorf("needs square operators, not %d×%d and %d×%d", ar, ac, br, bc)
 	}
+	if len(a.Lift) > 0 || len(b.Lift) > 0 {
+		return nil, value.ValueErrorf("needs operators without boundary data: data on a tensor grid vary along the boundary, which a 1-D datum cannot say; give the tensor grid's problem homogeneous ends and the data as a forcing")
+	}
 	out := &Operator{Op: linop.NewKronSum(a.Op, b.Op), Label: a.Label + " ⊕ " + b.Label}
 	if a.Grid != nil && b.Grid != nil && a.Grid.Dim() == 1 && b.Grid.Dim() == 1 {
 		out.Grid = NewTensor(a.Grid, b.Grid)
@@ -329,6 +343,9 @@ func (a *Operator) MIME() map[string]any {
 	t.add("storage", structure(a.Op))
 	if a.Grid != nil {
 		t.add("grid", a.Grid.describe())
+	}
+	if l := liftText(a.Lift); l != "" {
+		t.add("boundary data", strings.TrimPrefix(l, "boundary data "))
 	}
 	if n, ok := linop.Norm1(a.Op); ok {
 		t.add("‖A‖₁ (max column sum)", value.FormatNum(n))

@@ -19,6 +19,10 @@ type Solution struct {
 	Grid    *Grid  // grid of the operator, or nil
 	Problem string // the equation solved, e.g. "u' = A u"
 	Label   string // label of the operator
+	// EndValues, when set, holds per output time the values prescribed at
+	// an interval's Dirichlet ends by boundary data (NaN where none), shown
+	// by the profiles in place of 0.
+	EndValues [][2]float64
 
 	warned bool // the shortfall was reported once as a warning
 }
@@ -236,6 +240,13 @@ func (s *Solution) Figure() *plot.Figure {
 		names := when(idx)
 		for k, i := range idx {
 			x, u := s.Grid.Profile(S.Values[i])
+			if s.EndValues != nil && s.Grid.Kind == KindInterval {
+				for side, v := range s.EndValues[i] {
+					if !math.IsNaN(v) {
+						u[side*(len(u)-1)] = v
+					}
+				}
+			}
 			cycleDash(f.AddLine(x, u, "t = "+names[k]), k)
 		}
 	case s.Grid != nil:

@@ -29,6 +29,13 @@ type Forcing struct {
 	// No piece straddles one, and Func is sampled only inside pieces, so
 	// each side of a jump is interpolated from its own values.
 	Breaks []float64
+	// Scale is the size of u that the tolerance of a Func forcing refers
+	// to, when known; 0 takes the larger of ‖u‖∞ so far and ‖f‖∞ times
+	// the piece's length. A forcing much larger than the solution (boundary
+	// data lifted through a column of order 1/h²) makes that guess too
+	// large; PropagateForced then runs once more with Scale set to the
+	// largest ‖u‖∞ of the first run.
+	Scale float64
 }
 
 // augmented is the operator [A, W; 0, J] of order n+p acting on [u; y],

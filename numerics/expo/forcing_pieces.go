@@ -68,6 +68,37 @@ func chebFirstKind(q int) (nodes, checks []float64) {
 
 func forcedFunc(ctx context.Context, A linop.Operator, u0 []float64, f Forcing, times []float64, opts Options) (*Solution, error) {
 	start := time.Now()
+	out, guessed, err := forcedFuncOnce(ctx, A, u0, f, times, opts)
+	if err != nil || out.TolMet || f.Scale > 0 || !guessed {
+		return out, err
+	}
+	// The pieces were sized to a solution as large as f·H, which it is
+	// not: once more, with the size it has.
+	big := 0.0
+	for _, v := range out.Values {
+		big = math.Max(big, normInf(v))
+	}
+	if big == 0 {
+		return out, nil
+	}
+	f.Scale = big
+	second, _, err := forcedFuncOnce(ctx, A, u0, f, times, opts)
+	if err != nil {
+		return nil, err
+	}
+	second.MatVecs += out.MatVecs
+	second.Solves += out.Solves
+	second.Factors += out.Factors
+	second.Reason += fmt.Sprintf("; run twice, the second time with pieces sized to the solution's largest ‖u‖∞ = %.3g (the forcing is much larger)", big)
+	second.Elapsed = time.Since(start)
+	return second, nil
+}
+
+// forcedFuncOnce is one integration of forcedFunc; guessed reports
+// whether a piece's size of u was taken from ‖f‖∞·H above the ‖u‖∞ met.
+func forcedFuncOnce(ctx context.Context, A linop.Operator, u0 []float64, f Forcing, times []float64, opts Options) (*Solution, bool, error) {
+	start := time.Now()
+	guessed := false
 	n := len(u0)
 	if opts.Tol <= 0 {
 		opts.Tol = 1e-10
@@ -82,18 +113,18 @@ func forcedFunc(ctx context.Context, A linop.Operator, u0 []float64, f Forcing, 
 	}
 	tmax, stops, isBreak, err := stoppingTimes(times, f.Breaks)
 	if err != nil {
-		return nil, err
+		return nil, false, err
 	}
 
 	// The interpolant's coefficients, the samples, the augmented vector
 	// and a copy of u per stopping time, through the memory guard.
 	if err := memguard.Vectors(2*(q+1)+4+len(stops), n, memguard.RealBytes, "forcing interpolation work vectors and results"); err != nil {
-		return nil, err
+		return nil, false, err
 	}
 	// Errors made on one piece grow by at most M on the later ones.
 	M, growthNote, err := growthBound(ctx, A, tmax)
 	if err != nil {
-		return nil, err
+		return nil, false, err
 	}
 	out := &Solution{Times: append([]float64(nil), times...), Values: make([][]float64, len(times)), ErrEst: make([]float64, len(times)), Tol: opts.Tol}
 	nodes, checks := chebFirstKind(q)
@@ -143,7 +174,7 @@ func forcedFunc(ctx context.Context, A linop.Operator, u0 []float64, f Forcing, 
 		}
 		for len(stack) > 0 {
 			if err := ctx.Err(); err != nil {
-				return nil, err
+				return nil, false, err
 			}
 			pc := stack[len(stack)-1]
 			stack = stack[:len(stack)-1]
@@ -155,7 +186,7 @@ func forcedFunc(ctx context.Context, A linop.Operator, u0 []float64, f Forcing, 
 			var C mat.Dense // monomial coefficients in s, one row per power
 			if err := lu.SolveTo(&C, false, F); err != nil {
 				if _, ok := err.(mat.Condition); !ok {
-					return nil, err
+					return nil, false, err
 				}
 			}
 			delta, fmax := 0.0, 0.0
@@ -175,7 +206,7 @@ func forcedFunc(ctx context.Context, A linop.Operator, u0 []float64, f Forcing, 
 				fmax = math.Max(fmax, normInf(fv))
 			}
 			if math.IsNaN(delta) || math.IsInf(delta, 0) {
-				return nil, errorf("the forcing is not finite near t = %.6g", pc.a+H/2)
+				return nil, false, errorf("the forcing is not finite near t = %.6g", pc.a+H/2)
 			}
 			slow := 0
 			if pc.parentDelta > 0 && delta > pc.parentDelta/8 {
@@ -193,6 +224,11 @@ func forcedFunc(ctx context.Context, A linop.Operator, u0 []float64, f Forcing, 
 			}
 			share := c * delta * H
 			sc := math.Max(scale, fmax*H)
+			if f.Scale > 0 {
+				sc = math.Max(scale, f.Scale)
+			} else if fmax*H > scale {
+				guessed = true
+			}
 			budget := 0.5 * opts.Tol * sc * math.Max(H/tmax, 1.0/64) / M
 			if share > budget && pc.depth < forceMaxDepth && count+len(stack) < forceMaxPieces && delta > 4*unitRoundoff*fmax {
 				m := pc.a + H/2
@@ -237,9 +273,13 @@ func forcedFunc(ctx context.Context, A linop.Operator, u0 []float64, f Forcing, 
 			// The piece's share of the propagation budget, like its share
 			// of the interpolation budget.
 			o.Tol = math.Max(0.5*opts.Tol*math.Max(H/tmax, 1.0/64)/M, 1e-15)
+			if f.Scale > 0 && beta > sc {
+				// The augmented vector's norm is β; the tolerance refers to sc.
+				o.Tol = math.Max(o.Tol*sc/beta, 1e-15)
+			}
 			s, err := Propagate(ctx, aug, x0, []float64{H}, o)
 			if err != nil {
-				return nil, err
+				return nil, false, err
 			}
 			copy(u, s.Values[0][:n])
 			scale = math.Max(scale, normInf(u))
@@ -279,7 +319,7 @@ func forcedFunc(ctx context.Context, A linop.Operator, u0 []float64, f Forcing, 
 		fn := func(t float64, _, dst []float64) { f.Func(t, dst) }
 		crossSemilinear(ctx, out, A, fn, u0, times, StepControl{Breaks: f.Breaks}, opts)
 	}
-	return out, nil
+	return out, guessed, nil
 }
 
 // roughReport names the places where the forcing looked non-smooth,

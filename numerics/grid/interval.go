@@ -89,6 +89,18 @@ func (e End) normal() (End, error) {
 	return e, nil
 }
 
+// dataScale returns the factor s of the package comment of Interval's
+// dataScale for the condition as given (before normal reduces it).
+func dataScale(e End) float64 {
+	if e.Kind != Robin {
+		return 1
+	}
+	if e.Beta == 0 {
+		return 1 / e.Alpha
+	}
+	return 1 / e.Beta
+}
+
 // ratio returns α/β, so that u' = −(α/β) u at the end.
 func (e End) ratio() float64 {
 	if e.Kind == Robin {
@@ -104,6 +116,11 @@ type Interval struct {
 	H           float64 // spacing
 	Left, Right End
 	first, last int // point indices of the first and last unknown
+	// dataScale[side] turns the right-hand side g of the condition at an
+	// end into the value it prescribes: u = s·g at a Dirichlet end (s = 1,
+	// or 1/α for a Robin condition with β = 0), u' = s·g − (α/β)u at a
+	// Neumann or Robin end (s = 1/β, or 1 for Neumann).
+	dataScale [2]float64
 }
 
 // NewInterval returns the grid of n points on [a, b]. It returns an error
@@ -125,7 +142,7 @@ func NewInterval(a, b float64, n int, left, right End) (*Interval, error) {
 	if (l.Kind == Periodic) != (r.Kind == Periodic) {
 		return nil, fmt.Errorf("%w: periodic at one end only (%v, %v)", ErrGrid, l.Kind, r.Kind)
 	}
-	g := &Interval{A: a, B: b, N: n, Left: l, Right: r}
+	g := &Interval{A: a, B: b, N: n, Left: l, Right: r, dataScale: [2]float64{dataScale(left), dataScale(right)}}
 	if l.Kind == Periodic {
 		if n < 2 {
 			return nil, fmt.Errorf("%w: periodic grid with %d points", ErrGrid, n)
@@ -146,6 +163,20 @@ func NewInterval(a, b float64, n int, left, right End) (*Interval, error) {
 		g.last = n - 2
 	}
 	return g, nil
+}
+
+// EndValue returns the value u takes at the left (side 0) or right (1)
+// end when that end is Dirichlet with right-hand side g, and false when
+// the end is not Dirichlet.
+func (g *Interval) EndValue(side int, datum float64) (float64, bool) {
+	e := g.Left
+	if side == 1 {
+		e = g.Right
+	}
+	if e.Kind != Dirichlet {
+		return 0, false
+	}
+	return datum * g.dataScale[side], true
 }
 
 // Periodic reports whether the grid is periodic.
@@ -228,10 +259,34 @@ func (g *Interval) D1(order int) (*linop.CSR, error) { return g.diff(1, order) }
 // another order or a grid too small for the stencils.
 func (g *Interval) D2(order int) (*linop.CSR, error) { return g.diff(2, order) }
 
-func (g *Interval) diff(m, order int) (*linop.CSR, error) {
-	if order != 2 && order != 4 {
-		return nil, fmt.Errorf("%w: finite-difference order %d (2 or 4)", ErrGrid, order)
+// Lift returns the columns through which boundary data enter the m-th
+// derivative (m = 1 or 2) of the given order: when the end conditions have
+// right-hand sides g_left and g_right (u = g at a Dirichlet end, u' = g at
+// a Neumann end, αu + βu' = g at a Robin end), the derivative of the grid
+// function is D u + left·g_left + right·g_right, with D from D1 or D2 (the
+// homogeneous conditions) and u the unknowns. This is the lifting of the
+// data into a forcing term: u' = L u with data becomes u' = L u + b(t).
+// A periodic grid has no data and gives zero columns.
+func (g *Interval) Lift(m, order int) (left, right []float64, err error) {
+	_, lift, err := g.diffLift(m, order)
+	if err != nil {
+		return nil, nil, err
 	}
+	return lift[0], lift[1], nil
+}
+
+func (g *Interval) diff(m, order int) (*linop.CSR, error) {
+	d, _, err := g.diffLift(m, order)
+	return d, err
+}
+
+// diffLift returns the derivative matrix and its lifting columns (Lift).
+func (g *Interval) diffLift(m, order int) (*linop.CSR, [2][]float64, error) {
+	var lift [2][]float64
+	if order != 2 && order != 4 {
+		return nil, lift, fmt.Errorf("%w: finite-difference order %d (2 or 4)", ErrGrid, order)
+	}
+	lift[0], lift[1] = make([]float64, g.Size()), make([]float64, g.Size())
 	half := order / 2 // central stencil reaches ±half (m = 1, 2)
 	n := g.N
 	var is, js []int
@@ -239,7 +294,7 @@ func (g *Interval) diff(m, order int) (*linop.CSR, error) {
 	scale := math.Pow(g.H, -float64(m))
 	if g.Periodic() {
 		if n < 2*half+1 {
-			return nil, fmt.Errorf("%w: periodic grid of %d points for order %d", ErrGrid, n, order)
+			return nil, lift, fmt.Errorf("%w: periodic grid of %d points for order %d", ErrGrid, n, order)
 		}
 		w := Weights(offsets(-half, half, 0), m, false)
 		for i := 0; i < n; i++ {
@@ -249,30 +304,35 @@ func (g *Interval) diff(m, order int) (*linop.CSR, error) {
 				}
 			}
 		}
-		return linop.NewCSRFromTriplets(n, n, is, js, vs), nil
+		return linop.NewCSRFromTriplets(n, n, is, js, vs), lift, nil
 	}
 	// One-sided windows: width order+m points (exact to degree order+m−1).
 	width := order + m
 	if n < width+1 {
-		return nil, fmt.Errorf("%w: %d points for a derivative of order %d (at least %d)", ErrGrid, n, order, width+1)
+		return nil, lift, fmt.Errorf("%w: %d points for a derivative of order %d (at least %d)", ErrGrid, n, order, width+1)
 	}
 	add := func(row, point int, v float64) {
-		if point < g.first || point > g.last {
-			return // a Dirichlet end value, zero
+		switch {
+		case point < g.first: // the left Dirichlet end, u = s·g there
+			lift[0][row-g.first] += v * g.dataScale[0]
+		case point > g.last:
+			lift[1][row-g.first] += v * g.dataScale[1]
+		default:
+			is, js, vs = append(is, row-g.first), append(js, point-g.first), append(vs, v)
 		}
-		is, js, vs = append(is, row-g.first), append(js, point-g.first), append(vs, v)
 	}
 	for i := g.first; i <= g.last; i++ {
 		atEnd := i == 0 || i == n-1
 		switch {
 		case atEnd:
-			e, sign := g.Left, 1
+			e, sign, side := g.Left, 1, 0
 			if i == n-1 {
-				e, sign = g.Right, -1
+				e, sign, side = g.Right, -1, 1
 			}
-			r := e.ratio() // u' = −r u at the end
+			r := e.ratio() // u' = s·g − r u at the end
 			if m == 1 {
 				add(i, i, -r)
+				lift[side][i-g.first] += g.dataScale[side]
 				continue
 			}
 			// Hermite closure: points i, i±1, …, i±(order/2·… ) plus the slope.
@@ -293,6 +353,7 @@ func (g *Interval) diff(m, order int) (*linop.CSR, error) {
 				}
 				add(i, i+sign*k, v*scale)
 			}
+			lift[side][i-g.first] += c * g.H * g.dataScale[side] * scale
 		case i-half >= 0 && i+half <= n-1:
 			w := Weights(offsets(i-half, i+half, i), m, false)
 			for k, wk := range w {
@@ -312,5 +373,5 @@ func (g *Interval) diff(m, order int) (*linop.CSR, error) {
 		}
 	}
 	s := g.Size()
-	return linop.NewCSRFromTriplets(s, s, is, js, vs), nil
+	return linop.NewCSRFromTriplets(s, s, is, js, vs), lift, nil
 }

@@ -27,7 +27,7 @@ func eigReal(t *testing.T, m *mat.Dense, tol float64) []float64 {
 	return out
 }
 
-// A different condition at each end. Closed form: −u'' = λu, u(0) = 0,
+// A different condition at each end. Closed form: −u” = λu, u(0) = 0,
 // u'(L) = 0 has λ_k = ((k − ½)π/L)², k = 1, 2, …, eigenfunctions
 // sin((k − ½)πx/L). The order-2 ghost-point matrix on the unknowns
 // x_1..x_{n−1} has the same eigenvectors sampled, with eigenvalues
@@ -98,5 +98,70 @@ func TestDirichletNeumannSpectrum(t *testing.T) {
 	t.Logf("Dirichlet–Robin order 4: relative errors %.3g, %.3g, observed order %.2f", errs[0], errs[1], p)
 	if p < 3.5 || p > 4.5 {
 		t.Errorf("Dirichlet–Robin order 4: observed order %.2f (errors %.3g, %.3g)", p, errs[0], errs[1])
+	}
+}
+
+// Boundary data lifted into a forcing: for u = e^{x/2} cos x (testFunc),
+// which satisfies no homogeneous condition, the right-hand sides g of the
+// end conditions are computed from u and its slope (Taylor: an order-p
+// formula has error O(h^p)), and D u + left·g_left + right·g_right must
+// approach u^(m) at the unknowns at the formula's order. Rows at Neumann
+// and Robin end points of the order-2 D2 are one order less accurate
+// locally (as in TestObservedOrder) and are left out.
+func TestLiftObservedOrder(t *testing.T) {
+	ends := map[string]End{"dirichlet": DirichletEnd, "neumann": NeumannEnd,
+		"robin": RobinEnd(2, -0.5), "robin-dirichlet": RobinEnd(3, 0), "robin-neumann": RobinEnd(0, 4)}
+	rhs := func(e End, x float64) float64 {
+		u, du, _ := testFunc(x)
+		switch e.Kind {
+		case Dirichlet:
+			return u
+		case Neumann:
+			return du
+		}
+		return e.Alpha*u + e.Beta*du
+	}
+	for ln, le := range ends {
+		for rn, re := range ends {
+			for _, m := range []int{1, 2} {
+				for _, order := range []int{2, 4} {
+					var errs [2]float64
+					for r, n := range []int{41, 81} {
+						g, err := NewInterval(0, 1, n, le, re)
+						if err != nil {
+							t.Fatal(err)
+						}
+						d, _ := g.diff(m, order)
+						left, right, err := g.Lift(m, order)
+						if err != nil {
+							t.Fatal(err)
+						}
+						x := g.X()
+						u := make([]float64, len(x))
+						for k, xv := range x {
+							u[k], _, _ = testFunc(xv)
+						}
+						got := make([]float64, len(x))
+						d.Apply(got, u)
+						gl, gr := rhs(le, 0), rhs(re, 1)
+						for k, xv := range x {
+							if order == 2 && m == 2 && (xv == 0 || xv == 1) {
+								continue
+							}
+							_, du, d2u := testFunc(xv)
+							want := du
+							if m == 2 {
+								want = d2u
+							}
+							errs[r] = math.Max(errs[r], math.Abs(got[k]+left[k]*gl+right[k]*gr-want))
+						}
+					}
+					p := math.Log2(errs[0] / errs[1])
+					if math.Abs(p-float64(order)) > 0.3 {
+						t.Errorf("%s–%s D%d order %d with data: observed order %.2f (errors %.3g, %.3g)", ln, rn, m, order, p, errs[0], errs[1])
+					}
+				}
+			}
+		}
 	}
 }
