@@ -68,7 +68,7 @@ var guardArgs = map[string]string{
 	"B": "L", "u0": "[1, 2]", "t": "0.1", "z": "1", "eps": "0.1", "re": "-1",
 	"b": "1", "n": "5", "v": "[1, 2]", "x": "1", "a": "1", "f": "same",
 	"g": "interval(0, 1, 5)", "gy": "interval(0, 1, 5)", "transitions": "[[0, 1, 1]]",
-	"sizes": "[1]", "path": "PATH",
+	"sizes": "[1]", "path": "PATH", "guess": "[1, 2]",
 }
 
 // guardVariants are further calls, options included, that take other
@@ -81,6 +81,8 @@ var guardVariants = map[string][]string{
 	"kronsum":        {"kronsum(A, A)"},
 	"resolventline":  {"resolventline(A, -1, n=2)"},
 	"numrange":       {"numrange(A, points=8)"},
+	"steadystate":    {"steadystate(A, 0)", "steadystate(A, 0, nonlinear=same)"},
+	"linearisation":  {"linearisation(A, state=0, nonlinear=same)"},
 }
 
 // guardAnalyses must fail on an operator of order 10¹⁰: their work vectors

@@ -29,6 +29,7 @@ func init() {
 		{"Grids and grid functions", [][]*Builtin{gridFamily}},
 		{"Operators", [][]*Builtin{operatorFamily, blockFamily}},
 		{"Evolution u(t) = e^{tA} u0", [][]*Builtin{propagateFamily}},
+		{"Steady states and linearisation", [][]*Builtin{steadyFamily}},
 		{"Stability: spectra, numerical range, resolvents, growth", [][]*Builtin{stabilityFamily}},
 		{"Data, tables and files", [][]*Builtin{csvFamily, sweepFamily, figureFamily}},
 		{"Figures and tables of your own data", [][]*Builtin{plotFamily}},

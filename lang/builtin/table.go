@@ -31,6 +31,7 @@ var families = [][]*Builtin{
 	blockFamily,
 	csvFamily,
 	sweepFamily,
+	steadyFamily,
 }
 
 // Example is code that must run in a fresh session, and the text/plain of

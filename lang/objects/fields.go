@@ -69,6 +69,7 @@ var columnAliases = map[string]map[string]int{
 	"resolventline":  {"im": 0, "norms": 1},
 	"growth":         {"norms": 1},
 	"generator":      {"powers": 0, "M_n": 1, "lambdas": 2},
+	"steady state":   {"residuals": 1, "updates": 2},
 }
 
 // aliasOrder lists each kind's aliases in column order, for FieldNames.
@@ -79,6 +80,7 @@ var aliasOrder = map[string][]string{
 	"resolventline":  {"im", "norms"},
 	"growth":         {"norms"},
 	"generator":      {"powers", "M_n", "lambdas"},
+	"steady state":   {"residuals", "updates"},
 }
 
 // column returns column j of the table as a vector (a list when it holds

@@ -87,6 +87,12 @@ func structure(op linop.Operator) string {
 		return "diagonal"
 	case *linop.Block:
 		return fmt.Sprintf("%d×%d blocks (sizes %s)", len(t.RowSizes), len(t.ColSizes), blockSizesText(t))
+	case *linop.Sum:
+		parts := make([]string, len(t.Terms))
+		for k, term := range t.Terms {
+			parts[k] = structure(term)
+		}
+		return "sum of " + strings.Join(parts, " and ")
 	}
 	return "matrix-free"
 }

@@ -44,26 +44,35 @@ type LineSearchError struct {
 	Step     int
 	Residual float64
 	Damping  float64 // the smallest damping tried
+	Update   float64 // ‖δ‖∞ of the full step
 }
 
 func (e *LineSearchError) Error() string {
-	return fmt.Sprintf("Newton step %d does not reduce ‖F‖ (‖F‖∞ = %.3g) even damped to %g of its length: the guess is too far from a steady state, or none is near", e.Step, e.Residual, e.Damping)
+	return fmt.Sprintf("Newton step %d does not reduce ‖F‖ (‖F‖∞ = %.3g; full step ‖δ‖∞ = %.3g) even shortened to 1/%.0f of its length: ‖F‖ has a local minimum near here where A + N'(u) is close to singular; start from a guess closer to a steady state", e.Step, e.Residual, e.Update, 1/e.Damping)
 }
 
 // NonFiniteError: a value became NaN or infinite.
 type NonFiniteError struct {
 	What  string
-	Step  int // 0 when not inside a step
+	Where string // "at the guess", "at Newton step 3", or ""
 	Index int
 	Value float64
 }
 
 func (e *NonFiniteError) Error() string {
 	s := fmt.Sprintf("%s is not finite: entry %d is %g", e.What, e.Index, e.Value)
-	if e.Step > 0 {
-		s += fmt.Sprintf(" at Newton step %d", e.Step)
+	if e.Where != "" {
+		s += " " + e.Where
 	}
 	return s
+}
+
+// locate sets where a non-finite value appeared.
+func locate(err error, where string) error {
+	if nf, ok := err.(*NonFiniteError); ok && nf.Where == "" {
+		nf.Where = where
+	}
+	return err
 }
 
 // JacobianError: a Jacobian disagrees with the directional derivative of N.

@@ -594,3 +594,14 @@ func (d *differ) group(u, f0 []float64, cols []int) ([]float64, error) {
 	}
 	return out, nil
 }
+
+// JacobianAt returns N'(u), found and checked as Solve finds it at a
+// steady state (the first structure that passes the check along a random
+// direction, or the given Jacobian checked).
+func JacobianAt(ctx context.Context, a linop.Operator, term Term, u []float64) (*Jacobian, error) {
+	n, c := a.Dims()
+	if n != c || len(u) != n {
+		return nil, fmt.Errorf("%w: operator %d×%d, state of %d entries", ErrShape, n, c, len(u))
+	}
+	return newDiffer(ctx, a, term).Decide(u)
+}

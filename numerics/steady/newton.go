@@ -61,7 +61,7 @@ type Result struct {
 	Tol      float64
 	TolMet   bool
 	Steps    []Step
-	Evals    int // evaluations of N, complex ones included
+	Evals    int       // evaluations of N, complex ones included
 	Jac      *Jacobian // N'(u*), checked
 	J        linop.Operator
 	Solver   string // the factorisation used for J
@@ -181,7 +181,7 @@ func Solve(ctx context.Context, a linop.Operator, f []float64, term Term, u0 []f
 	res := &Result{Tol: opt.Tol}
 	r, rho, err := p.residual(u, fu)
 	if err != nil {
-		return nil, err
+		return nil, locate(err, "at the guess")
 	}
 	ut, ft := make([]float64, n), make([]float64, n)
 	slow := 0 // consecutive full steps that did not halve ‖F‖ near the rounding level
@@ -202,7 +202,10 @@ func Solve(ctx context.Context, a linop.Operator, f []float64, term Term, u0 []f
 		}
 		jn, err := p.d.At(u)
 		if err != nil {
-			return nil, err
+			if k == 1 {
+				return nil, locate(err, "at the guess")
+			}
+			return nil, locate(err, fmt.Sprintf("at Newton step %d", k))
 		}
 		s, _, err := factor(ctx, Linearisation(a, jn.Op))
 		if err != nil {
@@ -236,8 +239,8 @@ func Solve(ctx context.Context, a linop.Operator, f []float64, term Term, u0 []f
 				break
 			}
 			lambda /= 2
-			if lambda < 1.0/1024 {
-				return nil, &LineSearchError{Step: k, Residual: r, Damping: 2 * lambda}
+			if lambda < 0x1p-20 {
+				return nil, &LineSearchError{Step: k, Residual: r, Damping: 2 * lambda, Update: normInf(delta)}
 			}
 		}
 		upd := lambda * normInf(delta)
@@ -262,7 +265,7 @@ func Solve(ctx context.Context, a linop.Operator, f []float64, term Term, u0 []f
 	// ‖J⁻¹‖∞.
 	jn, err := p.d.Decide(u)
 	if err != nil {
-		return nil, err
+		return nil, locate(err, "at the steady state found")
 	}
 	j := Linearisation(a, jn.Op)
 	s, how, err := factor(ctx, j)
