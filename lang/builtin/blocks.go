@@ -202,6 +202,9 @@ func blockRow(c *eval.Call, i int, rv value.Value) ([]blockEntry, error) {
 			if len(t.Lift) > 0 {
 				return nil, value.ValueErrorf("blocks: block (%d, %d) carries boundary data, which a block operator cannot pass on; build it on a grid with homogeneous ends and give the data as a forcing", i, j)
 			}
+			if t.IsComplex() {
+				return nil, value.TypeErrorf("blocks: block (%d, %d) is a complex operator; blocks are real operators, matrices or numbers (build a complex block operator as blocks of real parts plus 1i times blocks of imaginary parts)", i, j)
+			}
 			r, k := t.Op.Dims()
 			row[j] = blockEntry{op: t.Op, r: r, c: k}
 		case *value.Matrix:

@@ -3,6 +3,7 @@ package builtin
 import (
 	"fmt"
 	"math"
+	"sort"
 	"strings"
 
 	"semiflow/lang/eval"
@@ -164,7 +165,7 @@ var gridFamily = []*Builtin{
 			req("f", "a function f(x) (1-D grid) or f(x, y) (2-D grid) returning a number, or a number"),
 			req("g", "a grid"),
 		},
-		Doc: "The grid function u_k = f(x_k) (or f(x_k, y_k) on a 2-D grid) at the grid's unknowns, as a vector. A number gives the constant function. " +
+		Doc: "The grid function u_k = f(x_k) (or f(x_k, y_k) on a 2-D grid) at the grid's unknowns, as a vector (complex when f gives complex values). A number gives the constant function. " +
 			"f is first called once with the coordinate vectors (arithmetic acts entry-wise) and, if that does not give one number per unknown, once per unknown.",
 		Examples: []Example{
 			{"f(x) = x^2; tabulate(f, interval(0, 1, 5))", "[0.0625, 0.25, 0.5625]"},
@@ -175,11 +176,18 @@ var gridFamily = []*Builtin{
 			if err != nil {
 				return nil, err
 			}
-			u, err := sampleOn(c, "f", c.Args[0], g)
+			re, im, err := sampleOnComplex(c, "f", c.Args[0], g)
 			if err != nil {
 				return nil, err
 			}
-			return value.RealVec(u), nil
+			if im == nil {
+				return value.RealVec(re), nil
+			}
+			z := make([]complex128, len(re))
+			for i := range z {
+				z[i] = complex(re[i], im[i])
+			}
+			return value.ComplexVec(z), nil
 		},
 	},
 }
@@ -410,20 +418,43 @@ func perEndReals(c *eval.Call, i int) ([2]float64, error) {
 	return out, nil
 }
 
-// sampleOn evaluates f (a function or a number) at the unknowns of g.
+// sampleOn evaluates f (a function or a number) at the unknowns of g; f
+// must give real values.
 func sampleOn(c *eval.Call, name string, f value.Value, g *objects.Grid) ([]float64, error) {
+	re, im, err := sampleOnComplex(c, name, f, g)
+	if err != nil {
+		return nil, err
+	}
+	if im != nil {
+		return nil, value.TypeErrorf("%s: %s must give real numbers here, not complex ones", c.Name, name)
+	}
+	return re, nil
+}
+
+// sampleOnComplex evaluates f (a function, a number or a complex number)
+// at the unknowns of g: the real parts, and the imaginary parts (nil when
+// every value is real).
+func sampleOnComplex(c *eval.Call, name string, f value.Value, g *objects.Grid) (re, im []float64, err error) {
 	x, y := g.Coords()
 	n := len(x)
-	if num, ok := f.(value.Num); ok {
-		u := make([]float64, n)
-		for i := range u {
-			u[i] = float64(num)
+	switch num := f.(type) {
+	case value.Num, value.Complex:
+		z, _ := asComplex(num)
+		re = make([]float64, n)
+		for i := range re {
+			re[i] = real(z)
 		}
-		return u, nil
+		if _, ok := num.(value.Complex); ok {
+			im = make([]float64, n)
+			for i := range im {
+				im[i] = imag(z)
+			}
+		}
+		return re, im, nil
 	}
 	fn, ok := f.(value.Callable)
 	if !ok {
-		return nil, value.TypeErrorf("%s: %s must be a function or a number, not %s", c.Name, name, value.TypeName(f))
+		return nil, nil, value.TypeErrorf("%s: %s must be a function or a number, not %s", c.Name, name, value.TypeName(f))
 	}
 	args := func(xv, yv value.Value) []value.Value {
 		if y == nil {
@@ -436,7 +467,7 @@ func sampleOn(c *eval.Call, name string, f value.Value, g *objects.Grid) ([]floa
 		if want == 2 {
 			of = "(x, y) on a 2-D grid"
 		}
-		return nil, value.TypeErrorf("%s: %s must be a function of %s, not %s", c.Name, name, of, eval.SignatureText(fn.Name(), fn.Params()))
+		return nil, nil, value.TypeErrorf("%s: %s must be a function of %s, not %s", c.Name, name, of, eval.SignatureText(fn.Name(), fn.Params()))
 	}
 	// Whole-vector call first.
 	var yv value.Value
@@ -446,36 +477,56 @@ func sampleOn(c *eval.Call, name string, f value.Value, g *objects.Grid) ([]floa
 	if r, err := c.Apply(f, args(value.RealVec(x), yv)...); err == nil {
 		switch t := r.(type) {
 		case *value.Vec:
-			if !t.IsComplex() && len(t.R) == n {
-				return append([]float64(nil), t.R...), nil
+			if t.Len() == n {
+				if !t.IsComplex() {
+					return append([]float64(nil), t.R...), nil, nil
+				}
+				re, im = make([]float64, n), make([]float64, n)
+				for i, z := range t.C {
+					re[i], im[i] = real(z), imag(z)
+				}
+				return re, im, nil
 			}
-		case value.Num:
-			u := make([]float64, n)
-			for i := range u {
-				u[i] = float64(t)
-			}
-			return u, nil
+		case value.Num, value.Complex:
+			return sampleOnComplex(c, name, t, g)
 		}
 	} else if isStop(err) {
-		return nil, err
+		return nil, nil, err
 	}
-	u := make([]float64, n)
-	for i := range u {
+	re = make([]float64, n)
+	for i := range re {
 		var yi value.Value
 		if y != nil {
 			yi = value.Num(y[i])
 		}
 		r, err := c.Apply(f, args(value.Num(x[i]), yi)...)
 		if err != nil {
-			return nil, err
+			return nil, nil, err
 		}
-		num, ok := r.(value.Num)
+		z, ok := asComplex(r)
 		if !ok {
-			return nil, value.TypeErrorf("%s: %s must return a real number, but at x = %s it returned %s", c.Name, name, value.FormatNum(x[i]), value.TypeName(r))
+			return nil, nil, value.TypeErrorf("%s: %s must return a number, but at x = %s it returned %s", c.Name, name, value.FormatNum(x[i]), value.TypeName(r))
 		}
-		u[i] = float64(num)
+		re[i] = real(z)
+		if _, isC := r.(value.Complex); isC {
+			if im == nil {
+				im = make([]float64, n)
+			}
+			im[i] = imag(z)
+		}
 	}
-	return u, nil
+	return re, im, nil
+}
+
+// asComplex returns a number or complex number as a complex128.
+func asComplex(v value.Value) (complex128, bool) {
+	switch t := v.(type) {
+	case value.Num:
+		return complex(float64(t), 0), true
+	case value.Complex:
+		return complex128(t), true
+	}
+	return 0, false
 }
 
 // isStop reports errors that must not be retried (interrupts and limits).
@@ -567,5 +618,34 @@ func argOperator(c *eval.Call, i int) (*objects.Operator, error) {
 		e := err.(*value.Error)
 		return nil, &value.Error{Name: e.Name, Msg: fmt.Sprintf("%s: %s %s", c.Name, paramName(c, i), e.Msg), Cause: e.Cause}
 	}
+	if err := complexGate(c, i, a); err != nil {
+		return nil, err
+	}
 	return a, nil
+}
+
+// complexGate refuses a complex operator as argument i of a builtin that
+// works on real operators only.
+func complexGate(c *eval.Call, i int, a *objects.Operator) error {
+	if a.IsComplex() && !complexReady[c.Name] {
+		return value.TypeErrorf("%s: %s is a complex operator; %s works on real operators only (complex operators go to %s)", c.Name, paramName(c, i), c.Name, complexReadyList())
+	}
+	return nil
+}
+
+// complexReady names the builtins that accept complex operators; every
+// other builtin taking an operator refuses one with a clear message.
+var complexReady = map[string]bool{
+	"operator": true, "kronsum": true, "adjoint": true, "dense": true, "size": true,
+	"propagate": true, "semigroup": true,
+}
+
+// complexReadyList lists complexReady's names, sorted.
+func complexReadyList() string {
+	names := make([]string, 0, len(complexReady))
+	for k := range complexReady {
+		names = append(names, k)
+	}
+	sort.Strings(names)
+	return strings.Join(names, ", ")
 }

@@ -96,9 +96,9 @@ var operatorFamily = []*Builtin{
 		Name: "multiplier",
 		Params: []value.Param{
 			req("g", "a grid"),
-			req("f", "the coefficient: a function f(x) (f(x, y) on a 2-D grid), a number, or a vector of values at the unknowns"),
+			req("f", "the coefficient: a function f(x) (f(x, y) on a 2-D grid), a number, or a vector of values at the unknowns; real or complex"),
 		},
-		Doc: "Multiplication by a coefficient function, (M u)_k = f(x_k) u_k: the diagonal operator diag(f(x_k)) on the grid's unknowns. Combined with deriv it builds variable-coefficient operators such as multiplier(g, a) * deriv(g, k=2).",
+		Doc: "Multiplication by a coefficient function, (M u)_k = f(x_k) u_k: the diagonal operator diag(f(x_k)) on the grid's unknowns. Combined with deriv it builds variable-coefficient operators such as multiplier(g, a) * deriv(g, k=2). A complex coefficient gives a complex operator.",
 		Examples: []Example{
 			{"g = interval(0, 1, 5); sq(x) = x^2; multiplier(g, sq) * [1, 1, 1]", "[0.0625, 0.25, 0.5625]"},
 		},
@@ -107,16 +107,19 @@ var operatorFamily = []*Builtin{
 			if err != nil {
 				return nil, err
 			}
-			var d []float64
+			var d, di []float64
 			label := "multiplier"
 			switch f := c.Args[1].(type) {
 			case *value.Vec, *value.Range:
-				re, _, err := numbers(c, "f", f)
+				re, cx, err := numbers(c, "f", f)
 				if err != nil {
 					return nil, err
 				}
-				if re == nil {
-					return nil, value.TypeErrorf("multiplier: the coefficient must be real")
+				if cx != nil {
+					re, di = make([]float64, len(cx)), make([]float64, len(cx))
+					for i, z := range cx {
+						re[i], di[i] = real(z), imag(z)
+					}
 				}
 				if len(re) != g.Size() {
 					return nil, value.ValueErrorf("multiplier: the grid has %d unknowns but the vector f has %d entries", g.Size(), len(re))
@@ -126,17 +129,22 @@ var operatorFamily = []*Builtin{
 				if fn, ok := f.(value.Callable); ok {
 					label = "multiplier(" + fn.Name() + ")"
 				}
-				if d, err = sampleOn(c, "f", f, g); err != nil {
+				if d, di, err = sampleOnComplex(c, "f", f, g); err != nil {
 					return nil, err
 				}
 			}
-			if k := firstNonFinite(d); k >= 0 {
-				x, y := g.Coords()
-				at := "x = " + value.FormatNum(x[k])
-				if y != nil {
-					at = "(x, y) = (" + value.FormatNum(x[k]) + ", " + value.FormatNum(y[k]) + ")"
+			for _, part := range [][]float64{d, di} {
+				if k := firstNonFinite(part); k >= 0 {
+					x, y := g.Coords()
+					at := "x = " + value.FormatNum(x[k])
+					if y != nil {
+						at = "(x, y) = (" + value.FormatNum(x[k]) + ", " + value.FormatNum(y[k]) + ")"
+					}
+					return nil, value.ValueErrorf("multiplier: the coefficient must be finite, but at unknown %d, %s, it is %s", k, at, value.FormatNum(part[k]))
 				}
-				return nil, value.ValueErrorf("multiplier: the coefficient must be finite, but at unknown %d, %s, it is %s", k, at, value.FormatNum(d[k]))
+			}
+			if di != nil {
+				return &objects.Operator{Op: linop.NewComplex(&linop.Diag{D: d}, &linop.Diag{D: di}), Grid: g, Label: label}, nil
 			}
 			return &objects.Operator{Op: &linop.Diag{D: d}, Grid: g, Label: label}, nil
 		},
@@ -153,6 +161,13 @@ var operatorFamily = []*Builtin{
 			if m, ok := c.Args[0].(*value.Matrix); ok && m.Rows == m.Cols {
 				if k := firstNonFinite(m.Data); k >= 0 {
 					return nil, value.ValueErrorf("operator: an operator needs finite entries; M[%d, %d] = %s", k/m.Cols, k%m.Cols, value.FormatNum(m.Data[k]))
+				}
+			}
+			if m, ok := c.Args[0].(*value.CMatrix); ok && m.Rows == m.Cols {
+				for k, z := range m.Data {
+					if math.IsNaN(real(z)) || math.IsNaN(imag(z)) || math.IsInf(real(z), 0) || math.IsInf(imag(z), 0) {
+						return nil, value.ValueErrorf("operator: an operator needs finite entries; M[%d, %d] = %s", k/m.Cols, k%m.Cols, value.FormatComplex(z))
+					}
 				}
 			}
 			return argOperator(c, 0)
@@ -216,12 +231,16 @@ var operatorFamily = []*Builtin{
 			if err != nil {
 				return nil, err
 			}
-			if m, ok := v.(*value.Matrix); ok {
+			switch m := v.(type) {
+			case *value.Matrix, *value.CMatrix:
 				return m, nil
 			}
 			a, err := argOperator(c, 0)
 			if err != nil {
 				return nil, err
+			}
+			if z, ok := a.Op.(*linop.Complex); ok {
+				return complexDenseOf(c, z)
 			}
 			return denseOf(c, a)
 		},
@@ -243,9 +262,11 @@ var operatorFamily = []*Builtin{
 			case *objects.Grid:
 				return value.Num(t.Size()), nil
 			case *objects.Operator:
-				r, k := t.Op.Dims()
+				r, k := t.Dims()
 				return value.RealVec([]float64{float64(r), float64(k)}), nil
 			case *value.Matrix:
+				return value.RealVec([]float64{float64(t.Rows), float64(t.Cols)}), nil
+			case *value.CMatrix:
 				return value.RealVec([]float64{float64(t.Rows), float64(t.Cols)}), nil
 			}
 			return nil, value.TypeErrorf("size: A must be an operator, matrix or grid, not %s", value.TypeName(v))
@@ -371,6 +392,28 @@ func denseOf(c *eval.Call, a *objects.Operator) (*value.Matrix, error) {
 	return out, nil
 }
 
+// complexDenseOf is the complex matrix B + iC of a complex operator.
+func complexDenseOf(c *eval.Call, z *linop.Complex) (*value.CMatrix, error) {
+	r, k := z.ComplexDims()
+	if err := memguard.DenseComplex(r, k); err != nil {
+		return nil, value.Errorf(value.ClassMemory, "%s: %v", c.Name, err)
+	}
+	if err := c.CheckSize(2*float64(r)*float64(k), c.Name+": the matrix"); err != nil {
+		return nil, err
+	}
+	b, cm, err := z.DenseParts()
+	if err != nil {
+		return nil, value.ValueErrorf("%s: %v", c.Name, err)
+	}
+	out := value.NewCMatrix(r, k)
+	for i := 0; i < r; i++ {
+		for j := 0; j < k; j++ {
+			out.Data[i*k+j] = complex(b.At(i, j), cm.At(i, j))
+		}
+	}
+	return out, nil
+}
+
 func csrOf(c *eval.Call, a *objects.Operator) (*linop.CSR, error) {
 	if d, ok := a.Op.(*linop.Dense); ok {
 		return linop.CSRFromDense(d.Mat(), 0), nil
@@ -392,6 +435,20 @@ func adjointImpl(c *eval.Call) (value.Value, error) {
 	}
 	r, k := a.Op.Dims()
 	w := c.Args[1]
+	if z, ok := a.Op.(*linop.Complex); ok {
+		if w != value.None {
+			return nil, value.TypeErrorf("adjoint: a weighted adjoint of a complex operator is not available; without weight adjoint(A) is the conjugate transpose")
+		}
+		// (B + iC)* = Bᵀ − iCᵀ.
+		var re, im linop.Operator
+		if z.Re != nil {
+			re = &linop.Adjoint{A: z.Re}
+		}
+		if z.Im != nil {
+			im = &linop.Scaled{Alpha: -1, A: &linop.Adjoint{A: z.Im}}
+		}
+		return &objects.Operator{Op: linop.NewComplex(re, im), Grid: a.Grid, Label: a.Label + "*"}, nil
+	}
 	if w == value.None {
 		return &objects.Operator{Op: &linop.Adjoint{A: a.Op}, Grid: a.Grid, Label: a.Label + "*"}, nil
 	}
@@ -699,6 +756,9 @@ func writecsvImpl(c *eval.Call) (value.Value, error) {
 	var lines func(w *bufio.Writer)
 	switch t := v.(type) {
 	case *objects.Solution:
+		if t.Complex {
+			return nil, value.TypeErrorf("writecsv: complex solutions are not written; write re(sol[k]) and im(sol[k])")
+		}
 		lines = func(w *bufio.Writer) {
 			w.WriteString("t")
 			if len(t.S.Values) > 0 {
@@ -727,13 +787,15 @@ func writecsvImpl(c *eval.Call) (value.Value, error) {
 				w.WriteString("\n")
 			}
 		}
+	case *value.CMatrix:
+		return nil, value.TypeErrorf("writecsv: complex matrices are not written; write re(M) and im(M)")
 	case *value.Vec, *value.Range:
 		re, cx, err := numbers(c, "x", t)
 		if err != nil {
 			return nil, err
 		}
 		if cx != nil {
-			return nil, value.TypeErrorf("writecsv: complex vectors are not written; write real(v) and imag(v)")
+			return nil, value.TypeErrorf("writecsv: complex vectors are not written; write re(v) and im(v)")
 		}
 		lines = func(w *bufio.Writer) {
 			for _, x := range re {
@@ -836,6 +898,15 @@ func toJSON(v value.Value, depth int) (any, error) {
 			rows[i] = jsonNums(t.Data[i*t.Cols : (i+1)*t.Cols])
 		}
 		return rows, nil
+	case *value.CMatrix:
+		rows := make([][]any, t.Rows)
+		for i := range rows {
+			rows[i] = make([]any, t.Cols)
+			for j := range rows[i] {
+				rows[i][j], _ = toJSON(value.Complex(t.At(i, j)), depth+1)
+			}
+		}
+		return rows, nil
 	case value.List:
 		out := make([]any, len(t))
 		for i, e := range t {
@@ -854,9 +925,9 @@ func toJSON(v value.Value, depth int) (any, error) {
 		}
 		return m, nil
 	case *objects.Solution:
-		vals := make([][]jsonNum, len(t.S.Values))
-		for i, u := range t.S.Values {
-			vals[i] = jsonNums(u)
+		vals := make([]any, len(t.S.Values))
+		for i := range t.S.Values {
+			vals[i], _ = toJSON(t.Index(i), depth+1)
 		}
 		return map[string]any{
 			"method": t.S.Method, "reason": t.S.Reason, "tol": jsonNum(t.S.Tol),

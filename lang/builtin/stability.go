@@ -234,6 +234,9 @@ func stabOpArg(c *eval.Call, i int) (*objects.Operator, int, error) {
 		}
 		return nil, 0, err
 	}
+	if err := complexGate(c, i, op); err != nil {
+		return nil, 0, err
+	}
 	n, m := op.Dims()
 	if n != m {
 		return nil, 0, value.ValueErrorf("%s: %s must be square, not %d×%d", c.Name, paramName(c, i), n, m)

@@ -143,8 +143,8 @@ func (s *Solution) Field(name string) (value.Value, bool) {
 		return value.Num(float64(S.Solves)), true
 	case "norms":
 		n := make([]float64, len(S.Values))
-		for i, u := range S.Values {
-			n[i] = supNorm(u)
+		for i := range S.Values {
+			n[i] = supNorm(s.shownValues(i))
 		}
 		return value.RealVec(n), true
 	case "factorisations":

@@ -11,8 +11,11 @@ import (
 	"semiflow/numerics/linop"
 )
 
-// Operator is a language operator: a real linear map with the grid it acts
-// on (nil for explicit matrices) and a label describing how it was built.
+// Operator is a language operator: a linear map with the grid it acts on
+// (nil for explicit matrices) and a label describing how it was built. A
+// complex operator A = B + iC has Op of type *linop.Complex, its
+// realification acting on [Re u; Im u] (see linop.Complex); everything
+// user-visible — sizes, entries, vectors — is in terms of A itself.
 type Operator struct {
 	Op    linop.Operator
 	Grid  *Grid // may be nil
@@ -26,11 +29,29 @@ type Operator struct {
 
 func (a *Operator) Type() string { return "operator" }
 
-// Dims returns the dimensions of the operator.
-func (a *Operator) Dims() (r, c int) { return a.Op.Dims() }
+// Dims returns the dimensions of the operator (of A, not of its
+// realification, for a complex operator).
+func (a *Operator) Dims() (r, c int) {
+	if z, ok := a.Op.(*linop.Complex); ok {
+		return z.ComplexDims()
+	}
+	return a.Op.Dims()
+}
+
+// Size is the number of rows of A (the order of a square operator).
+func (a *Operator) Size() int {
+	r, _ := a.Dims()
+	return r
+}
+
+// IsComplex reports whether the operator is complex (Op a *linop.Complex).
+func (a *Operator) IsComplex() bool {
+	_, ok := a.Op.(*linop.Complex)
+	return ok
+}
 
 func (a *Operator) String() string {
-	r, c := a.Op.Dims()
+	r, c := a.Dims()
 	s := fmt.Sprintf("operator %s: %d×%d, %s", a.Label, r, c, structure(a.Op))
 	if a.Grid != nil {
 		s += "\n  on " + a.Grid.describe()
@@ -52,10 +73,23 @@ const ShownEntries = 8
 // rows and columns, column j as A e_j: the stored entries of a matrix or a
 // sparse operator; for a sum, product or Kronecker sum, the entries as its
 // product forms them. A larger operator gives nil.
-func (a *Operator) smallEntries() *value.Matrix {
-	r, c := a.Op.Dims()
+func (a *Operator) smallEntries() value.Indexable2 {
+	r, c := a.Dims()
 	if r == 0 || c == 0 || r > ShownEntries || c > ShownEntries {
 		return nil
+	}
+	if z, ok := a.Op.(*linop.Complex); ok {
+		m := value.NewCMatrix(r, c)
+		e, col := make([]float64, 2*c), make([]float64, 2*r)
+		for j := range c {
+			e[j] = 1
+			z.Apply(col, e)
+			e[j] = 0
+			for i := range r {
+				m.Data[i*c+j] = complex(col[i], col[r+i])
+			}
+		}
+		return m
 	}
 	m := value.NewMatrix(r, c)
 	e, col := make([]float64, c), make([]float64, r)
@@ -93,6 +127,14 @@ func structure(op linop.Operator) string {
 			parts[k] = structure(term)
 		}
 		return "sum of " + strings.Join(parts, " and ")
+	case *linop.Complex:
+		switch {
+		case t.Re == nil:
+			return "complex: i times a real operator, " + structure(t.Im)
+		case t.Im == nil:
+			return "complex: real entries, " + structure(t.Re)
+		}
+		return "complex: real part " + structure(t.Re) + ", imaginary part " + structure(t.Im)
 	}
 	return "matrix-free"
 }
@@ -110,8 +152,33 @@ func AsOperator(v value.Value) (*Operator, error) {
 			return nil, value.ValueErrorf("must be a square matrix to act as an operator, not %d×%d", t.Rows, t.Cols)
 		}
 		return FromMatrix(t), nil
+	case *value.CMatrix:
+		if t.Rows != t.Cols {
+			return nil, value.ValueErrorf("must be a square matrix to act as an operator, not %d×%d", t.Rows, t.Cols)
+		}
+		return FromCMatrix(t), nil
 	}
 	return nil, value.TypeErrorf("must be an operator or a square matrix, not %s", value.TypeName(v))
+}
+
+// FromCMatrix returns the complex operator with the entries of m (copied):
+// dense real and imaginary parts.
+func FromCMatrix(m *value.CMatrix) *Operator {
+	re, im := m.Parts()
+	return &Operator{Op: linop.NewComplex(FromMatrix(re).Op, FromMatrix(im).Op), Label: "matrix"}
+}
+
+// errComplexLift refuses complex arithmetic on an operator with boundary
+// data: the lifting of the data into the forcing is real.
+var errComplexLift = value.ValueErrorf("an operator with boundary data takes part only in real arithmetic; give a complex problem homogeneous ends and the data as a forcing")
+
+// Complexified returns a as a complex operator: a itself when complex, else
+// the operator with a's entries as real parts.
+func (a *Operator) Complexified() *linop.Complex {
+	if z, ok := a.Op.(*linop.Complex); ok {
+		return z
+	}
+	return linop.NewComplex(a.Op, nil)
 }
 
 // FromMatrix returns the dense operator with the entries of m (copied).
@@ -148,6 +215,30 @@ func (a *Operator) Binary(op syntax.Token, y value.Value, right bool) (value.Val
 			return a.scale(1/s, a.Label+"/"+value.FormatNum(s)), nil
 		}
 		return nil, value.TypeErrorf("unsupported operands for %s: %s and an operator; only s*A, A*s and A/s mix numbers with operators", op, "a number")
+	case value.Complex:
+		s := complex128(b)
+		if len(a.Lift) > 0 {
+			return nil, errComplexLift
+		}
+		switch {
+		case op == syntax.MUL:
+			return a.scaleComplex(s, value.FormatComplex(s)+"·"+a.Label), nil
+		case op == syntax.QUO && !right:
+			if s == 0 {
+				return nil, value.ValueErrorf("division of an operator by zero")
+			}
+			return a.scaleComplex(1/s, a.Label+"/("+value.FormatComplex(s)+")"), nil
+		}
+		return nil, value.TypeErrorf("unsupported operands for %s: %s and an operator; only s*A, A*s and A/s mix numbers with operators", op, "a complex number")
+	case *value.CMatrix:
+		if b.Rows != b.Cols {
+			return nil, value.ValueErrorf("an operator mixes only with square matrices, not %d×%d", b.Rows, b.Cols)
+		}
+		m := FromCMatrix(b)
+		if right {
+			return m.combine(op, a)
+		}
+		return a.combine(op, m)
 	case *value.Vec:
 		if op == syntax.MUL && !right {
 			return a.applyVec(b)
@@ -182,16 +273,28 @@ func (a *Operator) Unary(op syntax.Token) (value.Value, error) {
 }
 
 func (a *Operator) applyVec(v *value.Vec) (value.Value, error) {
-	r, c := a.Op.Dims()
-	if v.IsComplex() {
-		return nil, value.TypeErrorf("operators act on real vectors; apply to the real and imaginary parts separately")
+	r, c := a.Dims()
+	if v.Len() != c {
+		return nil, value.ValueErrorf("operator * vector: the operator is %d×%d but the vector has %d entries", r, c, v.Len())
 	}
-	if len(v.R) != c {
-		return nil, value.ValueErrorf("operator * vector: the operator is %d×%d but the vector has %d entries", r, c, len(v.R))
+	if !a.IsComplex() && !v.IsComplex() {
+		dst := make([]float64, r)
+		a.Op.Apply(dst, v.R)
+		return value.RealVec(dst), nil
 	}
-	dst := make([]float64, r)
-	a.Op.Apply(dst, v.R)
-	return value.RealVec(dst), nil
+	// A(x + iy) through the realification: [Re; Im] = Φ(A)[x; y].
+	z := a.Complexified()
+	x := make([]float64, 2*c)
+	for i, w := range v.Complex128() {
+		x[i], x[c+i] = real(w), imag(w)
+	}
+	dst := make([]float64, 2*r)
+	z.Apply(dst, x)
+	out := make([]complex128, r)
+	for i := range out {
+		out[i] = complex(dst[i], dst[r+i])
+	}
+	return value.ComplexVec(out), nil
 }
 
 // SameGrid returns the grid shared by a and b: either one's grid when the
@@ -209,6 +312,8 @@ func SameGrid(a, b *Grid) *Grid {
 func (a *Operator) scale(s float64, label string) *Operator {
 	out := &Operator{Grid: a.Grid, Label: label, Lift: scaleLift(s, a.Lift)}
 	switch t := a.Op.(type) {
+	case *linop.Complex:
+		out.Op = linop.NewComplex(scaleOpNil(s, t.Re), scaleOpNil(s, t.Im))
 	case *linop.CSR:
 		out.Op = linop.ScaleCSR(s, t)
 	case *linop.Dense:
@@ -233,7 +338,61 @@ func scaleOp(s float64, op linop.Operator) linop.Operator {
 	return (&Operator{Op: op}).scale(s, "").Op
 }
 
+// scaleOpNil is scaleOp with nil (a zero part) kept nil.
+func scaleOpNil(s float64, op linop.Operator) linop.Operator {
+	if op == nil {
+		return nil
+	}
+	return scaleOp(s, op)
+}
+
+// scaleComplex returns s·A for a complex s = p + iq: with A = B + iC,
+// (pB − qC) + i(qB + pC), parts that vanish kept nil. A real s keeps a
+// real operator real.
+func (a *Operator) scaleComplex(s complex128, label string) *Operator {
+	if imag(s) == 0 && !a.IsComplex() {
+		return a.scale(real(s), label)
+	}
+	z := a.Complexified()
+	p, q := real(s), imag(s)
+	comb := func(x float64, u linop.Operator, y float64, w linop.Operator) linop.Operator {
+		if x == 0 || u == nil {
+			return scaleOpNil(y, nilIfZero(y, w))
+		}
+		if y == 0 || w == nil {
+			return scaleOp(x, u)
+		}
+		return addOps(scaleOp(x, u), y, w)
+	}
+	re := comb(p, z.Re, -q, z.Im)
+	im := comb(q, z.Re, p, z.Im)
+	if re == nil && im == nil {
+		re = scaleOp(0, firstPart(z))
+	}
+	return &Operator{Op: linop.NewComplex(re, im), Grid: a.Grid, Label: label}
+}
+
+func nilIfZero(s float64, op linop.Operator) linop.Operator {
+	if s == 0 {
+		return nil
+	}
+	return op
+}
+
+func firstPart(z *linop.Complex) linop.Operator {
+	if z.Re != nil {
+		return z.Re
+	}
+	return z.Im
+}
+
 func (a *Operator) combine(op syntax.Token, b *Operator) (value.Value, error) {
+	if a.IsComplex() || b.IsComplex() {
+		if len(a.Lift) > 0 || len(b.Lift) > 0 {
+			return nil, errComplexLift
+		}
+		return a.combineComplex(op, b)
+	}
 	ar, ac := a.Op.Dims()
 	br, bc := b.Op.Dims()
 	g := SameGrid(a.Grid, b.Grid)
@@ -255,6 +414,66 @@ func (a *Operator) combine(op syntax.Token, b *Operator) (value.Value, error) {
 		// A(Bu + b) + a = ABu + (Ab + a).
 		lift := append(mapLift(a.Op, b.Lift), a.Lift...)
 		return &Operator{Op: mulOps(a.Op, b.Op), Grid: g, Label: a.Label + "·" + b.Label, Lift: lift}, nil
+	}
+	return nil, value.TypeErrorf("unsupported operands for %s: operator and operator (use +, −, * or kronsum)", op)
+}
+
+// combineComplex is combine when a or b is complex: parts add part by
+// part; (B₁ + iC₁)(B₂ + iC₂) = (B₁B₂ − C₁C₂) + i(B₁C₂ + C₁B₂).
+func (a *Operator) combineComplex(op syntax.Token, b *Operator) (value.Value, error) {
+	ar, ac := a.Dims()
+	br, bc := b.Dims()
+	g := SameGrid(a.Grid, b.Grid)
+	x, y := a.Complexified(), b.Complexified()
+	switch op {
+	case syntax.ADD, syntax.SUB:
+		if ar != br || ac != bc {
+			return nil, value.ValueErrorf("operator sizes differ for %s: %d×%d and %d×%d", op, ar, ac, br, bc)
+		}
+		sign := 1.0
+		if op == syntax.SUB {
+			sign = -1
+		}
+		add := func(u, w linop.Operator) linop.Operator {
+			switch {
+			case w == nil:
+				return u
+			case u == nil:
+				return scaleOpNil(sign, w)
+			}
+			return addOps(u, sign, w)
+		}
+		re, im := add(x.Re, y.Re), add(x.Im, y.Im)
+		if re == nil && im == nil {
+			re = scaleOp(0, firstPart(x))
+		}
+		return &Operator{Op: linop.NewComplex(re, im), Grid: g, Label: "(" + a.Label + " " + op.String() + " " + b.Label + ")"}, nil
+	case syntax.MUL:
+		if ac != br {
+			return nil, value.ValueErrorf("operator product needs inner sizes to agree: %d×%d times %d×%d", ar, ac, br, bc)
+		}
+		mul := func(u, w linop.Operator) linop.Operator {
+			if u == nil || w == nil {
+				return nil
+			}
+			return mulOps(u, w)
+		}
+		add := func(u linop.Operator, sign float64, w linop.Operator) linop.Operator {
+			switch {
+			case w == nil:
+				return u
+			case u == nil:
+				return scaleOpNil(sign, w)
+			}
+			return addOps(u, sign, w)
+		}
+		re := add(mul(x.Re, y.Re), -1, mul(x.Im, y.Im))
+		im := add(mul(x.Re, y.Im), 1, mul(x.Im, y.Re))
+		if re == nil && im == nil {
+			re = mulOps(firstPart(x), firstPart(y))
+			re = scaleOp(0, re)
+		}
+		return &Operator{Op: linop.NewComplex(re, im), Grid: g, Label: a.Label + "·" + b.Label}, nil
 	}
 	return nil, value.TypeErrorf("unsupported operands for %s: operator and operator (use +, −, * or kronsum)", op)
 }
@@ -323,15 +542,34 @@ func sparse(op linop.Operator) (*linop.CSR, bool) {
 // KronSum returns A ⊕ B = A ⊗ I + I ⊗ B of two square operators. Its grid is
 // the tensor product of their 1-D grids when both have one.
 func KronSum(a, b *Operator) (*Operator, error) {
-	ar, ac := a.Op.Dims()
-	br, bc := b.Op.Dims()
+	ar, ac := a.Dims()
+	br, bc := b.Dims()
 	if ar != ac || br != bc {
 		return nil, value.ValueErrorf("needs square operators, not %d×%d and %d×%d", ar, ac, br, bc)
 	}
 	if len(a.Lift) > 0 || len(b.Lift) > 0 {
 		return nil, value.ValueErrorf("needs operators without boundary data: data on a tensor grid vary along the boundary, which a 1-D datum cannot say; give the tensor grid's problem homogeneous ends and the data as a forcing")
 	}
-	out := &Operator{Op: linop.NewKronSum(a.Op, b.Op), Label: a.Label + " ⊕ " + b.Label}
+	var op linop.Operator
+	if a.IsComplex() || b.IsComplex() {
+		// (X₁ + iX₂) ⊕ (Y₁ + iY₂) = (X₁ ⊕ Y₁) + i(X₂ ⊕ Y₂): ⊕ is linear in each factor.
+		x, y := a.Complexified(), b.Complexified()
+		part := func(u, w linop.Operator) linop.Operator {
+			switch {
+			case u == nil && w == nil:
+				return nil
+			case u == nil:
+				u = &linop.Diag{D: make([]float64, ar)}
+			case w == nil:
+				w = &linop.Diag{D: make([]float64, br)}
+			}
+			return linop.NewKronSum(u, w)
+		}
+		op = linop.NewComplex(part(x.Re, y.Re), part(x.Im, y.Im))
+	} else {
+		op = linop.NewKronSum(a.Op, b.Op)
+	}
+	out := &Operator{Op: op, Label: a.Label + " ⊕ " + b.Label}
 	if a.Grid != nil && b.Grid != nil && a.Grid.Dim() == 1 && b.Grid.Dim() == 1 {
 		out.Grid = NewTensor(a.Grid, b.Grid)
 	}
@@ -343,7 +581,7 @@ func KronSum(a, b *Operator) (*Operator, error) {
 // operator of at most ShownEntries rows and columns, a second table of its
 // entries.
 func (a *Operator) MIME() map[string]any {
-	r, c := a.Op.Dims()
+	r, c := a.Dims()
 	t := &textTable{caption: "operator " + a.Label, left: true}
 	t.add("size", fmt.Sprintf("%d×%d", r, c))
 	t.add("storage", structure(a.Op))
@@ -353,23 +591,27 @@ func (a *Operator) MIME() map[string]any {
 	if l := liftText(a.Lift); l != "" {
 		t.add("boundary data", strings.TrimPrefix(l, "boundary data "))
 	}
-	if n, ok := linop.Norm1(a.Op); ok {
-		t.add("‖A‖₁ (max column sum)", value.FormatNum(n))
-	}
-	if n, ok := linop.NormInf(a.Op); ok {
-		t.add("‖A‖∞ (max row sum)", value.FormatNum(n))
+	if !a.IsComplex() {
+		// For a complex A the sums of Φ(A) are not A's; left out.
+		if n, ok := linop.Norm1(a.Op); ok {
+			t.add("‖A‖₁ (max column sum)", value.FormatNum(n))
+		}
+		if n, ok := linop.NormInf(a.Op); ok {
+			t.add("‖A‖∞ (max row sum)", value.FormatNum(n))
+		}
 	}
 	out := t.html()
 	if m := a.smallEntries(); m != nil {
 		e := &textTable{caption: "entries a_ij (row i, column j)"}
 		e.head = append(e.head, "")
-		for j := range m.Cols {
+		mr, mc := m.Dims()
+		for j := range mc {
 			e.head = append(e.head, fmt.Sprint(j))
 		}
-		for i := range m.Rows {
+		for i := range mr {
 			row := []string{fmt.Sprint(i)}
-			for j := range m.Cols {
-				row = append(row, value.FormatNum(m.At(i, j)))
+			for j := range mc {
+				row = append(row, m.Index2([]int{i}, []int{j}, true, true).String())
 			}
 			e.add(row...)
 		}

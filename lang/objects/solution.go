@@ -23,6 +23,10 @@ type Solution struct {
 	// an interval's Dirichlet ends by boundary data (NaN where none), shown
 	// by the profiles in place of 0.
 	EndValues [][2]float64
+	// Complex: the operator was complex and S.Values[i] holds [Re u; Im u]
+	// (see linop.Complex); sol[k] is then a complex vector and the
+	// figures, norms and tables show moduli |u_k|.
+	Complex bool
 
 	warned bool // the shortfall was reported once as a warning
 }
@@ -55,7 +59,31 @@ func (s *Solution) Len() int { return len(s.S.Times) }
 
 // Index returns the vector u(t_i) (a copy).
 func (s *Solution) Index(i int) value.Value {
+	if s.Complex {
+		u := s.S.Values[i]
+		n := len(u) / 2
+		out := make([]complex128, n)
+		for k := range out {
+			out[k] = complex(u[k], u[n+k])
+		}
+		return value.ComplexVec(out)
+	}
 	return value.RealVec(append([]float64(nil), s.S.Values[i]...))
+}
+
+// shownValues is u(t_i) for a real solution and the moduli |u_k(t_i)| for
+// a complex one: what the figures and norms show.
+func (s *Solution) shownValues(i int) []float64 {
+	u := s.S.Values[i]
+	if !s.Complex {
+		return u
+	}
+	n := len(u) / 2
+	out := make([]float64, n)
+	for k := range out {
+		out[k] = math.Hypot(u[k], u[n+k])
+	}
+	return out
 }
 
 func g3(x float64) string {
@@ -80,15 +108,26 @@ func (s *Solution) summary() *textTable {
 	if len(S.Values) > 0 {
 		n = len(S.Values[0])
 	}
+	if s.Complex {
+		n /= 2
+	}
 	plural := "s"
 	if len(S.Times) == 1 {
 		plural = ""
 	}
-	t := &textTable{caption: fmt.Sprintf("solution of %s, A = %s, %d unknowns, %d output time%s", s.Problem, s.Label, n, len(S.Times), plural), left: true}
+	kind := ""
+	if s.Complex {
+		kind = " complex"
+	}
+	t := &textTable{caption: fmt.Sprintf("solution of %s, A = %s, %d%s unknowns, %d output time%s", s.Problem, s.Label, n, kind, len(S.Times), plural), left: true}
 	t.add("method", S.Method)
 	t.add("why", S.Reason)
 	t.add("tolerance", g3(S.Tol))
-	t.add("largest error estimate", g3(S.MaxErrEst())+" (‖·‖∞)")
+	if s.Complex {
+		t.add("largest error estimate", g3(S.MaxErrEst())+" (‖·‖∞, max of the moduli)")
+	} else {
+		t.add("largest error estimate", g3(S.MaxErrEst())+" (‖·‖∞)")
+	}
 	if m := s.shortfall(); m != "" {
 		t.add("tolerance met", "NO: "+m)
 	} else {
@@ -162,7 +201,7 @@ func finiteList(xs []float64) []any {
 func (s *Solution) perTime() *textTable {
 	t := &textTable{head: []string{"t", "error estimate", "‖u(t)‖∞"}}
 	for i, tt := range s.S.Times {
-		t.add(value.FormatNum(tt), g3(s.S.ErrEst[i]), g3(supNorm(s.S.Values[i])))
+		t.add(value.FormatNum(tt), g3(s.S.ErrEst[i]), g3(supNorm(s.shownValues(i))))
 	}
 	return t
 }
@@ -225,6 +264,11 @@ func (s *Solution) Figure() *plot.Figure {
 		return nil
 	}
 	f := &plot.Figure{Title: "The solution at the output times"}
+	uName := "u"
+	if s.Complex {
+		f.Title = "The modulus of the solution at the output times"
+		uName = "|u|"
+	}
 	// The times in the legend, in one number format.
 	when := func(idx []int) []string {
 		ts := make([]float64, len(idx))
@@ -235,11 +279,14 @@ func (s *Solution) Figure() *plot.Figure {
 	}
 	switch {
 	case s.Grid != nil && s.Grid.Dim() == 1:
-		f.X.Label, f.Y.Label = "x", "u(t, x)"
+		f.X.Label, f.Y.Label = "x", uName+"(t, x)"
+		if s.Complex {
+			f.Y.Label = "|u(t, x)|"
+		}
 		idx := shown(len(S.Times), 8)
 		names := when(idx)
 		for k, i := range idx {
-			x, u := s.Grid.Profile(S.Values[i])
+			x, u := s.Grid.Profile(s.shownValues(i))
 			if s.EndValues != nil && s.Grid.Kind == KindInterval {
 				for side, v := range s.EndValues[i] {
 					if !math.IsNaN(v) {
@@ -254,40 +301,51 @@ func (s *Solution) Figure() *plot.Figure {
 		gx, gy := s.Grid.X.X1(), s.Grid.Y.X1()
 		ny := len(gy)
 		z := make([][]float64, len(gx))
+		lastValues := s.shownValues(last)
 		for ix := range z {
-			z[ix] = S.Values[last][ix*ny : (ix+1)*ny]
+			z[ix] = lastValues[ix*ny : (ix+1)*ny]
 		}
 		f.Title = fmt.Sprintf("The solution at t = %s", plot.FormatValue(S.Times[last]))
+		if s.Complex {
+			f.Title = fmt.Sprintf("The modulus of the solution at t = %s", plot.FormatValue(S.Times[last]))
+		}
 		f.X.Label, f.Y.Label = "x", "y"
 		f.EqualAspect = true
 		x0, x1 := cellEdges(gx)
 		y0, y1 := cellEdges(gy)
-		f.AddHeatMap(z, x0, x1, y0, y1, "u")
-	case len(S.Times) > 1 && len(S.Values[0]) <= 12:
+		f.AddHeatMap(z, x0, x1, y0, y1, uName)
+	case len(S.Times) > 1 && len(s.shownValues(0)) <= 12:
 		f.Title = "Components of the solution"
 		f.X.Label, f.Y.Label = "t", "u_i(t)"
+		if s.Complex {
+			f.Title, f.Y.Label = "Moduli of the components of the solution", "|u_i(t)|"
+		}
 		order := sortedTimes(S.Times)
 		ts := make([]float64, len(order))
 		for k, i := range order {
 			ts[k] = S.Times[i]
 		}
-		for j := range S.Values[0] {
+		for j := range s.shownValues(0) {
 			y := make([]float64, len(order))
 			for k, i := range order {
-				y[k] = S.Values[i][j]
+				y[k] = s.shownValues(i)[j]
 			}
 			cycleDash(f.AddLine(ts, y, fmt.Sprintf("u_%d", j)), j)
 		}
 	default:
 		f.X.Label, f.Y.Label = "index i", "u_i"
+		if s.Complex {
+			f.Y.Label = "|u_i|"
+		}
 		times := shown(len(S.Times), 8)
 		names := when(times)
 		for k, i := range times {
-			idx := make([]float64, len(S.Values[i]))
+			vals := s.shownValues(i)
+			idx := make([]float64, len(vals))
 			for j := range idx {
 				idx[j] = float64(j)
 			}
-			cycleDash(f.AddLine(idx, S.Values[i], "t = "+names[k]), k)
+			cycleDash(f.AddLine(idx, vals, "t = "+names[k]), k)
 		}
 	}
 	return f
