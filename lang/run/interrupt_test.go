@@ -29,7 +29,9 @@ func TestInterruptAnalysesKeepsSession(t *testing.T) {
 		"y = numrange(B)",                            // boundary of the numerical range, order 800
 		"y = abscissa(B)",                            // dense eigenvalues with conditions, order 800
 		`y = propagate(B, ones(800), 1, method="dense")`,
-		"y = resolvent(K, 1, data=u)", // a sparse LU of order 90000
+		"y = resolvent(K, 1, data=u)",                                     // a sparse LU of order 90000
+		"y = steadystate(K, 0, nonlinear=v -> 0.1*exp(v))",                // Newton steps, each a sparse LU of order 90000
+		"y = steadystate(B, ones(800), nonlinear=v -> 0.1*mean(v) - v^3)", // a dense Jacobian: 800 evaluations of N, dense LU
 	} {
 		t.Run(cell, func(t *testing.T) {
 			interruptCell(t, s, cell)
