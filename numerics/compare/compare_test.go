@@ -20,6 +20,7 @@ import (
 	"semiflow/numerics/gemm"
 	"semiflow/numerics/linop"
 	"semiflow/numerics/memguard"
+	"semiflow/numerics/mmio"
 	"semiflow/numerics/solve"
 	"semiflow/numerics/spectra"
 )
@@ -27,6 +28,31 @@ import (
 // ExpvTol is the relative tolerance Semiflow is asked for in the e^{tA}v
 // problems; scipy's expm_multiply works to its fixed tolerance 2⁻⁵³.
 const ExpvTol = 1e-12
+
+// PropagateTol is the tolerance of the propagate_* problems.
+const PropagateTol = 1e-8
+
+// advDiffOperator is AdvDiff, or the operator read from the Matrix Market
+// file named by SEMIFLOW_COMPARE_MTX3D for the 3-D one when the comparison
+// script wrote it.
+func advDiffOperator(m, dim int) (*linop.CSR, []float64) {
+	a, u0 := AdvDiff(m, dim)
+	if path := os.Getenv("SEMIFLOW_COMPARE_MTX3D"); dim == 3 && path != "" {
+		f, err := os.Open(path)
+		if err != nil {
+			panic(err)
+		}
+		defer f.Close()
+		mm, err := mmio.Read(f)
+		if err != nil {
+			panic(err)
+		}
+		if b := mm.CSR(); b.Rows == a.Rows {
+			return b, u0
+		}
+	}
+	return a, u0
+}
 
 // A problem: setup builds the data (not timed); run solves it once and
 // returns the number both sides report (a norm or an eigenvalue), the
@@ -126,6 +152,70 @@ func problems() []problem {
 					sum += real(v)*real(v) + imag(v)*imag(v)
 				}
 				return math.Sqrt(sum), fmt.Sprintf("%T", s), nil, nil
+			}
+		}})
+	}
+	// Sparse factorisations of zI − A for the variable-coefficient
+	// operators (no Kronecker structure): order, analyse, factor and solve
+	// once, from nothing (the ordering cache is emptied first).
+	for _, c := range []struct {
+		name   string
+		dim, m int
+		z      complex128
+	}{
+		{"factor_advdiff2d_N1e4_real", 2, 100, 1000}, {"factor_advdiff2d_N1e4_complex", 2, 100, 1000 + 1000i},
+		{"factor_advdiff2d_N1e5_real", 2, 316, 1000}, {"factor_advdiff2d_N1e5_complex", 2, 316, 1000 + 1000i},
+		{"factor_advdiff2d_N1e6_real", 2, 1000, 1000},
+		{"factor_varcoef3d_N1e5_real", 3, 46, 1000}, {"factor_varcoef3d_N1e5_complex", 3, 46, 1000 + 1000i},
+	} {
+		n := c.m * c.m
+		if c.dim == 3 {
+			n *= c.m
+		}
+		ps = append(ps, problem{name: c.name, sparse: n, setup: func() func(context.Context) (float64, string, []float64, error) {
+			a, u0 := advDiffOperator(c.m, c.dim)
+			b := make([]complex128, len(u0))
+			for i, v := range u0 {
+				b[i] = complex(v, 0)
+			}
+			return func(ctx context.Context) (float64, string, []float64, error) {
+				solve.ForgetAnalyses()
+				s, err := solve.NewShiftedContext(ctx, a, c.z, solve.Options{})
+				if err != nil {
+					return 0, "", nil, err
+				}
+				x := make([]complex128, len(b))
+				if err := s.Solve(x, b); err != nil {
+					return 0, "", nil, err
+				}
+				sum := 0.0
+				for _, v := range x {
+					sum += real(v)*real(v) + imag(v)*imag(v)
+				}
+				method := fmt.Sprintf("%T", s)
+				if sn, ok := s.(*solve.Supernodal); ok {
+					l, u := sn.NNZ()
+					method = fmt.Sprintf("supernodal LU (%s arithmetic; %s; nnz(L+U) = %.3g)", map[bool]string{true: "real", false: "complex"}[sn.Real()], sn.Ordering, float64(l+u))
+				}
+				return math.Sqrt(sum), method, nil, nil
+			}
+		}})
+	}
+	// Propagation of the 2-D variable-coefficient operator (tolerance 1e-8).
+	for _, c := range []struct {
+		name string
+		m    int
+		t    float64
+	}{{"propagate_advdiff2d_N1e5_t0.1", 316, 0.1}, {"propagate_advdiff2d_N1e5_t1", 316, 1}, {"propagate_advdiff2d_N1e6_t0.01", 1000, 0.01}} {
+		ps = append(ps, problem{name: c.name, sparse: c.m * c.m, setup: func() func(context.Context) (float64, string, []float64, error) {
+			a, u0 := advDiffOperator(c.m, 2)
+			return func(ctx context.Context) (float64, string, []float64, error) {
+				solve.ForgetAnalyses()
+				s, err := expo.Propagate(ctx, a, u0, []float64{c.t}, expo.Options{Tol: PropagateTol})
+				if err != nil {
+					return 0, "", nil, err
+				}
+				return floats.Norm(s.Values[0], 2), s.Method, s.Values[0], nil
 			}
 		}})
 	}

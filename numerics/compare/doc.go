@@ -13,6 +13,16 @@
 //	2-D: X ⊕ Y = X ⊗ I + I ⊗ Y on m×m points, index ix·m + iy, with
 //	     X, Y the heat operators, or conv-diff with c = 20 in x and 10 in y.
 //
+// Variable coefficients, no Kronecker structure (AdvDiff; the script also
+// writes the 3-D one to a Matrix Market file, which the benchmark reads):
+//
+//	adv-diff 2-D/3-D: κ·Δ_h − β·D_x, κ = 1 + ½ sin(2πx) sin(πy) [sin(πz)],
+//	     β = 20(1 + y), Δ_h the 5- or 7-point Laplacian, D_x the central
+//	     difference; index (ix·m + iy)·m + iz.
+//
+// Sparse factorisations: zI − A with z = 1000 (real) and 1000 + 1000i
+// (complex), factored and solved once for the initial vector.
+//
 // Initial data: u0(x) = sin(πx) + x in 1-D, u0(x, y) = sin(πx) sin(2πy) + xy
 // in 2-D. Dense matrix: a_ij = 4 sin(0.7 i + 0.013 j² + 1)·(2 if j > i else
 // 1)/√n. Grcar matrix of order n: −1 on the subdiagonal, 1 on the diagonal

@@ -51,8 +51,8 @@ func (c *complexSolver) solve(dst, b []float64) error {
 }
 
 // factorReal factors sI − A: real band LU for band operators, otherwise
-// the complex factorisation NewShiftedContext chooses (sparse LU with
-// nested dissection for grid operators).
+// the factorisation NewShiftedContext chooses, in real arithmetic when it
+// is the supernodal sparse LU.
 func factorReal(ctx context.Context, A linop.Operator, s float64) (realSolver, error) {
 	n, _ := A.Dims()
 	if solve.Choose(A) == solve.BandMethod {
@@ -70,8 +70,22 @@ func factorReal(ctx context.Context, A linop.Operator, s float64) (realSolver, e
 	if err != nil {
 		return nil, err
 	}
+	if r, ok := f.(realFactors); ok && r.Real() {
+		return realSparseSolver{r}, nil // real factors of a sparse matrix
+	}
 	return &complexSolver{f: f, bz: make([]complex128, n), xz: make([]complex128, n)}, nil
 }
+
+// realFactors is a factorisation that can solve in real arithmetic when
+// its shift is real (solve.Supernodal).
+type realFactors interface {
+	Real() bool
+	SolveReal(dst, b []float64) error
+}
+
+type realSparseSolver struct{ f realFactors }
+
+func (r realSparseSolver) solve(dst, b []float64) error { return r.f.SolveReal(dst, b) }
 
 // abscissaBound returns an upper bound on the numerical abscissa
 // ω = max Re W(A) = λ_max((A + Aᵀ)/2) by Gershgorin's theorem on the

@@ -5,7 +5,8 @@ import (
 	"math/cmplx"
 )
 
-// scalar is the element type of the banded factorisations.
+// scalar is the element type of the banded and supernodal factorisations:
+// real when the shift is real, complex otherwise.
 type scalar interface{ float64 | complex128 }
 
 // argmax returns the index and magnitude (|re|+|im| for complex) of the

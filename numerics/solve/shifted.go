@@ -18,6 +18,10 @@ const (
 	BandMethod                 // banded LU
 	SparseMethod               // sparse LU with a fill-reducing ordering
 	DenseMethod                // dense LU
+	// FrontalMethod is the sparse frontal LU with delayed pivots
+	// (Multifrontal) instead of the supernodal one; SparseMethod and Auto
+	// fall back to it when a pivot inside a supernode is too small.
+	FrontalMethod
 )
 
 func (m Method) String() string {
@@ -28,6 +32,8 @@ func (m Method) String() string {
 		return "sparse"
 	case DenseMethod:
 		return "dense"
+	case FrontalMethod:
+		return "frontal"
 	}
 	return "auto"
 }
@@ -83,7 +89,7 @@ func NewShiftedContext(ctx context.Context, a linop.Operator, z complex128, opt 
 		m, csr = choose(a)
 	}
 	switch m {
-	case BandMethod, SparseMethod:
+	case BandMethod, SparseMethod, FrontalMethod:
 		if csr == nil {
 			var err error
 			if csr, err = linop.ToCSR(a); err != nil {

@@ -2,6 +2,7 @@ package solve
 
 import (
 	"context"
+	"errors"
 	"fmt"
 	"math"
 	"math/cmplx"
@@ -76,14 +77,15 @@ func shiftedCSC(a *linop.CSR, z complex128) *CSC {
 	return m
 }
 
-// NewSparseShifted factors zI − A for a square operator A with a sparse form,
-// with a fill-reducing symmetric order: nested dissection by grid geometry
-// when A is, or contains as a term or factor, a Kronecker sum X ⊕ Y of its
-// size, reverse Cuthill–McKee otherwise, by the supernodal Multifrontal
-// factorisation. It returns an error
-// wrapping ErrSingular (naming z) if a pivot is negligible, the context's
-// error if ctx is cancelled, or an error from the memory guard. It panics
-// with ErrShape if A is not square.
+// NewSparseShifted factors zI − A for a square operator A with a sparse
+// form by the supernodal factorisation (Supernodal: fill-reducing order
+// chosen by predicted fill among approximate minimum degree and nested
+// dissection, real arithmetic for real z), falling back to the frontal
+// factorisation with delayed pivots (Multifrontal) when a pivot inside a
+// supernode is too small. It returns an error wrapping ErrSingular (naming
+// z) if zI − A is singular to working precision, the context's error if
+// ctx is cancelled, or an error from the memory guard. It panics with
+// ErrShape if A is not square.
 func NewSparseShifted(ctx context.Context, a linop.Operator, z complex128) (AdjointSolver, error) {
 	r, c := a.Dims()
 	if r != c {
@@ -115,7 +117,19 @@ func sparseOrder(a linop.Operator, csr *linop.CSR, grid [2]int) []int {
 	return RCM(csr)
 }
 
+// newSparse factors zI − A by the supernodal factorisation, falling back
+// to the frontal one with delayed pivots when a pivot inside a supernode's
+// diagonal block is too small (FrontalMethod forces the latter).
 func newSparse(ctx context.Context, a linop.Operator, csr *linop.CSR, z complex128, opt Options) (AdjointSolver, error) {
+	if opt.Method != FrontalMethod {
+		s, err := newSupernodal(ctx, a, csr, z, opt)
+		if err == nil {
+			return s, nil
+		}
+		if !errors.Is(err, errFallback) {
+			return nil, withShift(err, z)
+		}
+	}
 	q := sparseOrder(a, csr, opt.Grid)
 	mf, err := factorMultifrontal(ctx, csr, z, q, opt.Progress)
 	if err != nil {

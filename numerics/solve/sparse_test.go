@@ -119,7 +119,8 @@ func TestSparseDelayedPivots(t *testing.T) {
 		is, js, vs = append(is, i, i-1), append(js, i-1, i), append(vs, 1, 1)
 	}
 	a := linop.NewCSRFromTriplets(n, n, is, js, vs)
-	s, err := NewSparseShifted(context.Background(), a, 0)
+	frontal := Options{Method: FrontalMethod}
+	s, err := NewShiftedContext(context.Background(), a, 0, frontal)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -132,7 +133,7 @@ func TestSparseDelayedPivots(t *testing.T) {
 	// is checked by the solver not reporting singularity).
 	k := linop.NewKronSum(linop.NewCSRFromTriplets(30, 30, is[:58], js[:58], vs[:58]), linop.NewCSRFromTriplets(30, 30, is[:58], js[:58], vs[:58]))
 	for _, z := range []complex128{0.1, 0.05i} {
-		s2, err := NewSparseShifted(context.Background(), k, z)
+		s2, err := NewShiftedContext(context.Background(), k, z, frontal)
 		if err != nil {
 			t.Fatal(err)
 		}
