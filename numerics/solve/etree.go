@@ -329,13 +329,9 @@ func analyseOrder(ctx context.Context, g *graph, q0 []int) (*snodes, error) {
 		// LU flops of the front: panel k columns, trailing update r×r.
 		kf, rf := float64(k), float64(r)
 		sn.flops += 2*kf*kf*kf/3 + 2*kf*kf*rf + 2*kf*rf*rf
-		total += k*r + r*r
+		total += r
 		if total*8 > memguard.Limit() {
 			return nil, memguard.CheckBytes(total*8, fmt.Sprintf("symbolic structure of sparse factors of order %d", n))
-		}
-		// A child's row list is needed only by its parent.
-		for _, c := range sn.kids[s] {
-			_ = c
 		}
 	}
 	sn.fill[1] = float64(sn.nnzL)

@@ -1,20 +1,27 @@
 // Package solve factors shifted operators zI − A for complex z and solves
 // (zI − A) x = b for many right-hand sides with one factorisation.
 //
-// Three direct methods are provided, because gonum has no complex or banded
+// Four direct methods are provided, because gonum has no complex or banded
 // LU and no sparse matrices:
 //
 //   - Band: LU with partial pivoting of a banded matrix in LAPACK gbtrf
 //     storage, real or complex, for 1-D operators (O(n·kl·(kl+ku)) work).
-//   - Multifrontal: supernodal multifrontal LU (Duff & Reid, ACM TOMS 1983)
-//     on a fill-reducing symmetric order — nested dissection by grid
-//     geometry for operators on tensor grids (George, SIAM J. Numer. Anal.
-//     1973; the grid is taken from a Kronecker sum in the operator or from
-//     Options.Grid), reverse Cuthill–McKee otherwise — with threshold
-//     pivoting inside each front and delayed pivots. SparseLU, a
-//     left-looking LU with free partial pivoting (Gilbert–Peierls, SIAM J.
-//     Sci. Stat. Comput. 1988), is available through FactorSparse as an
-//     independent sparse factorisation.
+//   - Supernodal: sparse LU of zI − A (multifrontal, Duff & Reid, ACM
+//     TOMS 1983) on the fill-reducing order — approximate minimum degree
+//     (Amestoy, Davis & Duff 1996) or nested dissection (by grid geometry,
+//     George 1973, for operators on tensor grids; by level structures
+//     otherwise) — that predicts the smaller fill; elimination tree,
+//     column counts and relaxed supernodes; fronts factored by blocked
+//     kernels on the project's matrix product; real arithmetic when z is
+//     real; independent subtrees on separate cores; blocked solves for
+//     several right-hand sides. Pivots are chosen inside each supernode's
+//     diagonal block; weak ones make solves refine, and a negligible one
+//     falls back to
+//   - Multifrontal: the frontal LU with threshold pivoting and delayed
+//     pivots, which pivots across supernodes (FrontalMethod asks for it).
+//     SparseLU, a left-looking LU with free partial pivoting
+//     (Gilbert–Peierls, SIAM J. Sci. Stat. Comput. 1988), is available
+//     through FactorSparse as an independent sparse factorisation.
 //   - ZDense: dense complex LU with partial pivoting for dense operators,
 //     guarded by memguard.
 //

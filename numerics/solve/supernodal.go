@@ -275,9 +275,13 @@ func newSupernodal(ctx context.Context, op linop.Operator, a *linop.CSR, z compl
 type bufPool[T scalar] struct {
 	mu   sync.Mutex
 	free [][]T
+	// held counts the bytes of all buffers made; with base (the factors)
+	// it must stay within the memory guard's limit.
+	held, base, elem int64
+	what             string
 }
 
-func (p *bufPool[T]) get(n int) []T {
+func (p *bufPool[T]) get(n int) ([]T, error) {
 	p.mu.Lock()
 	defer p.mu.Unlock()
 	best := -1
@@ -290,9 +294,13 @@ func (p *bufPool[T]) get(n int) []T {
 		b := p.free[best]
 		p.free[best] = p.free[len(p.free)-1]
 		p.free = p.free[:len(p.free)-1]
-		return b[:n]
+		return b[:n], nil
 	}
-	return make([]T, n)
+	p.held += int64(n) * p.elem
+	if need := p.base + p.held; need > memguard.Limit() {
+		return nil, memguard.CheckBytes(need, p.what)
+	}
+	return make([]T, n), nil
 }
 
 func (p *bufPool[T]) put(b []T) {
@@ -381,7 +389,8 @@ func factorSupernodal[T scalar](ctx context.Context, sn *snodes, a *linop.CSR, z
 		assign[w] = append(assign[w], s)
 		load[w] += work[s]
 	}
-	pool := &bufPool[T]{}
+	pool := &bufPool[T]{base: total * elem, elem: elem,
+		what: fmt.Sprintf("sparse LU factors and frontal matrices of order %d", n)}
 	fronts := make([][]T, ns) // a finished front kept as its update matrix
 	var done atomic.Int64
 	var progMu sync.Mutex
@@ -474,7 +483,10 @@ func (st *nodeState[T]) node(s int, f *snFactor[T], a, at *linop.CSR, pinv []int
 	k := c1 - c0
 	rows := sn.rows[s]
 	fz := k + len(rows)
-	F := pool.get(fz * fz)
+	F, err := pool.get(fz * fz)
+	if err != nil {
+		return 0, err
+	}
 	clear(F)
 	loc := st.loc
 	for j := c0; j < c1; j++ {
