@@ -312,6 +312,29 @@ func (s *etdSparseStepper) fusedShare(wk *etdNodeWork, first int, fast []*triNoP
 	}
 }
 
+// diffStep sets dst = e^{hL}Δ + hφ1(hL)δ0 + hφ2(hL)(δ1 − δ0), Δ = c0 − f0,
+// δ0 = N(t, c0) − N(t, f0), δ1 = N(t+h, c1) − N(t+h, f1): the
+// exponential trapezoidal rule (second order) for the difference of two
+// solutions, one combination.
+func (s *etdSparseStepper) diffStep(dst []float64, t, h float64, c0, f0, c1, f1 []float64, seg segment) error {
+	if err := s.ctx.Err(); err != nil {
+		return err
+	}
+	d0, d1, x := s.w[0], s.w[1], s.t1
+	s.N(seg.clamp(t), c0, s.na)
+	s.N(seg.clamp(t), f0, s.nb)
+	for i := range d0 {
+		d0[i] = s.na[i] - s.nb[i]
+		x[i] = c0[i] - f0[i]
+	}
+	s.N(seg.clamp(t+h), c1, s.na)
+	s.N(seg.clamp(t+h), f1, s.nb)
+	for i := range d1 {
+		d1[i] = (s.na[i] - s.nb[i] - d0[i]) / h
+	}
+	return s.combine(dst, h, x, [][]float64{d0, d1})
+}
+
 // step is Cox & Matthews' ETDRK4 with each stage one combination.
 func (s *etdSparseStepper) step(t, h float64, u []float64, seg segment) error {
 	if err := s.ctx.Err(); err != nil {

@@ -224,6 +224,44 @@ func (s *etdStepper) step(t, h float64, u []float64, seg segment) error {
 	return nil
 }
 
+// diffStep is the exponential trapezoidal rule for the difference of two
+// solutions (see diffPropagator), with hφ1 = F1 + 4F2 + F3 and
+// hφ2 = 2F2 + F3: dst = EΔ + F1 δ0 + F2(2δ0 + 2δ1) + F3 δ1.
+func (s *etdStepper) diffStep(dst []float64, t, h float64, c0, f0, c1, f1 []float64, seg segment) error {
+	c, err := s.coeffs(h)
+	if err != nil {
+		return err
+	}
+	N := func(t float64, u, dst []float64) { s.N(seg.clamp(t), u, dst) }
+	d0, d1, x, y, tmp := s.wk.v[0], s.wk.v[1], s.wk.v[2], s.wk.v[3], s.wk.v[4]
+	N(t, c0, x)
+	N(t, f0, y)
+	for i := range d0 {
+		d0[i] = x[i] - y[i]
+	}
+	N(t+h, c1, x)
+	N(t+h, f1, y)
+	for i := range d1 {
+		d1[i] = x[i] - y[i]
+		x[i] = c0[i] - f0[i]
+	}
+	c.mul(dst, c.e, c.E, x)
+	c.mul(tmp, c.f1, c.F1, d0)
+	for i := range dst {
+		dst[i] += tmp[i]
+		x[i] = 2 * (d0[i] + d1[i])
+	}
+	c.mul(tmp, c.f2, c.F2, x)
+	for i := range dst {
+		dst[i] += tmp[i]
+	}
+	c.mul(tmp, c.f3, c.F3, d1)
+	for i := range dst {
+		dst[i] += tmp[i]
+	}
+	return nil
+}
+
 // ETDRK4Check returns nil when ETDRK4 takes L: a *linop.Diag, an operator
 // of order ≤ 1500 (dense φ-functions), or a sparse symmetric one (contour
 // combinations); otherwise an error saying so.
