@@ -68,7 +68,7 @@ var guardArgs = map[string]string{
 	"B": "L", "u0": "[1, 2]", "t": "0.1", "z": "1", "eps": "0.1", "re": "-1",
 	"b": "1", "n": "5", "v": "[1, 2]", "x": "1", "a": "1", "f": "same",
 	"g": "interval(0, 1, 5)", "gy": "interval(0, 1, 5)", "transitions": "[[0, 1, 1]]",
-	"sizes": "[1]", "path": "PATH", "guess": "[1, 2]",
+	"sizes": "[1]", "path": "PATH", "guess": "[1, 2]", "K": "A", "C": "0",
 }
 
 // guardVariants are further calls, options included, that take other

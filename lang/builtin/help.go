@@ -28,6 +28,7 @@ func init() {
 		{"Vectors and matrices", [][]*Builtin{vectorFamily}},
 		{"Grids and grid functions", [][]*Builtin{gridFamily}},
 		{"Operators", [][]*Builtin{operatorFamily, blockFamily}},
+		{"Mass matrices and second-order systems", [][]*Builtin{structureFamily}},
 		{"Evolution u(t) = e^{tA} u0", [][]*Builtin{propagateFamily}},
 		{"Steady states and linearisation", [][]*Builtin{steadyFamily}},
 		{"Stability: spectra, numerical range, resolvents, growth", [][]*Builtin{stabilityFamily}},

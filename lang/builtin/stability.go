@@ -213,7 +213,7 @@ var stabilityFamily = []*Builtin{
 	},
 }
 
-const stabWeightDoc = `the inner product: none (Euclidean), "grid" (the quadrature weights of A's grid, a discrete L²), a vector w > 0 (⟨x, y⟩ = Σ w_i x_i y_i) or a symmetric positive definite matrix W (⟨x, y⟩ = xᵀWy)`
+const stabWeightDoc = `the inner product: none (Euclidean), "grid" (the quadrature weights of A's grid, a discrete L²), "energy" (for a system from secondorder, ½(vᵀMv + uᵀKu); from firstorder, uᵀMu), a vector w > 0 (⟨x, y⟩ = Σ w_i x_i y_i) or a symmetric positive definite matrix W (⟨x, y⟩ = xᵀWy)`
 
 // Arguments.
 
@@ -395,8 +395,11 @@ func stabWeightArg(c *eval.Call, i int, op *objects.Operator, n int) (spectra.We
 	case value.NoneType:
 		return nil, "Euclidean inner product", nil
 	case value.Str:
+		if t == "energy" {
+			return energyWeight(c, op)
+		}
 		if t != "grid" {
-			return nil, "", value.ValueErrorf(`%s: unknown %s %s; the choices are none, "grid", a vector of positive weights or a positive definite matrix`, c.Name, name, t)
+			return nil, "", value.ValueErrorf(`%s: unknown %s %s; the choices are none, "grid", "energy" (a system from secondorder or firstorder), a vector of positive weights or a positive definite matrix`, c.Name, name, t)
 		}
 		if op.Grid == nil {
 			return nil, "", value.ValueErrorf(`%s: %s="grid" needs an operator on a grid, but A (%s) has none`, c.Name, name, op.Label)
@@ -560,6 +563,9 @@ func spectrumImpl(c *eval.Call) (value.Value, error) {
 		if k == 0 {
 			return nil, value.ValueErrorf("spectrum: near needs count = k > 0, the number of eigenvalues nearest %s", value.FormatNum(near))
 		}
+	}
+	if r, ok, err := pencilSpectrum(c, op, n, k, near, nearSet); ok {
+		return r, err
 	}
 	if k == 0 {
 		if chain, ok := spectra.BirthDeathOf(op.Op); ok && n > DenseLimit && n <= spectra.BirthDeathAllMax {

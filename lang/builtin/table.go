@@ -32,6 +32,7 @@ var families = [][]*Builtin{
 	csvFamily,
 	sweepFamily,
 	steadyFamily,
+	structureFamily,
 }
 
 // Example is code that must run in a fresh session, and the text/plain of

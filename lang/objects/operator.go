@@ -135,6 +135,8 @@ func structure(op linop.Operator) string {
 			return "complex: real entries, " + structure(t.Re)
 		}
 		return "complex: real part " + structure(t.Re) + ", imaginary part " + structure(t.Im)
+	case interface{ Structure() string }:
+		return t.Structure()
 	}
 	return "matrix-free"
 }

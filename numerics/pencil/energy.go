@@ -42,11 +42,12 @@ func symmetricDense(a linop.Operator, name string) (*mat.SymDense, error) {
 // wrapping ErrNotDefinite that names it.
 func spdWeight(a linop.Operator, name string) (linop.Weight, error) {
 	if d, ok := diagonalOf(a); ok {
-		w, err := linop.NewDiagWeight(d)
-		if err != nil {
-			return nil, fmt.Errorf("%w: %s is diagonal with a non-positive entry (%v)", ErrNotDefinite, name, err)
+		for i, v := range d {
+			if !(v > 0) || math.IsInf(v, 0) {
+				return nil, fmt.Errorf("%w: %s is diagonal with %s[%d, %d] = %g, not positive", ErrNotDefinite, name, name, i, i, v)
+			}
 		}
-		return w, nil
+		return linop.NewDiagWeight(d)
 	}
 	s, err := symmetricDense(a, name)
 	if err != nil {

@@ -46,6 +46,9 @@ func factorMass(ctx context.Context, m linop.Operator) (*massFactor, error) {
 		return f.fromDiag(d.D)
 	}
 	csr, err := linop.ToCSR(m)
+	if errors.Is(err, memguard.ErrTooLarge) {
+		return nil, err
+	}
 	if err == nil {
 		if isDiagonal(csr) {
 			return f.fromDiag(csr.Diagonal())

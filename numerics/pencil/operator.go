@@ -93,7 +93,7 @@ func (a *Mass) MassMethod() string { return a.mf.method }
 
 // Structure describes the operator for displays.
 func (a *Mass) Structure() string {
-	return fmt.Sprintf("M⁻¹K of M u' = K u, never formed: products with K, solves with M (%s)", a.mf.method)
+	return fmt.Sprintf("M⁻¹K of M u' = K u: products with K, solves with M (%s)", a.mf.method)
 }
 
 // ToCSR returns M⁻¹K in sparse form when M is diagonal and K has a sparse
@@ -192,11 +192,11 @@ func (s *Second) MassMethod() string { return s.mf.method }
 
 // Structure describes the operator for displays.
 func (s *Second) Structure() string {
-	d := "M u'' + C u' + K u = 0"
+	d, p := "M u'' + C u' + K u = 0", "K and C"
 	if s.C == nil {
-		d = "M u'' + K u = 0"
+		d, p = "M u'' + K u = 0", "K"
 	}
-	return fmt.Sprintf("first-order form of %s on [u; u'] (n = %d), never formed: products with K and C, solves with M (%s)", d, s.n, s.mf.method)
+	return fmt.Sprintf("first-order form of %s on [u; u'] (n = %d): products with %s, solves with M (%s)", d, s.n, p, s.mf.method)
 }
 
 // Apply sets dst = [v; −M⁻¹(K u + C v)] for x = [u; v].
