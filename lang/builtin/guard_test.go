@@ -68,7 +68,7 @@ var guardArgs = map[string]string{
 	"B": "L", "u0": "[1, 2]", "t": "0.1", "z": "1", "eps": "0.1", "re": "-1",
 	"b": "1", "n": "5", "v": "[1, 2]", "x": "1", "a": "1", "f": "same",
 	"g": "interval(0, 1, 5)", "gy": "interval(0, 1, 5)", "transitions": "[[0, 1, 1]]",
-	"sizes": "[1]", "path": "PATH", "guess": "[1, 2]", "K": "A", "C": "0",
+	"sizes": "[1]", "path": "PATH", "guess": "[1, 2]", "K": "A", "C": "0", "level": "0.5",
 }
 
 // guardVariants are further calls, options included, that take other
@@ -134,7 +134,8 @@ same(w) = w`)
 	for _, m := range []string{"auto", "kronecker", "krylov", "taylor", "contour", "resolvent-powers", "shift-invert", "dense"} {
 		extra = append(extra, `propagate(A, u, 0.001, method="`+m+`")`)
 	}
-	extra = append(extra, "resolvent(A, 1, data=u)", `propagate(A, u, [0.001, 0.002], forcing=u)`)
+	extra = append(extra, "resolvent(A, 1, data=u)", `propagate(A, u, [0.001, 0.002], forcing=u)`,
+		"propagate(t -> (1 + t)*A, u, 0.001)", "propagate([A, 2*A], u, [0.001, 0.002], switches=[0.0015])")
 	everyBuiltin(t, s, append(extra, "propagate(A, u, 0.001)"), 16e6+1e6)
 }
 

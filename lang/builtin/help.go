@@ -29,7 +29,7 @@ func init() {
 		{"Grids and grid functions", [][]*Builtin{gridFamily}},
 		{"Operators", [][]*Builtin{operatorFamily, blockFamily}},
 		{"Mass matrices and second-order systems", [][]*Builtin{structureFamily}},
-		{"Evolution u(t) = e^{tA} u0", [][]*Builtin{propagateFamily}},
+		{"Evolution u(t) = e^{tA} u0", [][]*Builtin{propagateFamily, eventFamily}},
 		{"Steady states and linearisation", [][]*Builtin{steadyFamily}},
 		{"Stability: spectra, numerical range, resolvents, growth", [][]*Builtin{stabilityFamily}},
 		{"Data, tables and files", [][]*Builtin{csvFamily, sweepFamily, figureFamily}},

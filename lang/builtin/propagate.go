@@ -244,6 +244,9 @@ func callVector(c *eval.Call, name string, f value.Value, n int, args ...value.V
 }
 
 func propagateImpl(c *eval.Call) (value.Value, error) {
+	if r, ok, err := propagateTimeDependent(c); ok {
+		return r, err
+	}
 	a, n, err := squareOperator(c, 0)
 	if err != nil {
 		return nil, err
@@ -315,32 +318,9 @@ func propagateImpl(c *eval.Call) (value.Value, error) {
 	if k := firstNonFinite(u0); k >= 0 {
 		return nil, value.ValueErrorf("propagate: the initial value must be finite; u0[%d] = %s", k, value.FormatNum(u0[k]))
 	}
-	// Times.
-	var times []float64
-	switch v := c.Args[2].(type) {
-	case value.Num:
-		times = []float64{float64(v)}
-	case *value.Vec, *value.Range:
-		re, cx, err := numbers(c, "t", v)
-		if err != nil {
-			return nil, err
-		}
-		if cx != nil {
-			return nil, value.TypeErrorf("propagate: the times must be real")
-		}
-		times = append([]float64(nil), re...)
-	default:
-		return nil, value.TypeErrorf("propagate: t must be a number, vector or range of times, not %s", value.TypeName(v))
-	}
-	if len(times) == 0 {
-		return nil, value.ValueErrorf("propagate: no output times")
-	}
-	tmax := 0.0
-	for k, t := range times {
-		if !(t >= 0) || math.IsInf(t, 0) {
-			return nil, value.ValueErrorf("propagate: times must be finite and ≥ 0; t[%d] = %s", k, value.FormatNum(t))
-		}
-		tmax = math.Max(tmax, t)
+	times, tmax, err := outputTimes(c)
+	if err != nil {
+		return nil, err
 	}
 	if nrm, ok := cheapNormInf(a.Op); ok && !math.IsInf(nrm, 0) && !math.IsNaN(nrm) && math.IsInf(tmax*nrm, 0) {
 		return nil, value.ValueErrorf("propagate: t·A overflows double precision (t = %s, ‖A‖∞ = %s)", value.FormatNum(tmax), value.FormatNum(nrm))
@@ -348,41 +328,11 @@ func propagateImpl(c *eval.Call) (value.Value, error) {
 	if err := c.CheckSize(float64(len(times))*float64(n), "propagate: the solution"); err != nil {
 		return nil, err
 	}
-	method, err := argChoice(c, 3, propagateMethods...)
+	ps, err := propagateSettings(c)
 	if err != nil {
 		return nil, err
 	}
-	tol, err := argReal(c, 4)
-	if err != nil {
-		return nil, err
-	}
-	if !(tol > 0 && tol < 1) {
-		return nil, value.ValueErrorf("propagate: tol must lie in (0, 1), not %s", value.FormatNum(tol))
-	}
-	crossV, err := c.Arg(7)
-	if err != nil {
-		return nil, err
-	}
-	cross, ok := crossV.(value.Bool)
-	if !ok {
-		return nil, value.TypeErrorf("propagate: crosscheck must be true or false, not %s", value.TypeName(crossV))
-	}
-	steps, err := argInt(c, 8)
-	if err != nil {
-		return nil, err
-	}
-	if steps < 0 {
-		return nil, value.ValueErrorf("propagate: steps must be ≥ 0, not %d", steps)
-	}
-	switches, haveSwitches, err := stabRealsArg(c, 9)
-	if err != nil {
-		return nil, err
-	}
-	for k, s := range switches {
-		if s < 0 {
-			return nil, value.ValueErrorf("propagate: switches must be times ≥ 0; switches[%d] = %s", k, value.FormatNum(s))
-		}
-	}
+	method, tol, cross, steps, switches, haveSwitches := ps.method, ps.tol, ps.cross, ps.steps, ps.switches, ps.haveSwitches
 	if haveSwitches {
 		_, fn := c.Args[5].(value.Callable)
 		_, nl := c.Args[6].(value.Callable)
@@ -393,7 +343,7 @@ func propagateImpl(c *eval.Call) (value.Value, error) {
 	if _, ok := a.Op.(*linop.KronSum); method == expo.MethodKronecker && !ok {
 		return nil, value.ValueErrorf("propagate: method \"kronecker\" needs a Kronecker sum X ⊕ Y (the laplacian of a tensor grid, or kronsum(A, B)); this operator is %s", a.Structure())
 	}
-	opts := expo.Options{Method: method, Tol: tol, Crosscheck: bool(cross), Progress: lazyProgress(c)}
+	opts := expo.Options{Method: method, Tol: tol, Crosscheck: cross, Progress: lazyProgress(c)}
 	if cplx {
 		// The numerics bound the ∞-norm of [Re; Im]; a complex entry's
 		// modulus is at most √2 times the larger part, so ask √2 less.
@@ -588,7 +538,11 @@ func propagateImpl(c *eval.Call) (value.Value, error) {
 	if cplx {
 		complexEstimates(sol, tol, u0c)
 	}
-	return &objects.Solution{S: sol, Grid: a.Grid, Problem: problem, Label: a.Label, EndValues: ends, Complex: cplx}, nil
+	var fl flow
+	if !cplx {
+		fl = newLinearFlow(a.Op, u0, c.Args[5], c.Args[6], a.Lift, switches, opts)
+	}
+	return &objects.Solution{S: sol, Grid: a.Grid, Problem: problem, Label: a.Label, EndValues: ends, Complex: cplx, Flow: fl}, nil
 }
 
 // complexEstimates restates a solution computed on [Re u; Im u] for the
@@ -627,6 +581,91 @@ func realToComplex(x []float64) []complex128 {
 		out[i] = complex(v, 0)
 	}
 	return out
+}
+
+// propagateOpts are propagate's settings shared by every route: method,
+// tol, crosscheck, steps and switches (arguments 3, 4, 7, 8, 9).
+type propagateOpts struct {
+	method       string
+	tol          float64
+	cross        bool
+	steps        int
+	switches     []float64
+	haveSwitches bool
+}
+
+func propagateSettings(c *eval.Call) (propagateOpts, error) {
+	var ps propagateOpts
+	var err error
+	ps.method, err = argChoice(c, 3, propagateMethods...)
+	if err != nil {
+		return ps, err
+	}
+	ps.tol, err = argReal(c, 4)
+	if err != nil {
+		return ps, err
+	}
+	if !(ps.tol > 0 && ps.tol < 1) {
+		return ps, value.ValueErrorf("propagate: tol must lie in (0, 1), not %s", value.FormatNum(ps.tol))
+	}
+	crossV, err := c.Arg(7)
+	if err != nil {
+		return ps, err
+	}
+	cross, ok := crossV.(value.Bool)
+	if !ok {
+		return ps, value.TypeErrorf("propagate: crosscheck must be true or false, not %s", value.TypeName(crossV))
+	}
+	ps.cross = bool(cross)
+	ps.steps, err = argInt(c, 8)
+	if err != nil {
+		return ps, err
+	}
+	if ps.steps < 0 {
+		return ps, value.ValueErrorf("propagate: steps must be ≥ 0, not %d", ps.steps)
+	}
+	ps.switches, ps.haveSwitches, err = stabRealsArg(c, 9)
+	if err != nil {
+		return ps, err
+	}
+	for k, s := range ps.switches {
+		if s < 0 {
+			return ps, value.ValueErrorf("propagate: switches must be times ≥ 0; switches[%d] = %s", k, value.FormatNum(s))
+		}
+	}
+	return ps, nil
+}
+
+// outputTimes is propagate's t (argument 2): finite times ≥ 0, with the
+// largest.
+func outputTimes(c *eval.Call) ([]float64, float64, error) {
+	var times []float64
+	switch v := c.Args[2].(type) {
+	case value.Num:
+		times = []float64{float64(v)}
+	case *value.Vec, *value.Range:
+		re, cx, err := numbers(c, "t", v)
+		if err != nil {
+			return nil, 0, err
+		}
+		if cx != nil {
+			return nil, 0, value.TypeErrorf("propagate: the times must be real")
+		}
+		times = append([]float64(nil), re...)
+	default:
+		return nil, 0, value.TypeErrorf("propagate: t must be a number, vector or range of times, not %s", value.TypeName(v))
+	}
+	if len(times) == 0 {
+		return nil, 0, value.ValueErrorf("propagate: no output times")
+	}
+	tmax := 0.0
+	for k, t := range times {
+		if !(t >= 0) || math.IsInf(t, 0) {
+			return nil, 0, value.ValueErrorf("propagate: times must be finite and ≥ 0; t[%d] = %s", k, value.FormatNum(t))
+		}
+		tmax = math.Max(tmax, t)
+	}
+	return times, tmax, nil
 }
 
 // maxContourNodes bounds the quadrature nodes of the contour method: each

@@ -33,6 +33,7 @@ var families = [][]*Builtin{
 	sweepFamily,
 	steadyFamily,
 	structureFamily,
+	eventFamily,
 }
 
 // Example is code that must run in a fresh session, and the text/plain of

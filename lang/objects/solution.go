@@ -28,6 +28,11 @@ type Solution struct {
 	// figures, norms and tables show moduli |u_k|.
 	Complex bool
 
+	// Flow is what evaluating the solution between its output times needs
+	// (the problem, to propagate again from an output time): set and read
+	// by the builtin package, nil when the problem cannot be restarted.
+	Flow any
+
 	warned bool // the shortfall was reported once as a warning
 }
 
