@@ -15,6 +15,7 @@ import (
 func TestInterruptAnalysesKeepsSession(t *testing.T) {
 	s := NewSession()
 	mustExec(t, s, "g = interval(0, 1, 202)\nA = dense(0.005*laplacian(g) - deriv(g))\nh = interval(0, 1, 802)\nB = dense(0.01*laplacian(h) - deriv(h))\nx = 41")
+	mustExec(t, s, "sol = propagate(A, ones(200), 50)")
 	mustExec(t, s, "L = laplacian(interval(0, 1, 302))\nK = kronsum(L, L) + 0.1*kronsum(deriv(interval(0, 1, 302)), L)\nu = ones(90000)")
 	for _, cell := range []string{
 		"y = kreiss(A)",   // Kreiss search, order 200
@@ -32,6 +33,8 @@ func TestInterruptAnalysesKeepsSession(t *testing.T) {
 		"y = resolvent(K, 1, data=u)",                                     // a sparse LU of order 90000
 		"y = steadystate(K, 0, nonlinear=v -> 0.1*exp(v))",                // Newton steps, each a sparse LU of order 90000
 		"y = steadystate(B, ones(800), nonlinear=v -> 0.1*mean(v) - v^3)", // a dense Jacobian: 800 evaluations of N, dense LU
+		"y = propagate(t -> (1 + 0.5*sin(t))*A, ones(200), 50, tol=1e-12)", // Magnus steps, each two dense exponentials of order 200
+		"y = crossing(sol, v -> v[3], -100, samples=20000)",                  // 20000 restarts of order 200, no crossing
 	} {
 		t.Run(cell, func(t *testing.T) {
 			interruptCell(t, s, cell)
