@@ -30,11 +30,11 @@ func TestInterruptAnalysesKeepsSession(t *testing.T) {
 		"y = numrange(B)",                            // boundary of the numerical range, order 800
 		"y = abscissa(B)",                            // dense eigenvalues with conditions, order 800
 		`y = propagate(B, ones(800), 1, method="dense")`,
-		"y = resolvent(K, 1, data=u)",                                     // a sparse LU of order 90000
-		"y = steadystate(K, 0, nonlinear=v -> 0.1*exp(v))",                // Newton steps, each a sparse LU of order 90000
-		"y = steadystate(B, ones(800), nonlinear=v -> 0.1*mean(v) - v^3)", // a dense Jacobian: 800 evaluations of N, dense LU
+		"y = resolvent(K, 1, data=u)",                                      // a sparse LU of order 90000
+		"y = steadystate(K, 0, nonlinear=v -> 0.1*exp(v))",                 // Newton steps, each a sparse LU of order 90000
+		"y = steadystate(B, ones(800), nonlinear=v -> 0.1*mean(v) - v^3)",  // a dense Jacobian: 800 evaluations of N, dense LU
 		"y = propagate(t -> (1 + 0.5*sin(t))*A, ones(200), 50, tol=1e-12)", // Magnus steps, each two dense exponentials of order 200
-		"y = crossing(sol, v -> v[3], -100, samples=20000)",                  // 20000 restarts of order 200, no crossing
+		"y = crossing(sol, v -> v[3], -100, samples=20000)",                // 20000 restarts of order 200, no crossing
 	} {
 		t.Run(cell, func(t *testing.T) {
 			interruptCell(t, s, cell)
