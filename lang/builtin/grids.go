@@ -102,40 +102,52 @@ var gridFamily = []*Builtin{
 		Params: []value.Param{
 			req("gx", "the 1-D grid along x"),
 			req("gy", "the 1-D grid along y"),
+			opt("gz", value.None, "the 1-D grid along z, for a 3-D grid; none for 2-D"),
 		},
-		Doc: "The 2-D tensor-product grid of two 1-D grids: its unknowns are the pairs (x_ix, y_iy) of unknowns of gx and gy, numbered k = ix·ny + iy (y fastest). " +
-			"Derivatives along x and y are D_x ⊗ I and I ⊗ D_y, and the Laplacian is the Kronecker sum D2_x ⊕ D2_y.",
+		Doc: "The tensor-product grid of two or three 1-D grids: its unknowns are the pairs (x_ix, y_iy) of unknowns of gx and gy, numbered k = ix·ny + iy (y fastest), or with gz the triples numbered k = (ix·ny + iy)·nz + iz (z fastest). " +
+			"Derivatives along an axis are the factor's derivative in its place of a Kronecker product with identities (D_x ⊗ I_ny, I_nx ⊗ D_y; in 3-D I_nx ⊗ D_y ⊗ I_nz and so on), and the Laplacian is the Kronecker sum D2_x ⊕ D2_y (⊕ D2_z), which propagate applies as e^{tD2_x} ⊗ e^{tD2_y} (⊗ e^{tD2_z}) by products along each axis.",
 		Examples: []Example{
 			{"tensorgrid(interval(0, 1, 5), interval(0, 2, 6))", "grid: tensor 3×4 unknowns\n  x: interval [0, 1], 5 points, h = 0.25, dirichlet ends, order 2, 3 unknowns\n  y: interval [0, 2], 6 points, h = 0.4, dirichlet ends, order 2, 4 unknowns"},
+			{"tensorgrid(interval(0, 1, 5), interval(0, 1, 6), interval(0, 1, 7)).unknowns", "60"},
 		},
 		Impl: func(c *eval.Call) (value.Value, error) {
-			gx, err := argGrid(c, 0)
-			if err != nil {
+			var gs []*objects.Grid
+			for i := 0; i < 3; i++ {
+				if i == 2 && c.Args[2] == value.None {
+					break
+				}
+				g, err := argGrid(c, i)
+				if err != nil {
+					return nil, err
+				}
+				if g.Dim() != 1 {
+					return nil, value.ValueErrorf("tensorgrid: %s must be a 1-D grid, not a %d-D one", paramName(c, i), g.Dim())
+				}
+				if g.HasData() {
+					return nil, value.ValueErrorf("tensorgrid: %s carries boundary data, which on a tensor grid would vary along the boundary; give the factors homogeneous ends and the data as a forcing", paramName(c, i))
+				}
+				gs = append(gs, g)
+			}
+			size := 1.0
+			for _, g := range gs {
+				size *= float64(g.Size())
+			}
+			if err := c.CheckSize(size, "tensorgrid: the grid"); err != nil {
 				return nil, err
 			}
-			gy, err := argGrid(c, 1)
-			if err != nil {
-				return nil, err
+			if len(gs) == 3 {
+				return objects.NewTensor3(gs[0], gs[1], gs[2]), nil
 			}
-			if gx.Dim() != 1 || gy.Dim() != 1 {
-				return nil, value.ValueErrorf("tensorgrid: gx and gy must be 1-D grids")
-			}
-			if gx.HasData() || gy.HasData() {
-				return nil, value.ValueErrorf("tensorgrid: a factor carries boundary data, which on a tensor grid would vary along the boundary; give the factors homogeneous ends and the data as a forcing")
-			}
-			if err := c.CheckSize(float64(gx.Size())*float64(gy.Size()), "tensorgrid: the grid"); err != nil {
-				return nil, err
-			}
-			return objects.NewTensor(gx, gy), nil
+			return objects.NewTensor(gs[0], gs[1]), nil
 		},
 	},
 	{
 		Name: "coords",
 		Params: []value.Param{
 			req("g", "a grid"),
-			opt("axis", value.Str("x"), `"x" or "y" (y only for 2-D grids)`),
+			opt("axis", value.Str("x"), `"x", "y" (2-D and 3-D grids) or "z" (3-D grids)`),
 		},
-		Doc: "The coordinate vector of the grid's unknowns: x_k for a 1-D grid; on a 2-D grid the x (or y) value of every unknown in the order k = ix·ny + iy.",
+		Doc: "The coordinate vector of the grid's unknowns: x_k for a 1-D grid; on a tensor grid the x (or y, or z) value of every unknown in the order k = ix·ny + iy (k = (ix·ny + iy)·nz + iz in 3-D).",
 		Examples: []Example{
 			{"coords(interval(0, 1, 5))", "[0.25, 0.5, 0.75]"},
 			{`coords(tensorgrid(interval(0, 1, 5), interval(0, 1, 5)), axis="y")`, "[0.25, 0.5, 0.75, 0.25, 0.5, 0.75, 0.25, 0.5, 0.75]"},
@@ -145,27 +157,27 @@ var gridFamily = []*Builtin{
 			if err != nil {
 				return nil, err
 			}
-			axis, err := argChoice(c, 1, "x", "y")
+			axis, err := argChoice(c, 1, "x", "y", "z")
 			if err != nil {
 				return nil, err
 			}
-			x, y := g.Coords()
-			if axis == "y" {
-				if y == nil {
-					return nil, value.ValueErrorf(`coords: axis="y" needs a 2-D grid; this grid is 1-D`)
-				}
-				return value.RealVec(y), nil
+			d := strings.Index("xyz", axis)
+			if d >= g.Dim() {
+				return nil, value.ValueErrorf("coords: axis=%q needs a %d-D grid; this grid is %d-D", axis, d+1, g.Dim())
 			}
-			return value.RealVec(x), nil
+			if g.Dim() == 1 {
+				return value.RealVec(g.X1()), nil
+			}
+			return value.RealVec(g.CoordsAll()[d]), nil
 		},
 	},
 	{
 		Name: "tabulate",
 		Params: []value.Param{
-			req("f", "a function f(x) (1-D grid) or f(x, y) (2-D grid) returning a number, or a number"),
+			req("f", "a function f(x) (1-D grid), f(x, y) (2-D grid) or f(x, y, z) (3-D grid) returning a number, or a number"),
 			req("g", "a grid"),
 		},
-		Doc: "The grid function u_k = f(x_k) (or f(x_k, y_k) on a 2-D grid) at the grid's unknowns, as a vector (complex when f gives complex values). A number gives the constant function. " +
+		Doc: "The grid function u_k = f(x_k) (or f(x_k, y_k), f(x_k, y_k, z_k) on a tensor grid) at the grid's unknowns, as a vector (complex when f gives complex values). A number gives the constant function. " +
 			"f is first called once with the coordinate vectors (arithmetic acts entry-wise) and, if that does not give one number per unknown, once per unknown.",
 		Examples: []Example{
 			{"f(x) = x^2; tabulate(f, interval(0, 1, 5))", "[0.0625, 0.25, 0.5625]"},
@@ -435,7 +447,13 @@ func sampleOn(c *eval.Call, name string, f value.Value, g *objects.Grid) ([]floa
 // at the unknowns of g: the real parts, and the imaginary parts (nil when
 // every value is real).
 func sampleOnComplex(c *eval.Call, name string, f value.Value, g *objects.Grid) (re, im []float64, err error) {
-	x, y := g.Coords()
+	var coords [][]float64
+	if g.Dim() == 1 {
+		coords = [][]float64{g.X1()}
+	} else {
+		coords = g.CoordsAll()
+	}
+	x := coords[0]
 	n := len(x)
 	switch num := f.(type) {
 	case value.Num, value.Complex:
@@ -456,25 +474,17 @@ func sampleOnComplex(c *eval.Call, name string, f value.Value, g *objects.Grid) 
 	if !ok {
 		return nil, nil, value.TypeErrorf("%s: %s must be a function or a number, not %s", c.Name, name, value.TypeName(f))
 	}
-	args := func(xv, yv value.Value) []value.Value {
-		if y == nil {
-			return []value.Value{xv}
-		}
-		return []value.Value{xv, yv}
-	}
-	if want := len(args(nil, nil)); requiredParams(fn) > want || (len(fn.Params()) < want && !variadic(fn)) {
-		of := "x on a 1-D grid"
-		if want == 2 {
-			of = "(x, y) on a 2-D grid"
-		}
+	want := len(coords)
+	if requiredParams(fn) > want || (len(fn.Params()) < want && !variadic(fn)) {
+		of := [...]string{"x on a 1-D grid", "(x, y) on a 2-D grid", "(x, y, z) on a 3-D grid"}[want-1]
 		return nil, nil, value.TypeErrorf("%s: %s must be a function of %s, not %s", c.Name, name, of, eval.SignatureText(fn.Name(), fn.Params()))
 	}
 	// Whole-vector call first.
-	var yv value.Value
-	if y != nil {
-		yv = value.RealVec(y)
+	args := make([]value.Value, want)
+	for d, xd := range coords {
+		args[d] = value.RealVec(xd)
 	}
-	if r, err := c.Apply(f, args(value.RealVec(x), yv)...); err == nil {
+	if r, err := c.Apply(f, args...); err == nil {
 		switch t := r.(type) {
 		case *value.Vec:
 			if t.Len() == n {
@@ -495,11 +505,10 @@ func sampleOnComplex(c *eval.Call, name string, f value.Value, g *objects.Grid) 
 	}
 	re = make([]float64, n)
 	for i := range re {
-		var yi value.Value
-		if y != nil {
-			yi = value.Num(y[i])
+		for d, xd := range coords {
+			args[d] = value.Num(xd[i])
 		}
-		r, err := c.Apply(f, args(value.Num(x[i]), yi)...)
+		r, err := c.Apply(f, args...)
 		if err != nil {
 			return nil, nil, err
 		}

@@ -30,7 +30,7 @@ var operatorFamily = []*Builtin{
 		Params: []value.Param{
 			req("g", "a grid"),
 			opt("k", value.Num(1), "the order of the derivative, 1 or 2"),
-			opt("along", value.Str("x"), `"x" or "y" (y only for 2-D grids)`),
+			opt("along", value.Str("x"), `"x", "y" (2-D and 3-D grids) or "z" (3-D grids)`),
 		},
 		Doc: "The k-th derivative d^k/dx^k (k = 1, 2) as an operator on the grid's unknowns, with the grid's boundary conditions: " +
 			"central differences of the grid's order (2 or 4) inside and one-sided closures of the same order at the ends on an interval; " +
@@ -48,7 +48,7 @@ var operatorFamily = []*Builtin{
 			if err != nil {
 				return nil, err
 			}
-			along, err := argChoice(c, 2, "x", "y")
+			along, err := argChoice(c, 2, "x", "y", "z")
 			if err != nil {
 				return nil, err
 			}
@@ -70,8 +70,8 @@ var operatorFamily = []*Builtin{
 	{
 		Name:   "laplacian",
 		Params: []value.Param{req("g", "a grid")},
-		Doc: "The Laplacian: d²/dx² on a 1-D grid, and ∂²/∂x² + ∂²/∂y² = D2_x ⊕ D2_y (the Kronecker sum D2_x ⊗ I + I ⊗ D2_y) on a tensor grid, with each grid's ends and order. " +
-			"The Kronecker structure is kept, so propagate can use e^{t(X⊕Y)} = e^{tX} ⊗ e^{tY}.",
+		Doc: "The Laplacian: d²/dx² on a 1-D grid, and ∂²/∂x² + ∂²/∂y² = D2_x ⊕ D2_y (the Kronecker sum D2_x ⊗ I + I ⊗ D2_y) on a 2-D tensor grid, D2_x ⊕ D2_y ⊕ D2_z on a 3-D one, with each grid's ends and order. " +
+			"The Kronecker structure is kept, so propagate can use e^{t(X⊕Y)} = e^{tX} ⊗ e^{tY} (three factors in 3-D, applied along each axis in turn).",
 		Examples: []Example{
 			{"laplacian(interval(0, 1, 5)) * [1, 1, 1]", "[-16, 0, -16]"},
 			{"size(laplacian(tensorgrid(interval(0, 1, 5), interval(0, 1, 6))))", "[12, 12]"},
@@ -918,10 +918,13 @@ func toJSON(v value.Value, depth int) (any, error) {
 		}
 		return out, nil
 	case *objects.Grid:
-		x, y := t.Coords()
-		m := map[string]any{"grid": strings.TrimPrefix(t.String(), "grid: "), "x": jsonNums(x)}
-		if y != nil {
-			m["y"] = jsonNums(y)
+		m := map[string]any{"grid": strings.TrimPrefix(t.String(), "grid: ")}
+		if t.Dim() == 1 {
+			m["x"] = jsonNums(t.X1())
+		} else {
+			for d, x := range t.CoordsAll() {
+				m[[]string{"x", "y", "z"}[d]] = jsonNums(x)
+			}
 		}
 		return m, nil
 	case *objects.Solution:

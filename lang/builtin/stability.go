@@ -567,6 +567,22 @@ func spectrumImpl(c *eval.Call) (value.Value, error) {
 	if r, ok, err := pencilSpectrum(c, op, n, k, near, nearSet); ok {
 		return r, err
 	}
+	if kron, ok := op.Op.(*linop.KronSum); ok && n > DenseLimit && kronFromFactors(kron, n) {
+		// A large Kronecker sum of small factors: its eigenvalues are the
+		// sums of theirs.
+		what := fmt.Sprintf("all %d eigenvalues", n)
+		switch {
+		case nearSet:
+			what = fmt.Sprintf("the %d eigenvalues nearest %s", k, value.FormatNum(near))
+		case k > 0:
+			what = fmt.Sprintf("the %d rightmost eigenvalues", k)
+		}
+		var s *spectra.Spectrum
+		if err := stabGuard(c, func() (e error) { s, e = spectra.KronSpectrum(c.Ctx, kron, k, nearSet, near); return }); err != nil {
+			return nil, err
+		}
+		return objects.SpectrumReport(op.Label, n, s, what), nil
+	}
 	if k == 0 {
 		if chain, ok := spectra.BirthDeathOf(op.Op); ok && n > DenseLimit && n <= spectra.BirthDeathAllMax {
 			// A large birth–death rate matrix: all eigenvalues by dqds,
@@ -1512,4 +1528,19 @@ func markovImpl(c *eval.Call) (value.Value, error) {
 		return nil, err
 	}
 	return objects.MarkovReport(op.Label, m), nil
+}
+
+// kronFromFactors reports whether spectrum takes the eigenvalues of the
+// Kronecker sum k of order n from its factors: every factor small enough
+// for a dense spectrum and n within spectra.KronMaxOrder.
+func kronFromFactors(k *linop.KronSum, n int) bool {
+	if n > spectra.KronMaxOrder {
+		return false
+	}
+	for _, f := range linop.KronFactors(k) {
+		if m, _ := f.Dims(); m > spectra.KronMaxFactor {
+			return false
+		}
+	}
+	return true
 }

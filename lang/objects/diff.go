@@ -1,33 +1,36 @@
 package objects
 
 import (
+	"strings"
+
 	"semiflow/lang/value"
 	"semiflow/numerics/linop"
 )
 
 // Deriv returns the k-th derivative operator (k = 1 or 2) on the unknowns
-// of g, along "x" or "y" (y only on 2-D grids): finite differences of the
-// grid's order with its boundary conditions on an interval, the interior
-// block of the spectral differentiation matrix D or D² on Chebyshev points,
-// and D_x ⊗ I_ny or I_nx ⊗ D_y on a tensor grid. Errors are ValueErrors.
+// of g, along "x", "y" or "z" (y on 2-D and 3-D grids, z on 3-D grids):
+// finite differences of the grid's order with its boundary conditions on
+// an interval, the interior block of the spectral differentiation matrix D
+// or D² on Chebyshev points, and on a tensor grid the factor's derivative
+// in its place of the Kronecker product with identities (D_x ⊗ I_ny,
+// I_nx ⊗ D_y; D_x ⊗ I_ny·nz, I_nx ⊗ D_y ⊗ I_nz, I_nx·ny ⊗ D_z in 3-D).
+// Errors are ValueErrors.
 func Deriv(g *Grid, k int, along string) (linop.Operator, error) {
 	if k != 1 && k != 2 {
 		return nil, value.ValueErrorf("deriv: k must be 1 or 2, not %d", k)
 	}
-	if along != "x" && along != "y" {
-		return nil, value.ValueErrorf("deriv: along must be \"x\" or \"y\", not %q", along)
+	axis := strings.Index("xyz", along)
+	if axis < 0 || len(along) != 1 {
+		return nil, value.ValueErrorf("deriv: along must be \"x\", \"y\" or \"z\", not %q", along)
 	}
-	if g.Kind != KindTensor {
-		if along == "y" {
-			return nil, value.ValueErrorf("deriv: along=\"y\" needs a 2-D grid; this grid is 1-D")
-		}
+	fs := g.Factors()
+	if axis >= len(fs) {
+		return nil, value.ValueErrorf("deriv: along=%q needs a %d-D grid; this grid is %d-D", along, axis+1, len(fs))
+	}
+	if len(fs) == 1 {
 		return deriv1(g, k)
 	}
-	f, other := g.X, g.Y
-	if along == "y" {
-		f, other = g.Y, g.X
-	}
-	d, err := deriv1(f, k)
+	d, err := deriv1(fs[axis], k)
 	if err != nil {
 		return nil, err
 	}
@@ -35,11 +38,22 @@ func Deriv(g *Grid, k int, along string) (linop.Operator, error) {
 	if err != nil {
 		return nil, err
 	}
-	id := linop.Identity(other.Size())
-	if along == "x" {
-		return linop.Kron(ds, id), nil
+	before, after := 1, 1
+	for i, f := range fs {
+		if i < axis {
+			before *= f.Size()
+		} else if i > axis {
+			after *= f.Size()
+		}
 	}
-	return linop.Kron(id, ds), nil
+	op := ds
+	if after > 1 {
+		op = linop.Kron(op, linop.Identity(after))
+	}
+	if before > 1 {
+		op = linop.Kron(linop.Identity(before), op)
+	}
+	return op, nil
 }
 
 func deriv1(g *Grid, k int) (linop.Operator, error) {
@@ -77,20 +91,25 @@ func toCSR(op linop.Operator) (*linop.CSR, error) {
 }
 
 // Laplacian returns d²/dx² on a 1-D grid and the Kronecker sum
-// D2_x ⊕ D2_y = ∂²/∂x² + ∂²/∂y² on a tensor grid.
+// D2_x ⊕ D2_y = ∂²/∂x² + ∂²/∂y² on a 2-D tensor grid, D2_x ⊕ (D2_y ⊕ D2_z)
+// on a 3-D one.
 func Laplacian(g *Grid) (linop.Operator, error) {
 	if g.Kind != KindTensor {
 		return deriv1(g, 2)
 	}
-	dx, err := deriv1(g.X, 2)
-	if err != nil {
-		return nil, err
+	var ds []linop.Operator
+	for _, f := range g.Factors() {
+		d, err := deriv1(f, 2)
+		if err != nil {
+			return nil, err
+		}
+		ds = append(ds, d)
 	}
-	dy, err := deriv1(g.Y, 2)
-	if err != nil {
-		return nil, err
+	op := ds[len(ds)-1]
+	for i := len(ds) - 2; i >= 0; i-- {
+		op = linop.NewKronSum(ds[i], op)
 	}
-	return linop.NewKronSum(dx, dy), nil
+	return op, nil
 }
 
 // LiftOf returns the terms through which the boundary data of a 1-D

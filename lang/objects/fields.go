@@ -212,6 +212,10 @@ func (g *Grid) Field(name string) (value.Value, bool) {
 			return g.X, true
 		case "y":
 			return g.Y, true
+		case "z":
+			if g.Z != nil {
+				return g.Z, true
+			}
 		}
 	}
 	return nil, false
@@ -224,6 +228,9 @@ func (g *Grid) FieldNames() []string {
 		return []string{"a", "b", "points", "h", "order", "unknowns"}
 	case KindChebyshev:
 		return []string{"a", "b", "degree", "unknowns"}
+	}
+	if g.Z != nil {
+		return []string{"x", "y", "z", "unknowns"}
 	}
 	return []string{"x", "y", "unknowns"}
 }

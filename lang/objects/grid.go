@@ -15,7 +15,7 @@ type GridKind int
 const (
 	KindInterval  GridKind = iota // uniform finite-difference grid
 	KindChebyshev                 // Chebyshev points, spectral differentiation
-	KindTensor                    // 2-D tensor product of two 1-D grids
+	KindTensor                    // 2-D or 3-D tensor product of 1-D grids
 )
 
 // Grid is a 1-D grid (a uniform interval with boundary conditions, or the
@@ -32,6 +32,7 @@ type Grid struct {
 	Order    int             // finite-difference order (2 or 4) of an interval
 	Cheb     *grid.Chebyshev // KindChebyshev
 	X, Y     *Grid           // KindTensor: the 1-D factors
+	Z        *Grid           // KindTensor: the third factor of a 3-D grid, nil for 2-D
 	// Data holds the right-hand sides of an interval's end conditions,
 	// left and right (u = g, u' = g or αu + βu' = g): a value.Num or a
 	// value.Callable of t, nil for 0. Operators built on the grid carry
@@ -44,12 +45,27 @@ func (g *Grid) HasData() bool { return g.Data[0] != nil || g.Data[1] != nil }
 
 func (g *Grid) Type() string { return "grid" }
 
-// Dim returns 1 or 2.
+// Dim returns 1, 2 or 3.
 func (g *Grid) Dim() int {
-	if g.Kind == KindTensor {
-		return 2
+	switch {
+	case g.Kind != KindTensor:
+		return 1
+	case g.Z != nil:
+		return 3
 	}
-	return 1
+	return 2
+}
+
+// Factors returns the 1-D factors of a tensor grid (x, y and, in 3-D, z),
+// or the grid itself for a 1-D grid.
+func (g *Grid) Factors() []*Grid {
+	switch g.Dim() {
+	case 1:
+		return []*Grid{g}
+	case 2:
+		return []*Grid{g.X, g.Y}
+	}
+	return []*Grid{g.X, g.Y, g.Z}
 }
 
 // Size returns the number of unknowns.
@@ -60,7 +76,11 @@ func (g *Grid) Size() int {
 	case KindChebyshev:
 		return g.Cheb.N - 1
 	}
-	return g.X.Size() * g.Y.Size()
+	n := 1
+	for _, f := range g.Factors() {
+		n *= f.Size()
+	}
+	return n
 }
 
 // X1 returns the coordinates of the unknowns of a 1-D grid. It panics for a
@@ -77,22 +97,40 @@ func (g *Grid) X1() []float64 {
 }
 
 // Coords returns the x and y coordinates of every unknown of a 2-D grid in
-// the order k = ix*ny + iy; for a 1-D grid y is nil.
+// the order k = ix*ny + iy; for a 1-D grid y is nil. On a 3-D grid they
+// are the x and y of each unknown in the order of CoordsAll.
 func (g *Grid) Coords() (x, y []float64) {
 	if g.Kind != KindTensor {
 		return g.X1(), nil
 	}
-	gx, gy := g.X.X1(), g.Y.X1()
-	ny := len(gy)
-	x = make([]float64, len(gx)*ny)
-	y = make([]float64, len(gx)*ny)
-	for ix, xv := range gx {
-		for iy, yv := range gy {
-			x[ix*ny+iy] = xv
-			y[ix*ny+iy] = yv
+	c := g.CoordsAll()
+	return c[0], c[1]
+}
+
+// CoordsAll returns one coordinate vector per dimension, for every unknown
+// in the order k = ix*ny + iy (2-D) or k = (ix*ny + iy)*nz + iz (3-D):
+// the last index fastest.
+func (g *Grid) CoordsAll() [][]float64 {
+	fs := g.Factors()
+	pts := make([][]float64, len(fs))
+	n := 1
+	for i, f := range fs {
+		pts[i] = f.X1()
+		n *= len(pts[i])
+	}
+	out := make([][]float64, len(fs))
+	for d := range out {
+		out[d] = make([]float64, n)
+	}
+	for k := 0; k < n; k++ {
+		r := k
+		for d := len(fs) - 1; d >= 0; d-- {
+			m := len(pts[d])
+			out[d][k] = pts[d][r%m]
+			r /= m
 		}
 	}
-	return x, y
+	return out
 }
 
 // QuadWeights returns quadrature weights on the unknowns: trapezoidal for
@@ -104,12 +142,16 @@ func (g *Grid) QuadWeights() []float64 {
 	case KindChebyshev:
 		return clenshawCurtis(g.Cheb)
 	}
-	wx, wy := g.X.QuadWeights(), g.Y.QuadWeights()
-	w := make([]float64, 0, len(wx)*len(wy))
-	for _, a := range wx {
-		for _, b := range wy {
-			w = append(w, a*b)
+	w := []float64{1}
+	for _, f := range g.Factors() {
+		wf := f.QuadWeights()
+		next := make([]float64, 0, len(w)*len(wf))
+		for _, a := range w {
+			for _, b := range wf {
+				next = append(next, a*b)
+			}
 		}
+		w = next
 	}
 	return w
 }
@@ -138,12 +180,19 @@ func (g *Grid) describe() string {
 		c := g.Cheb
 		return fmt.Sprintf("chebyshev [%s, %s], degree %d, dirichlet ends, %d unknowns", value.FormatNum(c.A), value.FormatNum(c.B), c.N, c.N-1)
 	}
+	if g.Z != nil {
+		return fmt.Sprintf("tensor %d×%d×%d unknowns", g.X.Size(), g.Y.Size(), g.Z.Size())
+	}
 	return fmt.Sprintf("tensor %d×%d unknowns", g.X.Size(), g.Y.Size())
 }
 
 func (g *Grid) String() string {
 	if g.Kind == KindTensor {
-		return "grid: " + g.describe() + "\n  x: " + g.X.describe() + "\n  y: " + g.Y.describe()
+		s := "grid: " + g.describe() + "\n  x: " + g.X.describe() + "\n  y: " + g.Y.describe()
+		if g.Z != nil {
+			s += "\n  z: " + g.Z.describe()
+		}
+		return s
 	}
 	return "grid: " + g.describe()
 }
@@ -168,6 +217,15 @@ func NewTensor(x, y *Grid) *Grid {
 		panic("objects: tensor of a 2-D grid")
 	}
 	return &Grid{Kind: KindTensor, X: x, Y: y}
+}
+
+// NewTensor3 returns the 3-D tensor-product grid of three 1-D grids,
+// unknowns numbered k = (ix*ny + iy)*nz + iz. It panics if one is not 1-D.
+func NewTensor3(x, y, z *Grid) *Grid {
+	if x.Dim() != 1 || y.Dim() != 1 || z.Dim() != 1 {
+		panic("objects: tensor of a tensor grid")
+	}
+	return &Grid{Kind: KindTensor, X: x, Y: y, Z: z}
 }
 
 // Profile returns the points of a 1-D grid in increasing order with the
@@ -209,6 +267,9 @@ func (g *Grid) MIME() map[string]any {
 	if g.Kind == KindTensor {
 		t.add("x", g.X.describe())
 		t.add("y", g.Y.describe())
+		if g.Z != nil {
+			t.add("z", g.Z.describe())
+		}
 	} else {
 		t.add("grid", g.describe())
 	}

@@ -572,8 +572,14 @@ func KronSum(a, b *Operator) (*Operator, error) {
 		op = linop.NewKronSum(a.Op, b.Op)
 	}
 	out := &Operator{Op: op, Label: a.Label + " ⊕ " + b.Label}
-	if a.Grid != nil && b.Grid != nil && a.Grid.Dim() == 1 && b.Grid.Dim() == 1 {
-		out.Grid = NewTensor(a.Grid, b.Grid)
+	if a.Grid != nil && b.Grid != nil {
+		switch fa, fb := a.Grid.Factors(), b.Grid.Factors(); {
+		case len(fa) == 1 && len(fb) == 1:
+			out.Grid = NewTensor(a.Grid, b.Grid)
+		case len(fa)+len(fb) == 3:
+			f := append(append([]*Grid(nil), fa...), fb...)
+			out.Grid = NewTensor3(f[0], f[1], f[2])
+		}
 	}
 	return out, nil
 }

@@ -301,6 +301,26 @@ func (s *Solution) Figure() *plot.Figure {
 			}
 			cycleDash(f.AddLine(x, u, "t = "+names[k]), k)
 		}
+	case s.Grid != nil && s.Grid.Dim() == 3:
+		// A heat map of the plane z = z_iz through the middle unknown
+		// along z, at the last time.
+		last := len(S.Times) - 1
+		gx, gy, gz := s.Grid.X.X1(), s.Grid.Y.X1(), s.Grid.Z.X1()
+		ny, nz := len(gy), len(gz)
+		iz := nz / 2
+		z := make([][]float64, len(gx))
+		for ix := range z {
+			z[ix] = make([]float64, ny)
+			for iy := range z[ix] {
+				z[ix][iy] = S.Values[last][(ix*ny+iy)*nz+iz]
+			}
+		}
+		f.Title = fmt.Sprintf("The solution at t = %s on the plane z = %s (unknown %d of %d along z)", plot.FormatValue(S.Times[last]), plot.FormatValue(gz[iz]), iz+1, nz)
+		f.X.Label, f.Y.Label = "x", "y"
+		f.EqualAspect = true
+		x0, x1 := cellEdges(gx)
+		y0, y1 := cellEdges(gy)
+		f.AddHeatMap(z, x0, x1, y0, y1, "u")
 	case s.Grid != nil:
 		last := len(S.Times) - 1
 		gx, gy := s.Grid.X.X1(), s.Grid.Y.X1()

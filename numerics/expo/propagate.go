@@ -367,10 +367,19 @@ func maxDiffValues(x, y [][]float64) float64 {
 func chooseMethod(A linop.Operator, times []float64) (method, reason string) {
 	n, _ := A.Dims()
 	if k, ok := A.(*linop.KronSum); ok {
-		nx, _ := k.X.Dims()
-		ny, _ := k.Y.Dims()
-		if nx <= maxDenseN && ny <= maxDenseN {
-			return MethodKronecker, fmt.Sprintf("Kronecker sum of factors %d and %d: e^{tX} U e^{tY}ᵀ costs two small dense exponentials", nx, ny)
+		f := linop.KronFactors(k)
+		sizes := make([]string, len(f))
+		small := true
+		for i, op := range f {
+			ni, _ := op.Dims()
+			sizes[i] = fmt.Sprint(ni)
+			small = small && ni <= maxDenseN
+		}
+		if small && len(f) == 2 {
+			return MethodKronecker, fmt.Sprintf("Kronecker sum of factors %s and %s: e^{tX} U e^{tY}ᵀ costs two small dense exponentials", sizes[0], sizes[1])
+		}
+		if small {
+			return MethodKronecker, fmt.Sprintf("Kronecker sum of %d factors of orders %s: e^{tF_1} ⊗ … ⊗ e^{tF_%d} applied by mode products costs %d small dense exponentials", len(f), strings.Join(sizes, ", "), len(f), len(f))
 		}
 	}
 	if n <= 400 {

@@ -396,3 +396,23 @@ type Denser interface {
 
 // ErrNotSparse is returned by ToCSR for operators with no sparse form.
 var ErrNotSparse = fmt.Errorf("linop: operator has no sparse form")
+
+// KronFactors returns the factors F_1, …, F_d of a Kronecker sum
+// F_1 ⊕ F_2 ⊕ … ⊕ F_d, flattening nested sums on either side:
+// X ⊕ (Y ⊕ Z) and (X ⊕ Y) ⊕ Z are both X ⊗ I ⊗ I + I ⊗ Y ⊗ I + I ⊗ I ⊗ Z
+// on vectors indexed k = (ix·ny + iy)·nz + iz, the last factor's index
+// fastest.
+func KronFactors(k *KronSum) []Operator {
+	var out []Operator
+	var walk func(op Operator)
+	walk = func(op Operator) {
+		if s, ok := op.(*KronSum); ok {
+			walk(s.X)
+			walk(s.Y)
+			return
+		}
+		out = append(out, op)
+	}
+	walk(k)
+	return out
+}
