@@ -15,6 +15,7 @@ import (
 
 	"semiflow/numerics/expo"
 	"semiflow/numerics/linop"
+	"semiflow/numerics/memguard"
 	"semiflow/numerics/mmio"
 	"semiflow/numerics/roundoff"
 	"semiflow/numerics/solve"
@@ -507,5 +508,77 @@ func TestBadMass(t *testing.T) {
 	}
 	if _, err := g.EnergyWeight(); !errors.Is(err, ErrNotDefinite) {
 		t.Errorf("indefinite M: EnergyWeight err = %v", err)
+	}
+}
+
+// TestLargeStringStaysSparse: the linear-element string of
+// TestStringModesLinearElements with 20000 nodes, lightly Rayleigh-damped:
+// the lowest modes by shift-and-invert Krylov–Schur through the quadratic
+// pencil, and a stiff propagation, without any dense matrix of the
+// system's order (memguard.LargestSide). Closed forms as in
+// TestRayleighDampingModes and TestRayleighEnergyDecay. (A fourth-difference
+// beam of this order would not do: ‖K‖/λ_min(K) ≈ 16/(πh)⁴ ≈ 3e16 leaves no
+// digit of its lowest modes in double precision, whatever the method; the
+// propagation then says so through its error estimate.)
+func TestLargeStringStaysSparse(t *testing.T) {
+	if testing.Short() {
+		t.Skip("large")
+	}
+	n := 20000
+	alpha, beta := 0.05, 1e-7
+	M, C, K, om := rayleighString(n, alpha, beta)
+	memguard.ResetLargest()
+	g, err := NewSecond(ctx, M, C, K)
+	if err != nil {
+		t.Fatal(err)
+	}
+	sp, err := spectra.Rightmost(ctx, g, &spectra.EigsOptions{Count: 4, ShiftInvert: true, Shift: 0})
+	if err != nil {
+		t.Fatal(err)
+	}
+	for k := 0; k < 2; k++ {
+		w := om[k]
+		z := alpha/(2*w) + beta*w/2
+		want := complex(-z*w, w*math.Sqrt(1-z*z))
+		best := math.Inf(1)
+		for _, v := range sp.Values {
+			best = math.Min(best, cmplx.Abs(v-want))
+		}
+		if best > 1e-8*cmplx.Abs(want) {
+			t.Errorf("mode %d: λ = %v not found (nearest %.2g away) in %v", k+1, want, best, sp.Values)
+		}
+	}
+	h := 1 / float64(n+1)
+	x0 := make([]float64, 2*n)
+	for j := 0; j < n; j++ {
+		x0[j] = math.Sin(math.Pi * float64(j+1) * h)
+	}
+	tt := 0.7
+	// Tolerance 1e-6: the solves with Q(γ⁻¹) carry about u·κ(K) ≈ 1e-8
+	// of rounding here (κ(K) ≈ 4/(πh)²), which the estimate includes.
+	sol, err := expo.Propagate(ctx, g, x0, []float64{tt}, expo.Options{Tol: 1e-6})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if sol.Method != expo.MethodShiftInv || !sol.TolMet {
+		t.Errorf("auto chose %q (%s), tolerance met: %v %s", sol.Method, sol.Reason, sol.TolMet, sol.Shortfall)
+	}
+	w := om[0]
+	z := alpha/(2*w) + beta*w/2
+	wd := w * math.Sqrt(1-z*z)
+	e := math.Exp(-z * w * tt)
+	q := e * (math.Cos(wd*tt) + z*w/wd*math.Sin(wd*tt))
+	dq := -e * w * w / wd * math.Sin(wd*tt)
+	var d float64 // ∞-norm error of the state, as the estimate measures it
+	for j := 0; j < n; j++ {
+		d = math.Max(d, math.Abs(sol.Values[0][j]-q*x0[j]))
+		d = math.Max(d, math.Abs(sol.Values[0][n+j]-dq*x0[j]))
+	}
+	if d > 1e-6 || d > sol.ErrEst[0] {
+		t.Errorf("mode 1 at t = %g off the closed form by %.2g (estimate %.2g)", tt, d, sol.ErrEst[0])
+	}
+	relClose(t, "energy", g.Energy(sol.Values[0]), (dq*dq+w*w*q*q)/(w*w)*g.Energy(x0), 1e-7)
+	if s := memguard.LargestSide(); s >= n {
+		t.Errorf("a dense matrix with a side of %d was asked for", s)
 	}
 }
