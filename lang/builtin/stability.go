@@ -1438,6 +1438,9 @@ func generatorImpl(c *eval.Call) (value.Value, error) {
 		}
 	}
 	gopt := &spectra.GeneratorOptions{Weight: w, Progress: stabProgress(c), Work: spectra.HYInteractiveWork}
+	if v, _ := c.Arg(1); v == value.Str("energy") {
+		gopt.Inner = "the " + ip
+	}
 	sv, _ := c.Arg(3)
 	switch sv {
 	case value.Str("auto"):

@@ -19,6 +19,10 @@ type GeneratorOptions struct {
 	// Weight, if not nil, is the inner product ⟨x, y⟩ = xᵀWy in which
 	// dissipativity and norms are measured.
 	Weight Weight
+	// Inner, if not empty, names the weighted inner product in the verdict
+	// (for instance "the energy inner product"); otherwise it is "the
+	// weighted inner product ⟨x,y⟩ = xᵀWy".
+	Inner string
 	// Omega is the growth rate ω to test in ‖e^{tA}‖ ≤ M e^{ωt}. If
 	// OmegaSet is false it defaults to 0 when α(A) < 0, and otherwise to
 	// α(A) + (ω(A) − α(A))/10 (a tenth of the way to the numerical
@@ -190,6 +194,9 @@ func Generator(ctx context.Context, a linop.Operator, opt *GeneratorOptions) (*G
 	inner := "the Euclidean inner product"
 	if o.Weight != nil {
 		inner = "the weighted inner product ⟨x,y⟩ = xᵀWy"
+		if o.Inner != "" {
+			inner = o.Inner
+		}
 	}
 	var v strings.Builder
 	fmt.Fprintf(&v, "A (%d×%d) generates the semigroup e^{tA} (every matrix does in finite dimensions); ", n, n)
