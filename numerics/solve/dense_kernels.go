@@ -172,31 +172,32 @@ const trsmBlock = 32
 // panelBlock is the width of the column blocks of the partial LU.
 const panelBlock = 32
 
-// partialLU factors the first k columns of the f×f row-major front F with
-// row pivoting restricted to its first k rows (the supernode's own rows):
-// F[0:k, 0:k] = P L11 U11, F[k:f, 0:k] = L21 U11, then U12 = L11⁻¹ P F12
-// and the Schur complement F22 −= L21 U12. piv[j] is the row swapped with
-// row j at step j (LAPACK style, relative to the front). A pivot below
-// weakTol times the largest entry of its column in the whole front counts
-// in weak; a pivot below tinyRel times that entry, or at most tinyAbs,
-// stops the factorisation with ok false.
-func partialLU[T scalar](F []T, f, k int, piv []int, tinyAbs float64, ws *workspace) (weak int, ok bool) {
+// partialLU factors the first k columns of an f×f row-major front whose
+// first k rows (the supernode's own rows) are top and whose other f − k
+// rows are bot, pivoting among the first k rows only:
+// top[0:k, 0:k] = P L11 U11 by blocked right-looking LU with partial
+// pivoting inside the block, then L21 = F21 U11⁻¹ (in bot), U12 = L11⁻¹ P F12
+// (in top) and the Schur complement F22 −= L21 U12 (in bot) — all but the
+// small diagonal blocks as matrix products (BLAS-3). piv[j] is the row
+// swapped with row j at step j (LAPACK style, relative to the front).
+// Since |L11| ≤ 1 by partial pivoting, a multiplier |L21(i, j)| > 1/weakTol
+// says that the pivot of column j was below weakTol times an entry of its
+// column in the front: such columns count in weak. A pivot of at most
+// tinyAbs, or a multiplier above 1/tinyRel, stops the factorisation with
+// ok false.
+func partialLU[T scalar](top, bot []T, f, k int, piv []int, tinyAbs float64, ws *workspace) (weak int, ok bool) {
+	F := top
 	for j0 := 0; j0 < k; j0 += panelBlock {
 		j1 := min(j0+panelBlock, k)
 		for j := j0; j < j1; j++ {
-			best, bv, colmax := j, -1.0, 0.0
-			for i := j; i < f; i++ {
-				v := absT(F[i*f+j])
-				if i < k && v > bv {
+			best, bv := j, -1.0
+			for i := j; i < k; i++ {
+				if v := absT(F[i*f+j]); v > bv {
 					best, bv = i, v
 				}
-				colmax = math.Max(colmax, v)
 			}
-			if bv <= tinyAbs || bv < tinyRel*colmax {
+			if bv <= tinyAbs {
 				return weak, false
-			}
-			if bv < weakTol*colmax {
-				weak++
 			}
 			piv[j] = best
 			if best != j {
@@ -207,7 +208,7 @@ func partialLU[T scalar](F []T, f, k int, piv []int, tinyAbs float64, ws *worksp
 			}
 			inv := 1 / F[j*f+j]
 			urow := F[j*f+j+1 : j*f+j1]
-			for i := j + 1; i < f; i++ {
+			for i := j + 1; i < k; i++ {
 				l := F[i*f+j] * inv
 				F[i*f+j] = l
 				if l == 0 {
@@ -220,24 +221,68 @@ func partialLU[T scalar](F []T, f, k int, piv []int, tinyAbs float64, ws *worksp
 			}
 		}
 		if j1 < k {
-			// U block row right of the block inside the panel, then the
-			// panel's trailing columns.
 			trsmLowerUnit(j1-j0, k-j1, F[j0*f+j0:], f, F[j0*f+j1:], f, ws)
-			gemmSub(f-j1, k-j1, j1-j0, F[j1*f+j0:], f, F[j0*f+j1:], f, F[j1*f+j1:], f, ws)
+			gemmSub(k-j1, k-j1, j1-j0, F[j1*f+j0:], f, F[j0*f+j1:], f, F[j1*f+j1:], f, ws)
 		}
 	}
-	if k < f {
-		trsmLowerUnit(k, f-k, F, f, F[k:], f, ws)
-		gemmSub(f-k, f-k, k, F[k*f:], f, F[k:], f, F[k*f+k:], f, ws)
+	if k == f {
+		return 0, true
 	}
+	r := f - k
+	trsmRightUpper(r, k, top, f, bot, f, ws)
+	// Multipliers: growth beyond 1/weakTol marks a weak pivot.
+	var colBig [panelBlock]float64
+	for j0 := 0; j0 < k; j0 += panelBlock {
+		j1 := min(j0+panelBlock, k)
+		big := colBig[:j1-j0]
+		clear(big)
+		for i := 0; i < r; i++ {
+			for c, v := range bot[i*f+j0 : i*f+j1] {
+				big[c] = math.Max(big[c], absT(v))
+			}
+		}
+		for _, m := range big {
+			if m > 1/tinyRel || m != m {
+				return weak, false
+			}
+			if m > 1/weakTol {
+				weak++
+			}
+		}
+	}
+	trsmLowerUnit(k, r, top, f, top[k:], f, ws)
+	gemmSub(r, r, k, bot, f, top[k:], f, bot[k:], f, ws)
 	return weak, true
 }
 
+// trsmRightUpper sets X ← X U⁻¹ for the m×k row-major x (stride ldx) and
+// the upper triangle U (diagonal included) of the k×k row-major a: column
+// blocks from the left, each first updated by a matrix product with the
+// finished ones.
+func trsmRightUpper[T scalar](m, k int, a []T, lda int, x []T, ldx int, ws *workspace) {
+	for j0 := 0; j0 < k; j0 += trsmBlock {
+		j1 := min(j0+trsmBlock, k)
+		if j0 > 0 {
+			gemmSub(m, j1-j0, j0, x, ldx, a[j0:], lda, x[j0:], ldx, ws)
+		}
+		for i := 0; i < m; i++ {
+			xi := x[i*ldx : i*ldx+k]
+			for j := j0; j < j1; j++ {
+				v := xi[j]
+				for p := j0; p < j; p++ {
+					v -= xi[p] * a[p*lda+j]
+				}
+				xi[j] = v / a[j*lda+j]
+			}
+		}
+	}
+}
+
 // Pivot thresholds of the supernodal factorisation (pivots are chosen
-// within a supernode's diagonal block): below weakTol times the largest
-// entry of the column in the front a pivot counts as weak, and solves are
-// refined; below tinyRel the factorisation falls back to the frontal one
-// with delayed pivots.
+// within a supernode's diagonal block): below weakTol times an entry of
+// its column in the front a pivot counts as weak, and solves are refined;
+// below tinyRel the factorisation falls back to the frontal one with
+// delayed pivots.
 const (
 	weakTol = 0.01
 	tinyRel = 1e-8

@@ -3,6 +3,7 @@ package solve
 import (
 	"context"
 	"fmt"
+	"sort"
 
 	"semiflow/numerics/memguard"
 )
@@ -34,16 +35,25 @@ func etree(g *graph, q, pinv []int) []int {
 }
 
 // postorder returns a depth-first postorder of the forest parent: post[k]
-// is the k-th node visited, children before parents, children of a node
-// in increasing order.
-func postorder(parent []int) []int {
+// is the k-th node visited, children before parents, the children of a
+// node by increasing key (so the child with the largest key comes right
+// before its parent; nil key: increasing index).
+func postorder(parent, key []int) []int {
 	n := len(parent)
 	head := make([]int, n)
 	next := make([]int, n)
 	for i := range head {
 		head[i] = -1
 	}
-	for j := n - 1; j >= 0; j-- {
+	byKey := make([]int, n)
+	for j := range byKey {
+		byKey[j] = n - 1 - j
+	}
+	if key != nil {
+		// Children pushed in decreasing key order end up increasing.
+		sort.SliceStable(byKey, func(x, y int) bool { return key[byKey[x]] > key[byKey[y]] })
+	}
+	for _, j := range byKey {
 		if p := parent[j]; p >= 0 {
 			next[j] = head[p]
 			head[p] = j
@@ -161,7 +171,13 @@ func analyseOrder(ctx context.Context, g *graph, q0 []int) (*snodes, error) {
 	n := g.n
 	pinv0 := invPerm(q0)
 	parent0 := etree(g, q0, pinv0)
-	post := postorder(parent0)
+	cc0, err := colCounts(ctx, g, q0, pinv0, parent0)
+	if err != nil {
+		return nil, err
+	}
+	// The child with the largest column last: it is the one a relaxed
+	// supernode can absorb at the least cost in explicit zeros.
+	post := postorder(parent0, cc0)
 	// Renumber so that columns are in postorder; the tree keeps its shape.
 	q := make([]int, n)
 	newOf := make([]int, n)
@@ -178,9 +194,9 @@ func analyseOrder(ctx context.Context, g *graph, q0 []int) (*snodes, error) {
 		}
 	}
 	pinv := invPerm(q)
-	cc, err := colCounts(ctx, g, q, pinv, parent)
-	if err != nil {
-		return nil, err
+	cc := make([]int, n)
+	for j, c := range cc0 {
+		cc[newOf[j]] = c
 	}
 	nchild := make([]int, n)
 	for _, p := range parent {

@@ -109,26 +109,22 @@ func ndGraph(g *graph) []int {
 			continue
 		}
 		// Pseudo-peripheral root: restart from a vertex of least degree in
-		// the last level while the eccentricity grows.
-		root := vs[0]
-		ecc := -1
-		for iter := 0; iter < 6; iter++ {
-			lv := bfs(root, p)
-			last := lv[len(lv)-1]
-			e := level[last]
-			if e <= ecc {
-				break
-			}
-			ecc = e
-			best := last
+		// the last level while the eccentricity grows (at most twice); the
+		// component's search above is the first.
+		lv := comp
+		for iter := 0; iter < 2; iter++ {
+			e := level[lv[len(lv)-1]]
+			best := lv[len(lv)-1]
 			for k := len(lv) - 1; k >= 0 && level[lv[k]] == e; k-- {
 				if g.deg(lv[k]) < g.deg(best) {
 					best = lv[k]
 				}
 			}
-			root = best
+			lv = bfs(best, p)
+			if level[lv[len(lv)-1]] <= e {
+				break
+			}
 		}
-		lv := bfs(root, p)
 		h := level[lv[len(lv)-1]]
 		if h < 2 {
 			order = append(order, ndLeafOrder(g, vs, part, p, loc)...)

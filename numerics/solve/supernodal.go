@@ -469,25 +469,34 @@ type nodeState[T scalar] struct {
 	loc []int
 	ws  workspace
 	cl  []int
+	// the current front: rows 0..k−1 in top, the others in bot; stride fz
+	top, bot []T
+	k, fz    int
 }
 
 func newNodeState[T scalar](n int) *nodeState[T] {
 	return &nodeState[T]{loc: make([]int, n)}
 }
 
-// node assembles, factors and stores supernode s, keeping its front as the
-// update matrix for the parent.
+// node assembles, factors and stores supernode s. The front's first k
+// rows (U11 with L11 below its diagonal, and U12) are assembled in place in
+// the factors' storage, which starts zeroed; its other rows come from the
+// pool, and their trailing block stays there as the update matrix for the
+// parent.
 func (st *nodeState[T]) node(s int, f *snFactor[T], a, at *linop.CSR, pinv []int, z T, tiny float64, pool *bufPool[T], fronts [][]T) (int, error) {
 	sn := f.sn
 	c0, c1 := sn.first[s], sn.first[s+1]
 	k := c1 - c0
 	rows := sn.rows[s]
-	fz := k + len(rows)
-	F, err := pool.get(fz * fz)
+	r := len(rows)
+	fz := k + r
+	o := f.offU[s]
+	top := f.data[o : o+k*fz]
+	bot, err := pool.get(r * fz)
 	if err != nil {
 		return 0, err
 	}
-	clear(F)
+	clear(bot)
 	loc := st.loc
 	for j := c0; j < c1; j++ {
 		loc[j] = j - c0
@@ -495,55 +504,64 @@ func (st *nodeState[T]) node(s int, f *snFactor[T], a, at *linop.CSR, pinv []int
 	for i, g := range rows {
 		loc[g] = k + i
 	}
-	st.assemble(F, fz, c0, c1, a, at, pinv, z, f.sn.q)
+	st.top, st.bot, st.k, st.fz = top, bot, k, fz
+	st.assemble(c0, c1, a, at, pinv, z, f.sn.q)
 	for _, c := range sn.kids[s] {
-		st.extendAdd(F, fz, c, f.sn, fronts[c])
+		st.extendAdd(c, f.sn, fronts[c])
 		pool.put(fronts[c])
 		fronts[c] = nil
 	}
-	weak, ok := partialLU(F, fz, k, f.piv[c0:c1], tiny, &st.ws)
+	weak, ok := partialLU(top, bot, fz, k, f.piv[c0:c1], tiny, &st.ws)
 	if !ok {
-		pool.put(F)
+		pool.put(bot)
 		return 0, errFallback
 	}
-	o := f.offU[s]
-	copy(f.data[o:o+k*fz], F[:k*fz])
-	l := f.data[o+k*fz : o+k*fz+len(rows)*k]
-	for i := range rows {
-		copy(l[i*k:(i+1)*k], F[(k+i)*fz:(k+i)*fz+k])
+	l := f.data[o+k*fz : o+k*fz+r*k]
+	for i := 0; i < r; i++ {
+		copy(l[i*k:(i+1)*k], bot[i*fz:i*fz+k])
 	}
-	if len(rows) > 0 && sn.parent[s] >= 0 {
-		fronts[s] = F
+	if r > 0 && sn.parent[s] >= 0 {
+		fronts[s] = bot
 	} else {
-		pool.put(F)
+		pool.put(bot)
 	}
 	return weak, nil
 }
 
+// row returns row i of the current front from its column c on.
+func (st *nodeState[T]) row(i, c int) []T {
+	if i < st.k {
+		return st.top[i*st.fz+c : (i+1)*st.fz]
+	}
+	i -= st.k
+	return st.bot[i*st.fz+c : (i+1)*st.fz]
+}
+
 // assemble adds the entries of M = zI − A in the supernode's columns (rows
 // at or below the block) and rows (columns right of the block).
-func (st *nodeState[T]) assemble(F []T, fz, c0, c1 int, a, at *linop.CSR, pinv []int, z T, q []int) {
+func (st *nodeState[T]) assemble(c0, c1 int, a, at *linop.CSR, pinv []int, z T, q []int) {
 	loc := st.loc
 	for j := c0; j < c1; j++ {
 		v := q[j]
 		lc := j - c0
 		for p := at.RowPtr[v]; p < at.RowPtr[v+1]; p++ { // column v of A
 			if t := pinv[at.ColIdx[p]]; t >= c0 {
-				F[loc[t]*fz+lc] -= fromReal[T](at.Val[p])
+				st.row(loc[t], lc)[0] -= fromReal[T](at.Val[p])
 			}
 		}
+		own := st.row(lc, 0)
 		for p := a.RowPtr[v]; p < a.RowPtr[v+1]; p++ { // row v of A
 			if t := pinv[a.ColIdx[p]]; t >= c1 {
-				F[lc*fz+loc[t]] -= fromReal[T](a.Val[p])
+				own[loc[t]] -= fromReal[T](a.Val[p])
 			}
 		}
-		F[lc*fz+lc] += z
+		own[lc] += z
 	}
 }
 
-// extendAdd adds child c's update matrix (the trailing block of its front)
-// into F.
-func (st *nodeState[T]) extendAdd(F []T, fz, c int, sn *snodes, cf []T) {
+// extendAdd adds child c's update matrix (the trailing block of the rows
+// it kept from the pool) into the current front.
+func (st *nodeState[T]) extendAdd(c int, sn *snodes, cf []T) {
 	kc := sn.first[c+1] - sn.first[c]
 	rc := sn.rows[c]
 	fc := kc + len(rc)
@@ -555,8 +573,8 @@ func (st *nodeState[T]) extendAdd(F []T, fz, c int, sn *snodes, cf []T) {
 		cl[j] = st.loc[g]
 	}
 	for i := range rc {
-		row := F[cl[i]*fz:]
-		src := cf[(kc+i)*fc+kc : (kc+i+1)*fc]
+		row := st.row(cl[i], 0)
+		src := cf[i*fc+kc : (i+1)*fc]
 		for j, v := range src {
 			row[cl[j]] += v
 		}
