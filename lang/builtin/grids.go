@@ -647,6 +647,9 @@ func complexGate(c *eval.Call, i int, a *objects.Operator) error {
 var complexReady = map[string]bool{
 	"operator": true, "kronsum": true, "adjoint": true, "dense": true, "size": true,
 	"propagate": true, "semigroup": true,
+	"spectrum": true, "abscissa": true, "numrange": true, "numabscissa": true,
+	"pseudospectrum": true, "psabscissa": true, "resolvent": true, "resolventline": true,
+	"growth": true, "kreiss": true, "wellposed": true,
 }
 
 // complexReadyList lists complexReady's names, sorted.

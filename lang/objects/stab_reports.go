@@ -365,8 +365,18 @@ func GrowthReport(label string, n int, g *spectra.Growth) *Analysis {
 		r.name("lower", num(bestLower))
 	}
 	if len(g.Initial) > 0 {
-		r.Facts = append(r.Facts, Fact{"optimal initial condition u0 (‖u0‖ = 1)", value.RealVec(g.Initial).String()})
-		r.name("initial", value.RealVec(append([]float64(nil), g.Initial...)))
+		u0 := value.Value(value.RealVec(append([]float64(nil), g.Initial...)))
+		if len(g.Initial) == 2*n {
+			// A complex operator's growth comes from its real form: the
+			// vector is [Re u0; Im u0].
+			z := make([]complex128, n)
+			for i := range z {
+				z[i] = complex(g.Initial[i], g.Initial[n+i])
+			}
+			u0 = value.ComplexVec(z)
+		}
+		r.Facts = append(r.Facts, Fact{"optimal initial condition u0 (‖u0‖ = 1)", u0.String()})
+		r.name("initial", u0)
 	}
 	r.Columns = []string{"t", "‖e^{tA}‖₂"}
 	for k, t := range g.T {

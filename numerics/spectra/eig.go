@@ -66,7 +66,16 @@ const IllCondLimit = 0x1p26 * math.Sqrt2 // 1/√u = 2^26.5
 // instead: its eigenvalues are those of S = D^{1/2} Q D^{-1/2}, computed by
 // a symmetric eigensolver to n·u·‖S‖_F however strongly graded Q is (the
 // non-symmetric QR algorithm on such a Q can be off by percents).
+//
+// A complex operator (linop.Complex, A = B + iC) gets its own n eigenvalues,
+// not the 2n of its real form: complex Hessenberg QR (complexDenseSpectrum).
 func DenseSpectrum(a linop.Operator) (*Spectrum, error) {
+	if b, c, ok, err := complexParts(a); ok || err != nil {
+		if err != nil {
+			return nil, err
+		}
+		return complexDenseSpectrum(nil, b, c)
+	}
 	m, err := toDense(a)
 	if err != nil {
 		return nil, err
@@ -93,6 +102,16 @@ func denseSpectrum(m *mat.Dense) (*Spectrum, error) {
 	var x, y mat.CDense
 	e.VectorsTo(&x)
 	e.LeftVectorsTo(&y)
+	finishSpectrum(sp, vals, &x, &y, n, mat.Norm(m, 2), sp.Method)
+	return sp, nil
+}
+
+// finishSpectrum fills sp from the eigenvalues vals with right and left
+// eigenvectors in the columns of x and y: condition numbers, the order by
+// decreasing real part, the abscissa, and the accuracy statement from the
+// backward error n·u·‖A‖_F (normF = ‖A‖_F).
+func finishSpectrum(sp *Spectrum, vals []complex128, x, y *mat.CDense, n int, normF float64, method string) {
+	sp.Method = method
 	cond := make([]float64, n)
 	for k := 0; k < n; k++ {
 		var yx complex128
@@ -123,7 +142,7 @@ func denseSpectrum(m *mat.Dense) (*Spectrum, error) {
 		}
 	}
 	sp.Abscissa = real(sp.Values[0])
-	tol := roundoff.Threshold(n, mat.Norm(m, 2)) // n·u·‖A‖_F
+	tol := roundoff.Threshold(n, normF) // n·u·‖A‖_F
 	sp.Rounding = tol
 	sp.IllCond = make([]bool, n)
 	var bad []string
@@ -139,13 +158,12 @@ func denseSpectrum(m *mat.Dense) (*Spectrum, error) {
 	}
 	if len(bad) == 0 {
 		sp.Accuracy = fmt.Sprintf("backward stable: each λ has error ≲ Cond·n·u·‖A‖_F = Cond × %.1e (first order, simple eigenvalues); largest Cond = %.3g", tol, maxCond)
-		return sp, nil
+		return
 	}
 	sp.Accuracy = fmt.Sprintf("backward stable (backward error n·u·‖A‖_F = %.1e); DEFECTIVE OR NEARLY: %d eigenvalue(s) have condition above 1/√u = %.2g: %s. "+
 		"For these the first-order bound Cond × %.1e does not hold: a perturbation δ can move an eigenvalue of an m×m Jordan block by about (δ‖A‖^{m−1})^{1/m} (√(δ‖A‖) = %.1e for m = 2); "+
 		"the pseudospectra σ_ε(A) show where they can lie. The other eigenvalues have error ≲ Cond × %.1e",
-		tol, countTrue(sp.IllCond), IllCondLimit, strings.Join(bad, ", "), tol, math.Sqrt(tol*mat.Norm(m, 2)), tol)
-	return sp, nil
+		tol, countTrue(sp.IllCond), IllCondLimit, strings.Join(bad, ", "), tol, math.Sqrt(tol*normF), tol)
 }
 
 func countTrue(b []bool) int {

@@ -21,3 +21,7 @@ var ErrNumerical = errors.New("spectra: numerical failure")
 func numErr(format string, args ...any) error {
 	return fmt.Errorf("%w: %s", ErrNumerical, fmt.Sprintf(format, args...))
 }
+
+// ErrComplex wraps the refusals of a routine that has no complex form yet
+// when given a complex operator (linop.Complex).
+var ErrComplex = errors.New("spectra: not available for a complex operator")

@@ -56,17 +56,34 @@ func NumRangeContext(ctx context.Context, a linop.Operator, w Weight, nAngles in
 	if nAngles < 3 {
 		panic(ErrOption)
 	}
-	m, err := toDense(a)
-	if err != nil {
-		return nil, err
+	var b *mat.Dense
+	var h *hermParts
+	normA := 0.0
+	if bc, cc, ok, err := complexParts(a); ok || err != nil {
+		// W(A) of A = B + iC itself; the real form's range would be the
+		// convex hull of W(A) and its mirror image.
+		if err != nil {
+			return nil, err
+		}
+		if w != nil {
+			return nil, fmt.Errorf("%w: a weighted numerical range", ErrComplex)
+		}
+		b, h = bc, newHermPartsComplex(bc, cc)
+		normA = math.Hypot(mat.Norm(bc, 2), mat.Norm(cc, 2))
+	} else {
+		m, err := toDense(a)
+		if err != nil {
+			return nil, err
+		}
+		b = weighted(m, w)
+		h = newHermParts(b)
+		normA = mat.Norm(b, 2)
 	}
-	b := weighted(m, w)
 	n, _ := b.Dims()
 	nr := &NumericalRange{Weighted: w != nil}
 	if n == 0 {
 		return nr, nil
 	}
-	h := newHermParts(b)
 	h.ctx = ctx
 	for k := 0; k < nAngles; k++ {
 		if err := ctx.Err(); err != nil {
@@ -103,7 +120,10 @@ func NumRangeContext(ctx context.Context, a linop.Operator, w Weight, nAngles in
 	}
 	nr.Radius = math.Max(fr, nr.Support[best])
 	nr.Method = fmt.Sprintf("top eigenpair of the Hermitian part H_θ = (e^{−iθ}B + e^{iθ}Bᵀ)/2 of B = %s at %d angles (real symmetric 2n×2n embedding; QR algorithm for n ≤ 64, Lanczos above); numerical radius by golden-section search in θ", map[bool]string{false: "A", true: "RAR⁻¹ (weighted inner product, W = RᵀR)"}[w != nil], nAngles)
-	nr.Accuracy = fmt.Sprintf("support values and boundary points to about n·u·‖A‖ ≈ %.1e; the polygon through the boundary points lies inside W(A), the supporting lines enclose it", float64(n)*0x1p-53*mat.Norm(b, 2))
+	if h.c != nil {
+		nr.Method = fmt.Sprintf("top eigenpair of the Hermitian part H_θ = (e^{−iθ}A + e^{iθ}A*)/2 of the complex A = B + iC at %d angles (real symmetric 2n×2n embedding; QR algorithm for n ≤ 64, Lanczos above); numerical radius by golden-section search in θ", nAngles)
+	}
+	nr.Accuracy = fmt.Sprintf("support values and boundary points to about n·u·‖A‖ ≈ %.1e; the polygon through the boundary points lies inside W(A), the supporting lines enclose it", float64(n)*0x1p-53*normA)
 	return nr, nil
 }
 
@@ -169,12 +189,37 @@ func numAbscissa(b *mat.Dense) (float64, error) {
 // hermParts holds the symmetric and skew parts of B for H_θ = cos θ·S +
 // i sin θ·K' where S = (B + Bᵀ)/2 and K = (B − Bᵀ)/2: indeed
 // (e^{−iθ}B + e^{iθ}Bᵀ)/2 = cos θ S − i sin θ K.
+//
+// For a complex A = B + iC (c set) with S_C, K_C the parts of C,
+// (e^{−iθ}A + e^{iθ}A*)/2 = (cos θ S + sin θ S_C) + i(cos θ K_C − sin θ K).
 type hermParts struct {
 	b    *mat.Dense
 	n    int
 	s, k *mat.Dense
+	// c, sc, kc: the imaginary part C of a complex A and its symmetric
+	// and skew parts; nil for a real B.
+	c, sc, kc *mat.Dense
 	// ctx, if not nil, stops the Lanczos iteration of top with ctx.Err().
 	ctx context.Context
+}
+
+// newHermPartsComplex is newHermParts of the complex matrix B + iC.
+func newHermPartsComplex(b, c *mat.Dense) *hermParts {
+	h := newHermParts(b)
+	p := newHermParts(c)
+	h.c, h.sc, h.kc = c, p.s, p.k
+	return h
+}
+
+// blockEntries returns the entries (i, j) of the real part S' and the
+// imaginary part K' of H_θ, with cs = cos θ and sn = sin θ.
+func (h *hermParts) blockEntries(cs, sn float64, i, j int) (sv, kv float64) {
+	sv, kv = cs*h.s.At(i, j), -sn*h.k.At(i, j)
+	if h.c != nil {
+		sv += sn * h.sc.At(i, j)
+		kv += cs * h.kc.At(i, j)
+	}
+	return sv, kv
 }
 
 func newHermParts(b *mat.Dense) *hermParts {
@@ -205,17 +250,18 @@ func (h *hermParts) top(th float64, wantPoint bool) (float64, complex128, error)
 			return 0, 0, err
 		}
 	} else {
-		c, s := math.Cos(th), -math.Sin(th)
+		c, s := math.Cos(th), math.Sin(th)
 		e := mat.NewSymDense(2*n, nil)
 		for i := 0; i < n; i++ {
 			for j := i; j < n; j++ {
-				sv := c * h.s.At(i, j)
+				sv, _ := h.blockEntries(c, s, i, j)
 				e.SetSym(i, j, sv)
 				e.SetSym(n+i, n+j, sv)
 			}
 			for j := 0; j < n; j++ {
 				// lower-left block K' (rows n+i, columns j): element (n+i, j)
-				e.SetSym(j, n+i, s*h.k.At(i, j))
+				_, kv := h.blockEntries(c, s, i, j)
+				e.SetSym(j, n+i, kv)
 			}
 		}
 		var es mat.EigenSym
@@ -236,7 +282,7 @@ func (h *hermParts) top(th float64, wantPoint bool) (float64, complex128, error)
 	if !wantPoint {
 		return lam, 0, nil
 	}
-	// z = x*Bx / x*x
+	// z = x*Bx / x*x (x*(B + iC)x for a complex A)
 	xr, xi := make([]float64, n), make([]float64, n)
 	for i, v := range x {
 		xr[i], xi[i] = real(v), imag(v)
@@ -244,6 +290,13 @@ func (h *hermParts) top(th float64, wantPoint bool) (float64, complex128, error)
 	br, bi := mat.NewVecDense(n, nil), mat.NewVecDense(n, nil)
 	br.MulVec(h.b, mat.NewVecDense(n, xr))
 	bi.MulVec(h.b, mat.NewVecDense(n, xi))
+	if h.c != nil {
+		cr, ci := mat.NewVecDense(n, nil), mat.NewVecDense(n, nil)
+		cr.MulVec(h.c, mat.NewVecDense(n, xr))
+		ci.MulVec(h.c, mat.NewVecDense(n, xi))
+		br.SubVec(br, ci) // Re(Ax) = B xr − C xi
+		bi.AddVec(bi, cr) // Im(Ax) = B xi + C xr
+	}
 	var num complex128
 	var den float64
 	for i := 0; i < n; i++ {
@@ -263,20 +316,36 @@ const denseHermitian = 64
 // residual is below 1e-13·(‖S‖_F + ‖K‖_F).
 func (h *hermParts) topLanczos(th float64) (float64, []complex128, error) {
 	n := h.n
-	c, sn := math.Cos(th), -math.Sin(th)
+	c, sn := math.Cos(th), math.Sin(th)
+	// S' and K' of H_θ = S' + iK': c·S and −sn·K for a real B (scaled
+	// inside apply), formed for this angle for a complex A.
+	sP, kP, sS, sK := h.s, h.k, c, -sn
+	if h.c != nil {
+		sP, kP, sS, sK = mat.NewDense(n, n, nil), mat.NewDense(n, n, nil), 1, 1
+		for i := 0; i < n; i++ {
+			for j := 0; j < n; j++ {
+				sv, kv := h.blockEntries(c, sn, i, j)
+				sP.Set(i, j, sv)
+				kP.Set(i, j, kv)
+			}
+		}
+	}
 	scale := mat.Norm(h.s, 2) + mat.Norm(h.k, 2) // Frobenius
+	if h.c != nil {
+		scale += mat.Norm(h.sc, 2) + mat.Norm(h.kc, 2)
+	}
 	tol := 1e-13 * math.Max(scale, 1e-300)
 	sp, kq := mat.NewVecDense(n, nil), mat.NewVecDense(n, nil)
 	kp, sq := mat.NewVecDense(n, nil), mat.NewVecDense(n, nil)
 	apply := func(dst, x []float64) {
 		p, q := mat.NewVecDense(n, x[:n]), mat.NewVecDense(n, x[n:])
-		sp.MulVec(h.s, p)
-		kq.MulVec(h.k, q)
-		kp.MulVec(h.k, p)
-		sq.MulVec(h.s, q)
+		sp.MulVec(sP, p)
+		kq.MulVec(kP, q)
+		kp.MulVec(kP, p)
+		sq.MulVec(sP, q)
 		for i := 0; i < n; i++ {
-			dst[i] = c*sp.AtVec(i) - sn*kq.AtVec(i)
-			dst[n+i] = sn*kp.AtVec(i) + c*sq.AtVec(i)
+			dst[i] = sS*sp.AtVec(i) - sK*kq.AtVec(i)
+			dst[n+i] = sK*kp.AtVec(i) + sS*sq.AtVec(i)
 		}
 	}
 	m := 2 * n

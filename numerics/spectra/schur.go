@@ -30,7 +30,20 @@ type Schur struct {
 // NewSchur computes the complex Schur form of A. It panics with ErrShape
 // if A is not square, and returns an error if the QR algorithm does not
 // converge or A has non-finite entries.
+//
+// For a complex operator (linop.Complex, A = B + iC) it is the Schur form of
+// the n×n complex A, computed by the complex QR algorithm (complexSchur).
 func NewSchur(a linop.Operator) (*Schur, error) {
+	if b, c, ok, err := complexParts(a); ok || err != nil {
+		if err != nil {
+			return nil, err
+		}
+		h, n, err := complexRowMajor(b, c)
+		if err != nil {
+			return nil, err
+		}
+		return complexSchur(nil, h, n)
+	}
 	m, err := toDense(a)
 	if err != nil {
 		return nil, err

@@ -304,6 +304,12 @@ func PseudoAbscissae(ctx context.Context, a linop.Operator, eps []float64, opt *
 	if err != nil {
 		return nil, 0, err
 	}
+	if _, ok := a.(*linop.Complex); ok {
+		// The search runs on the real form [B −C; C B] (its α_ε is A's:
+		// σ_ε of the real form is σ_ε(A) ∪ conj σ_ε(A)), which needs that
+		// form's own Schur factors, not A's complex ones.
+		o.Schur = nil
+	}
 	if r, _ := m.Dims(); o.Schur != nil && o.Schur.N != r {
 		panic(ErrShape)
 	}
