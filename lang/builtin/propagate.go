@@ -45,7 +45,7 @@ var propagateFamily = []*Builtin{
 	{
 		Name: "propagate",
 		Params: []value.Param{
-			req("A", "the generator: a square operator or matrix"),
+			req("A", "the generator: a square operator or matrix; a function of t returning one (a time-dependent A(t)); or a list of operators with switches (piecewise constant)"),
 			req("u0", "the initial value: a vector, a number (constant), or a function of x (x, y) sampled on A's grid"),
 			req("t", "the output times t ≥ 0: a number, vector or range"),
 			opt("method", value.Str(expo.MethodAuto), `"auto", "dense", "taylor", "krylov", "shift-invert", "contour", "resolvent-powers" or "kronecker"`),
@@ -54,7 +54,7 @@ var propagateFamily = []*Builtin{
 			opt("nonlinear", value.None, "a term N(u) (or N(u, t)) in u' = Au + N(u): a function of the vector u returning a vector"),
 			opt("crosscheck", value.Bool(false), "true to recompute with a second, independent method and report the difference"),
 			opt("steps", value.Num(0), "with a nonlinear term, a fixed number of ETDRK4 steps over [0, max t] (0: steps chosen by the error estimate to meet tol); the smallest n of (I − tA/n)^(−n) for resolvent-powers; the quadrature nodes for contour"),
-			opt("switches", value.None, "times where the forcing or the nonlinear term jumps (a source switched on or off): a number or a vector; the integration restarts there and samples each side from within"),
+			opt("switches", value.None, "times where the forcing, the nonlinear term or a time-dependent A jumps (a source switched on or off): a number or a vector; the integration restarts there and samples each side from within. With a list of operators: the times where A[1], A[2], … take over"),
 		},
 		Doc: "The solution u(t) = e^{tA}u0 of u' = Au, u(0) = u0, at each output time, with an error estimate per time. " +
 			"With forcing: u(t) = e^{tA}u0 + ∫₀ᵗ e^{(t−s)A} f(s) ds (exact for constant f through the augmented matrix; a function f is interpolated piecewise and the interpolation error is added to the estimate). " +
@@ -63,10 +63,14 @@ var propagateFamily = []*Builtin{
 			"The tolerance is relative to ‖u0‖∞ for u' = Au, and to the largest ‖u‖∞ met when there is forcing or a nonlinear term (u may grow from a small or zero u0). " +
 			"crosscheck=true always runs a second, independent method: another exponential method for u' = Au and polynomial forcing, and the implicit–explicit Runge–Kutta scheme ARS(4,4,3) (Ascher, Ruuth & Spiteri, Appl. Numer. Math. 1997; A implicit, the rest explicit, its own step control) for a forcing function or a nonlinear term; when none can be run the result says why. " +
 			"Methods: dense (scaling and squaring), taylor (Al-Mohy & Higham, SIAM J. Sci. Comput. 2011), krylov (Arnoldi/Lanczos, Saad's estimate), contour (Talbot-type contours for sectorial A, one shifted solve per node), resolvent-powers ((I − tA/n)^(−n) with Richardson extrapolation), kronecker (e^{tX} ⊗ e^{tY} for X ⊕ Y); auto chooses and says why. " +
-			"The result is a solution: sol[k] is u at the k-th time, times(sol) and errest(sol) the times and estimates.",
+			"A time-dependent A, a function of t returning an operator or matrix, is integrated by the fourth-order commutator-free Magnus method (Blanes & Moan, Appl. Numer. Math. 2006; Thalhammer, SIAM J. Numer. Anal. 2006): two exponentials per step at the Gauss points, each applied by the methods above (method= chooses) with its own estimate, steps chosen by step doubling to meet tol relative to the largest ‖u‖∞ (steps= fixes them); its cross-check is ETDRK4 on u' = Lu + (A(t) − L)u with L = A(T/2). " +
+			"A list of operators [A0, A1, …] with switches=[s1, …] is piecewise constant, A_k from s_k on: exactly the product of the pieces' exponentials, each error carried across the switches times a bound on the next piece's growth. Neither takes a forcing or a nonlinear term yet. " +
+			"The result is a solution: sol[k] is u at the k-th time, times(sol) and errest(sol) the times and estimates; crossing(sol, g, level) finds when a quantity of it crosses a level.",
 		Examples: []Example{
 			{"sol = propagate({-1, 0 | 0, -2}, [1, 1], [0, 1]); sol[1]", "[0.3678794412, 0.1353352832]"},
 			{`errest(propagate({0, 1 | -1, 0}, [1, 0], pi, method="taylor")) <= 1e-8`, "true"},
+			{`abs(propagate(t -> {cos(t)}, [1], 2).final[0] - exp(sin(2))) < 1e-8`, "true"},
+			{`propagate([{-1}, {1}], [1], 2, switches=[1]).final`, "[1]"},
 		},
 		Impl: propagateImpl,
 	},

@@ -26,6 +26,10 @@
 //     augmented operator, piecewise interpolation for a general f.
 //   - ETDRK4: u' = Lu + N(t, u) by Cox & Matthews' scheme with step
 //     doubling.
+//   - PropagateMagnus: u' = A(t)u by the fourth-order commutator-free
+//     Magnus method (Blanes & Moan 2006; Thalhammer 2006), each exponential
+//     by Propagate, steps by step doubling; PropagatePiecewise: a
+//     piecewise-constant A as the product of its pieces' exponentials.
 //
 // Errors are estimates of the ∞-norm error of each returned vector.
 // Misuse (shape mismatch) panics with ErrShape; numerical failure returns

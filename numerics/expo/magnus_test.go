@@ -144,6 +144,23 @@ func TestMagnusTwoByTwo(t *testing.T) {
 		checkMagnus(t, sol, r.exact(u0), 1)
 		t.Logf("%s; accepted %d rejected %d", sol.Reason, st.Accepted, st.Rejected)
 	})
+	t.Run("cross-check", func(t *testing.T) {
+		// The second method (ETDRK4 with A frozen at T/2) agrees within
+		// the two estimates, and with the closed form within its own.
+		r := rotatingFrame{B: [4]float64{-1, 2, 0, -0.3}, w: 1.5}
+		sol, _, err := PropagateMagnus(context.Background(), r.at, u0, times, StepControl{}, Options{Tol: 1e-9, Crosscheck: true})
+		if err != nil {
+			t.Fatal(err)
+		}
+		c := sol.Cross
+		if c == nil || c.Skipped != "" {
+			t.Fatalf("no cross-check: %+v", c)
+		}
+		if c.MaxDiff > sol.MaxErrEst()+c.ErrEst {
+			t.Errorf("the methods differ by %.3g, more than their estimates %.3g + %.3g", c.MaxDiff, sol.MaxErrEst(), c.ErrEst)
+		}
+		t.Logf("%s: difference %.3g, estimates %.3g and %.3g", c.Method, c.MaxDiff, sol.MaxErrEst(), c.ErrEst)
+	})
 }
 
 func TestMagnusOrder(t *testing.T) {
