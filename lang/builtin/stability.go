@@ -1309,7 +1309,10 @@ func growthImpl(c *eval.Call) (value.Value, error) {
 		g = &h
 	}
 	r := objects.GrowthReport(op.Label, n, g)
-	if w != nil {
+	if v, _ := c.Arg(2); w != nil && v == value.Str("energy") {
+		r.EnergyNorm()
+		r.Title += ", in the " + ip
+	} else if w != nil {
 		r.WeightedNorm()
 		r.Title += ", in the " + ip
 		r.Notes = append(r.Notes, "weighted: ‖e^{tA}‖_W = ‖e^{tB}‖₂ with B = RAR⁻¹, W = RᵀR; every bound refers to B")

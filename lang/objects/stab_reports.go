@@ -311,16 +311,32 @@ func ResolventLineReport(label string, n int, c float64, p *spectra.ResolventPro
 
 // WeightedNorm labels a growth report's figure for the weighted norm
 // ‖x‖_W = √(xᵀWx) its curve was computed in.
-func (r *Analysis) WeightedNorm() {
+func (r *Analysis) WeightedNorm() { r.namedNorm("W", "weighted norm") }
+
+// EnergyNorm relabels a growth report measured in the energy inner product
+// of a second-order system (or the mass inner product of M u' = K u): the
+// figure, the table's column and the facts read ‖e^{tA}‖_E.
+func (r *Analysis) EnergyNorm() {
+	r.namedNorm("E", "energy norm")
+	r.Title = strings.Replace(r.Title, "‖e^{tA}‖₂", "‖e^{tA}‖_E", 1)
+	for i, c := range r.Columns {
+		r.Columns[i] = strings.ReplaceAll(c, "‖e^{tA}‖₂", "‖e^{tA}‖_E")
+	}
+	for i := range r.Facts {
+		r.Facts[i].Label = strings.ReplaceAll(r.Facts[i].Label, "‖e^{tA}‖₂", "‖e^{tA}‖_E")
+	}
+}
+
+func (r *Analysis) namedNorm(sub, words string) {
 	f := r.Figure
 	if f == nil {
 		return
 	}
-	f.Title += " in the weighted norm ‖·‖_W"
-	f.Y.Label = "‖exp(tA)‖_W (weighted norm)"
+	f.Title += " in the " + words + " ‖·‖_" + sub
+	f.Y.Label = "‖exp(tA)‖_" + sub + " (" + words + ")"
 	for _, s := range f.Series {
 		if l, ok := s.(*plot.Line); ok && l.Label == "‖exp(tA)‖₂" {
-			l.Label = "‖exp(tA)‖_W"
+			l.Label = "‖exp(tA)‖_" + sub
 		}
 	}
 }
