@@ -4,10 +4,9 @@ import (
 	"math"
 	"math/cmplx"
 
-	"gonum.org/v1/gonum/lapack"
-	"gonum.org/v1/gonum/lapack/gonum"
 	"gonum.org/v1/gonum/mat"
 
+	"semiflow/numerics/gemm"
 	"semiflow/numerics/linop"
 )
 
@@ -17,8 +16,10 @@ import (
 //
 // It is computed without balancing (a diagonal similarity would change
 // norms, and with them pseudospectra and resolvent norms): real Hessenberg
-// reduction and the real Schur form by LAPACK's Dgehrd, Dorghr and Dhseqr
-// (gonum), then each standardised 2×2 block [a b; c a] with bc < 0 is
+// reduction and the real Schur form by the Francis QR algorithm
+// (gemm.RealSchur: gonum's Dgehrd, Dorghr and Dhseqr in the pure-Go build,
+// the system LAPACK's dgees — permutation only, no scaling — in the
+// openblas build), then each standardised 2×2 block [a b; c a] with bc < 0 is
 // triangularised by the unitary rotation G = [x₁ −x̄₂; x₂ x̄₁] whose first
 // column x is the unit eigenvector of the block for λ = a + i√(−bc).
 type Schur struct {
@@ -87,35 +88,10 @@ func schurOf(m *mat.Dense) (*Schur, error) {
 			h[i*n+j] = v
 		}
 	}
-	var impl gonum.Implementation
-	tau := make([]float64, n-1)
-	work := make([]float64, 1)
-	impl.Dgehrd(n, 0, n-1, h, n, tau, work, -1)
-	work = make([]float64, int(work[0]))
-	impl.Dgehrd(n, 0, n-1, h, n, tau, work, len(work))
 	q := make([]float64, n*n)
-	copy(q, h)
-	work = work[:1]
-	impl.Dorghr(n, 0, n-1, q, n, tau, work, -1)
-	if int(work[0]) > cap(work) {
-		work = make([]float64, int(work[0]))
-	}
-	work = work[:cap(work)]
-	impl.Dorghr(n, 0, n-1, q, n, tau, work, len(work))
-	for i := 2; i < n; i++ {
-		for j := 0; j < i-1; j++ {
-			h[i*n+j] = 0
-		}
-	}
 	wr := make([]float64, n)
 	wi := make([]float64, n)
-	work = work[:1]
-	impl.Dhseqr(lapack.EigenvaluesAndSchur, lapack.SchurOrig, n, 0, n-1, h, n, wr, wi, q, n, work, -1)
-	if int(work[0]) > cap(work) {
-		work = make([]float64, int(work[0]))
-	}
-	work = work[:cap(work)]
-	if unconv := impl.Dhseqr(lapack.EigenvaluesAndSchur, lapack.SchurOrig, n, 0, n-1, h, n, wr, wi, q, n, work, len(work)); unconv > 0 {
+	if unconv := gemm.RealSchur(n, h, q, wr, wi); unconv > 0 {
 		return nil, numErr("Schur QR algorithm did not converge (%d eigenvalues unconverged)", unconv)
 	}
 	t := make([]complex128, n*n)
