@@ -46,6 +46,7 @@ type etdSparseStepper struct {
 	keys            []float64
 	limit           int          // step lengths whose factorisations are kept
 	tri             [3][]float64 // sub-, main and superdiagonal when L is tridiagonal
+	spare           [][]float64  // packed factorisations of evicted step lengths, for reuse
 	extra           float64      // quadrature and rounding errors committed so far
 	solves, factors int
 	scale           float64 // the largest ‖v‖ + Σ‖τw_j‖ met, for the quadrature term
@@ -59,17 +60,20 @@ type etdSparseStepper struct {
 type etdNodeWork struct {
 	rhs, x []complex128
 	acc    []float64
-	e      [4][]float64 // the fused kernel's forward sweep (tridiagonal L)
+	e      [4][]float64 // the two-node kernel's forward sweep (tridiagonal L)
+	eq     []float64    // the four-node kernel's (8n)
 	round  float64
 	err    error
 }
 
 // etdFactors holds the factorisations of s_k − L for one step length:
 // general shifted solvers, or, when L is tridiagonal and no node needs a
-// row interchange, the split form the fused kernel takes.
+// row interchange, the split form the two-node kernel takes and, where the
+// four-node kernel runs, the nodes packed four by four.
 type etdFactors struct {
-	fs   []solve.ShiftedSolver
-	fast []*triNoPivot
+	fs    []solve.ShiftedSolver
+	fast  []*triNoPivot
+	quads [][]float64
 }
 
 // sparseETDApplies reports whether L takes the contour path.
@@ -99,6 +103,11 @@ func newETDSparseStepper(ctx context.Context, L linop.Operator, N Nonlinear, tol
 	nodes := int(math.Ceil(math.Log(1e4/tol)/math.Log(cs.rate))) + 1
 	nodes += nodes % 2
 	nodes = min(max(nodes, 12), 40)
+	if s.tri[1] != nil && haveTriQuad {
+		// The four-node kernel solves four nodes for the price of one:
+		// a whole number of fours (8 conjugate pairs) costs no more.
+		nodes = (nodes + 7) / 8 * 8
+	}
 	s.z, s.c = ContourNodes(ContourCotangent, nodes)
 	for _, v := range []*[]float64{&s.nu, &s.na, &s.nb, &s.nc, &s.a, &s.b, &s.cc, &s.t1, &s.w[0], &s.w[1], &s.w[2]} {
 		*v = make([]float64, n)
@@ -108,11 +117,11 @@ func newETDSparseStepper(ctx context.Context, L linop.Operator, N Nonlinear, tol
 	// least the three step lengths one step needs (h, h/2, h/4).
 	per := 64 * memguard.ComplexBytes * n
 	if s.tri[1] != nil {
-		per = 5 * memguard.ComplexBytes * n
+		per = 3 * memguard.ComplexBytes * n // l, 1/d and q, split or packed
 	}
 	s.limit = min(max(etdCacheBytes/(per*len(s.z)+1), 3), 12)
 	s.work = make([]etdNodeWork, min(runtime.GOMAXPROCS(0), len(s.z)))
-	if err := memguard.Bytes(float64(s.limit*len(s.z)*per+len(s.work)*n*(2*memguard.ComplexBytes+5*memguard.RealBytes)), "ETDRK4 contour factorisations and work vectors"); err != nil {
+	if err := memguard.Bytes(float64(s.limit*len(s.z)*per+len(s.work)*n*(2*memguard.ComplexBytes+13*memguard.RealBytes)), "ETDRK4 contour factorisations and work vectors"); err != nil {
 		return nil, err
 	}
 	for i := range s.work {
@@ -120,6 +129,9 @@ func newETDSparseStepper(ctx context.Context, L linop.Operator, N Nonlinear, tol
 		if s.tri[1] != nil {
 			for j := range s.work[i].e {
 				s.work[i].e[j] = make([]float64, n)
+			}
+			if haveTriQuad {
+				s.work[i].eq = make([]float64, 8*n)
 			}
 		}
 	}
@@ -136,7 +148,45 @@ func (s *etdSparseStepper) solvers(tau float64) (*etdFactors, error) {
 		return f, nil
 	}
 	f := &etdFactors{}
-	if s.tri[1] != nil {
+	if s.tri[1] != nil && haveTriQuad {
+		// Four nodes a recurrence, the fours shared among the workers;
+		// the packed arrays of an evicted step length are reused.
+		n := len(s.tri[1])
+		f.quads = make([][]float64, (len(s.z)+3)/4)
+		for q := range f.quads {
+			if len(s.spare) > 0 {
+				f.quads[q], s.spare = s.spare[len(s.spare)-1], s.spare[:len(s.spare)-1]
+			} else {
+				f.quads[q] = make([]float64, 24*n)
+			}
+		}
+		oks, errs := make([]bool, len(f.quads)), make([]error, len(f.quads))
+		var wg sync.WaitGroup
+		for id := range s.work {
+			wg.Add(1)
+			go func(first int) {
+				defer wg.Done()
+				for q := first; q < len(f.quads); q += len(s.work) {
+					sh := make([]complex128, 0, 4)
+					for k := 4 * q; k < min(4*q+4, len(s.z)); k++ {
+						sh = append(sh, s.z[k]/complex(tau, 0)+complex(s.sigma, 0))
+					}
+					oks[q], errs[q] = factorTriQuad(f.quads[q], sh, s.tri[0], s.tri[1], s.tri[2])
+				}
+			}(id)
+		}
+		wg.Wait()
+		for q := range f.quads {
+			if errs[q] != nil {
+				return nil, errs[q]
+			}
+			if !oks[q] {
+				s.spare = append(s.spare, f.quads...)
+				f.quads = nil
+				break
+			}
+		}
+	} else if s.tri[1] != nil {
 		// Each factorisation is one recurrence through complex
 		// reciprocals: the nodes are shared among the workers.
 		f.fast = make([]*triNoPivot, len(s.z))
@@ -163,7 +213,7 @@ func (s *etdSparseStepper) solvers(tau float64) (*etdFactors, error) {
 			}
 		}
 	}
-	if f.fast == nil {
+	if f.fast == nil && f.quads == nil {
 		f.fs = make([]solve.ShiftedSolver, len(s.z))
 		for k, z := range s.z {
 			sh := z/complex(tau, 0) + complex(s.sigma, 0)
@@ -182,6 +232,7 @@ func (s *etdSparseStepper) solvers(tau float64) (*etdFactors, error) {
 	}
 	s.factors += len(s.z)
 	if len(s.keys) >= s.limit {
+		s.spare = append(s.spare, s.cache[s.keys[0]].quads...)
 		delete(s.cache, s.keys[0])
 		s.keys = s.keys[1:]
 	}
@@ -210,10 +261,10 @@ func (s *etdSparseStepper) combine(dst []float64, tau float64, v []float64, w []
 	var wg sync.WaitGroup
 	for id := range s.work {
 		wg.Add(1)
-		if f.fast != nil {
+		if f.fast != nil || f.quads != nil {
 			go func(wk *etdNodeWork, first int) {
 				defer wg.Done()
-				s.fusedShare(wk, first, f.fast, tau, v, w)
+				s.fusedShare(wk, first, f, tau, v, w)
 			}(&s.work[id], id)
 			continue
 		}
@@ -274,9 +325,10 @@ func (s *etdSparseStepper) combine(dst []float64, tau float64, v []float64, w []
 }
 
 // fusedShare is combine's work for one worker on the fused path: the
-// pairs of nodes first, first + workers, … (an odd last node is paired
-// with itself, weight zero).
-func (s *etdSparseStepper) fusedShare(wk *etdNodeWork, first int, fast []*triNoPivot, tau float64, v []float64, w [][]float64) {
+// fours of nodes first, first + workers, … with the four-node kernel, or
+// else the pairs (an odd last node is paired with itself, weight zero).
+func (s *etdSparseStepper) fusedShare(wk *etdNodeWork, first int, f *etdFactors, tau float64, v []float64, w [][]float64) {
+	fast := f.fast
 	for i := range wk.acc {
 		wk.acc[i] = 0
 	}
@@ -296,6 +348,20 @@ func (s *etdSparseStepper) fusedShare(wk *etdNodeWork, first int, fast []*triNoP
 			q *= r
 		}
 		return p, 2 * s.c[k] / complex(tau, 0)
+	}
+	if f.quads != nil {
+		for q := first; q < len(f.quads); q += len(s.work) {
+			var p [4][3]complex128
+			var c [4]complex128
+			for l := 0; l < 4 && 4*q+l < len(s.z); l++ {
+				p[l], c[l] = coef(4*q + l)
+			}
+			m := etdFusedQuad(wk.acc, wk.eq, f.quads[q], v, ws, p, c)
+			for l := range m {
+				wk.round += cmplx.Abs(c[l]) * m[l]
+			}
+		}
+		return
 	}
 	for u := first; 2*u < len(s.z); u += len(s.work) {
 		k0, k1 := 2*u, 2*u+1

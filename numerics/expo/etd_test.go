@@ -420,3 +420,101 @@ func TestETDDiffStep(t *testing.T) {
 		}
 	}
 }
+
+func TestETDFusedKernels(t *testing.T) {
+	// One contour sum Σ_k Re c_k x_k, (s_k − T)x_k = v + Σ_j p_{k,j} w_j,
+	// by the two-node kernel and (where the machine has it) the four-node
+	// assembly kernel, against numerics/solve's band solver node by node.
+	n := 300
+	L, _ := etdLaplacian(n, 0.01)
+	sub, diag, sup, _ := tridiagOf(L)
+	shifts := []complex128{complex(-2e3, 900), complex(50, 4e3), complex(7e3, -2e3)}
+	v := make([]float64, n)
+	var w [3][]float64
+	for j := range w {
+		w[j] = make([]float64, n)
+	}
+	for i := range v {
+		v[i] = math.Sin(float64(i) / 7)
+		for j := range w {
+			w[j][i] = math.Cos(float64((j+2)*i) / 11)
+		}
+	}
+	var p [4][3]complex128
+	var c [4]complex128
+	fs := make([]*triNoPivot, len(shifts))
+	want := make([]float64, n)
+	wantM := make([]float64, len(shifts))
+	for k, s := range shifts {
+		p[k] = [3]complex128{complex(0.3, float64(k)), complex(-0.2, 0.1), complex(0.05*float64(k), -0.4)}
+		c[k] = complex(1.5-float64(k), 0.25+float64(k))
+		f, ok, err := factorTriNoPivot(s, sub, diag, sup)
+		if err != nil || !ok {
+			t.Fatalf("shift %v: ok %v, %v", s, ok, err)
+		}
+		fs[k] = f
+		ref, err := solve.NewShiftedContext(context.Background(), L, s, solve.Options{})
+		if err != nil {
+			t.Fatal(err)
+		}
+		b, x := make([]complex128, n), make([]complex128, n)
+		for i := range b {
+			b[i] = complex(v[i], 0) + p[k][0]*complex(w[0][i], 0) + p[k][1]*complex(w[1][i], 0) + p[k][2]*complex(w[2][i], 0)
+		}
+		if err := ref.Solve(x, b); err != nil {
+			t.Fatal(err)
+		}
+		for i, xi := range x {
+			want[i] += real(c[k] * xi)
+			wantM[k] = math.Max(wantM[k], math.Abs(real(xi))+math.Abs(imag(xi)))
+		}
+	}
+	check := func(name string, got, m []float64) {
+		t.Helper()
+		d, s := 0.0, 0.0
+		for i := range want {
+			d, s = math.Max(d, math.Abs(got[i]-want[i])), math.Max(s, math.Abs(want[i]))
+		}
+		if d > 1e-12*s {
+			t.Errorf("%s: differs from the band solver by %.3g (size %.3g)", name, d, s)
+		}
+		for k := range shifts {
+			if math.Abs(m[k]-wantM[k]) > 1e-12*wantM[k] {
+				t.Errorf("%s: lane %d max |x| %.6g, want %.6g", name, k, m[k], wantM[k])
+			}
+		}
+	}
+	var e [4][]float64
+	for j := range e {
+		e[j] = make([]float64, n)
+	}
+	acc := make([]float64, n)
+	m0, m1 := etdFusedPair(acc, &e, fs[0], fs[1], v, w, p[0], p[1], c[0], c[1])
+	m2, _ := etdFusedPair(acc, &e, fs[2], fs[2], v, w, p[2], p[2], c[2], 0)
+	check("two-node kernel", acc, []float64{m0, m1, m2})
+	if !haveTriQuad {
+		t.Log("no AVX2 and FMA here: the four-node kernel is not tried")
+		return
+	}
+	// The four factorisations made side by side, straight into the packed
+	// layout, are those made one at a time.
+	packed := packTriQuad(fs, n)
+	direct := make([]float64, 24*n)
+	for i := range direct {
+		direct[i] = math.NaN()
+	}
+	if ok, err := factorTriQuad(direct, shifts, sub, diag, sup); !ok || err != nil {
+		t.Fatalf("factorTriQuad: ok %v, %v", ok, err)
+	}
+	for i := range packed {
+		if packed[i] != direct[i] {
+			t.Fatalf("factorTriQuad differs from packTriQuad at %d: %g, %g", i, direct[i], packed[i])
+		}
+	}
+	acc = make([]float64, n)
+	m := etdFusedQuad(acc, make([]float64, 8*n), direct, v, w, p, c)
+	check("four-node kernel", acc, m[:])
+	if m[3] != 0 {
+		t.Errorf("four-node kernel: the empty lane has max |x| = %g", m[3])
+	}
+}

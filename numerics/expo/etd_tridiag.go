@@ -143,6 +143,16 @@ func recip(a, b float64) (float64, float64) {
 	return r / den, -1 / den
 }
 
+// recipFast is recip by one division, 1/(a + ib) = (a − ib)/(a² + b²),
+// where a² + b² can neither overflow nor underflow; recip otherwise.
+func recipFast(a, b float64) (float64, float64) {
+	if m := math.Abs(a) + math.Abs(b); m > 1e-150 && m < 1e150 {
+		inv := 1 / (a*a + b*b)
+		return a * inv, -b * inv
+	}
+	return recip(a, b)
+}
+
 // factorTriNoPivot factors sI − T as triNoPivot; ok is false when partial
 // pivoting would interchange a row (use factorTri then), err non-nil for an
 // exactly singular pivot.
@@ -164,7 +174,7 @@ func factorTriNoPivot(s complex128, sub, diag, sup []float64) (f *triNoPivot, ok
 		if i < n-1 && math.Abs(dr)+math.Abs(di) < math.Abs(sub[i]) {
 			return nil, false, nil
 		}
-		f.rr[i], f.ri[i] = recip(dr, di)
+		f.rr[i], f.ri[i] = recipFast(dr, di)
 		if i < n-1 {
 			f.lr[i+1], f.li[i+1] = -sub[i]*f.rr[i], -sub[i]*f.ri[i]
 			f.qr[i], f.qi[i] = sup[i]*f.rr[i], sup[i]*f.ri[i]
@@ -242,4 +252,85 @@ func etdFusedPair(acc []float64, e *[4][]float64, f0, f1 *triNoPivot, v []float6
 		}
 	}
 	return m0, m1
+}
+
+// packTriQuad packs up to four no-interchange factorisations of order n
+// row by row for the four-node kernel: row i holds lr, li, rr, ri, qr, qi
+// of lanes 0…3 (24 values); absent lanes are zero, so their solutions are
+// zero.
+func packTriQuad(fs []*triNoPivot, n int) []float64 {
+	q := make([]float64, 24*n)
+	for k, f := range fs {
+		for i := 0; i < n; i++ {
+			r := q[24*i : 24*i+24]
+			r[k], r[4+k], r[8+k], r[12+k], r[16+k], r[20+k] = f.lr[i], f.li[i], f.rr[i], f.ri[i], f.qr[i], f.qi[i]
+		}
+	}
+	return q
+}
+
+// factorTriQuad factors s_k I − T for up to four shifts straight into q
+// (24n values) in the layout of packTriQuad, the lanes side by side so
+// that their recurrences (each through a complex reciprocal a row)
+// overlap. ok is false when any lane would need a row interchange (then
+// use factorTri); err is non-nil for an exactly singular pivot.
+func factorTriQuad(q []float64, shifts []complex128, sub, diag, sup []float64) (ok bool, err error) {
+	n := len(diag)
+	if len(q) < 24*n || len(shifts) > 4 || len(sub) < n-1 || len(sup) < n-1 {
+		panic(ErrShape)
+	}
+	var sr, si, lr, li [4]float64
+	for k, s := range shifts {
+		sr[k], si[k] = real(s), imag(s)
+	}
+	lanes := len(shifts)
+	for i := 0; i < n; i++ {
+		r := q[24*i : 24*i+24 : 24*i+24]
+		var above, below, right float64 // t_{i−1,i}, t_{i+1,i}, t_{i,i+1}
+		if i > 0 {
+			above = sup[i-1]
+		}
+		if i < n-1 {
+			below, right = sub[i], sup[i]
+		}
+		for k := 0; k < 4; k++ {
+			if k >= lanes {
+				r[k], r[4+k], r[8+k], r[12+k], r[16+k], r[20+k] = 0, 0, 0, 0, 0, 0
+				continue
+			}
+			dr, di := sr[k]-diag[i]+lr[k]*above, si[k]+li[k]*above
+			if dr == 0 && di == 0 {
+				return false, errorf("sI − A is singular (s = %v)", shifts[k])
+			}
+			if math.Abs(dr)+math.Abs(di) < math.Abs(below) {
+				return false, nil
+			}
+			ar, ai := recipFast(dr, di)
+			r[k], r[4+k], r[8+k], r[12+k], r[16+k], r[20+k] = lr[k], li[k], ar, ai, right*ar, right*ai
+			lr[k], li[k] = -below*ar, -below*ai
+		}
+	}
+	return true, nil
+}
+
+// etdFusedQuad is etdFusedPair for four nodes packed by packTriQuad, with
+// the assembly kernel (haveTriQuad): p[k] and c[k] are lane k's
+// coefficients, e a work vector of length 8n; it returns max_i |x_k,i|
+// (re + im) for each lane.
+func etdFusedQuad(acc, e, fac, v []float64, w [3][]float64, p [4][3]complex128, c [4]complex128) (m [4]float64) {
+	n := len(v)
+	if len(acc) < n || len(e) < 8*n || len(fac) < 24*n || len(w[0]) < n || len(w[1]) < n || len(w[2]) < n || n == 0 {
+		panic(ErrShape)
+	}
+	var coef [24]float64
+	var cw [8]float64
+	for k := range p {
+		for j := range p[k] {
+			coef[8*j+k], coef[8*j+4+k] = real(p[k][j]), imag(p[k][j])
+		}
+		cw[k], cw[4+k] = real(c[k]), imag(c[k])
+	}
+	etdTriFwd4(n, &fac[0], &v[0], &w[0][0], &w[1][0], &w[2][0], &coef[0], &e[0])
+	etdTriBwd4(n, &fac[0], &e[0], &acc[0], &cw[0], &m[0])
+	return m
 }
