@@ -256,6 +256,16 @@ var vectorFamily = []*Builtin{
 		},
 		Impl: func(c *eval.Call) (value.Value, error) {
 			a, b := c.Args[0], c.Args[1]
+			if za, zb, ok := complexPair(a, b); ok {
+				if za.Rows != zb.Rows || za.Cols != zb.Cols {
+					return nil, value.ValueErrorf("hadamard: shape mismatch: %d×%d and %d×%d", za.Rows, za.Cols, zb.Rows, zb.Cols)
+				}
+				out := value.NewCMatrix(za.Rows, za.Cols)
+				for i := range out.Data {
+					out.Data[i] = za.Data[i] * zb.Data[i]
+				}
+				return out, nil
+			}
 			ma, okA := a.(*value.Matrix)
 			mb, okB := b.(*value.Matrix)
 			if okA != okB {
@@ -309,6 +319,23 @@ var vectorFamily = []*Builtin{
 			return out, nil
 		},
 	},
+}
+
+// complexPair returns a and b as complex matrices when both are matrices
+// and at least one is complex.
+func complexPair(a, b value.Value) (x, y *value.CMatrix, ok bool) {
+	conv := func(v value.Value) (*value.CMatrix, bool, bool) {
+		switch t := v.(type) {
+		case *value.CMatrix:
+			return t, true, true
+		case *value.Matrix:
+			return value.Complexify(t), false, true
+		}
+		return nil, false, false
+	}
+	x, cx, okx := conv(a)
+	y, cy, oky := conv(b)
+	return x, y, okx && oky && (cx || cy)
 }
 
 func extremum(c *eval.Call, sign float64) (value.Value, error) {
