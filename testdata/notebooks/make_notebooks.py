@@ -526,10 +526,148 @@ from other initial states persist for a very long time.
 ]
 
 
+FOOTBRIDGE = [
+    md("""
+# A footbridge deck: its modes, its damping and the energy after a group jump
+
+A single-span pedestrian footbridge, **30 m** between bearings, a steel box girder under a concrete deck:
+bending stiffness **EI = 2.6·10⁹ N m²**, mass **2500 kg per metre** of span. Its vertical motion is the
+Euler–Bernoulli beam m u_tt + EI u_xxxx + (damping) = 0 with u = u_xx = 0 at the bearings. The questions:
+
+1. Where are its vertical natural frequencies, and does the first fall in the band of walking pace,
+   about 1.6–2.4 Hz, where footfalls can drive it?
+2. With an assumed damping ratio of **0.6 %**, represented as Rayleigh damping C = αM + βK fitted at
+   the first and third modes, what damping does each mode actually get?
+3. After a group jumps once at mid-span, how fast does the vibration energy die away?
+4. Is the model dissipative, and in which norm should its growth be judged?
+
+The deck is written as **M u″ + C u′ + K u = 0** with M and K from finite differences (59 points,
+h = 0.5 m; both scaled by h so that energies come out in joules); `secondorder` keeps M, C and K as they
+are and never forms M⁻¹K.
+"""),
+    code("""
+L = 30                              # span, m
+EI = 2.6e9                          # bending stiffness, N m²
+m = 2500                            # mass per length, kg/m
+g = interval(0, L, 61)              # u = 0 at the bearings; 59 unknowns, h = 0.5 m
+h = 0.5
+D2 = laplacian(g)                   # u_xx with u = 0 at the ends
+K = EI * h * (D2 * D2)              # u_xxxx with u = u_xx = 0 at the ends (simple supports)
+M = m * h * identity(59)            # lumped mass, kg per node
+deck = secondorder(M, 0, K)
+deck
+"""),
+    md("""
+**The undamped modes.** `spectrum` with `count=6` gives the six eigenvalues nearest 0 — the three lowest
+modes, as ±iω. For a simply supported beam the closed form is f_k = k²π/(2L²)·√(EI/m); the finite
+differences shift it by about (kπh/L)²/12, a few parts in 10⁴ for the first mode.
+"""),
+    code("""
+modes = spectrum(deck, count=6)
+modes
+"""),
+    code("""
+f = im(modes.values) / (2 * pi)
+print("computed frequencies, Hz:           ", f)
+print("closed form k²π/(2L²)·√(EI/m), k = 3, 2, 1:", map(k -> k^2 * pi / (2 * L^2) * sqrt(EI / m), [3, 2, 1]))
+"""),
+    md("""
+**How to read it.** The first vertical mode is at about **1.78 Hz**, inside the walking band: a comfort
+check with a footfall load model is needed, and so is the damping. The second mode (7.1 Hz) is well above
+the band; its half-wave length is 15 m.
+
+**Rayleigh damping.** With C = αM + βK every mode keeps its shape and gets the damping ratio
+ζ_k = α/(2ω_k) + βω_k/2 (closed form). Fitting ζ = 0.6 % at modes 1 and 3 gives α = 2ζω₁ω₃/(ω₁ + ω₃) and
+β = 2ζ/(ω₁ + ω₃). The damped eigenvalues are λ = −ζω ± iω√(1 − ζ²), so ζ = −Re λ/|λ|; the second row
+below is the closed form, the first the computed spectrum.
+"""),
+    code("""
+zeta = 0.006
+w1 = pi^2 / L^2 * sqrt(EI / m)      # ω₁ of the continuous beam
+w3 = 9 * w1
+alpha = 2 * zeta * w1 * w3 / (w1 + w3)
+beta = 2 * zeta / (w1 + w3)
+bridge = secondorder(M, alpha * M + beta * K, K)
+s = spectrum(bridge, count=6)
+s
+"""),
+    code("""
+w = abs(s.values)
+print("ζ from the eigenvalues, −Re λ/|λ|:", -re(s.values) / w)
+print("ζ_k = α/(2ω_k) + βω_k/2:           ", alpha / (2 * w) + beta * w / 2)
+"""),
+    md("""
+Modes 1 and 3 get the 0.6 % they were fitted to, but **mode 2 gets only 0.37 %**: Rayleigh damping dips
+between its two fitting frequencies (its minimum is at ω = √(α/β)). Modes above the third are damped more
+and more strongly by the βK term. Whether that is realistic is a modelling choice to check against
+measured decay, not something the calculation can decide.
+
+**A group jump at mid-span.** A group landing together imparts an impulse of roughly **2000 N s**,
+spread here over about a metre of deck (a bell-shaped initial velocity carrying that momentum, zero
+initial displacement). `energy(bridge, sol)` gives E = ½(vᵀMv + uᵀKu), kinetic plus strain energy in
+joules, at each output time.
+"""),
+    code("""
+P = 2000                                   # N s
+V = P / (m * sqrt(pi))                     # peak velocity of a bell of width 1 m carrying momentum P
+x0 = stack(zeros(59), tabulate(x -> V * exp(-(x - 15)^2), g))
+sol = propagate(bridge, x0, 0 .. 60 by 5, tol=1e-6)
+sol
+"""),
+    code("""
+E = energy(bridge, sol)
+print("energy, J, at t = 0, 5, …, 60 s:", E)
+E / E[0]
+"""),
+    md("""
+**How to read it.** In the first five seconds the energy falls by more than a factor ten: the narrow jump
+excites many short modes, which the βK term damps within a fraction of a second. What remains is almost
+all the first mode (the second, antisymmetric, is not excited by a load at mid-span), and from then on
+the energy decays like e^{−2ζ₁ω₁t}. The check below compares the decay rate measured between 30 and 60 s
+with that closed form. The energy is below 1 % of its initial value between 20 and 25 s (about 21 s at
+that rate); the amplitude, which goes like √E, is then a tenth of what the jump started.
+"""),
+    code("""
+rate = log(E[6] / E[12]) / 30
+zeta1 = alpha / (2 * w1) + beta * w1 / 2
+print("decay rate of E between 30 s and 60 s:", rate, "  closed form 2ζ₁ω₁:", 2 * zeta1 * w1)
+"""),
+    md("""
+**Is the model dissipative?** In the energy inner product, d/dt E = −vᵀCv ≤ 0 whenever C is positive
+semidefinite, so the generator is dissipative and ‖e^{tA}‖ ≤ 1 in that norm. `wellposed` with
+`weight="energy"` measures it: the numerical abscissa is zero within rounding, the Lumer–Phillips
+verdict holds and M = 1.
+"""),
+    code("""
+wellposed(bridge, weight="energy")
+"""),
+    md("""
+**Which norm?** The plain Euclidean norm of the state [u; v] adds metres to metres per second: measured
+in it, ‖e^{tA}‖ jumps to several hundred at once. That is an artefact of the units, not a transient
+amplification of anything physical. In the energy norm the same operator never grows, and the curve
+shows the slow loss of energy to damping. Judge a structure's growth in its energy.
+"""),
+    code("""
+growth(bridge, t=0 .. 2 by 0.1, bounds="none")
+"""),
+    code("""
+growth(bridge, weight="energy", t=0 .. 20 by 0.5, bounds="none")
+"""),
+    md("""
+**Limits of this model.** One vertical bending mode family of an idealised beam; no torsion, no lateral
+modes (walking also drives those, near 1 Hz), no pedestrian–structure interaction, and a damping
+model chosen, not measured. The energy decay and the modal damping are exactly what the chosen C
+implies, nothing more.
+
+""" + CAUTION),
+]
+
+
 def main():
     os.makedirs(OUT, exist_ok=True)
     for name, cells in [("river_pollutant", RIVER), ("call_centre_queue", QUEUE),
-                        ("shear_transient_growth", SHEAR), ("rod_cooling_front", ROD)]:
+                        ("shear_transient_growth", SHEAR), ("rod_cooling_front", ROD),
+                        ("footbridge_energy", FOOTBRIDGE)]:
         path = os.path.join(OUT, name + ".ipynb")
         nbformat.write(notebook(cells), path)
         print("wrote", path)
