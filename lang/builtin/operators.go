@@ -16,7 +16,9 @@ import (
 
 	"semiflow/lang/eval"
 	"semiflow/lang/objects"
+	"semiflow/lang/syntax"
 	"semiflow/lang/value"
+	"semiflow/numerics/grid"
 	"semiflow/numerics/linop"
 	"semiflow/numerics/memguard"
 	"semiflow/numerics/mmio"
@@ -29,15 +31,20 @@ var operatorFamily = []*Builtin{
 		Name: "deriv",
 		Params: []value.Param{
 			req("g", "a grid"),
-			opt("k", value.Num(1), "the order of the derivative, 1 or 2"),
+			opt("k", value.Num(1), "the order of the derivative, 1 to 4 (3 and 4 on intervals)"),
 			opt("along", value.Str("x"), `"x", "y" (2-D and 3-D grids) or "z" (3-D grids)`),
+			opt("beam", value.Str("supported"), `for k = 4 on Dirichlet ends, the second condition at each end: "supported" (u'' = 0) or "clamped" (u' = 0), or a list [left, right]`),
 		},
-		Doc: "The k-th derivative d^k/dx^k (k = 1, 2) as an operator on the grid's unknowns, with the grid's boundary conditions: " +
+		Doc: "The k-th derivative d^k/dx^k (k = 1 to 4) as an operator on the grid's unknowns, with the grid's boundary conditions: " +
 			"central differences of the grid's order (2 or 4) inside and one-sided closures of the same order at the ends on an interval; " +
-			"the spectral differentiation matrix restricted to the interior points on a Chebyshev grid; D_x ⊗ I_ny or I_nx ⊗ D_y on a tensor grid.",
+			"the spectral differentiation matrix restricted to the interior points on a Chebyshev grid (k = 1, 2); D_x ⊗ I_ny or I_nx ⊗ D_y on a tensor grid. " +
+			"k = 3 uses the 5-point central stencil (7 at order 4) and at a Neumann or Robin end point the condition on u'. " +
+			"k = 4 needs two conditions per end: on a periodic grid none; otherwise Dirichlet ends (u = 0, or the grid's boundary data) with beam's second condition, u'' = 0 (supported) or u' = 0 (clamped), imposed through the ghost value the stencil (1, −4, 6, −4, 1)/h⁴ reaches beyond the end; " +
+			"these closures are of order 2 (a grid of order 4 is refused for k = 4 with ends), and with supported ends the operator is exactly the square of the second difference. Neumann and Robin ends are refused for k = 4.",
 		Examples: []Example{
 			{"deriv(interval(0, 1, 5), k=2) * [1, 0, 0]", "[-32, 16, 0]"},
 			{"deriv(interval(0, 1, 100, ends=\"periodic\"))", "operator d/dx: 100×100, sparse, 200 nonzeros\n  on interval [0, 1], 100 points, h = 0.01, periodic ends, order 2, 100 unknowns"},
+			{"dense(deriv(interval(0, 1, 6), k=4, beam=\"clamped\"))", "{ 4375, -2500,   625,     0 |\n -2500,  3750, -2500,   625 |\n   625, -2500,  3750, -2500 |\n     0,   625, -2500,  4375}"},
 		},
 		Impl: func(c *eval.Call) (value.Value, error) {
 			g, err := argGrid(c, 0)
@@ -52,17 +59,29 @@ var operatorFamily = []*Builtin{
 			if err != nil {
 				return nil, err
 			}
-			op, err := objects.Deriv(g, k, along)
+			beam, err := beamArg(c, 3)
+			if err != nil {
+				return nil, err
+			}
+			op, err := objects.DerivBeam(g, k, along, beam)
 			if err != nil {
 				return nil, err
 			}
 			label := "d/d" + along
-			if k == 2 {
-				label = "d²/d" + along + "²"
+			if k > 1 {
+				label = "d" + superscript[k] + "/d" + along + superscript[k]
 			}
-			lift, err := objects.LiftOf(g, k)
-			if err != nil {
-				return nil, err
+			if k == 4 && g.Dim() == 1 && g.Kind == objects.KindInterval && !g.Interval.Periodic() {
+				label += " (" + beam[0].String() + "–" + beam[1].String() + ")"
+				if beam[0] == beam[1] {
+					label = label[:strings.LastIndex(label, " (")] + " (" + beam[0].String() + " ends)"
+				}
+			}
+			var lift []objects.LiftTerm
+			if g.Dim() == 1 {
+				if lift, err = objects.LiftOf(g, k, beam); err != nil {
+					return nil, err
+				}
 			}
 			return &objects.Operator{Op: op, Grid: g, Label: label, Lift: lift}, nil
 		},
@@ -85,7 +104,7 @@ var operatorFamily = []*Builtin{
 			if err != nil {
 				return nil, err
 			}
-			lift, err := objects.LiftOf(g, 2)
+			lift, err := objects.LiftOf(g, 2, [2]grid.Support{})
 			if err != nil {
 				return nil, err
 			}
@@ -967,4 +986,44 @@ func writejsonImpl(c *eval.Call) (value.Value, error) {
 		w.WriteString("\n")
 		return nil
 	})
+}
+
+// superscript holds the exponents of derivative labels (index k = 2..4).
+var superscript = [...]string{"", "", "²", "³", "⁴"}
+
+// beamArg is argument i as the second condition of a fourth derivative at
+// each end: one name for both, or a list [left, right].
+func beamArg(c *eval.Call, i int) ([2]grid.Support, error) {
+	var out [2]grid.Support
+	v, err := c.Arg(i)
+	if err != nil {
+		return out, err
+	}
+	name := paramName(c, i)
+	one := func(e value.Value, where string) (grid.Support, error) {
+		s, ok := e.(value.Str)
+		if !ok {
+			return 0, value.TypeErrorf("%s: %s must be \"supported\" or \"clamped\", or a list [left, right] of them, not %s", c.Name, where, value.TypeName(e))
+		}
+		switch s {
+		case "supported":
+			return grid.Supported, nil
+		case "clamped":
+			return grid.Clamped, nil
+		}
+		return 0, value.ValueErrorf("%s: unknown %s %q; valid values are \"supported\" (u'' = 0) and \"clamped\" (u' = 0)", c.Name, where, syntax.Shorten(string(s), syntax.QuoteWidth))
+	}
+	if l, ok := v.(value.List); ok {
+		if len(l) != 2 {
+			return out, value.ValueErrorf("%s: %s as a list names the left and the right end: two entries, not %d", c.Name, name, len(l))
+		}
+		for side := range out {
+			if out[side], err = one(l[side], fmt.Sprintf("%s[%d] (%s end)", name, side, sideName[side])); err != nil {
+				return out, err
+			}
+		}
+		return out, nil
+	}
+	s, err := one(v, name)
+	return [2]grid.Support{s, s}, err
 }

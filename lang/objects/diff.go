@@ -4,6 +4,7 @@ import (
 	"strings"
 
 	"semiflow/lang/value"
+	"semiflow/numerics/grid"
 	"semiflow/numerics/linop"
 )
 
@@ -16,8 +17,15 @@ import (
 // I_nx ⊗ D_y; D_x ⊗ I_ny·nz, I_nx ⊗ D_y ⊗ I_nz, I_nx·ny ⊗ D_z in 3-D).
 // Errors are ValueErrors.
 func Deriv(g *Grid, k int, along string) (linop.Operator, error) {
-	if k != 1 && k != 2 {
-		return nil, value.ValueErrorf("deriv: k must be 1 or 2, not %d", k)
+	return DerivBeam(g, k, along, [2]grid.Support{})
+}
+
+// DerivBeam is Deriv for k = 1..4; beam gives the second condition at
+// each Dirichlet end of an interval for k = 4 (grid.Interval.Deriv).
+// Chebyshev grids take k = 1, 2 only.
+func DerivBeam(g *Grid, k int, along string, beam [2]grid.Support) (linop.Operator, error) {
+	if k < 1 || k > 4 {
+		return nil, value.ValueErrorf("deriv: k must be 1, 2, 3 or 4, not %d", k)
 	}
 	axis := strings.Index("xyz", along)
 	if axis < 0 || len(along) != 1 {
@@ -28,9 +36,9 @@ func Deriv(g *Grid, k int, along string) (linop.Operator, error) {
 		return nil, value.ValueErrorf("deriv: along=%q needs a %d-D grid; this grid is %d-D", along, axis+1, len(fs))
 	}
 	if len(fs) == 1 {
-		return deriv1(g, k)
+		return deriv1(g, k, beam)
 	}
-	d, err := deriv1(fs[axis], k)
+	d, err := deriv1(fs[axis], k, beam)
 	if err != nil {
 		return nil, err
 	}
@@ -56,21 +64,18 @@ func Deriv(g *Grid, k int, along string) (linop.Operator, error) {
 	return op, nil
 }
 
-func deriv1(g *Grid, k int) (linop.Operator, error) {
+func deriv1(g *Grid, k int, beam [2]grid.Support) (linop.Operator, error) {
 	switch g.Kind {
 	case KindInterval:
-		var d *linop.CSR
-		var err error
-		if k == 1 {
-			d, err = g.Interval.D1(g.Order)
-		} else {
-			d, err = g.Interval.D2(g.Order)
-		}
+		d, _, err := g.Interval.Deriv(k, g.Order, beam)
 		if err != nil {
-			return nil, value.ValueErrorf("%v", err)
+			return nil, value.ValueErrorf("deriv: %s", strings.TrimPrefix(err.Error(), "grid: invalid grid: "))
 		}
 		return d, nil
 	case KindChebyshev:
+		if k > 2 {
+			return nil, value.ValueErrorf("deriv: k = %d is available on intervals; on Chebyshev points k is 1 or 2", k)
+		}
 		if k == 1 {
 			return g.Cheb.Interior(g.Cheb.Diff()), nil
 		}
@@ -95,11 +100,11 @@ func toCSR(op linop.Operator) (*linop.CSR, error) {
 // on a 3-D one.
 func Laplacian(g *Grid) (linop.Operator, error) {
 	if g.Kind != KindTensor {
-		return deriv1(g, 2)
+		return deriv1(g, 2, [2]grid.Support{})
 	}
 	var ds []linop.Operator
 	for _, f := range g.Factors() {
-		d, err := deriv1(f, 2)
+		d, err := deriv1(f, 2, [2]grid.Support{})
 		if err != nil {
 			return nil, err
 		}
@@ -113,16 +118,17 @@ func Laplacian(g *Grid) (linop.Operator, error) {
 }
 
 // LiftOf returns the terms through which the boundary data of a 1-D
-// interval enter its k-th derivative (k = 1, 2): one per end with data
-// (grid.Interval.Lift). Other grids give none.
-func LiftOf(g *Grid, k int) ([]LiftTerm, error) {
+// interval enter its k-th derivative (k = 1..4, beam as for DerivBeam):
+// one per end with data (grid.Interval.Lift). Other grids give none.
+func LiftOf(g *Grid, k int, beam [2]grid.Support) ([]LiftTerm, error) {
 	if g.Kind != KindInterval || !g.HasData() {
 		return nil, nil
 	}
-	left, right, err := g.Interval.Lift(k, g.Order)
+	_, lift, err := g.Interval.Deriv(k, g.Order, beam)
 	if err != nil {
-		return nil, value.ValueErrorf("%v", err)
+		return nil, value.ValueErrorf("deriv: %s", strings.TrimPrefix(err.Error(), "grid: invalid grid: "))
 	}
+	left, right := lift[0], lift[1]
 	var out []LiftTerm
 	for side, vec := range [2][]float64{left, right} {
 		if g.Data[side] != nil {

@@ -287,7 +287,10 @@ func (g *Interval) diffLift(m, order int) (*linop.CSR, [2][]float64, error) {
 		return nil, lift, fmt.Errorf("%w: finite-difference order %d (2 or 4)", ErrGrid, order)
 	}
 	lift[0], lift[1] = make([]float64, g.Size()), make([]float64, g.Size())
-	half := order / 2 // central stencil reaches ±half (m = 1, 2)
+	// The central stencil reaches ±half: 2·half + 1 points, of order
+	// `order` for the m-th derivative (±1 for m = 1, 2 at order 2; ±2 for
+	// m = 3, 4 at order 2; one more at order 4).
+	half := (m+1)/2 + order/2 - 1
 	n := g.N
 	var is, js []int
 	var vs []float64
@@ -309,7 +312,7 @@ func (g *Interval) diffLift(m, order int) (*linop.CSR, [2][]float64, error) {
 	// One-sided windows: width order+m points (exact to degree order+m−1).
 	width := order + m
 	if n < width+1 {
-		return nil, lift, fmt.Errorf("%w: %d points for a derivative of order %d (at least %d)", ErrGrid, n, order, width+1)
+		return nil, lift, fmt.Errorf("%w: %d points for derivative %d with differences of order %d (at least %d)", ErrGrid, n, m, order, width+1)
 	}
 	add := func(row, point int, v float64) {
 		switch {
@@ -336,9 +339,12 @@ func (g *Interval) diffLift(m, order int) (*linop.CSR, [2][]float64, error) {
 				continue
 			}
 			// Hermite closure: points i, i±1, …, i±(order/2·… ) plus the slope.
-			np := 2
-			if order == 4 {
-				np = 5
+			// Points of the Hermite closure: the ghost-point row for m = 2
+			// at order 2 (one order less accurate locally), otherwise
+			// enough with the slope for degree order + m − 1.
+			np := order + m - 1
+			if m == 2 && order == 2 {
+				np = 2
 			}
 			off := make([]float64, np)
 			for k := range off {
