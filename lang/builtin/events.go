@@ -405,7 +405,7 @@ func crossingFigure(smp []sample, level, tstar float64) *plot.Figure {
 	f.AddLine(ts, gs, "g at the samples")
 	f.AddHLine(level, "level "+plot.FormatValue(level))
 	if !math.IsNaN(tstar) {
-		f.AddVLine(tstar, "crossing t = "+plot.FormatValue(tstar))
+		f.AddPoints([]float64{tstar}, []float64{level}, "crossing at t = "+plot.FormatValue(tstar))
 	}
 	return f
 }

@@ -404,3 +404,26 @@ func TestMagnusErrors(t *testing.T) {
 		}
 	})
 }
+
+// BenchmarkMagnusHeat: u' = D(t)Lu on 200 interior points of (0, 1),
+// D(t) = 1 + sin(2πt)/2, to t = 0.1 at tol 1e-8 (the steps chosen by
+// step doubling, each exponential by Propagate's automatic choice).
+func BenchmarkMagnusHeat(b *testing.B) {
+	n := 200
+	L, x := heatLaplacian(n)
+	u0 := make([]float64, n)
+	for i := range u0 {
+		u0[i] = math.Sin(math.Pi*x[i]) + 0.3*math.Sin(5*math.Pi*x[i])
+	}
+	at := func(s float64) (linop.Operator, error) {
+		return &linop.Scaled{Alpha: 1 + 0.5*math.Sin(2*math.Pi*s), A: L}, nil
+	}
+	for b.Loop() {
+		_, st, err := PropagateMagnus(context.Background(), at, u0, []float64{0.1}, StepControl{}, Options{Tol: 1e-8})
+		if err != nil {
+			b.Fatal(err)
+		}
+		b.ReportMetric(float64(st.Exponentials), "exponentials")
+		b.ReportMetric(float64(st.Accepted), "steps")
+	}
+}
