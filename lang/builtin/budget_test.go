@@ -72,7 +72,7 @@ func TestGrowthDefaultBudget(t *testing.T) {
 // rightmost grid point with a note; "grid" and "exact" choose.
 func TestPseudospectrumAbscissae(t *testing.T) {
 	s := budgetSession(t)
-	text := budgetText(t, s, "pseudospectrum(A, n=5)")
+	text := budgetText(t, s, "pseudospectrum(A, n=5, levels=[0.1, 0.01, 0.001])")
 	for _, want := range []string{
 		"α_ε not computed by the boundary search for ε = 0.01, 0.001",
 		`ask with abscissae="exact"`,

@@ -9,6 +9,7 @@ import (
 	"semiflow/lang/objects"
 	"semiflow/lang/plot"
 	"semiflow/lang/value"
+	"semiflow/numerics/roundoff"
 	"semiflow/numerics/spectra"
 )
 
@@ -23,7 +24,8 @@ const psMaxLevels = 4
 // psChooseLevels chooses the contour levels of a pseudospectrum computed
 // without given levels, from its σ_min on the grid: the candidates are
 // 1, 2, 5 × 10ᵏ between the smallest σ_min on the grid and the smallest on
-// the region's edge (so each level's curves close inside the region); a
+// the region's edge (so each level's curves close inside the region), and
+// above the rounding floor 30·n·u·max|z| of σ_min; a
 // candidate is kept when its curves are seen in the report's figure
 // (plot.SeenSpan), and of those kept, up to psMaxLevels spread evenly in
 // log ε, powers of ten first. It returns the levels, largest first, and a
@@ -43,6 +45,16 @@ func psChooseLevels(label string, n int, ps *spectra.Pseudospectra) ([]float64, 
 			}
 		}
 	}
+	// Below about n·u·(|z| + ‖A‖) a computed σ_min is rounding noise from
+	// the Schur form; the region contains W(A), so its farthest corner
+	// bounds the numerical radius r(A) ≥ ‖A‖/2. Ten times that floor.
+	scale := 0.0
+	for _, x := range []float64{ps.Re[0], ps.Re[nr-1]} {
+		for _, y := range []float64{ps.Im[0], ps.Im[ni-1]} {
+			scale = math.Max(scale, math.Hypot(x, y))
+		}
+	}
+	lo = math.Max(lo, 10*float64(n)*roundoff.Unit*3*scale)
 	fallback := []float64{psAutoPad}
 	if math.IsInf(lo, 0) || math.IsInf(edge, 0) || !(edge > lo) {
 		ps.SetLevels(fallback)
