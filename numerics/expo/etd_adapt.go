@@ -236,11 +236,12 @@ func integrate(ctx context.Context, st oneStepper, u0 []float64, times []float64
 				}
 				D = maxAbsDiff(tryF, tryL)
 			}
-			finite := !math.IsNaN(normInf(tryF)) && !math.IsInf(normInf(tryF), 0) && !math.IsNaN(normInf(tryC)) && !math.IsInf(normInf(tryC), 0)
+			nF, nC := normInf(tryF), normInf(tryC)
+			finite := !math.IsNaN(nF) && !math.IsInf(nF, 0) && !math.IsNaN(nC) && !math.IsInf(nC, 0)
 			scale := stats.Scale
 			ctlScale := scale
 			if finite {
-				scale = math.Max(scale, normInf(tryF))
+				scale = math.Max(scale, nF)
 				// From u0 = 0 (a source switching on) the size u is heading
 				// for, 0.1·‖Δu‖·T/h, keeps the first steps from chasing a
 				// relative accuracy of a vanishing u; TolMet is still judged

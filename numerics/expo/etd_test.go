@@ -256,25 +256,36 @@ func TestIMEXAlone(t *testing.T) {
 func TestETDRK4SparseContour(t *testing.T) {
 	// The manufactured reaction–diffusion solution on a grid large enough
 	// for the contour path (sparse symmetric L of order ≥ 400), against its
-	// closed form, with the IMEX cross-check.
+	// closed form, with the IMEX cross-check; with the four-node assembly
+	// kernel (where the machine has it) and the two-node one in Go.
 	L, u0, N, exact := rdManufactured(500, 0.1)
 	if !sparseETDApplies(L) {
 		t.Fatal("the contour path does not apply")
 	}
-	times := []float64{0.25, 1}
-	for _, tol := range []float64{1e-6, 1e-9} {
-		s, st, err := ETDRK4(context.Background(), L, N, u0, times, StepControl{}, Options{Tol: tol, Crosscheck: true})
-		if err != nil {
-			t.Fatal(err)
-		}
-		checkContract(t, "sparse reaction-diffusion", s, func(i int) []float64 { return exact(times[i]) }, st.Scale)
-		if !s.TolMet {
-			t.Errorf("tol %g not met: %s", tol, s.Shortfall)
-		}
-		if c := s.Cross; c == nil || c.Skipped != "" || c.MaxDiff > s.MaxErrEst()+c.ErrEst {
-			t.Errorf("cross-check %+v against estimate %.3g", c, s.MaxErrEst())
-		}
-		t.Logf("tol %g: %s; estimate %.3g", tol, s.Reason, s.MaxErrEst())
+	defer func(q bool) { quadKernel = q }(quadKernel)
+	for _, quad := range []bool{true, false} {
+		name := map[bool]string{true: "four-node", false: "two-node"}[quad]
+		t.Run(name, func(t *testing.T) {
+			if quad && !haveTriQuad {
+				t.Skip("no AVX2 and FMA here")
+			}
+			quadKernel = quad
+			times := []float64{0.25, 1}
+			for _, tol := range []float64{1e-6, 1e-9} {
+				s, st, err := ETDRK4(context.Background(), L, N, u0, times, StepControl{}, Options{Tol: tol, Crosscheck: true})
+				if err != nil {
+					t.Fatal(err)
+				}
+				checkContract(t, "sparse reaction-diffusion", s, func(i int) []float64 { return exact(times[i]) }, st.Scale)
+				if !s.TolMet {
+					t.Errorf("tol %g not met: %s", tol, s.Shortfall)
+				}
+				if c := s.Cross; c == nil || c.Skipped != "" || c.MaxDiff > s.MaxErrEst()+c.ErrEst {
+					t.Errorf("cross-check %+v against estimate %.3g", c, s.MaxErrEst())
+				}
+				t.Logf("tol %g: %s; estimate %.3g", tol, s.Reason, s.MaxErrEst())
+			}
+		})
 	}
 }
 
