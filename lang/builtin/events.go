@@ -17,7 +17,7 @@ var eventFamily = []*Builtin{
 	{
 		Name: "crossing",
 		Params: []value.Param{
-			req("sol", "the evolution: a solution of propagate (constant, time-dependent or piecewise-constant A, with or without forcing), searched over [0, its last output time T]"),
+			req("sol", "the evolution: a solution of propagate (constant, time-dependent or piecewise-constant A, with or without forcing or a nonlinear term), searched over [0, its last output time T]"),
 			req("g", "the quantity watched: a function of the state vector u returning a number, e.g. u -> u[37] or u -> norm(u - p)"),
 			req("level", "the level c that g(u(t)) crosses"),
 			opt("direction", value.Str("either"), `"up" (g rises through c), "down" (g falls through c) or "either"`),
@@ -58,7 +58,7 @@ func crossingImpl(c *eval.Call) (value.Value, error) {
 	}
 	fl, ok := s.Flow.(flow)
 	if !ok || fl == nil {
-		return nil, value.ValueErrorf("crossing: this solution cannot be evaluated between its output times (a problem with a nonlinear term or a complex one is not restartable yet); give a solution of u' = Au, u' = Au + f or a time-dependent A")
+		return nil, value.ValueErrorf("crossing: this solution cannot be evaluated between its output times (a complex problem is not restartable yet); give a real problem, or split it into real and imaginary parts with blocks")
 	}
 	gv, err := c.Arg(1)
 	if err != nil {

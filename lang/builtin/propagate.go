@@ -475,46 +475,10 @@ func propagateImpl(c *eval.Call) (value.Value, error) {
 		if err := expo.ETDRK4Check(a.Op); err != nil {
 			return nil, numericsError(c, err)
 		}
-		withT := len(nl.Params()) >= 2
-		nlArgs := func(t float64, u []float64) []value.Value {
-			if withT {
-				return []value.Value{value.RealVec(append([]float64(nil), u...)), value.Num(t)}
-			}
-			return []value.Value{value.RealVec(append([]float64(nil), u...))}
-		}
-		if _, err := callVector(c, "nonlinear", nl, n, nlArgs(0, u0)...); err != nil {
+		if _, err := callVector(c, "nonlinear", nl, n, nonlinearArgs(nl, 0, u0)...); err != nil {
 			return nil, err
 		}
-		N := func(t float64, u, dst []float64) {
-			if callErr != nil {
-				for i := range dst {
-					dst[i] = 0
-				}
-				return
-			}
-			v, err := callVector(c, "nonlinear", nl, n, nlArgs(t, u)...)
-			if err != nil {
-				callErr = err
-				for i := range dst {
-					dst[i] = 0
-				}
-				return
-			}
-			copy(dst, v)
-			if forcing != nil {
-				if forcing.Const != nil {
-					for i := range dst {
-						dst[i] += forcing.Const[i]
-					}
-				} else {
-					f := make([]float64, n)
-					forcing.Func(t, f)
-					for i := range dst {
-						dst[i] += f[i]
-					}
-				}
-			}
-		}
+		N := nonlinearTerm(c, nl, forcing, n, 0, &callErr)
 		sol, _, err = expo.ETDRK4(c.Ctx, a.Op, N, u0, times, expo.StepControl{Steps: steps, Breaks: switches}, opts)
 		problem = "u' = A u + N(u)" + forceDesc
 	default:
@@ -544,7 +508,7 @@ func propagateImpl(c *eval.Call) (value.Value, error) {
 	}
 	var fl flow
 	if !cplx {
-		fl = newLinearFlow(a.Op, u0, c.Args[5], c.Args[6], a.Lift, switches, opts)
+		fl = newFlow(a.Op, u0, c.Args[5], c.Args[6], a.Lift, switches, opts)
 	}
 	return &objects.Solution{S: sol, Grid: a.Grid, Problem: problem, Label: a.Label, EndValues: ends, Complex: cplx, Flow: fl}, nil
 }

@@ -292,13 +292,83 @@ type linearFlow struct {
 	opts     expo.Options
 }
 
-// newLinearFlow is the flow of propagate's constant-operator route, or
-// nil with a nonlinear term (not restartable yet).
-func newLinearFlow(op linop.Operator, u0 []float64, forcing, nonlinear value.Value, lift []objects.LiftTerm, switches []float64, opts expo.Options) flow {
-	if nonlinear != value.None {
-		return nil
+// newFlow is the flow of propagate's constant-operator route: linear, or
+// semilinear with a nonlinear term.
+func newFlow(op linop.Operator, u0 []float64, forcing, nonlinear value.Value, lift []objects.LiftTerm, switches []float64, opts expo.Options) flow {
+	l := &linearFlow{op: op, u0: u0, forcing: forcing, lift: lift, switches: switches, opts: opts}
+	if nl, ok := nonlinear.(value.Callable); ok {
+		return &semilinearFlow{linearFlow: l, nl: nl}
 	}
-	return &linearFlow{op: op, u0: u0, forcing: forcing, lift: lift, switches: switches, opts: opts}
+	return l
+}
+
+// nonlinearArgs are the arguments of the user's N: the state, and the time
+// when N takes two parameters.
+func nonlinearArgs(nl value.Callable, t float64, u []float64) []value.Value {
+	args := []value.Value{value.RealVec(append([]float64(nil), u...))}
+	if len(nl.Params()) >= 2 {
+		args = append(args, value.Num(t))
+	}
+	return args
+}
+
+// nonlinearTerm is N(u, t) + f(t) at the time t0 + t for ETDRK4: the
+// user's N plus the source src (absolute times; nil for none). The first
+// error of a user function goes to *callErr, and the term is zero from
+// then on.
+func nonlinearTerm(c *eval.Call, nl value.Callable, src *expo.Forcing, n int, t0 float64, callErr *error) expo.Nonlinear {
+	return func(t float64, u, dst []float64) {
+		if *callErr != nil {
+			clear(dst)
+			return
+		}
+		v, err := callVector(c, "nonlinear", nl, n, nonlinearArgs(nl, t0+t, u)...)
+		if err != nil {
+			*callErr = err
+			clear(dst)
+			return
+		}
+		copy(dst, v)
+		switch {
+		case src == nil:
+		case src.Const != nil:
+			for i := range dst {
+				dst[i] += src.Const[i]
+			}
+		default:
+			f := make([]float64, n)
+			src.Func(t0+t, f)
+			for i := range dst {
+				dst[i] += f[i]
+			}
+		}
+	}
+}
+
+// semilinearFlow is u' = Au + N(u) + f, restarted by ETDRK4.
+type semilinearFlow struct {
+	*linearFlow
+	nl value.Callable
+}
+
+func (s *semilinearFlow) how() string { return "ETDRK4 from u(t_k)" }
+
+func (s *semilinearFlow) advance(c *eval.Call, t0 float64, u []float64, t1, tol float64) ([]float64, float64, error) {
+	n := len(u)
+	var callErr error
+	src, err := s.source(c, n, &callErr)
+	if err != nil {
+		return nil, 0, err
+	}
+	N := nonlinearTerm(c, s.nl, src, n, t0, &callErr)
+	sol, _, err := expo.ETDRK4(c.Ctx, s.op, N, u, []float64{t1 - t0}, expo.StepControl{Breaks: shiftedBreaks(s.switches, t0)}, restartOpts(s.opts, tol))
+	if callErr != nil {
+		return nil, 0, callErr
+	}
+	if err != nil {
+		return nil, 0, numericsError(c, err)
+	}
+	return sol.Values[0], sol.ErrEst[0], nil
 }
 
 func (l *linearFlow) start() []float64 { return l.u0 }
@@ -422,6 +492,7 @@ var (
 	_ flow = (*linearFlow)(nil)
 	_ flow = (*magnusFlow)(nil)
 	_ flow = (*piecesFlow)(nil)
+	_ flow = (*semilinearFlow)(nil)
 )
 
 // plural is "s" unless k is 1.
