@@ -30,6 +30,7 @@ var steadyFamily = []*Builtin{
 		},
 		Doc: "A steady state u* of u' = Au + N(u) + f: a zero of F(u) = Au + N(u) + f, by Newton's method from the guess, each step solving (A + N'(u)) Δu = −F(u) and shortened by halving until ‖F‖₂ falls (a backtracking line search). " +
 			"N'(u) is checked against the derivative of N along a random direction and found by complex steps (Im N(u + ih v)/h, exact for a term built from analytic functions; Squire & Trapp, SIAM Rev. 1998) or by forward differences when N has no complex form: as a diagonal when N acts entry by entry (one evaluation of N per step), on A's sparsity pattern with columns grouped by colouring (Curtis, Powell & Reid, IMA J. Appl. Math. 1974) when N couples neighbours, dense otherwise; a given jacobian is checked the same way. " +
+			"Boundary data the operator's grid carries (boundary=[g_left, g_right], numbers) enter as a constant term b of Au + b. " +
 			"The linear systems are solved by banded, sparse or dense LU chosen from the structure, never densely for a sparse operator. " +
 			"The report gives the residual ‖F(u*)‖∞, the error estimate ‖J⁻¹F(u*)‖∞ + ‖J⁻¹‖∞·ρ (the next Newton step plus the rounding ρ of F amplified by ‖J⁻¹‖∞, estimated by Hager's method), the Newton history and a figure; s.state is the state as a vector and linearisation(s) the operator A + N'(u*). " +
 			"Newton's method finds the steady state nearest the guess in its own sense, not necessarily a stable one: linearisation and spectrum say which it is. " +
@@ -291,6 +292,29 @@ func steadyImpl(c *eval.Call) (value.Value, error) {
 	if err := c.CheckSize(float64(n), "steadystate: the state"); err != nil {
 		return nil, err
 	}
+	// Boundary data carried by the operator enter as the constant b of
+	// Au + b; data that vary in time have no steady state.
+	var ends *[2]float64
+	if len(a.Lift) > 0 {
+		if liftHasFunc(a.Lift) {
+			return nil, value.ValueErrorf("steadystate: the operator's boundary data vary in time, so there is no steady state; give the grid constant data")
+		}
+		b, _ := objects.LiftConst(a.Lift, n)
+		if f == nil {
+			f = b
+		} else {
+			for i, x := range b {
+				f[i] += x
+			}
+		}
+		ev, err := endValues(c, a, []float64{0})
+		if err != nil {
+			return nil, err
+		}
+		if ev != nil {
+			ends = &ev[0]
+		}
+	}
 	res, err := steady.Solve(c.Ctx, a.Op, f, term, guess, steady.Options{Tol: tol, MaxSteps: steps, Progress: lazyProgress(c)})
 	if err != nil {
 		return nil, steadyError(c, err)
@@ -299,10 +323,13 @@ func steadyImpl(c *eval.Call) (value.Value, error) {
 	if haveN {
 		problem += " + N(u)"
 	}
-	if f != nil {
+	if fv != value.None {
 		problem += " + f"
 	}
-	return objects.NewSteadyState(res, a, guess, problem), nil
+	if len(a.Lift) > 0 {
+		problem += " + b (boundary data)"
+	}
+	return objects.NewSteadyState(res, a, guess, problem, ends), nil
 }
 
 func linearisationImpl(c *eval.Call) (value.Value, error) {

@@ -2,6 +2,7 @@ package objects
 
 import (
 	"fmt"
+	"math"
 
 	"semiflow/lang/plot"
 	"semiflow/lang/value"
@@ -36,8 +37,10 @@ func (s *SteadyState) shortfall() string {
 
 // NewSteadyState builds the report of a steady state of A u + N(u) + f = 0
 // on the operator a (whose grid, if any, draws the figure); guess is the
-// starting vector, problem the equation in words.
-func NewSteadyState(res *steady.Result, a *Operator, guess []float64, problem string) *SteadyState {
+// starting vector, problem the equation in words; ends, if not nil, holds
+// the values prescribed at the ends of an interval (NaN where none), for
+// the figure.
+func NewSteadyState(res *steady.Result, a *Operator, guess []float64, problem string, ends *[2]float64) *SteadyState {
 	n := len(res.U)
 	damped := 0
 	for _, st := range res.Steps {
@@ -79,7 +82,7 @@ func NewSteadyState(res *steady.Result, a *Operator, guess []float64, problem st
 	r.name("steps", num(float64(len(res.Steps))))
 	r.name("inverse_norm", num(res.InvNorm))
 	r.name("evaluations", num(float64(res.Evals)))
-	r.Figure = steadyFigure(res.U, guess, a.Grid)
+	r.Figure = steadyFigure(res.U, guess, a.Grid, ends)
 	s := &SteadyState{Analysis: r, Res: res, Lin: lin}
 	if !res.TolMet {
 		r.Title = "WARNING: " + s.shortfall() + "\n" + r.Title
@@ -103,7 +106,7 @@ func abs(x float64) float64 {
 
 // steadyFigure draws the state (and the guess, dashed) along a 1-D grid,
 // as a heat map on a 2-D grid, or against the index.
-func steadyFigure(u, guess []float64, g *Grid) *plot.Figure {
+func steadyFigure(u, guess []float64, g *Grid, ends *[2]float64) *plot.Figure {
 	if len(u) == 0 {
 		return nil
 	}
@@ -111,10 +114,20 @@ func steadyFigure(u, guess []float64, g *Grid) *plot.Figure {
 	switch {
 	case g != nil && g.Dim() == 1:
 		f.X.Label, f.Y.Label = "x", "u(x)"
+		withEnds := func(v []float64) []float64 {
+			if ends != nil && g.Kind == KindInterval {
+				for side, e := range ends {
+					if !math.IsNaN(e) {
+						v[side*(len(v)-1)] = e
+					}
+				}
+			}
+			return v
+		}
 		x, v := g.Profile(u)
-		f.AddLine(x, v, "steady state u*")
+		f.AddLine(x, withEnds(v), "steady state u*")
 		x, v = g.Profile(guess)
-		f.AddLine(x, v, "guess").Dash = plot.Dashed
+		f.AddLine(x, withEnds(v), "guess").Dash = plot.Dashed
 	case g != nil:
 		gx, gy := g.X.X1(), g.Y.X1()
 		ny := len(gy)
