@@ -265,14 +265,23 @@ func trsmRightUpper[T scalar](m, k int, a []T, lda int, x []T, ldx int, ws *work
 		if j0 > 0 {
 			gemmSub(m, j1-j0, j0, x, ldx, a[j0:], lda, x[j0:], ldx, ws)
 		}
+		var inv [trsmBlock]T
+		for p := j0; p < j1; p++ {
+			inv[p-j0] = 1 / a[p*lda+p]
+		}
 		for i := 0; i < m; i++ {
-			xi := x[i*ldx : i*ldx+k]
-			for j := j0; j < j1; j++ {
-				v := xi[j]
-				for p := j0; p < j; p++ {
-					v -= xi[p] * a[p*lda+j]
+			xi := x[i*ldx : i*ldx+j1]
+			for p := j0; p < j1; p++ {
+				v := xi[p] * inv[p-j0]
+				xi[p] = v
+				if v == 0 {
+					continue
 				}
-				xi[j] = v / a[j*lda+j]
+				// Row p of U is contiguous: eliminate x_p from the block.
+				xr := xi[p+1 : j1]
+				for c, u := range a[p*lda+p+1 : p*lda+j1] {
+					xr[c] -= v * u
+				}
 			}
 		}
 	}

@@ -115,17 +115,35 @@ func colCounts(ctx context.Context, g *graph, q, pinv, parent []int) ([]int, err
 // fillCount is the predicted number of entries of L (diagonal included)
 // and the flops of a Cholesky factorisation, Σ cc², for an order.
 func fillCount(ctx context.Context, g *graph, q []int) (nnz, flops float64, err error) {
+	t, err := treeOf(ctx, g, q)
+	if err != nil {
+		return 0, 0, err
+	}
+	nnz, flops = t.counts()
+	return nnz, flops, nil
+}
+
+// elimTree is an order with its elimination tree and column counts.
+type elimTree struct {
+	q, pinv, parent, cc []int
+}
+
+func treeOf(ctx context.Context, g *graph, q []int) (*elimTree, error) {
 	pinv := invPerm(q)
 	parent := etree(g, q, pinv)
 	cc, err := colCounts(ctx, g, q, pinv, parent)
 	if err != nil {
-		return 0, 0, err
+		return nil, err
 	}
-	for _, c := range cc {
+	return &elimTree{q: q, pinv: pinv, parent: parent, cc: cc}, nil
+}
+
+func (t *elimTree) counts() (nnz, flops float64) {
+	for _, c := range t.cc {
 		nnz += float64(c)
 		flops += float64(c) * float64(c)
 	}
-	return nnz, flops, nil
+	return nnz, flops
 }
 
 func invPerm(q []int) []int {
@@ -168,13 +186,17 @@ const (
 // postorder, column counts, fundamental supernodes with relaxed
 // amalgamation, and each supernode's row structure.
 func analyseOrder(ctx context.Context, g *graph, q0 []int) (*snodes, error) {
-	n := g.n
-	pinv0 := invPerm(q0)
-	parent0 := etree(g, q0, pinv0)
-	cc0, err := colCounts(ctx, g, q0, pinv0, parent0)
+	t, err := treeOf(ctx, g, q0)
 	if err != nil {
 		return nil, err
 	}
+	return analyseTree(ctx, g, t)
+}
+
+// analyseTree is analyseOrder for an order whose tree and counts are known.
+func analyseTree(ctx context.Context, g *graph, t *elimTree) (*snodes, error) {
+	n := g.n
+	q0, parent0, cc0 := t.q, t.parent, t.cc
 	// The child with the largest column last: it is the one a relaxed
 	// supernode can absorb at the least cost in explicit zeros.
 	post := postorder(parent0, cc0)

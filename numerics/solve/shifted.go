@@ -40,9 +40,10 @@ func (m Method) String() string {
 
 // NewShifted factors zI − A for a square operator A and returns a solver
 // for (zI − A) x = b. It chooses from A's structure: banded LU when A has a
-// sparse form with a narrow band (1-D grid operators), sparse LU with a
-// nested-dissection ordering for Kronecker sums and other sparse operators,
-// and dense complex LU otherwise (refused by the memory guard when too
+// sparse form with a narrow band (1-D grid operators), the supernodal
+// sparse LU (Supernodal: approximate minimum degree or nested dissection,
+// real arithmetic for real z) for other sparse operators, and dense
+// complex LU otherwise (refused by the memory guard when too
 // large). A singular shift returns an error wrapping ErrSingular that names
 // z. NewShifted panics with ErrShape if A is not square.
 func NewShifted(a linop.Operator, z complex128) (ShiftedSolver, error) {

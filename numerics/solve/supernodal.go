@@ -141,12 +141,6 @@ func remember(an *analysis) {
 	cache = append(cache, an)
 }
 
-// candidate orders with names.
-type namedOrder struct {
-	name string
-	q    []int
-}
-
 // analyseSparse chooses the fill-reducing order (predicted fill) and builds
 // the supernodal structure, or takes both from the cache.
 func analyseSparse(ctx context.Context, op linop.Operator, a *linop.CSR, grid [2]int) (*analysis, error) {
@@ -155,42 +149,41 @@ func analyseSparse(ctx context.Context, op linop.Operator, a *linop.CSR, grid [2
 	}
 	g := symGraph(a)
 	// The two candidates are computed side by side, each with its
-	// predicted fill.
-	cands := make([]namedOrder, 2)
-	fills := make([]float64, 2)
+	// elimination tree and predicted fill.
+	names := []string{"", "approximate minimum degree"}
+	trees := make([]*elimTree, 2)
 	errs := make([]error, 2)
 	var wg sync.WaitGroup
 	wg.Add(2)
 	go func() {
 		defer wg.Done()
-		if q := gridCandidate(op, a, grid); q != nil {
-			cands[0] = namedOrder{"nested dissection on the grid", q}
-		} else {
-			cands[0] = namedOrder{"nested dissection", ndGraph(g)}
+		q := gridCandidate(op, a, grid)
+		names[0] = "nested dissection on the grid"
+		if q == nil {
+			q, names[0] = ndGraph(g), "nested dissection"
 		}
-		fills[0], _, errs[0] = fillCount(ctx, g, cands[0].q)
+		trees[0], errs[0] = treeOf(ctx, g, q)
 	}()
 	go func() {
 		defer wg.Done()
-		cands[1] = namedOrder{"approximate minimum degree", amdGraph(g)}
-		fills[1], _, errs[1] = fillCount(ctx, g, cands[1].q)
+		trees[1], errs[1] = treeOf(ctx, g, amdGraph(g))
 	}()
 	wg.Wait()
 	best, bestFill := -1, math.Inf(1)
-	for i := range cands {
+	for i, t := range trees {
 		if errs[i] != nil {
 			return nil, errs[i]
 		}
-		if fills[i] < bestFill {
-			best, bestFill = i, fills[i]
+		if fill, _ := t.counts(); fill < bestFill {
+			best, bestFill = i, fill
 		}
 	}
-	sn, err := analyseOrder(ctx, g, cands[best].q)
+	sn, err := analyseTree(ctx, g, trees[best])
 	if err != nil {
 		return nil, err
 	}
 	an := &analysis{rowPtr: append([]int(nil), a.RowPtr...), colIdx: append([]int(nil), a.ColIdx[:a.NNZ()]...),
-		sn: sn, name: cands[best].name, fill: bestFill}
+		sn: sn, name: names[best], fill: bestFill}
 	remember(an)
 	return an, nil
 }

@@ -408,7 +408,14 @@ def main():
     ap.add_argument("--markdown", default="")
     ap.add_argument("--child", default="")
     ap.add_argument("--vec", default="")
+    ap.add_argument("--write3d", default="")
     args = ap.parse_args()
+    if args.write3d:
+        A3, _ = advdiff(46, 3)
+        scipy.io.mmwrite(args.write3d, A3, precision=17,
+                         comment="3-D variable-coefficient 7-point operator (numerics/compare AdvDiff)")
+        print("3-D operator written to %s (%d×%d, %d entries)" % (args.write3d, A3.shape[0], A3.shape[1], A3.nnz), flush=True)
+        return
     if args.child:
         print("RESULT " + json.dumps(scipy_case(args.child, args.budget, args.vec)))
         return
@@ -444,11 +451,12 @@ def main():
     names = [nm for nm in problem_names() if not args.only or re.search(args.only, nm)]
     if any(nm.startswith("factor_varcoef3d") for nm in names):
         # The 3-D operator reaches both sides as a Matrix Market file.
+        # Written by a child process: the parent must stay small, since a
+        # child's peak RSS as wait4 reports it starts from the parent's at
+        # the fork.
         path = os.path.join(tmp, "varcoef3d_N1e5.mtx")
-        A3, _ = advdiff(46, 3)
-        scipy.io.mmwrite(path, A3, precision=17, comment="3-D variable-coefficient 7-point operator (numerics/compare AdvDiff)")
+        subprocess.run(["/usr/bin/python3", os.path.abspath(__file__), "--write3d", path], check=True, env=env)
         env["SEMIFLOW_COMPARE_MTX3D"] = path
-        print("3-D operator written to %s (%d×%d, %d entries)" % (path, A3.shape[0], A3.shape[1], A3.nnz), flush=True)
     for name in names:
         sc_vecf = os.path.join(tmp, "scipy.vec")
         if os.path.exists(sc_vecf):
