@@ -23,10 +23,13 @@ R`, the best of the R runs' ns/op (each a fresh solve: the factorisation
 cache starts empty); the solution at T is written by the benchmark
 (SEMIFLOW_ETD_OUT) and compared with the same reference.
 
-Prints the load average before and after (timings on a shared machine
-mean little above a load of about 2), then, per tolerance: the times, the
-ratio Semiflow/scipy for each method, and each side's true error against
-the reference (Semiflow's with its own estimate).
+Prints, per tolerance: the wall times, the ratio Semiflow/scipy for each
+method, each side's true error against the reference (Semiflow's with its
+own estimate), then the CPU times and their ratios (Semiflow's summed over
+its threads, from the benchmark's cpu-s; scipy's from process_time), and
+the load average before and after. Wall times on a shared machine mean
+little above a load of about 2; CPU times hold up better (not entirely:
+a busy machine also slows each core).
 """
 import argparse
 import json
@@ -64,12 +67,14 @@ def scipy_solve(method, tol, L, u0):
 
 
 def best(f, repeat):
-    out, tb = None, float("inf")
+    """Best wall time and best CPU time (this process) of repeat runs."""
+    out, tb, cb = None, float("inf"), float("inf")
     for _ in range(repeat):
-        t0 = time.perf_counter()
+        t0, c0 = time.perf_counter(), time.process_time()
         out = f()
         tb = min(tb, time.perf_counter() - t0)
-    return tb, out
+        cb = min(cb, time.process_time() - c0)
+    return tb, cb, out
 
 
 def main():
@@ -87,25 +92,30 @@ def main():
             raise SystemExit(out.stdout + out.stderr)
         go = {}
         for line in out.stdout.splitlines():
-            m = re.match(r"BenchmarkETDFisherKPP/N1000_tol(\S+?)(-\d+)?\s+\d+\s+(\d+) ns/op", line)
+            m = re.match(r"BenchmarkETDFisherKPP/N1000_tol(\S+?)(-\d+)?\s+\d+\s+(\d+) ns/op.*?([\d.]+) cpu-s", line)
             if m:
                 tol = float(m.group(1))
                 res = json.load(open(os.path.join(d, "etd_tol%s.json" % m.group(1))))
-                tg = int(m.group(3)) / 1e9
-                go[tol] = (min(tg, go[tol][0]) if tol in go else tg, res)
+                tg, cg = int(m.group(3)) / 1e9, float(m.group(4))
+                if tol in go:
+                    tg, cg = min(tg, go[tol][0]), min(cg, go[tol][1])
+                go[tol] = (tg, cg, res)
     print("Fisher–KPP, N = %d, T = %g; scipy %s, numpy %s; best of %d" % (N, T, scipy.__version__, np.__version__, args.repeat))
-    print("| tol | Semiflow ETDRK4 | steps (rejected) | true error | estimate | scipy BDF | error | scipy Radau | error | ratio to BDF | ratio to Radau |")
-    print("| --- | --- | --- | --- | --- | --- | --- | --- | --- | --- | --- |")
+    print("Wall time (Semiflow on both cores), then CPU time (Semiflow's summed over its threads, scipy's one):")
+    print("| tol | Semiflow ETDRK4 | steps (rejected) | true error | estimate | scipy BDF | error | scipy Radau | error | ratio to BDF | ratio to Radau | CPU: Semiflow | BDF | Radau | CPU ratio to BDF / Radau |")
+    print("| --- | --- | --- | --- | --- | --- | --- | --- | --- | --- | --- | --- | --- | --- | --- |")
     for tol in TOLS:
-        tg, res = go[tol]
+        tg, cg, res = go[tol]
         eg = np.max(np.abs(np.array(res["u"]) - ref))
         row = ["%g" % tol, "%.3f s" % tg, "%d (%d)" % (res["accepted"], res["rejected"]), "%.2g" % eg, "%.2g" % res["errest"]]
-        ratios = []
+        ratios, cpu, cratios = [], ["%.3f s" % cg], []
         for m in ["BDF", "Radau"]:
-            ts, (u, nfev, nlu) = best(lambda: scipy_solve(m, tol, L, u0), args.repeat)
+            ts, cs, (u, nfev, nlu) = best(lambda: scipy_solve(m, tol, L, u0), args.repeat)
             row += ["%.3f s" % ts, "%.2g" % np.max(np.abs(u - ref))]
             ratios.append("%.2f" % (tg / ts))
-        print("| " + " | ".join(row + ratios) + " |")
+            cpu.append("%.3f s" % cs)
+            cratios.append("%.2f" % (cg / cs))
+        print("| " + " | ".join(row + ratios + cpu + [" / ".join(cratios)]) + " |")
     print("load average (1, 5, 15 min): %.2f %.2f %.2f before, %.2f %.2f %.2f after" % (load0 + os.getloadavg()))
 
 
