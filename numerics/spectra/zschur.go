@@ -3,9 +3,9 @@ package spectra
 import (
 	"context"
 	"fmt"
-	"sort"
 	"math"
 	"math/cmplx"
+	"sort"
 
 	"gonum.org/v1/gonum/mat"
 
