@@ -106,8 +106,8 @@ func shiftedBreaks(breaks []float64, t0 float64) []float64 {
 }
 
 func propagateMagnus(c *eval.Call, f value.Callable) (value.Value, error) {
-	if err := refuseExtraTerms(c, "a time-dependent operator A(t)"); err != nil {
-		return nil, err
+	if c.Args[6] != value.None {
+		return nil, value.ValueErrorf("propagate: a time-dependent operator A(t) takes no nonlinear term (not supported yet); give a constant operator for that")
 	}
 	if requiredParams(f) > 1 || len(f.Params()) == 0 {
 		return nil, value.TypeErrorf("propagate: a time-dependent A must be a function of one argument t returning an operator, e.g. t -> (1 + sin(t))*L")
@@ -134,15 +134,63 @@ func propagateMagnus(c *eval.Call, f value.Callable) (value.Value, error) {
 	}
 	opts := expo.Options{Method: ps.method, Tol: ps.tol, Crosscheck: ps.cross, Progress: lazyProgress(c)}
 	ctl := expo.StepControl{Steps: ps.steps, Breaks: ps.switches}
-	sol, _, err := expo.PropagateMagnus(c.Ctx, operatorAtFunc(c, f, n, 0), u0, times, ctl, opts)
+	src, err := sourceFunc(c, c.Args[5], n, 0)
+	if err != nil {
+		return nil, err
+	}
+	var sol *expo.Solution
+	problem := "u' = A(t) u"
+	if src == nil {
+		sol, _, err = expo.PropagateMagnus(c.Ctx, operatorAtFunc(c, f, n, 0), u0, times, ctl, opts)
+	} else {
+		sol, _, err = expo.PropagateMagnusForced(c.Ctx, operatorAtFunc(c, f, n, 0), src, u0, times, ctl, opts)
+		problem += " + f"
+	}
 	if err != nil {
 		return nil, userOrNumerics(c, err)
 	}
 	if err := finiteSolution(sol); err != nil {
 		return nil, err
 	}
-	return &objects.Solution{S: sol, Grid: a0.Grid, Problem: "u' = A(t) u", Label: "A(t)",
-		Flow: &magnusFlow{f: f, n: n, u0: u0, breaks: ps.switches, opts: opts}}, nil
+	return &objects.Solution{S: sol, Grid: a0.Grid, Problem: problem, Label: "A(t)",
+		Flow: &magnusFlow{f: f, forcing: c.Args[5], n: n, u0: u0, breaks: ps.switches, opts: opts}}, nil
+}
+
+// sourceFunc is a forcing beside a time-dependent A, at the times t0 + t:
+// nil for none, a constant for a number or a vector, or the user's
+// function of t (its values checked: finite, one per unknown).
+func sourceFunc(c *eval.Call, fv value.Value, n int, t0 float64) (func(t float64, dst []float64) error, error) {
+	var cst []float64
+	switch f := fv.(type) {
+	case value.NoneType:
+		return nil, nil
+	case value.Num:
+		cst = constVec(n, float64(f))
+	case *value.Vec, *value.Range:
+		re, cx, err := numbers(c, "forcing", f)
+		if err != nil {
+			return nil, err
+		}
+		if cx != nil || len(re) != n {
+			return nil, value.ValueErrorf("propagate: the forcing vector must be real, one entry per unknown (%d), not %d entries", n, len(re)+len(cx))
+		}
+		cst = re
+	case value.Callable:
+		return func(t float64, dst []float64) error {
+			v, err := callForcing(c, f, n, t0+t)
+			if err != nil {
+				return err
+			}
+			copy(dst, v)
+			return nil
+		}, nil
+	default:
+		return nil, value.TypeErrorf("propagate: forcing must be none, a vector, a number or a function of t, not %s", value.TypeName(f))
+	}
+	if k := firstNonFinite(cst); k >= 0 {
+		return nil, value.ValueErrorf("propagate: the forcing must be finite; forcing[%d] = %s", k, value.FormatNum(cst[k]))
+	}
+	return func(_ float64, dst []float64) error { copy(dst, cst); return nil }, nil
 }
 
 func propagatePieces(c *eval.Call, list value.List) (value.Value, error) {
@@ -443,21 +491,31 @@ func (l *linearFlow) advance(c *eval.Call, t0 float64, u []float64, t1, tol floa
 	return sol.Values[0], sol.ErrEst[0], nil
 }
 
-// magnusFlow is u' = A(t)u.
+// magnusFlow is u' = A(t)u (+ f).
 type magnusFlow struct {
-	f      value.Value
-	n      int
-	u0     []float64
-	breaks []float64
-	opts   expo.Options
+	f       value.Value
+	forcing value.Value
+	n       int
+	u0      []float64
+	breaks  []float64
+	opts    expo.Options
 }
 
 func (m *magnusFlow) start() []float64 { return m.u0 }
 func (m *magnusFlow) how() string      { return "the Magnus integration from u(t_k)" }
 
 func (m *magnusFlow) advance(c *eval.Call, t0 float64, u []float64, t1, tol float64) ([]float64, float64, error) {
-	sol, _, err := expo.PropagateMagnus(c.Ctx, operatorAtFunc(c, m.f, m.n, t0), u, []float64{t1 - t0},
-		expo.StepControl{Breaks: shiftedBreaks(m.breaks, t0)}, restartOpts(m.opts, tol))
+	src, err := sourceFunc(c, m.forcing, m.n, t0)
+	if err != nil {
+		return nil, 0, err
+	}
+	ctl := expo.StepControl{Breaks: shiftedBreaks(m.breaks, t0)}
+	var sol *expo.Solution
+	if src == nil {
+		sol, _, err = expo.PropagateMagnus(c.Ctx, operatorAtFunc(c, m.f, m.n, t0), u, []float64{t1 - t0}, ctl, restartOpts(m.opts, tol))
+	} else {
+		sol, _, err = expo.PropagateMagnusForced(c.Ctx, operatorAtFunc(c, m.f, m.n, t0), src, u, []float64{t1 - t0}, ctl, restartOpts(m.opts, tol))
+	}
 	if err != nil {
 		return nil, 0, userOrNumerics(c, err)
 	}

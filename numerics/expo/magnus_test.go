@@ -427,3 +427,38 @@ func BenchmarkMagnusHeat(b *testing.B) {
 		b.ReportMetric(float64(st.Accepted), "steps")
 	}
 }
+
+func TestMagnusForced(t *testing.T) {
+	// u' = −2t·u + 2t from u = 0: u = 1 − e^{−t²}; and v' = −v + cos t from
+	// v = 1: v = (cos t + sin t)/2 + e^{−t}/2 (closed forms).
+	at := func(s float64) (linop.Operator, error) { return &linop.Diag{D: []float64{-2 * s, -1}}, nil }
+	f := func(s float64, dst []float64) error {
+		dst[0], dst[1] = 2*s, math.Cos(s)
+		return nil
+	}
+	exact := func(s float64) []float64 {
+		return []float64{1 - math.Exp(-s*s), (math.Cos(s)+math.Sin(s))/2 + math.Exp(-s)/2}
+	}
+	sol, _, err := PropagateMagnusForced(context.Background(), at, f, []float64{0, 1}, []float64{0.5, 1, 2}, StepControl{}, Options{Tol: 1e-9})
+	if err != nil {
+		t.Fatal(err)
+	}
+	scale := 0.0
+	for _, s := range sol.Times {
+		scale = math.Max(scale, normInf(exact(s)))
+	}
+	checkMagnus(t, sol, exact, math.Max(1, scale))
+	t.Log(sol.Reason)
+	t.Run("failing source", func(t *testing.T) {
+		bad := errors.New("source failed")
+		g := func(s float64, dst []float64) error {
+			if s > 0.3 {
+				return bad
+			}
+			return f(s, dst)
+		}
+		if _, _, err := PropagateMagnusForced(context.Background(), at, g, []float64{0, 1}, []float64{1}, StepControl{}, Options{}); !errors.Is(err, bad) {
+			t.Errorf("got %v, want the source's error", err)
+		}
+	})
+}
