@@ -15,7 +15,7 @@ import (
 
 // objectFamily is the family of grids, operators and propagation, kept in
 // three files (grids.go, operators.go, propagate.go).
-var objectFamily = join(gridFamily, operatorFamily, propagateFamily)
+var objectFamily = join(gridFamily, stretchedFamily, operatorFamily, propagateFamily)
 
 func join(fams ...[]*Builtin) []*Builtin {
 	var out []*Builtin
@@ -266,21 +266,9 @@ func intervalImpl(c *eval.Call) (value.Value, error) {
 	if h := (b - a) / cells; math.IsInf(b-a, 0) || math.IsInf(1/(h*h), 0) {
 		return nil, value.ValueErrorf("interval: the spacing h = (b − a)/%s is out of range for differences (1/h² must be finite); got a = %s, b = %s", value.FormatNum(cells), value.FormatNum(a), value.FormatNum(b))
 	}
-	var e [2]grid.End
-	for side, kind := range kinds {
-		switch kind {
-		case "dirichlet":
-			e[side] = grid.DirichletEnd
-		case "neumann":
-			e[side] = grid.NeumannEnd
-		case "periodic":
-			e[side] = grid.PeriodicEnd
-		case "robin":
-			if alpha[side] == 0 && beta[side] == 0 {
-				return nil, value.ValueErrorf("interval: the Robin condition αu + βu' = 0 at the %s end needs α or β non-zero; both are 0", sideName[side])
-			}
-			e[side] = grid.RobinEnd(alpha[side], beta[side])
-		}
+	e, err := makeEnds(c, kinds, alpha, beta)
+	if err != nil {
+		return nil, err
 	}
 	iv, err := grid.NewInterval(a, b, n, e[0], e[1])
 	if err != nil {
@@ -299,6 +287,28 @@ func intervalImpl(c *eval.Call) (value.Value, error) {
 		}
 	}
 	return g, nil
+}
+
+// makeEnds returns the end conditions named by kinds, with the Robin
+// coefficients of each end.
+func makeEnds(c *eval.Call, kinds [2]string, alpha, beta [2]float64) ([2]grid.End, error) {
+	var e [2]grid.End
+	for side, kind := range kinds {
+		switch kind {
+		case "dirichlet":
+			e[side] = grid.DirichletEnd
+		case "neumann":
+			e[side] = grid.NeumannEnd
+		case "periodic":
+			e[side] = grid.PeriodicEnd
+		case "robin":
+			if alpha[side] == 0 && beta[side] == 0 {
+				return e, value.ValueErrorf("%s: the Robin condition αu + βu' = 0 at the %s end needs α or β non-zero; both are 0", c.Name, sideName[side])
+			}
+			e[side] = grid.RobinEnd(alpha[side], beta[side])
+		}
+	}
+	return e, nil
 }
 
 // boundaryArg is argument i as the boundary data [g_left, g_right]: each

@@ -26,7 +26,7 @@ func init() {
 		{"Constants", [][]*Builtin{constFamily}},
 		{"Numbers, entry by entry", [][]*Builtin{elementFamily}},
 		{"Vectors and matrices", [][]*Builtin{vectorFamily}},
-		{"Grids and grid functions", [][]*Builtin{gridFamily}},
+		{"Grids and grid functions", [][]*Builtin{gridFamily, stretchedFamily}},
 		{"Operators", [][]*Builtin{operatorFamily, blockFamily}},
 		{"Mass matrices and second-order systems", [][]*Builtin{structureFamily}},
 		{"Evolution u(t) = e^{tA} u0", [][]*Builtin{propagateFamily, eventFamily}},

@@ -174,6 +174,11 @@ func (g *Grid) describe() string {
 			}
 			data = ", boundary data " + strings.Join(parts, ", ")
 		}
+		if iv.Stretched() {
+			lo, hi := iv.Spacings()
+			return fmt.Sprintf("stretched interval [%s, %s], %d points, h from %.6g to %.6g, %s%s, order %d, %d unknowns",
+				value.FormatNum(iv.A), value.FormatNum(iv.B), iv.N, lo, hi, ends, data, g.Order, iv.Size())
+		}
 		return fmt.Sprintf("interval [%s, %s], %d points, h = %.6g, %s%s, order %d, %d unknowns",
 			value.FormatNum(iv.A), value.FormatNum(iv.B), iv.N, iv.H, ends, data, g.Order, iv.Size())
 	case KindChebyshev:

@@ -55,6 +55,9 @@ func (g *Interval) beam(order int, beam [2]Support) (*linop.CSR, [2][]float64, e
 	if order != 2 {
 		return nil, lift, fmt.Errorf("%w: the fourth derivative's beam closures are of order 2 only, not %d", ErrGrid, order)
 	}
+	if g.pts != nil {
+		return nil, lift, fmt.Errorf("%w: the fourth derivative's beam closures need equally spaced points; this grid is stretched", ErrGrid)
+	}
 	n := g.N
 	if n < 5 {
 		return nil, lift, fmt.Errorf("%w: %d points for a fourth derivative (at least 5)", ErrGrid, n)

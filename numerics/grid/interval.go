@@ -121,6 +121,63 @@ type Interval struct {
 	// or 1/α for a Robin condition with β = 0), u' = s·g − (α/β)u at a
 	// Neumann or Robin end (s = 1/β, or 1 for Neumann).
 	dataScale [2]float64
+	// pts holds the points of a stretched grid (NewIntervalPoints), nil
+	// for a uniform one.
+	pts []float64
+}
+
+// NewIntervalPoints returns the grid on the given points x_0 < x_1 < … <
+// x_{n−1} (a stretched or mapped grid), with the conditions at its ends as
+// for NewInterval; H is then the smallest spacing. Derivatives take the
+// same stencils as on a uniform grid, with weights for the actual offsets
+// (Weights): exact on polynomials of the same degree, so of the uniform
+// order on points x_j = x(j/(n−1)) of a smooth map with x' > 0, and at
+// least one order less on arbitrary points. Periodic ends are refused.
+// It returns an error wrapping ErrGrid when n < 3, a point is not finite
+// or the points do not increase.
+func NewIntervalPoints(x []float64, left, right End) (*Interval, error) {
+	n := len(x)
+	if n < 3 {
+		return nil, fmt.Errorf("%w: %d points (at least 3)", ErrGrid, n)
+	}
+	if left.Kind == Periodic || right.Kind == Periodic {
+		return nil, fmt.Errorf("%w: periodic ends on given points (a periodic grid is uniform)", ErrGrid)
+	}
+	hmin := math.Inf(1)
+	for j, v := range x {
+		if math.IsNaN(v) || math.IsInf(v, 0) {
+			return nil, fmt.Errorf("%w: point %d is %g", ErrGrid, j, v)
+		}
+		if j > 0 {
+			if !(v > x[j-1]) {
+				return nil, fmt.Errorf("%w: the points must increase, but x[%d] = %g ≤ x[%d] = %g", ErrGrid, j, v, j-1, x[j-1])
+			}
+			hmin = math.Min(hmin, v-x[j-1])
+		}
+	}
+	g, err := NewInterval(x[0], x[n-1], n, left, right)
+	if err != nil {
+		return nil, err
+	}
+	g.pts = append([]float64(nil), x...)
+	g.H = hmin
+	return g, nil
+}
+
+// Stretched reports whether the grid is on given points (NewIntervalPoints).
+func (g *Interval) Stretched() bool { return g.pts != nil }
+
+// Spacings returns the smallest and the largest spacing x_{j+1} − x_j.
+func (g *Interval) Spacings() (hmin, hmax float64) {
+	if g.pts == nil {
+		return g.H, g.H
+	}
+	hmin, hmax = math.Inf(1), 0
+	for j := 1; j < len(g.pts); j++ {
+		d := g.pts[j] - g.pts[j-1]
+		hmin, hmax = math.Min(hmin, d), math.Max(hmax, d)
+	}
+	return hmin, hmax
 }
 
 // NewInterval returns the grid of n points on [a, b]. It returns an error
@@ -187,6 +244,9 @@ func (g *Interval) Size() int { return g.last - g.first + 1 }
 
 // Points returns all n grid points x_j = a + j h.
 func (g *Interval) Points() []float64 {
+	if g.pts != nil {
+		return append([]float64(nil), g.pts...)
+	}
 	x := make([]float64, g.N)
 	for j := range x {
 		x[j] = g.A + float64(j)*g.H
@@ -221,12 +281,25 @@ func (g *Interval) Embed(u []float64) []float64 {
 	return full
 }
 
-// QuadWeights returns trapezoidal quadrature weights on the unknowns:
+// QuadWeights returns trapezoidal quadrature weights on the unknowns (on
+// given points the trapezoid rule on them):
 // Σ w_k u_k v_k ≈ ∫ u v dx for grid functions satisfying the boundary
 // conditions (h at interior and periodic points, h/2 at Neumann and Robin
 // end points). The second-order D2 with Neumann or Robin ends is symmetric
 // in this weight (see linop.NewDiagWeight).
 func (g *Interval) QuadWeights() []float64 {
+	if g.pts != nil {
+		// The trapezoid rule on the points: (x_{j+1} − x_{j−1})/2 inside,
+		// half the end interval at a kept end point.
+		x, n := g.pts, g.N
+		w := make([]float64, g.Size())
+		for k := range w {
+			j := g.first + k
+			lo, hi := max(j-1, 0), min(j+1, n-1)
+			w[k] = (x[hi] - x[lo]) / 2
+		}
+		return w
+	}
 	w := make([]float64, g.Size())
 	for k := range w {
 		w[k] = g.H
@@ -346,25 +419,25 @@ func (g *Interval) diffLift(m, order int) (*linop.CSR, [2][]float64, error) {
 			if m == 2 && order == 2 {
 				np = 2
 			}
-			off := make([]float64, np)
-			for k := range off {
-				off[k] = float64(sign * k)
+			pts := make([]int, np)
+			for k := range pts {
+				pts[k] = i + sign*k
 			}
-			w := Weights(off, m, true)
+			w, sc, hl := g.weightsAt(pts, i, m, true)
 			c := w[np]
 			for k := 0; k < np; k++ {
 				v := w[k]
 				if k == 0 {
-					v += c * g.H * (-r) // c · h u'(x_i), u'(x_i) = −r u_i
+					v += c * hl * (-r) // c · h u'(x_i), u'(x_i) = −r u_i
 				}
-				add(i, i+sign*k, v*scale)
+				add(i, pts[k], v*sc)
 			}
-			lift[side][i-g.first] += c * g.H * g.dataScale[side] * scale
+			lift[side][i-g.first] += c * hl * g.dataScale[side] * sc
 		case i-half >= 0 && i+half <= n-1:
-			w := Weights(offsets(i-half, i+half, i), m, false)
+			w, sc, _ := g.weightsAt(span(i-half, i+half), i, m, false)
 			for k, wk := range w {
 				if wk != 0 {
-					add(i, i-half+k, wk*scale)
+					add(i, i-half+k, wk*sc)
 				}
 			}
 		default:
@@ -372,12 +445,46 @@ func (g *Interval) diffLift(m, order int) (*linop.CSR, [2][]float64, error) {
 			if i+half > n-1 {
 				lo = n - width
 			}
-			w := Weights(offsets(lo, lo+width-1, i), m, false)
+			w, sc, _ := g.weightsAt(span(lo, lo+width-1), i, m, false)
 			for k, wk := range w {
-				add(i, lo+k, wk*scale)
+				add(i, lo+k, wk*sc)
 			}
 		}
 	}
 	s := g.Size()
 	return linop.NewCSRFromTriplets(s, s, is, js, vs), lift, nil
+}
+
+// span returns the point indices lo..hi.
+func span(lo, hi int) []int {
+	p := make([]int, 0, hi-lo+1)
+	for j := lo; j <= hi; j++ {
+		p = append(p, j)
+	}
+	return p
+}
+
+// weightsAt returns the finite-difference weights for the m-th derivative
+// at point at from the values at the given points (and the slope there
+// when slope is true; see Weights), the factor sc = hl^−m that scales
+// them, and the length hl the offsets are measured in: the spacing h on a
+// uniform grid, the mean spacing over the stencil on given points (which
+// keeps the small system as well conditioned as on a uniform grid).
+func (g *Interval) weightsAt(points []int, at, m int, slope bool) (w []float64, sc, hl float64) {
+	off := make([]float64, len(points))
+	if g.pts == nil {
+		for k, p := range points {
+			off[k] = float64(p - at)
+		}
+		return Weights(off, m, slope), math.Pow(g.H, -float64(m)), g.H
+	}
+	lo, hi := points[0], points[0]
+	for _, p := range points {
+		lo, hi = min(lo, p), max(hi, p)
+	}
+	hl = (g.pts[hi] - g.pts[lo]) / float64(hi-lo)
+	for k, p := range points {
+		off[k] = (g.pts[p] - g.pts[at]) / hl
+	}
+	return Weights(off, m, slope), math.Pow(hl, -float64(m)), hl
 }
