@@ -170,6 +170,15 @@ func FromCMatrix(m *value.CMatrix) *Operator {
 	return &Operator{Op: linop.NewComplex(FromMatrix(re).Op, FromMatrix(im).Op), Label: "matrix"}
 }
 
+// scalarLabel writes a complex scalar for an operator's label: 2i for a
+// purely imaginary one, (1+2i) otherwise.
+func scalarLabel(s complex128) string {
+	if real(s) == 0 {
+		return value.FormatNum(imag(s)) + "i"
+	}
+	return "(" + value.FormatComplex(s) + ")"
+}
+
 // errComplexLift refuses complex arithmetic on an operator with boundary
 // data: the lifting of the data into the forcing is real.
 var errComplexLift = value.ValueErrorf("an operator with boundary data takes part only in real arithmetic; give a complex problem homogeneous ends and the data as a forcing")
@@ -224,12 +233,12 @@ func (a *Operator) Binary(op syntax.Token, y value.Value, right bool) (value.Val
 		}
 		switch {
 		case op == syntax.MUL:
-			return a.scaleComplex(s, value.FormatComplex(s)+"·"+a.Label), nil
+			return a.scaleComplex(s, scalarLabel(s)+"·"+a.Label), nil
 		case op == syntax.QUO && !right:
 			if s == 0 {
 				return nil, value.ValueErrorf("division of an operator by zero")
 			}
-			return a.scaleComplex(1/s, a.Label+"/("+value.FormatComplex(s)+")"), nil
+			return a.scaleComplex(1/s, a.Label+"/"+scalarLabel(s)), nil
 		}
 		return nil, value.TypeErrorf("unsupported operands for %s: %s and an operator; only s*A, A*s and A/s mix numbers with operators", op, "a complex number")
 	case *value.CMatrix:

@@ -1,6 +1,7 @@
 // Package linop defines real linear operators on R^n and their structured
 // implementations (dense, sparse CSR, Kronecker sums, sums, scalar multiples,
-// products, diagonal coefficient multiplications, adjoints).
+// products, diagonal coefficient multiplications, adjoints). A complex
+// operator B + iC is carried as its real form [B −C; C B] (Complex).
 //
 // Conventions shared by every numerics package:
 //
