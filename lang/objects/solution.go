@@ -2,7 +2,6 @@ package objects
 
 import (
 	"fmt"
-	htmlpkg "html"
 	"math"
 	"time"
 
@@ -233,7 +232,7 @@ func (s *Solution) String() string {
 func (s *Solution) MIME() map[string]any {
 	html := "<div>"
 	if m := s.shortfall(); m != "" {
-		html += `<p class="semiflow-warning"><strong>WARNING:</strong> ` + htmlpkg.EscapeString(m) + `</p>`
+		html += `<p class="semiflow-warning"><strong>WARNING:</strong> ` + MathHTML(m) + `</p>`
 	}
 	out := map[string]any{}
 	if f := s.Figure(); f != nil {

@@ -2,7 +2,6 @@ package objects
 
 import (
 	"fmt"
-	"html"
 	"math"
 	"strconv"
 	"strings"
@@ -251,7 +250,7 @@ func (r *Analysis) String() string {
 func (r *Analysis) MIME() map[string]any {
 	out := map[string]any{}
 	var sb strings.Builder
-	e := html.EscapeString
+	e := MathHTML // formulas as TeX for the notebook's math renderer
 	sb.WriteString(`<div class="semiflow-analysis"><p><b>` + e(r.Title) + `</b></p>`)
 	if r.Figure != nil {
 		sb.WriteString(addFigure(r.Figure, out))
@@ -390,6 +389,29 @@ func (r *Analysis) Record() map[string]any {
 		"rows":       rows,
 		"rows_total": len(r.Rows),
 	}
+}
+
+// MIME adds the quantity as Markdown (text/markdown), which a notebook
+// shows with its formulas typeset: the symbol and value as one formula,
+// what it is, where it was attained, the method and the accuracy, each on a
+// line. text/plain keeps the Unicode form (String).
+func (q *Quantity) MIME() map[string]any {
+	var sb strings.Builder
+	sb.WriteString(MathMarkdown(q.Symbol + " = " + q.X.String()))
+	if q.What != "" {
+		sb.WriteString(" (" + MathMarkdown(q.What) + ")")
+	}
+	for _, l := range []struct{ label, text string }{{"", q.Where}, {"method", q.Method}, {"accuracy", q.Accuracy}} {
+		if l.text == "" {
+			continue
+		}
+		sb.WriteString("  \n")
+		if l.label != "" {
+			sb.WriteString("*" + l.label + ":* ")
+		}
+		sb.WriteString(MathMarkdown(l.text))
+	}
+	return map[string]any{"text/markdown": sb.String()}
 }
 
 // Record is the quantity's computation record: its value (a complex value as

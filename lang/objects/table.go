@@ -1,7 +1,6 @@
 package objects
 
 import (
-	"html"
 	"strings"
 	"unicode/utf8"
 )
@@ -61,17 +60,17 @@ func (t *textTable) text() string {
 	return strings.TrimRight(sb.String(), "\n")
 }
 
-// html renders the table as an HTML table.
+// html renders the table as an HTML table, formulas as TeX (MathHTML).
 func (t *textTable) html() string {
 	var sb strings.Builder
 	sb.WriteString("<table>")
 	if t.caption != "" {
-		sb.WriteString("<caption>" + html.EscapeString(t.caption) + "</caption>")
+		sb.WriteString("<caption>" + MathHTML(t.caption) + "</caption>")
 	}
 	if len(t.head) > 0 {
 		sb.WriteString("<thead><tr>")
 		for _, c := range t.head {
-			sb.WriteString("<th>" + html.EscapeString(c) + "</th>")
+			sb.WriteString("<th>" + MathHTML(c) + "</th>")
 		}
 		sb.WriteString("</tr></thead>")
 	}
@@ -83,7 +82,7 @@ func (t *textTable) html() string {
 			if j == 0 && len(t.head) == 0 {
 				tag = "th"
 			}
-			sb.WriteString("<" + tag + ">" + html.EscapeString(c) + "</" + tag + ">")
+			sb.WriteString("<" + tag + ">" + MathHTML(c) + "</" + tag + ">")
 		}
 		sb.WriteString("</tr>")
 	}
