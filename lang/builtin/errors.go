@@ -2,6 +2,7 @@ package builtin
 
 import (
 	"errors"
+	"regexp"
 
 	"semiflow/lang/value"
 	"semiflow/numerics/memguard"
@@ -12,8 +13,21 @@ import (
 // builtin chose: a refusal of the memory guard anywhere in the error's
 // chain (value.Error keeps its cause) is ClassMemory. Other errors pass
 // unchanged.
+//
+// Every message also loses the names of Semiflow's numerical packages
+// that their errors carry as prefixes ("spectra: ", "solve: "): a reader
+// sees what failed in the trade's words, not where in the code.
 func classify(name string, err error) error {
-	if err == nil || !errors.Is(err, memguard.ErrTooLarge) {
+	if err == nil {
+		return nil
+	}
+	var ve *value.Error
+	if errors.As(err, &ve) && ve == err {
+		if m := plainMessage(ve.Msg); m != ve.Msg {
+			err = &value.Error{Name: ve.Name, Msg: m, Cause: ve.Cause}
+		}
+	}
+	if !errors.Is(err, memguard.ErrTooLarge) {
 		return err
 	}
 	var e *value.Error
@@ -24,4 +38,20 @@ func classify(name string, err error) error {
 		return &value.Error{Name: value.ClassMemory, Msg: e.Msg, Cause: e.Cause}
 	}
 	return value.Errorf(value.ClassMemory, "%s: %v", name, err)
+}
+
+// packagePrefix matches a numerical package's name written as the prefix of
+// an error message, at the start, after ": " or after "(".
+var packagePrefix = regexp.MustCompile(`(^|: |\()(expo|spectra|linop|solve|mmio|memguard|abandon|steady|pencil|gemm|roundoff|grid|magnus): `)
+
+// plainMessage removes the package prefixes from msg, and a repeated
+// "numerical failure: " that a prefix left behind.
+func plainMessage(msg string) string {
+	for {
+		m := packagePrefix.ReplaceAllString(msg, "$1")
+		if m == msg {
+			return msg
+		}
+		msg = m
+	}
 }

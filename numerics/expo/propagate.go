@@ -496,7 +496,7 @@ func run(ctx context.Context, method string, A linop.Operator, u0 []float64, tim
 	case MethodKronecker:
 		k, ok := A.(*linop.KronSum)
 		if !ok {
-			return nil, fmt.Errorf("%w: kronecker needs a linop.KronSum, got %T", ErrMethod, A)
+			return nil, fmt.Errorf("%w: kronecker needs a Kronecker sum X ⊕ Y, and this operator has no such structure", ErrMethod)
 		}
 		err = kronRun(ctx, k, u0, st, opts, vals, errs)
 	case MethodContour:

@@ -118,7 +118,7 @@ func Rightmost(ctx context.Context, a linop.Operator, opt *EigsOptions) (*Spectr
 			}
 		}
 		better = func(x, y complex128) bool { return cmplx.Abs(x) > cmplx.Abs(y) }
-		method = fmt.Sprintf("Krylov–Schur Arnoldi on (σI−A)⁻¹, σ = %g (shift-and-invert; factorisation by solve.NewShifted), λ = σ − 1/μ", o.Shift)
+		method = fmt.Sprintf("Krylov–Schur Arnoldi on (σI−A)⁻¹, σ = %g (shift-and-invert; one LU factorisation of σI − A, banded, sparse or dense by its structure), λ = σ − 1/μ", o.Shift)
 	}
 	ks := &krylovSchur{n: n, m: m, apply: apply}
 	thetas, vecs, restarts, conv, err := ks.run(ctx, nev, o.Tol, o.MaxRestarts, better, o.Progress)

@@ -585,7 +585,7 @@ func Markov(ctx context.Context, q linop.Operator) (*MarkovReport, error) {
 			return nil, err
 		}
 	}
-	piHow, piAcc := "π by the Grassmann–Taksar–Heyman elimination (no subtractions; linop.Stationary)", "every entry of π to a relative error of order n³·u at worst (O'Cinneide 1993), in practice far less"
+	piHow, piAcc := "π by the Grassmann–Taksar–Heyman elimination (Grassmann, Taksar & Heyman 1985; no subtractions)", "every entry of π to a relative error of order n³·u at worst (O'Cinneide 1993), in practice far less"
 	if rep.BirthDeath {
 		piHow, piAcc = "π from the birth–death product π_{k+1} = π_k q_{k,k+1}/q_{k+1,k}", "π to relative 2n·u"
 	}

@@ -21,7 +21,7 @@ func (t transposeOp) ApplyT(dst, x []float64) { t.a.Apply(dst, x) }
 // by the Lanczos process on the symmetric positive semidefinite
 // B = e^{tA}ᵀe^{tA} = e^{tAᵀ}e^{tA} (a Krylov-accelerated power iteration),
 // ‖e^{tA}‖₂ ≈ √θ with θ the largest Ritz value; each product with B is two
-// actions computed by expo.Propagate at tolerance tol (0 means 1e-8). Each
+// actions computed by expo.Propagate (its automatic choice) at tolerance tol (0 means 1e-8). Each
 // time starts from the previous time's Ritz vector. iters bounds the
 // Lanczos steps per time (0 means 20). Every estimate is a LOWER bound of
 // ‖e^{tA}‖₂ up to the propagation error (Ritz values increase to λmax(B)).
@@ -127,7 +127,7 @@ func GrowthEstimate(ctx context.Context, a linop.Operator, times []float64, iter
 	}
 	g.Peak, g.PeakTime, g.Initial = g.Norm[best], times[best], vecs[best]
 	g.InitialSlope, g.Abscissa = math.NaN(), math.NaN()
-	g.Method = fmt.Sprintf("Lanczos on e^{tAᵀ}e^{tA} (≤ %d steps per time, warm-started from the previous Ritz vector), actions by expo.Propagate at tolerance %.0e", iters, tol)
+	g.Method = fmt.Sprintf("Lanczos on e^{tAᵀ}e^{tA} (≤ %d steps per time, warm-started from the previous Ritz vector), each action e^{tA}v by the automatically chosen propagation method (Kronecker, Taylor or shift-and-invert Krylov, by structure and stiffness) at tolerance %.0e", iters, tol)
 	g.Accuracy = fmt.Sprintf("lower estimates of ‖e^{tA}‖₂ (Ritz values); last-step relative change ≤ %.1e; propagation error ≲ %.0e relative", worstChange, tol)
 	return g, nil
 }
