@@ -34,15 +34,6 @@ func propagateTimeDependent(c *eval.Call) (r value.Value, ok bool, err error) {
 	return nil, false, nil
 }
 
-// refuseExtraTerms refuses a forcing or a nonlinear term beside a
-// time-dependent A.
-func refuseExtraTerms(c *eval.Call, what string) error {
-	if c.Args[5] != value.None || c.Args[6] != value.None {
-		return value.ValueErrorf("propagate: %s takes no forcing or nonlinear term (not supported yet); give a constant operator for those", what)
-	}
-	return nil
-}
-
 // operatorAt calls the user's A(t) and returns its operator.
 func operatorAt(c *eval.Call, f value.Value, t float64) (*objects.Operator, error) {
 	r, err := c.Apply(f, value.Num(t))
@@ -160,19 +151,26 @@ func propagateMagnus(c *eval.Call, f value.Callable) (value.Value, error) {
 // nil for none, a constant for a number or a vector, or the user's
 // function of t (its values checked: finite, one per unknown).
 func sourceFunc(c *eval.Call, fv value.Value, n int, t0 float64) (func(t float64, dst []float64) error, error) {
+	f, _, err := source(c, fv, n, t0)
+	return f, err
+}
+
+// source is sourceFunc with the constant vector of a constant forcing (nil
+// for a function of t).
+func source(c *eval.Call, fv value.Value, n int, t0 float64) (func(t float64, dst []float64) error, []float64, error) {
 	var cst []float64
 	switch f := fv.(type) {
 	case value.NoneType:
-		return nil, nil
+		return nil, nil, nil
 	case value.Num:
 		cst = constVec(n, float64(f))
 	case *value.Vec, *value.Range:
 		re, cx, err := numbers(c, "forcing", f)
 		if err != nil {
-			return nil, err
+			return nil, nil, err
 		}
 		if cx != nil || len(re) != n {
-			return nil, value.ValueErrorf("propagate: the forcing vector must be real, one entry per unknown (%d), not %d entries", n, len(re)+len(cx))
+			return nil, nil, value.ValueErrorf("propagate: the forcing vector must be real, one entry per unknown (%d), not %d entries", n, len(re)+len(cx))
 		}
 		cst = re
 	case value.Callable:
@@ -183,19 +181,19 @@ func sourceFunc(c *eval.Call, fv value.Value, n int, t0 float64) (func(t float64
 			}
 			copy(dst, v)
 			return nil
-		}, nil
+		}, nil, nil
 	default:
-		return nil, value.TypeErrorf("propagate: forcing must be none, a vector, a number or a function of t, not %s", value.TypeName(f))
+		return nil, nil, value.TypeErrorf("propagate: forcing must be none, a vector, a number or a function of t, not %s", value.TypeName(f))
 	}
 	if k := firstNonFinite(cst); k >= 0 {
-		return nil, value.ValueErrorf("propagate: the forcing must be finite; forcing[%d] = %s", k, value.FormatNum(cst[k]))
+		return nil, nil, value.ValueErrorf("propagate: the forcing must be finite; forcing[%d] = %s", k, value.FormatNum(cst[k]))
 	}
-	return func(_ float64, dst []float64) error { copy(dst, cst); return nil }, nil
+	return func(_ float64, dst []float64) error { copy(dst, cst); return nil }, cst, nil
 }
 
 func propagatePieces(c *eval.Call, list value.List) (value.Value, error) {
-	if err := refuseExtraTerms(c, "a piecewise-constant operator"); err != nil {
-		return nil, err
+	if c.Args[6] != value.None {
+		return nil, value.ValueErrorf("propagate: a piecewise-constant operator takes no nonlinear term (not supported yet); give a constant operator for that")
 	}
 	if len(list) == 0 {
 		return nil, value.ValueErrorf("propagate: A is an empty list; give the operators [A0, A1, …] with switches=[s1, …], the times where each takes over")
@@ -251,15 +249,19 @@ func propagatePieces(c *eval.Call, list value.List) (value.Value, error) {
 		return nil, err
 	}
 	opts := expo.Options{Method: ps.method, Tol: ps.tol, Crosscheck: ps.cross, Progress: lazyProgress(c)}
-	sol, err := expo.PropagatePiecewise(c.Ctx, ops, ps.switches, u0, times, opts)
+	fl := &piecesFlow{ops: ops, u0: u0, forcing: c.Args[5], switches: ps.switches, opts: opts}
+	sol, err := fl.run(c, 0, u0, times, opts)
 	if err != nil {
-		return nil, numericsError(c, err)
+		return nil, err
 	}
 	if err := finiteSolution(sol); err != nil {
 		return nil, err
 	}
-	return &objects.Solution{S: sol, Grid: first.Grid, Problem: "u' = A_k u between switches", Label: fmt.Sprintf("%d pieces", len(list)),
-		Flow: &piecesFlow{ops: ops, u0: u0, switches: ps.switches, opts: opts}}, nil
+	problem := "u' = A_k u between switches"
+	if c.Args[5] != value.None {
+		problem = "u' = A_k u + f between switches"
+	}
+	return &objects.Solution{S: sol, Grid: first.Grid, Problem: problem, Label: fmt.Sprintf("%d pieces", len(list)), Flow: fl}, nil
 }
 
 // realInitialValue is propagate's u0 (argument 1) for the time-dependent
@@ -522,25 +524,59 @@ func (m *magnusFlow) advance(c *eval.Call, t0 float64, u []float64, t1, tol floa
 	return sol.Values[0], sol.ErrEst[0], nil
 }
 
-// piecesFlow is u' = A_k u between switches.
+// piecesFlow is u' = A_k u (+ f) between switches.
 type piecesFlow struct {
 	ops      []linop.Operator
 	u0       []float64
+	forcing  value.Value // none, a number, a vector or a function of t
 	switches []float64
 	opts     expo.Options
+}
+
+// run propagates from u(t0) = u to the times t0 + offs with the pieces in
+// force from t0 on.
+func (p *piecesFlow) run(c *eval.Call, t0 float64, u []float64, offs []float64, o expo.Options) (*expo.Solution, error) {
+	k := 0 // the piece in force at t0: A_k on [s_k, s_{k+1})
+	for k < len(p.switches) && p.switches[k] <= t0 {
+		k++
+	}
+	n := len(u)
+	src, cst, err := source(c, p.forcing, n, t0)
+	if err != nil {
+		return nil, err
+	}
+	ops, sw := p.ops[k:], shiftedBreaks(p.switches[k:], t0)
+	var sol *expo.Solution
+	var callErr error
+	switch {
+	case src == nil:
+		sol, err = expo.PropagatePiecewise(c.Ctx, ops, sw, u, offs, o)
+	case cst != nil:
+		sol, err = expo.PropagatePiecewiseForced(c.Ctx, ops, sw, expo.Forcing{Const: cst}, u, offs, o)
+	default:
+		f := expo.Forcing{Breaks: sw, Func: func(t float64, dst []float64) {
+			if callErr == nil {
+				callErr = src(t, dst)
+			}
+		}}
+		sol, err = expo.PropagatePiecewiseForced(c.Ctx, ops, sw, f, u, offs, o)
+	}
+	if callErr != nil {
+		return nil, callErr
+	}
+	if err != nil {
+		return nil, numericsError(c, err)
+	}
+	return sol, nil
 }
 
 func (p *piecesFlow) start() []float64 { return p.u0 }
 func (p *piecesFlow) how() string      { return "the product of the pieces' exponentials from u(t_k)" }
 
 func (p *piecesFlow) advance(c *eval.Call, t0 float64, u []float64, t1, tol float64) ([]float64, float64, error) {
-	k := 0 // the piece in force at t0: A_k on [s_k, s_{k+1})
-	for k < len(p.switches) && p.switches[k] <= t0 {
-		k++
-	}
-	sol, err := expo.PropagatePiecewise(c.Ctx, p.ops[k:], shiftedBreaks(p.switches[k:], t0), u, []float64{t1 - t0}, restartOpts(p.opts, tol))
+	sol, err := p.run(c, t0, u, []float64{t1 - t0}, restartOpts(p.opts, tol))
 	if err != nil {
-		return nil, 0, numericsError(c, err)
+		return nil, 0, err
 	}
 	return sol.Values[0], sol.ErrEst[0], nil
 }

@@ -354,6 +354,37 @@ func methodCounts(m map[string]int) string {
 //
 // It panics with ErrShape if an operator is not square of order len(u0).
 func PropagatePiecewise(ctx context.Context, ops []linop.Operator, switches []float64, u0, times []float64, opts Options) (*Solution, error) {
+	return propagatePieces(ctx, ops, switches, nil, u0, times, opts)
+}
+
+// PropagatePiecewiseForced is PropagatePiecewise for u' = A_k u + f(t):
+// each piece by PropagateForced with f shifted to the piece's start (a
+// constant f, or f.Func with its Breaks; a polynomial f is refused). The
+// tolerance is then relative to the largest ‖u‖∞ met.
+func PropagatePiecewiseForced(ctx context.Context, ops []linop.Operator, switches []float64, f Forcing, u0, times []float64, opts Options) (*Solution, error) {
+	if f.Poly != nil {
+		return nil, fmt.Errorf("%w: a polynomial forcing is not shifted across switches; give it as a function of t", ErrMethod)
+	}
+	return propagatePieces(ctx, ops, switches, &f, u0, times, opts)
+}
+
+// shiftForcing is f seen from t0: f(t0 + s), its breaks moved by −t0.
+func shiftForcing(f *Forcing, t0 float64) Forcing {
+	if f.Func == nil {
+		return Forcing{Const: f.Const}
+	}
+	g := *f
+	g.Func = func(s float64, dst []float64) { f.Func(t0+s, dst) }
+	g.Breaks = nil
+	for _, b := range f.Breaks {
+		if b > t0 {
+			g.Breaks = append(g.Breaks, b-t0)
+		}
+	}
+	return g
+}
+
+func propagatePieces(ctx context.Context, ops []linop.Operator, switches []float64, f *Forcing, u0, times []float64, opts Options) (*Solution, error) {
 	n := len(u0)
 	for _, a := range ops {
 		if r, c := a.Dims(); r != n || c != n {
@@ -388,6 +419,7 @@ func PropagatePiecewise(ctx context.Context, ops []linop.Operator, switches []fl
 	sol := &Solution{Method: "piecewise", Tol: opts.Tol, Times: append([]float64(nil), times...),
 		Values: make([][]float64, len(times)), ErrEst: make([]float64, len(times))}
 	u := append([]float64(nil), u0...)
+	scale := u0n // the size the tolerance is relative to: ‖u0‖∞, or max‖u‖∞ with a forcing
 	carried := 0.0
 	var how, esc []string
 	var cross *Crosscheck
@@ -423,10 +455,16 @@ func PropagatePiecewise(ctx context.Context, ops []linop.Operator, switches []fl
 		o.Progress = nil
 		un := normInf(u)
 		o.Tol = opts.Tol / float64(used)
-		if un > 0 && u0n > 0 {
-			o.Tol = math.Min(0.5, math.Max(o.Tol*u0n/un, 4*unitRoundoff))
+		if un > 0 && scale > 0 {
+			o.Tol = math.Min(0.5, math.Max(o.Tol*scale/un, 4*unitRoundoff))
 		}
-		s, err := Propagate(ctx, ops[k], u, offs, o)
+		var s *Solution
+		var err error
+		if f == nil {
+			s, err = Propagate(ctx, ops[k], u, offs, o)
+		} else {
+			s, err = PropagateForced(ctx, ops[k], u, shiftForcing(f, lo), offs, o)
+		}
 		if err != nil {
 			return nil, fmt.Errorf("piece %d (t in [%g, %g)): %w", k, lo, hi, err)
 		}
@@ -444,6 +482,11 @@ func PropagatePiecewise(ctx context.Context, ops []linop.Operator, switches []fl
 			sol.Values[i] = s.Values[j]
 			sol.ErrEst[i] = M*carried + s.ErrEst[j]
 		}
+		if f != nil {
+			for _, v := range s.Values {
+				scale = math.Max(scale, normInf(v))
+			}
+		}
 		if !last {
 			u = s.Values[len(offs)-1]
 			carried = M*carried + s.ErrEst[len(offs)-1]
@@ -460,11 +503,19 @@ func PropagatePiecewise(ctx context.Context, ops []linop.Operator, switches []fl
 			opts.Progress(k+1, used)
 		}
 	}
-	sol.Reason = fmt.Sprintf("piecewise-constant A: the product of the pieces' exponentials (%d of %d pieces up to t = %g), each piece by %s; errors carried across switches times a bound on the next piece's growth",
-		used, len(ops), tmax, compactList(how))
+	what := "piecewise-constant A"
+	if f != nil {
+		what += " with a forcing"
+	}
+	sol.Reason = fmt.Sprintf("%s: the product of the pieces' exponentials (%d of %d pieces up to t = %g), each piece by %s; errors carried across switches times a bound on the next piece's growth",
+		what, used, len(ops), tmax, compactList(how))
 	sol.Escalation = strings.Join(esc, "; ")
 	sol.Elapsed = time.Since(start)
-	sol.CheckTol(u0n)
+	if f == nil {
+		sol.CheckTol(u0n)
+	} else {
+		sol.checkTolMaxU(scale)
+	}
 	sol.Cross = cross
 	return sol, nil
 }

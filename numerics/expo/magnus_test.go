@@ -462,3 +462,28 @@ func TestMagnusForced(t *testing.T) {
 		}
 	})
 }
+
+func TestPiecewiseForced(t *testing.T) {
+	// u' = −u + 1 on [0, 1), u' = −2u + 1 after, u(0) = 0: u = 1 − e^{−t}
+	// before 1, then 1/2 + (1/2 − e^{−1})e^{−2(t−1)} (closed forms).
+	ops := []linop.Operator{&linop.Diag{D: []float64{-1}}, &linop.Diag{D: []float64{-2}}}
+	exact := func(s float64) []float64 {
+		if s < 1 {
+			return []float64{1 - math.Exp(-s)}
+		}
+		return []float64{0.5 + (0.5-math.Exp(-1))*math.Exp(-2*(s-1))}
+	}
+	times := []float64{0.5, 1, 1.5, 3}
+	for name, f := range map[string]Forcing{
+		"constant": {Const: []float64{1}},
+		"function": {Func: func(_ float64, dst []float64) { dst[0] = 1 }},
+	} {
+		t.Run(name, func(t *testing.T) {
+			sol, err := PropagatePiecewiseForced(context.Background(), ops, []float64{1}, f, []float64{0}, times, Options{Tol: 1e-10})
+			if err != nil {
+				t.Fatal(err)
+			}
+			checkMagnus(t, sol, exact, 0.64)
+		})
+	}
+}
