@@ -510,7 +510,11 @@ func propagateImpl(c *eval.Call) (value.Value, error) {
 	if !cplx {
 		fl = newFlow(a.Op, u0, c.Args[5], c.Args[6], a.Lift, switches, opts)
 	}
-	return &objects.Solution{S: sol, Grid: a.Grid, Problem: problem, Label: a.Label, EndValues: ends, Complex: cplx, Flow: fl}, nil
+	out := &objects.Solution{S: sol, Grid: a.Grid, Problem: problem, Label: a.Label, EndValues: ends, Complex: cplx, Flow: fl}
+	if p, ok := a.Op.(pencilOperator); ok && !cplx {
+		out.Energy = p.Energy
+	}
+	return out, nil
 }
 
 // complexEstimates restates a solution computed on [Re u; Im u] for the

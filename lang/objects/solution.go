@@ -26,6 +26,10 @@ type Solution struct {
 	// (see linop.Complex); sol[k] is then a complex vector and the
 	// figures, norms and tables show moduli |u_k|.
 	Complex bool
+	// Energy, when set (a system from secondorder or firstorder), gives
+	// the energy of a state; the table of output times then has a column
+	// "energy E(t)".
+	Energy func(x []float64) float64
 
 	// Flow is what evaluating the solution between its output times needs
 	// (the problem, to propagate again from an output time): set and read
@@ -204,8 +208,15 @@ func finiteList(xs []float64) []any {
 // perTime is the table of output times with the error estimates.
 func (s *Solution) perTime() *textTable {
 	t := &textTable{head: []string{"t", "error estimate", "‖u(t)‖∞"}}
+	if s.Energy != nil {
+		t.head = append(t.head, "energy E(t)")
+	}
 	for i, tt := range s.S.Times {
-		t.add(value.FormatNum(tt), g3(s.S.ErrEst[i]), g3(supNorm(s.shownValues(i))))
+		row := []string{value.FormatNum(tt), g3(s.S.ErrEst[i]), g3(supNorm(s.shownValues(i)))}
+		if s.Energy != nil {
+			row = append(row, g3(s.Energy(s.S.Values[i])))
+		}
+		t.add(row...)
 	}
 	return t
 }
