@@ -2,16 +2,21 @@
 // Chebyshev spectral differentiation operators on them.
 //
 // A 1-D Interval [a, b] with n points carries a boundary condition at each
-// end: Dirichlet u = 0, Neumann u' = 0, Robin αu + βu' = 0 (u' = du/dx, the
-// same at both ends) or periodic. The unknowns of a grid function are:
+// end, the two ends independently: Dirichlet u = 0, Neumann u' = 0, Robin
+// αu + βu' = 0 (u' = du/dx at either end), or periodic (both ends). The
+// unknowns of a grid function are:
 //
-//   - non-periodic: the points x_j = a + j h, h = (b−a)/(n−1), j = 0..n−1,
-//     except Dirichlet end points (where u = 0 is known);
+//   - non-periodic: the points x_j = a + j h, h = (b−a)/(n−1), j = 0..n−1
+//     (or given points x_0 < … < x_{n−1}, NewIntervalPoints), except
+//     Dirichlet end points (where u = 0 is known);
 //   - periodic: x_j = a + j h, h = (b−a)/n, j = 0..n−1 (x = b is x = a).
 //
-// Derivatives of order 2 and 4 are banded CSR matrices acting on the
-// unknowns, with boundary closures of the same order. 2-D tensor-product
-// grids index their unknowns k = ix*ny + iy (see package linop).
+// Derivatives of orders 1 to 4 (Deriv; D1, D2) are banded CSR matrices
+// acting on the unknowns, with boundary closures of the difference order
+// (2 or 4; a fourth derivative on ends takes beam closures of order 2).
+// Non-zero boundary data u = g, u' = g or αu + βu' = g enter through the
+// lifting columns each derivative returns (Lift). 2-D tensor-product grids
+// index their unknowns k = ix*ny + iy (see package linop).
 package grid
 
 import (
