@@ -1,16 +1,13 @@
 package gemm
 
-import (
-	"gonum.org/v1/gonum/lapack"
-	lapackgo "gonum.org/v1/gonum/lapack/gonum"
-)
+import lapackgo "gonum.org/v1/gonum/lapack/gonum"
 
 // realSchurGo overwrites the n×n row-major h with its real Schur form T
 // (2×2 blocks standardised), sets q to the orthogonal Z with A = Z T Zᵀ and
 // wr + i·wi to the eigenvalues. It returns the number of eigenvalues that
-// did not converge (0 on success). Hessenberg reduction, the orthogonal
-// factor, then the multishift QR algorithm with aggressive early
-// deflation (gonum's Dgehrd, Dorghr, Dhseqr).
+// did not converge (0 on success). Hessenberg reduction and the orthogonal
+// factor (gonum's Dgehrd, Dorghr), then the multishift QR algorithm with
+// aggressive early deflation (hessenbergSchur).
 func realSchurGo(n int, h, q, wr, wi []float64) int {
 	if n == 0 {
 		return 0
@@ -34,11 +31,5 @@ func realSchurGo(n int, h, q, wr, wi []float64) int {
 			h[i*n+j] = 0
 		}
 	}
-	work = work[:1]
-	impl.Dhseqr(lapack.EigenvaluesAndSchur, lapack.SchurOrig, n, 0, n-1, h, n, wr, wi, q, n, work, -1)
-	if int(work[0]) > cap(work) {
-		work = make([]float64, int(work[0]))
-	}
-	work = work[:cap(work)]
-	return impl.Dhseqr(lapack.EigenvaluesAndSchur, lapack.SchurOrig, n, 0, n-1, h, n, wr, wi, q, n, work, len(work))
+	return hessenbergSchur(true, true, n, 0, n-1, h, n, wr, wi, q, n)
 }
