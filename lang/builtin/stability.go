@@ -418,9 +418,23 @@ func stabWeightArg(c *eval.Call, i int, op *objects.Operator, n int) (spectra.We
 		return nil, "", err
 	}
 	name := paramName(c, i)
-	if _, none := v.(value.NoneType); !none && op.IsComplex() {
-		return nil, "", value.TypeErrorf("%s: %s: weighted inner products of a complex operator are not available yet; leave %s out for the Euclidean one", c.Name, name, name)
+	if op.IsComplex() {
+		if v == value.Str("energy") {
+			return nil, "", value.TypeErrorf(`%s: %s="energy" needs a system from secondorder or firstorder, not a complex operator`, c.Name, name)
+		}
+		w, ip, err := stabRealWeightArg(c, i, op, n, v, name)
+		if w != nil {
+			// Re(x* W y) on [Re x; Im x]: diag(W, W) for the real form.
+			w = linop.ComplexWeight{W: w.(linop.Weight)}
+		}
+		return w, ip, err
 	}
+	return stabRealWeightArg(c, i, op, n, v, name)
+}
+
+// stabRealWeightArg is stabWeightArg's real weight W of order n from the
+// argument v.
+func stabRealWeightArg(c *eval.Call, i int, op *objects.Operator, n int, v value.Value, name string) (spectra.Weight, string, error) {
 	switch t := v.(type) {
 	case value.NoneType:
 		return nil, "Euclidean inner product", nil

@@ -1,6 +1,8 @@
 package linop
 
 import (
+	"math"
+
 	"gonum.org/v1/gonum/mat"
 
 	"semiflow/numerics/memguard"
@@ -236,4 +238,62 @@ func (a *Complex) DenseParts() (b, c *mat.Dense, err error) {
 		return nil, nil, err
 	}
 	return b, c, nil
+}
+
+// ComplexWeight is the weight diag(W, W) on R^{2n} for a real weight W on
+// Rⁿ: for complex x, y carried as [Re; Im] it gives Re(x* W y), and
+// ‖[Re x; Im x]‖ = √(x* W x), the W-norm of Cⁿ; with W = RᵀR its factor is
+// diag(R, R), so the weighted real form of A is the real form of R A R⁻¹.
+type ComplexWeight struct{ W Weight }
+
+func (c ComplexWeight) halves(dst, x []float64) (d1, d2, x1, x2 []float64) {
+	n := c.W.Len()
+	if len(dst) != 2*n || len(x) != 2*n {
+		panic(ErrShape)
+	}
+	return dst[:n], dst[n:], x[:n], x[n:]
+}
+
+// Len returns 2n.
+func (c ComplexWeight) Len() int { return 2 * c.W.Len() }
+
+// Mul sets dst = diag(W, W) x.
+func (c ComplexWeight) Mul(dst, x []float64) {
+	d1, d2, x1, x2 := c.halves(dst, x)
+	c.W.Mul(d1, x1)
+	c.W.Mul(d2, x2)
+}
+
+// Solve sets dst = diag(W, W)⁻¹ x.
+func (c ComplexWeight) Solve(dst, x []float64) {
+	d1, d2, x1, x2 := c.halves(dst, x)
+	c.W.Solve(d1, x1)
+	c.W.Solve(d2, x2)
+}
+
+// Factor sets dst = diag(R, R) x, or its transpose times x.
+func (c ComplexWeight) Factor(dst, x []float64, trans bool) {
+	d1, d2, x1, x2 := c.halves(dst, x)
+	c.W.Factor(d1, x1, trans)
+	c.W.Factor(d2, x2, trans)
+}
+
+// FactorSolve sets dst = diag(R, R)⁻¹ x, or with the transpose.
+func (c ComplexWeight) FactorSolve(dst, x []float64, trans bool) {
+	d1, d2, x1, x2 := c.halves(dst, x)
+	c.W.FactorSolve(d1, x1, trans)
+	c.W.FactorSolve(d2, x2, trans)
+}
+
+// Inner returns x₁ᵀWy₁ + x₂ᵀWy₂.
+func (c ComplexWeight) Inner(x, y []float64) float64 {
+	_, _, x1, x2 := c.halves(x, x)
+	_, _, y1, y2 := c.halves(y, y)
+	return c.W.Inner(x1, y1) + c.W.Inner(x2, y2)
+}
+
+// Norm returns √(x₁ᵀWx₁ + x₂ᵀWx₂).
+func (c ComplexWeight) Norm(x []float64) float64 {
+	_, _, x1, x2 := c.halves(x, x)
+	return math.Hypot(c.W.Norm(x1), c.W.Norm(x2))
 }

@@ -1,6 +1,7 @@
 package linop
 
 import (
+	"math"
 	"math/cmplx"
 	"math/rand/v2"
 	"testing"
@@ -76,4 +77,52 @@ func TestComplexRealification(t *testing.T) {
 			t.Errorf("Scratch of a real part alone = %d, want 0", got)
 		}
 	})
+}
+
+// TestComplexWeight: diag(W, W) on [Re x; Im x] gives √(x* W x), computed
+// here in complex arithmetic, and R⁻¹ undoes R.
+func TestComplexWeight(t *testing.T) {
+	rng := rand.New(rand.NewPCG(5, 6))
+	m := randDense(rng, 4, 4)
+	var spd mat.SymDense
+	spd.SymOuterK(1, m)
+	for i := 0; i < 4; i++ {
+		spd.SetSym(i, i, spd.At(i, i)+1)
+	}
+	sw, err := NewSPDWeight(&spd)
+	if err != nil {
+		t.Fatal(err)
+	}
+	dw, _ := NewDiagWeight([]float64{1, 2, 3, 4})
+	for _, w := range []Weight{sw, dw} {
+		cw := ComplexWeight{W: w}
+		x := randVec(rng, 8)
+		var q complex128 // x* W x
+		for i := 0; i < 4; i++ {
+			for j := 0; j < 4; j++ {
+				wij := spd.At(i, j)
+				if w == Weight(dw) {
+					wij = 0
+					if i == j {
+						wij = float64(i + 1)
+					}
+				}
+				q += cmplx.Conj(complex(x[i], x[4+i])) * complex(wij, 0) * complex(x[j], x[4+j])
+			}
+		}
+		if got, want := cw.Norm(x), math.Sqrt(real(q)); math.Abs(got-want) > 1e-13*want {
+			t.Errorf("‖x‖ = %.15g, √(x*Wx) = %.15g", got, want)
+		}
+		if math.Abs(imag(q)) > 1e-12*real(q) {
+			t.Errorf("x*Wx = %v is not real for a real symmetric W", q)
+		}
+		rx, back := make([]float64, 8), make([]float64, 8)
+		cw.Factor(rx, x, false)
+		cw.FactorSolve(back, rx, false)
+		for i := range x {
+			if math.Abs(back[i]-x[i]) > 1e-12 {
+				t.Fatalf("R⁻¹Rx ≠ x at %d", i)
+			}
+		}
+	}
 }

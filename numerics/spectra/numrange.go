@@ -66,7 +66,12 @@ func NumRangeContext(ctx context.Context, a linop.Operator, w Weight, nAngles in
 			return nil, err
 		}
 		if w != nil {
-			return nil, fmt.Errorf("%w: a weighted numerical range", ErrComplex)
+			// W real: R A R⁻¹ = R B R⁻¹ + i R C R⁻¹.
+			cw, ok := w.(linop.ComplexWeight)
+			if !ok {
+				return nil, fmt.Errorf("%w: a weight of the real form's order (use linop.ComplexWeight)", ErrComplex)
+			}
+			bc, cc = weighted(bc, cw.W), weighted(cc, cw.W)
 		}
 		b, h = bc, newHermPartsComplex(bc, cc)
 		normA = math.Hypot(mat.Norm(bc, 2), mat.Norm(cc, 2))
