@@ -23,3 +23,10 @@ func etdTriFwd4(n int, fac, v, w0, w1, w2, coef, e *float64)
 //
 //go:noescape
 func etdTriBwd4(n int, fac, e, acc, cw, m *float64)
+
+// etdTriFactor4 is factorTriQuad's recurrence for four lanes at once in
+// AVX2 registers (see etdTriFactor4Go for the checks around it).
+// Implemented in etd_quad_amd64.s.
+//
+//go:noescape
+func etdTriFactor4(n int, q, shifts, above, diag, below, right, one, stats *float64)

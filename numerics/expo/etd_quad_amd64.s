@@ -132,3 +132,93 @@ bdone:
 	VMOVUPD Y4, (DX)
 	VZEROUPPER
 	RET
+
+// func etdTriFactor4(n int, q, shifts, above, diag, below, right, one, stats *float64)
+//
+// The four no-interchange factorisations s_k − T side by side (see
+// factorTriQuad): shifts holds Re s of the lanes then Im s; above, below
+// and right are t_{i−1,i}, t_{i+1,i} and t_{i,i+1} padded with zeros to
+// length n; one points at four ones. stats receives, per lane, the least
+// |Re d| + |Im d| − |t_{i+1,i}| (negative: an interchange was due), the
+// least and the largest |Re d| + |Im d| over the rows.
+TEXT ·etdTriFactor4(SB), NOSPLIT, $0-72
+	MOVQ n+0(FP), CX
+	MOVQ q+8(FP), DI
+	MOVQ shifts+16(FP), AX
+	MOVQ above+24(FP), R8
+	MOVQ diag+32(FP), R9
+	MOVQ below+40(FP), R10
+	MOVQ right+48(FP), R11
+	MOVQ one+56(FP), R12
+	MOVQ stats+64(FP), DX
+	VMOVUPD 0(AX), Y0
+	VMOVUPD 32(AX), Y1
+	VXORPD Y2, Y2, Y2
+	VXORPD Y3, Y3, Y3
+	VXORPD Y6, Y6, Y6
+	VPCMPEQQ Y7, Y7, Y7
+	VPSRLQ $1, Y7, Y7
+	// +inf for the running minima: the mask with the mantissa cleared.
+	VPCMPEQQ Y4, Y4, Y4
+	VPSLLQ $53, Y4, Y4
+	VPSRLQ $1, Y4, Y4
+	VMOVAPD Y4, Y5
+	TESTQ CX, CX
+	JE tdone
+
+tloop:
+	VBROADCASTSD (R8), Y8
+	VBROADCASTSD (R9), Y9
+	VBROADCASTSD (R10), Y10
+	VBROADCASTSD (R11), Y11
+	// d = s − t_ii + l·t_{i−1,i}.
+	VSUBPD Y9, Y0, Y12
+	VFMADD231PD Y8, Y2, Y12
+	VMOVAPD Y1, Y13
+	VFMADD231PD Y8, Y3, Y13
+	// Pivot test and size of d.
+	VANDPD Y7, Y12, Y14
+	VANDPD Y7, Y13, Y15
+	VADDPD Y15, Y14, Y14
+	VMINPD Y5, Y14, Y5
+	VMAXPD Y6, Y14, Y6
+	VANDPD Y7, Y10, Y15
+	VSUBPD Y15, Y14, Y15
+	VMINPD Y4, Y15, Y4
+	// 1/d = conj(d)/|d|².
+	VMULPD Y12, Y12, Y15
+	VFMADD231PD Y13, Y13, Y15
+	VMOVUPD (R12), Y9
+	VDIVPD Y15, Y9, Y15
+	VMULPD Y15, Y12, Y12
+	VMULPD Y15, Y13, Y13
+	VXORPD Y9, Y9, Y9
+	VSUBPD Y13, Y9, Y13
+	// Row i: l, 1/d, q = t_{i,i+1}/d.
+	VMOVUPD Y2, 0(DI)
+	VMOVUPD Y3, 32(DI)
+	VMOVUPD Y12, 64(DI)
+	VMOVUPD Y13, 96(DI)
+	VMULPD Y11, Y12, Y14
+	VMOVUPD Y14, 128(DI)
+	VMULPD Y11, Y13, Y14
+	VMOVUPD Y14, 160(DI)
+	// l for row i+1 = −t_{i+1,i}/d.
+	VMULPD Y10, Y12, Y2
+	VSUBPD Y2, Y9, Y2
+	VMULPD Y10, Y13, Y3
+	VSUBPD Y3, Y9, Y3
+	ADDQ $192, DI
+	ADDQ $8, R8
+	ADDQ $8, R9
+	ADDQ $8, R10
+	ADDQ $8, R11
+	DECQ CX
+	JNZ tloop
+
+tdone:
+	VMOVUPD Y4, 0(DX)
+	VMOVUPD Y5, 32(DX)
+	VMOVUPD Y6, 64(DX)
+	VZEROUPPER
+	RET

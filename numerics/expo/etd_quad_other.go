@@ -13,3 +13,7 @@ func etdTriFwd4(n int, fac, v, w0, w1, w2, coef, e *float64) {
 func etdTriBwd4(n int, fac, e, acc, cw, m *float64) {
 	panic("expo: no four-node kernel on this architecture")
 }
+
+func etdTriFactor4(n int, q, shifts, above, diag, below, right, one, stats *float64) {
+	panic("expo: no four-node kernel on this architecture")
+}

@@ -63,6 +63,7 @@ type etdSparseStepper struct {
 	tri             [3][]float64 // sub-, main and superdiagonal when L is tridiagonal
 	spare           [][]float64  // packed factorisations of evicted step lengths, for reuse
 	quad            bool         // the four-node kernel (quadKernel when the stepper was made)
+	pad             triPad       // the off-diagonals padded for its factorisation
 	extra           float64      // quadrature and rounding errors committed so far
 	solves, factors int
 	scale           float64 // the largest ‖v‖ + Σ‖τw_j‖ met, for the quadrature term
@@ -112,6 +113,7 @@ func newETDSparseStepper(ctx context.Context, L linop.Operator, N Nonlinear, tol
 	}
 	if sub, diag, sup, ok := tridiagOf(L); ok {
 		s.tri = [3][]float64{sub, diag, sup}
+		s.pad = padTri(sub, sup)
 	}
 	// Nodes for a quadrature error 10ρ^{−N} ≤ 1e-3·tol per combination.
 	cs := contourShapes[ContourCotangent]
@@ -187,7 +189,7 @@ func (s *etdSparseStepper) solvers(tau float64) (*etdFactors, error) {
 					for k := 4 * q; k < min(4*q+4, len(s.z)); k++ {
 						sh = append(sh, s.z[k]/complex(tau, 0)+complex(s.sigma, 0))
 					}
-					oks[q], errs[q] = factorTriQuad(f.quads[q], sh, s.tri[0], s.tri[1], s.tri[2])
+					oks[q], errs[q] = factorTriQuadAsm(f.quads[q], sh, s.tri[0], s.tri[1], s.tri[2], s.pad)
 				}
 			}(id)
 		}

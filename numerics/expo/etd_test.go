@@ -486,11 +486,11 @@ func TestETDFusedKernels(t *testing.T) {
 		for i := range want {
 			d, s = math.Max(d, math.Abs(got[i]-want[i])), math.Max(s, math.Abs(want[i]))
 		}
-		if d > 1e-12*s {
+		if !(d <= 1e-12*s) {
 			t.Errorf("%s: differs from the band solver by %.3g (size %.3g)", name, d, s)
 		}
 		for k := range shifts {
-			if math.Abs(m[k]-wantM[k]) > 1e-12*wantM[k] {
+			if !(math.Abs(m[k]-wantM[k]) <= 1e-12*wantM[k]) {
 				t.Errorf("%s: lane %d max |x| %.6g, want %.6g", name, k, m[k], wantM[k])
 			}
 		}
@@ -522,8 +522,35 @@ func TestETDFusedKernels(t *testing.T) {
 			t.Fatalf("factorTriQuad differs from packTriQuad at %d: %g, %g", i, direct[i], packed[i])
 		}
 	}
+	// The assembly recurrence (fused multiply–adds: equal to rounding),
+	// with three lanes here, so the fourth must come out empty.
+	asm := make([]float64, 24*n)
+	for i := range asm {
+		asm[i] = math.NaN()
+	}
+	if ok, err := factorTriQuadAsm(asm, shifts, sub, diag, sup, padTri(sub, sup)); !ok || err != nil {
+		t.Fatalf("factorTriQuadAsm: ok %v, %v", ok, err)
+	}
+	for i := range packed {
+		if d := math.Abs(asm[i] - packed[i]); !(d <= 1e-14*math.Abs(packed[i])) {
+			t.Fatalf("factorTriQuadAsm differs from packTriQuad at %d: %g, %g", i, asm[i], packed[i])
+		}
+	}
+	// Where partial pivoting would interchange rows both refuse, and a
+	// singular shift is an error.
+	psub, pdiag, psup := make([]float64, n-1), make([]float64, n), make([]float64, n-1)
+	for i := range psub {
+		psub[i], psup[i] = 5, -2
+	}
+	scratch := make([]float64, 24*n)
+	if ok, err := factorTriQuadAsm(scratch, []complex128{1, 2}, psub, pdiag, psup, padTri(psub, psup)); ok || err != nil {
+		t.Errorf("factorTriQuadAsm on a matrix needing interchanges: ok %v, %v", ok, err)
+	}
+	if _, err := factorTriQuadAsm(scratch, []complex128{complex(diag[0], 0)}, make([]float64, n-1), diag, make([]float64, n-1), padTri(make([]float64, n-1), make([]float64, n-1))); err == nil {
+		t.Error("factorTriQuadAsm on a singular shift: no error")
+	}
 	acc = make([]float64, n)
-	m := etdFusedQuad(acc, make([]float64, 8*n), direct, v, w, p, c)
+	m := etdFusedQuad(acc, make([]float64, 8*n), asm, v, w, p, c)
 	check("four-node kernel", acc, m[:])
 	if m[3] != 0 {
 		t.Errorf("four-node kernel: the empty lane has max |x| = %g", m[3])

@@ -334,3 +334,55 @@ func etdFusedQuad(acc, e, fac, v []float64, w [3][]float64, p [4][3]complex128, 
 	etdTriBwd4(n, &fac[0], &e[0], &acc[0], &cw[0], &m[0])
 	return m
 }
+
+// triPad holds the off-diagonals of a tridiagonal T of order n padded to
+// length n for the four-lane factorisation: above[i] = t_{i−1,i} (0 at
+// i = 0), below[i] = t_{i+1,i} and right[i] = t_{i,i+1} (0 at i = n−1).
+type triPad struct{ above, below, right []float64 }
+
+func padTri(sub, sup []float64) triPad {
+	n := len(sub) + 1
+	p := triPad{make([]float64, n), make([]float64, n), make([]float64, n)}
+	copy(p.above[1:], sup)
+	copy(p.below, sub)
+	copy(p.right, sup)
+	return p
+}
+
+var fourOnes = [4]float64{1, 1, 1, 1}
+
+// factorTriQuadAsm is factorTriQuad by the assembly recurrence
+// (haveTriQuad), four lanes in one register chain with one division per
+// row. Where a pivot is too small or too large for 1/d = conj(d)/|d|²
+// (below 1e-150 or above 1e150 in size, or exactly zero) it leaves the
+// work to factorTriQuad, which scales and reports a singular pivot.
+func factorTriQuadAsm(q []float64, shifts []complex128, sub, diag, sup []float64, pad triPad) (ok bool, err error) {
+	n := len(diag)
+	if len(q) < 24*n || len(shifts) == 0 || len(shifts) > 4 || len(pad.above) != n || len(pad.below) != n || len(pad.right) != n {
+		panic(ErrShape)
+	}
+	var sh [8]float64
+	for k := range 4 {
+		s := shifts[min(k, len(shifts)-1)]
+		sh[k], sh[4+k] = real(s), imag(s)
+	}
+	var st [12]float64
+	etdTriFactor4(n, &q[0], &sh[0], &pad.above[0], &diag[0], &pad.below[0], &pad.right[0], &fourOnes[0], &st[0])
+	for k := range shifts {
+		if !(st[4+k] > 1e-150 && st[8+k] < 1e150) {
+			return factorTriQuad(q, shifts, sub, diag, sup)
+		}
+	}
+	for k := range shifts {
+		if st[k] < 0 {
+			return false, nil
+		}
+	}
+	for k := len(shifts); k < 4; k++ {
+		for i := 0; i < n; i++ {
+			r := q[24*i : 24*i+24]
+			r[k], r[4+k], r[8+k], r[12+k], r[16+k], r[20+k] = 0, 0, 0, 0, 0, 0
+		}
+	}
+	return true, nil
+}
