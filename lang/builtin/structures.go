@@ -97,6 +97,12 @@ func structArgs(c *eval.Call, idx []int, zeroNone []bool) ([]linop.Operator, int
 			}
 			return nil, 0, err
 		}
+		if op.IsComplex() {
+			return nil, 0, value.TypeErrorf("%s: %s is complex; the mass, damping and stiffness of a system must be real", c.Name, paramName(c, i))
+		}
+		if len(op.Lift) > 0 {
+			return nil, 0, value.ValueErrorf("%s: %s carries boundary data (non-zero values at a grid's ends); a system here needs homogeneous ends", c.Name, paramName(c, i))
+		}
 		r, cc := op.Dims()
 		if r != cc {
 			return nil, 0, value.ValueErrorf("%s: %s must be square, not %d×%d", c.Name, paramName(c, i), r, cc)
