@@ -211,8 +211,9 @@ func jacobianValue(c *eval.Call, r value.Value, n int) (linop.Operator, error) {
 	return op, nil
 }
 
-// steadyError turns the solver's failures into language errors; a user
-// function's own error passes unchanged.
+// steadyError turns the solver's failures into language errors; an error
+// of a user function (nonlinear, jacobian) passes unchanged, with its own
+// position and call stack.
 func steadyError(c *eval.Call, err error) error {
 	if c.Ctx != nil && c.Ctx.Err() != nil {
 		return value.Errorf(value.ClassInterrupted, "interrupted")
@@ -223,10 +224,11 @@ func steadyError(c *eval.Call, err error) error {
 		ls *steady.LineSearchError
 		nf *steady.NonFiniteError
 		je *steady.JacobianError
+		ee *eval.Error
 		ve *value.Error
 	)
 	switch {
-	case errors.As(err, &ve):
+	case errors.As(err, &ee), errors.As(err, &ve):
 		return err
 	case errors.As(err, &nc), errors.As(err, &sg), errors.As(err, &ls), errors.As(err, &je):
 		return &value.Error{Name: value.ClassNumerical, Msg: c.Name + ": " + err.Error(), Cause: err}

@@ -231,15 +231,20 @@ func Solve(ctx context.Context, a linop.Operator, f []float64, term Term, u0 []f
 				ut[i] = u[i] + lambda*delta[i]
 			}
 			rt, rhot, err = p.residual(ut, ft)
-			var nf *NonFiniteError
-			if err != nil && !asNonFinite(err, &nf) {
-				return nil, err
+			if err != nil && ctx.Err() != nil {
+				return nil, ctx.Err()
 			}
 			if err == nil && (r <= 10*rho || norm2(ft) <= (1-1e-4*lambda)*f2) {
 				break
 			}
+			// A trial point where F is not finite, or where the term
+			// fails (outside its domain), is rejected like one where ‖F‖
+			// grows: the step is shortened.
 			lambda /= 2
 			if lambda < 0x1p-20 {
+				if _, nonFinite := err.(*NonFiniteError); err != nil && !nonFinite {
+					return nil, err // the term fails however short the step: its own error says why
+				}
 				return nil, &LineSearchError{Step: k, Residual: r, Damping: 2 * lambda, Update: normInf(delta)}
 			}
 		}
@@ -293,14 +298,6 @@ func Solve(ctx context.Context, a linop.Operator, f []float64, term Term, u0 []f
 	res.Jac, res.J, res.Solver = jn, j, how
 	res.Evals = p.d.evals
 	return res, nil
-}
-
-func asNonFinite(err error, t **NonFiniteError) bool {
-	nf, ok := err.(*NonFiniteError)
-	if ok {
-		*t = nf
-	}
-	return ok
 }
 
 // operatorSize returns ‖A‖∞ (from a sparse form when the structure has no
