@@ -73,9 +73,11 @@ var plotFamily = []*Builtin{
 			opt("unit", value.None, `the unit of the values, written after the colour bar's title: "K" gives "value (K)"`),
 			opt("log", value.Bool(false), "true for a logarithmic colour scale (every value must be positive)"),
 			opt("span", value.None, "the range [lo, hi] of the colour scale (values outside take the end colours); none: the data's range"),
+			opt("plane", value.None, "on a 3-D grid, the z of the plane shown (the plane of unknowns nearest it); none: the plane through the middle unknown along z"),
 		},
 		Doc: "A heat map: each value a cell coloured by Semiflow's sequential colour map (OKLab, monotone in lightness), with a colour bar. " +
 			"A grid function u on g = tensorgrid(gx, gy) gives the cell of u_k at (x_i, y_j), k = i·ny + j, centred on its point; a matrix M gives cell (i, j) at column j across and row i up (row 0 at the bottom). " +
+			"A grid function on a 3-D grid is shown on one plane z = z_k of its unknowns (plane=, or the middle one), which the title names. " +
 			"Values must be finite and real (take abs, re or im of complex data); a logarithmic scale refuses values ≤ 0, naming how many. The result is a picture.",
 		Examples: []Example{
 			{`shade({1, 2, 3 | 4, 5, 6}, title="Entries", label="a_ij")`, "picture: Entries"},
@@ -664,6 +666,7 @@ func argandImpl(c *eval.Call) (value.Value, error) {
 }
 
 func shadeImpl(c *eval.Call) (value.Value, error) {
+	planeTitle := "" // the plane shown of a 3-D grid function
 	zv, err := c.Arg(0)
 	if err != nil {
 		return nil, err
@@ -707,6 +710,11 @@ func shadeImpl(c *eval.Call) (value.Value, error) {
 		if !ok {
 			return nil, value.TypeErrorf("%s: g must be a grid, not %s", c.Name, value.TypeName(gv))
 		}
+		if g.Dim() == 3 {
+			if zv, g, planeTitle, err = zPlane(c, zv, g); err != nil {
+				return nil, err
+			}
+		}
 		if g.Dim() != 2 {
 			return nil, value.ValueErrorf("%s: g is a 1-D grid; draw a grid function on it with curves(coords(g), u)", c.Name)
 		}
@@ -742,6 +750,13 @@ func shadeImpl(c *eval.Call) (value.Value, error) {
 	hm := f.Series[0].(*plot.HeatMap)
 	if err := figureTexts(c, f); err != nil {
 		return nil, err
+	}
+	if planeTitle != "" {
+		if f.Title == "" {
+			f.Title = planeTitle
+		} else {
+			f.Title += ": " + planeTitle
+		}
 	}
 	if f.X.Label == "" { // figureTexts clears a label not given
 		f.X.Label = map[bool]string{true: "column j", false: "x"}[gv == value.None]
@@ -908,4 +923,47 @@ func columnsImpl(c *eval.Call) (value.Value, error) {
 	t := objects.NewTable(title, names, rows)
 	t.Digits = digits
 	return t, nil
+}
+
+// zPlane returns the values of the grid function zv of the 3-D grid g on
+// one plane z = z_k of its unknowns (the plane option's nearest, or the
+// middle one), the 2-D grid of that plane, and a title naming it.
+func zPlane(c *eval.Call, zv value.Value, g *objects.Grid) (value.Value, *objects.Grid, string, error) {
+	u, err := realData(c, "z", zv)
+	if err != nil {
+		return nil, nil, "", err
+	}
+	if len(u) != g.Size() {
+		return nil, nil, "", value.ValueErrorf("%s: z has %d values but the grid has %d unknowns", c.Name, len(u), g.Size())
+	}
+	zs := g.Z.X1()
+	nz, ny := len(zs), g.Y.Size()
+	k := nz / 2
+	pv, _, err := argNamed(c, "plane")
+	if err != nil {
+		return nil, nil, "", err
+	}
+	if pv != value.None {
+		at, ok := pv.(value.Num)
+		if !ok || math.IsNaN(float64(at)) || math.IsInf(float64(at), 0) {
+			return nil, nil, "", value.ValueErrorf("%s: plane must be a finite number, the z of the plane shown", c.Name)
+		}
+		lo, hi := math.Min(zs[0], zs[nz-1]), math.Max(zs[0], zs[nz-1])
+		if float64(at) < lo || float64(at) > hi {
+			return nil, nil, "", value.ValueErrorf("%s: plane = %s lies outside the unknowns along z, [%s, %s]", c.Name, value.FormatNum(float64(at)), value.FormatNum(lo), value.FormatNum(hi))
+		}
+		for j := range zs {
+			if math.Abs(zs[j]-float64(at)) < math.Abs(zs[k]-float64(at)) {
+				k = j
+			}
+		}
+	}
+	out := make([]float64, g.X.Size()*ny)
+	for ix := 0; ix < g.X.Size(); ix++ {
+		for iy := 0; iy < ny; iy++ {
+			out[ix*ny+iy] = u[(ix*ny+iy)*nz+k]
+		}
+	}
+	title := fmt.Sprintf("plane z = %s (unknown %d of %d along z)", plot.FormatValue(zs[k]), k+1, nz)
+	return value.RealVec(out), objects.NewTensor(g.X, g.Y), title, nil
 }

@@ -5,6 +5,7 @@ import (
 	"strings"
 	"testing"
 
+	"semiflow/lang/plot"
 	"semiflow/numerics/grid"
 	"semiflow/numerics/linop"
 )
@@ -54,6 +55,16 @@ func TestTensor3(t *testing.T) {
 		u0[k] = math.Cos(math.Pi*c[0][k]) * math.Cos(math.Pi*c[2][k]/3)
 	}
 	sol := &Solution{S: solve(t, lap, u0, []float64{0.01}), Grid: g, Problem: "u' = A u", Label: "Δ"}
+	// The heat map holds u at (x_ix, y_iy) on the plane iz = 3 (0-based).
+	hm := sol.Figure().Series[0].(*plot.HeatMap)
+	last := sol.S.Values[0]
+	for ix := range xs {
+		for iy := range ys {
+			if got, want := hm.Z[ix][iy], last[(ix*len(ys)+iy)*len(zs)+3]; got != want {
+				t.Fatalf("heat map (%d, %d) = %g, want u on the plane iz = 3: %g", ix, iy, got, want)
+			}
+		}
+	}
 	svg, _ := sol.MIME()["image/svg+xml"].(string)
 	if !strings.Contains(svg, "<rect") || !strings.Contains(svg, "plane z = 1.5 (unknown 4 of 7 along z)") {
 		t.Errorf("3-D figure: no heat map of the named middle plane")
