@@ -36,10 +36,11 @@ import (
 // L need none; any that would falls back to partial pivoting), and one
 // forward and one backward sweep per node that form the right side and add
 // into the sum as they go, four nodes side by side in AVX2 registers
-// (etd_quad_amd64.s) or two in Go. On the Fisher–KPP benchmark at
-// N = 1000 this took the CPU time per solve from 662 ms to 122 ms (tol
-// 1e-8, profiles of BenchmarkETDFisherKPP under a shared load; together
-// with the cheaper local estimate in integrate).
+// (etd_quad_amd64.s) or two in Go; the factorisations too are made four
+// at a time there. On the Fisher–KPP benchmark at N = 1000 (tol 1e-8)
+// this took the CPU time of an integration from 662 ms to about 95 ms
+// (BenchmarkETDFisherKPP under a shared load; together with the cheaper
+// local estimate in integrate); the two-node Go kernel takes about 280 ms.
 
 // quadKernel says whether the contour path uses the four-node assembly
 // kernel where the machine has it (tests turn it off to run the two-node
