@@ -36,7 +36,7 @@ var stabilityFamily = []*Builtin{
 		Params: []value.Param{
 			req("A", "an operator or a square matrix"),
 			opt("count", value.Num(0), "0 for all eigenvalues (dense method), or the number k of eigenvalues wanted"),
-			opt("near", value.None, "none for the rightmost eigenvalues, or a real shift σ for those nearest σ"),
+			opt("near", value.None, "none for the rightmost eigenvalues, or a real shift σ for those nearest σ (complex σ for a complex A of order ≤ 1500)"),
 		},
 		Doc: "The eigenvalues λ of A (A x = λ x), ordered by decreasing real part, with the spectral abscissa α(A) = max Re λ. " +
 			"With count = 0 all of them, by the QR algorithm without balancing, each with its condition number ‖x‖‖y‖/|yᴴx| (x, y the right and left eigenvectors: a perturbation of size δ moves λ by about cond·δ); this needs order ≤ 1500. " +
@@ -597,8 +597,11 @@ func spectrumImpl(c *eval.Call) (value.Value, error) {
 	}
 	near, nearSet := 0.0, false
 	if v, _ := c.Arg(2); v != value.None {
-		if _, ok := v.(value.Complex); ok {
-			return nil, value.ValueErrorf("spectrum: near must be a real shift (the Krylov–Schur iteration runs in real arithmetic), not %s", v)
+		if zc, ok := v.(value.Complex); ok {
+			if !op.IsComplex() || n > DenseLimit {
+				return nil, value.ValueErrorf("spectrum: near must be a real shift (the Krylov–Schur iteration runs in real arithmetic), not %s; a complex shift is taken for complex operators of order ≤ %d", v, DenseLimit)
+			}
+			return complexNearest(c, op, n, k, complex128(zc))
 		}
 		if near, err = stabRealArg(c, 2); err != nil {
 			return nil, err
@@ -709,6 +712,21 @@ func spectrumImpl(c *eval.Call) (value.Value, error) {
 	return r, nil
 }
 
+// complexNearest is spectrum(A, count=k, near=σ) for a complex operator of
+// order ≤ DenseLimit and a complex σ: the k eigenvalues nearest σ from the
+// whole dense spectrum.
+func complexNearest(c *eval.Call, op *objects.Operator, n, k int, sigma complex128) (value.Value, error) {
+	if k == 0 {
+		return nil, value.ValueErrorf("spectrum: near needs count = k > 0, the number of eigenvalues nearest %s", value.FormatComplex(sigma))
+	}
+	var s *spectra.Spectrum
+	if err := stabGuard(c, func() (e error) { s, e = spectra.DenseSpectrumContext(c.Ctx, op.Op); return }); err != nil {
+		return nil, err
+	}
+	what := fmt.Sprintf("the %d eigenvalues nearest %s", k, value.FormatComplex(sigma))
+	return objects.SpectrumReport(op.Label, n, stabSelectNear(s, k, true, sigma), what), nil
+}
+
 // complexRightmost is spectrum(A, count=k) for a complex operator above the
 // dense limit: Krylov–Schur on its real form, split into A's eigenpairs.
 func complexRightmost(c *eval.Call, op *objects.Operator, z *linop.Complex, n, k int, near float64, nearSet bool) (value.Value, error) {
@@ -784,13 +802,18 @@ func sortRightmost(s *spectra.Spectrum) {
 // or the k nearest σ; either way listed in the order of s (decreasing real
 // part). The abscissa stays that of the whole spectrum.
 func stabSelectEigen(s *spectra.Spectrum, k int, near bool, sigma float64) *spectra.Spectrum {
+	return stabSelectNear(s, k, near, complex(sigma, 0))
+}
+
+// stabSelectNear is stabSelectEigen with a complex σ.
+func stabSelectNear(s *spectra.Spectrum, k int, near bool, sigma complex128) *spectra.Spectrum {
 	idx := make([]int, len(s.Values))
 	for i := range idx {
 		idx[i] = i
 	}
 	if near {
 		sort.SliceStable(idx, func(a, b int) bool {
-			return cmplx.Abs(s.Values[idx[a]]-complex(sigma, 0)) < cmplx.Abs(s.Values[idx[b]]-complex(sigma, 0))-1e-14
+			return cmplx.Abs(s.Values[idx[a]]-sigma) < cmplx.Abs(s.Values[idx[b]]-sigma)-1e-14
 		})
 	}
 	idx = idx[:k]
