@@ -326,12 +326,16 @@ func (s *etdSparseStepper) combine(dst []float64, tau float64, v []float64, w []
 	wg.Wait()
 	g := math.Exp(tau * s.sigma)
 	round := 0.0
-	for i := range dst {
-		sum := 0.0
-		for id := range s.work {
-			sum += s.work[id].acc[i]
+	// The workers' sums, one vector at a time (dst may be v, which the
+	// workers no longer read).
+	a0 := s.work[0].acc[:len(dst)]
+	for id := 1; id < len(s.work); id++ {
+		for i, x := range s.work[id].acc[:len(dst)] {
+			a0[i] += x
 		}
-		dst[i] = g * sum
+	}
+	for i, x := range a0 {
+		dst[i] = g * x
 	}
 	for id := range s.work {
 		if err := s.work[id].err; err != nil {
