@@ -76,3 +76,23 @@ fine = e(81, 4, 1e-12)`)
 		}
 	}
 }
+
+// A datum switched on at t = 1 and given in switches: u(0, t) = [t ≥ 1],
+// u'(1, t) = 0, u(x, 0) = 0. Closed form (separation of variables from
+// t = 1): u(1, t) = 1 − (4/π) e^{−(π/2)²(t−1)} + (4/(3π)) e^{−(3π/2)²(t−1)} − …;
+// at t = 3 the second term is below 1e-19.
+func TestBoundaryDataSwitched(t *testing.T) {
+	s := run.NewSession()
+	exec(t, s, `on(t) = when(t < 1, 0, 1)
+c = interval(0, 1, 81, ends=["dirichlet", "neumann"], boundary=[on, 0], order=4)
+sol = propagate(laplacian(c), zeros(80), [0.5, 3], switches=1)`)
+	sol := lookup[*objects.Solution](t, s, "sol")
+	if v := sol.S.Values[0]; maxDiff(v, make([]float64, len(v))) > sol.S.ErrEst[0] {
+		t.Errorf("before the switch u should stay 0 within its estimate %.3g; max |u| = %.3g", sol.S.ErrEst[0], maxDiff(v, make([]float64, len(v))))
+	}
+	want := 1 - 4/math.Pi*math.Exp(-math.Pi*math.Pi/2)
+	got := sol.S.Values[1][79]
+	if e := math.Abs(got - want); e > 1e-8 || !sol.S.TolMet {
+		t.Errorf("u(1, 3) = %.12g, closed form %.12g (error %.3g, tolerance met: %v)", got, want, e, sol.S.TolMet)
+	}
+}
