@@ -352,9 +352,6 @@ func propagateImpl(c *eval.Call) (value.Value, error) {
 		// The numerics bound the ∞-norm of [Re; Im]; a complex entry's
 		// modulus is at most √2 times the larger part, so ask √2 less.
 		opts.Tol = tol / math.Sqrt2
-		if _, ok := c.Args[5].(value.Callable); ok {
-			return nil, value.TypeErrorf("propagate: a forcing function of t is not available for a complex operator yet; give a constant forcing vector, or split the problem into real and imaginary parts with blocks")
-		}
 		if _, ok := c.Args[6].(value.Callable); ok {
 			return nil, value.TypeErrorf("propagate: a nonlinear term is not available for a complex operator yet; split the problem into real and imaginary parts with blocks")
 		}
@@ -414,14 +411,18 @@ func propagateImpl(c *eval.Call) (value.Value, error) {
 		forcing = &expo.Forcing{Const: append([]float64(nil), re...)}
 		forceDesc = " + f"
 	case value.Callable:
-		if _, err := callForcing(c, f, n, 0); err != nil {
+		call := callForcing
+		if cplx {
+			call = callComplexForcing
+		}
+		if _, err := call(c, f, n, 0); err != nil {
 			return nil, err
 		}
 		forcing = &expo.Forcing{Breaks: switches, Func: func(t float64, dst []float64) {
 			if callErr != nil {
 				return
 			}
-			u, err := callForcing(c, f, n, t)
+			u, err := call(c, f, n, t)
 			if err != nil {
 				callErr = err
 				return
@@ -504,7 +505,7 @@ func propagateImpl(c *eval.Call) (value.Value, error) {
 		problem += " (b: boundary data)"
 	}
 	if cplx {
-		complexEstimates(sol, tol, u0c)
+		complexEstimates(sol, tol, u0c, forcing != nil)
 	}
 	var fl flow
 	if !cplx {
@@ -521,7 +522,7 @@ func propagateImpl(c *eval.Call) (value.Value, error) {
 // complex u: each ∞-norm bound of the parts times √2 bounds the moduli
 // (|z| ≤ √2 max(|Re z|, |Im z|)), and the tolerance asked is judged
 // against ‖u0‖∞ = max |u0_k|.
-func complexEstimates(sol *expo.Solution, tol float64, u0 []complex128) {
+func complexEstimates(sol *expo.Solution, tol float64, u0 []complex128, forced bool) {
 	for i := range sol.ErrEst {
 		sol.ErrEst[i] *= math.Sqrt2
 	}
@@ -533,8 +534,49 @@ func complexEstimates(sol *expo.Solution, tol float64, u0 []complex128) {
 	for _, z := range u0 {
 		scale = math.Max(scale, cmplx.Abs(z))
 	}
+	if forced {
+		// With a forcing the tolerance is relative to the largest ‖u‖∞.
+		for _, u := range sol.Values {
+			h := len(u) / 2
+			for k := 0; k < h; k++ {
+				scale = math.Max(scale, math.Hypot(u[k], u[h+k]))
+			}
+		}
+	}
 	sol.Tol = tol
 	sol.CheckTol(scale)
+}
+
+// callComplexForcing calls the forcing f at time t for a complex problem of
+// real-form order n and returns its n/2 values packed as [Re; Im]: f may
+// return a number, a complex number or a real or complex vector.
+func callComplexForcing(c *eval.Call, f value.Value, n int, t float64) ([]float64, error) {
+	r, err := c.Apply(f, value.Num(t))
+	if err != nil {
+		return nil, err
+	}
+	h := n / 2
+	var z []complex128
+	switch v := r.(type) {
+	case value.Num, value.Complex:
+		w, _ := asComplex(v)
+		z = make([]complex128, h)
+		for i := range z {
+			z[i] = w
+		}
+	case *value.Vec:
+		if v.Len() != h {
+			return nil, value.ValueErrorf("%s: forcing returned %d entries; the operator has order %d", c.Name, v.Len(), h)
+		}
+		z = v.Complex128()
+	default:
+		return nil, value.TypeErrorf("%s: forcing must return a vector or a number (real or complex), not %s", c.Name, value.TypeName(r))
+	}
+	u := packComplex(z)
+	if k := firstNonFinite(u); k >= 0 {
+		return nil, value.ValueErrorf("propagate: the forcing must be finite, but at t = %s entry %d is %s", value.FormatNum(t), k%max(h, 1), value.FormatNum(u[k]))
+	}
+	return u, nil
 }
 
 // packComplex returns [Re z; Im z].
