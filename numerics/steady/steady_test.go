@@ -58,7 +58,7 @@ func num(t *testing.T, s string) float64 {
 
 // laplacian returns the second-order Dirichlet Laplacian on n interior
 // points of [0, 1] and the points.
-func laplacian(t *testing.T, n int) (*linop.CSR, []float64) {
+func laplacian(t testing.TB, n int) (*linop.CSR, []float64) {
 	t.Helper()
 	g, err := grid.NewInterval(0, 1, n+2, grid.End{Kind: grid.Dirichlet}, grid.End{Kind: grid.Dirichlet})
 	if err != nil {
