@@ -2,7 +2,9 @@ package builtin
 
 import (
 	"errors"
+	"fmt"
 	"math"
+	"strings"
 
 	"gonum.org/v1/gonum/mat"
 
@@ -56,6 +58,21 @@ var steadyFamily = []*Builtin{
 			{"dense(linearisation({-1, 0 | 0, -2}, state=[1, 2], nonlinear=u -> u^2))", "{1, 0 |\n 0, 2}"},
 		},
 		Impl: linearisationImpl,
+	},
+	{
+		Name: "continuation",
+		Params: []value.Param{
+			req("values", "the parameter values p_0, p_1, …, in the order the branch is followed: a vector, range or list of real numbers"),
+			req("f", "a function (p, u) -> steadystate(…, u, …) returning the steady state at parameter p from the guess u"),
+			req("guess", "the guess for the first value: a vector (or a number)"),
+		},
+		Doc: "A branch of steady states followed through a parameter (natural-parameter continuation): f(p_k, u) is called at each value in order, its guess u the previous state extrapolated along the branch (the secant through the two previous states; the given guess first, then the first state). " +
+			"The result is a table with a row per value reached: the parameter, the state's size ‖u*‖∞ (norm), its residual, error estimate, Newton steps and ‖J⁻¹‖∞ (inverse_norm), whose growth warns of a turning point; t.states[k] is the k-th state as a vector, t.stopped why the branch stopped early (\"\" when it did not). " +
+			"When a value cannot be reached (no convergence, a singular Jacobian: past a turning point of the branch, or a step too long) the table stops there and its note says why; an error only when the first value fails. Interrupts stop it.",
+		Examples: []Example{
+			{"continuation([1, 2, 3], (p, u) -> steadystate({-1}, u, forcing=p), 0).norm", "[1, 2, 3]"},
+		},
+		Impl: continuationImpl,
 	},
 }
 
@@ -370,4 +387,145 @@ func linearisationImpl(c *eval.Call) (value.Value, error) {
 		return nil, steadyError(c, err)
 	}
 	return &objects.Operator{Op: steady.Linearisation(a.Op, jac.Op), Grid: a.Grid, Label: "A + N'(u)"}, nil
+}
+
+func continuationImpl(c *eval.Call) (value.Value, error) {
+	v, err := c.Arg(0)
+	if err != nil {
+		return nil, err
+	}
+	ps, pc, err := numbers(c, "values", v)
+	if err != nil {
+		return nil, err
+	}
+	if pc != nil {
+		return nil, value.TypeErrorf("continuation: values must be real")
+	}
+	if len(ps) == 0 {
+		return nil, value.ValueErrorf("continuation: values is empty")
+	}
+	for k, p := range ps {
+		if math.IsNaN(p) || math.IsInf(p, 0) {
+			return nil, value.ValueErrorf("continuation: values[%d] = %s is not finite", k, value.FormatNum(p))
+		}
+		if k > 0 && p == ps[k-1] {
+			return nil, value.ValueErrorf("continuation: values[%d] repeats values[%d] = %s; a branch needs distinct values", k, k-1, value.FormatNum(p))
+		}
+	}
+	fv, err := c.Arg(1)
+	if err != nil {
+		return nil, err
+	}
+	f, ok := fv.(value.Callable)
+	if !ok {
+		return nil, value.TypeErrorf("continuation: f must be a function (p, u) -> steadystate(…), not %s", value.TypeName(fv))
+	}
+	pname := "p"
+	if prm := f.Params(); len(prm) < 2 {
+		return nil, value.ValueErrorf("continuation: f must take the parameter and the guess, (p, u) -> steadystate(…, u, …)")
+	} else if !prm[0].Variadic {
+		pname = prm[0].Name
+	}
+	gv, err := c.Arg(2)
+	if err != nil {
+		return nil, err
+	}
+	var guess value.Value
+	switch t := gv.(type) {
+	case value.Num:
+		guess = t
+	case *value.Vec, *value.Range:
+		re, cx, err := numbers(c, "guess", t)
+		if err != nil {
+			return nil, err
+		}
+		if cx != nil {
+			return nil, value.TypeErrorf("continuation: guess must be real")
+		}
+		if k := firstNonFinite(re); k >= 0 {
+			return nil, value.ValueErrorf("continuation: guess must be finite; entry %d is %s", k, value.FormatNum(re[k]))
+		}
+		guess = value.RealVec(append([]float64(nil), re...))
+	default:
+		return nil, value.TypeErrorf("continuation: guess must be a vector or a number, not %s", value.TypeName(gv))
+	}
+	if err := c.CheckSize(6*float64(len(ps)), "continuation: the table"); err != nil {
+		return nil, err
+	}
+	progress := lazyProgress(c)
+	var rows [][]value.Value
+	var states value.List
+	var prev [][]float64 // the last two states
+	note := ""
+	for k, p := range ps {
+		if err := c.Tick(1); err != nil {
+			return nil, err
+		}
+		progress(k, len(ps))
+		g := guess
+		switch {
+		case len(prev) == 1:
+			g = value.RealVec(append([]float64(nil), prev[0]...))
+		case len(prev) == 2:
+			a, b := prev[0], prev[1]
+			if len(a) == len(b) {
+				s := (p - ps[k-1]) / (ps[k-1] - ps[k-2])
+				w := make([]float64, len(b))
+				for i := range w {
+					w[i] = b[i] + s*(b[i]-a[i])
+				}
+				g = value.RealVec(w)
+			}
+		}
+		r, err := c.Apply(f, value.Num(p), g)
+		if err != nil {
+			if c.Ctx != nil && c.Ctx.Err() != nil {
+				return nil, value.Errorf(value.ClassInterrupted, "interrupted")
+			}
+			if k == 0 {
+				return nil, err
+			}
+			note = fmt.Sprintf("stopped at %s = %s: %s", pname, value.FormatNum(p), firstLine(err))
+			break
+		}
+		st, ok := r.(*objects.SteadyState)
+		if !ok {
+			return nil, value.TypeErrorf("continuation: f must return a steady state (the result of steadystate), but at %s = %s it returned %s", pname, value.FormatNum(p), value.TypeName(r))
+		}
+		u := st.Res.U
+		if len(prev) == 2 {
+			prev = prev[1:]
+		}
+		prev = append(prev, u)
+		states = append(states, value.RealVec(append([]float64(nil), u...)))
+		norm := 0.0
+		for _, x := range u {
+			norm = math.Max(norm, math.Abs(x))
+		}
+		rows = append(rows, []value.Value{value.Num(p), value.Num(norm), value.Num(st.Res.Residual), value.Num(st.Res.ErrEst),
+			value.Num(float64(len(st.Res.Steps))), value.Num(st.Res.InvNorm)})
+	}
+	progress(len(ps), len(ps))
+	cols := []string{pname, "norm", "residual", "errest", "steps", "inverse_norm"}
+	t := objects.NewTable(fmt.Sprintf("branch of steady states over %d of %d values of %s", len(rows), len(ps), pname), cols, rows)
+	t.Named = append(t.Named, objects.Named{Name: "states", X: states}, objects.Named{Name: "stopped", X: value.Str(note)})
+	if note != "" {
+		t.Notes = append(t.Notes, note)
+	}
+	t.Figure = sweepFigure(pname, cols, rows)
+	return t, nil
+}
+
+// firstLine is an error's message without the position and source
+// excerpt a user function's error carries.
+func firstLine(err error) string {
+	m := err.Error()
+	var ee *eval.Error
+	if errors.As(err, &ee) {
+		m = ee.Msg // without the position, which the table cannot point at
+	}
+	if i := strings.IndexByte(m, '\n'); i >= 0 {
+		m = m[:i]
+	}
+	return m
 }

@@ -5,7 +5,7 @@ import (
 	"testing"
 )
 
-// BenchmarkBratuBanded: Bratu's problem u'' + e^u = 0 on 10⁵ unknowns from
+// BenchmarkBratuBanded: Bratu's problem u” + e^u = 0 on 10⁵ unknowns from
 // u = 0, each Newton step one banded LU of the tridiagonal Jacobian and one
 // complex-step evaluation of the term.
 func BenchmarkBratuBanded(b *testing.B) {
