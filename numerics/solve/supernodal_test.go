@@ -12,6 +12,8 @@ import (
 	"strings"
 	"testing"
 
+	"gonum.org/v1/gonum/mat"
+
 	"semiflow/numerics/linop"
 	"semiflow/numerics/memguard"
 	"semiflow/numerics/mmio"
@@ -334,4 +336,67 @@ func TestSupernodalMemoryGuard(t *testing.T) {
 		t.Errorf("beyond the limit: %v", err)
 	}
 	t.Log(err)
+}
+
+// One front by itself: after partialLU the trailing block must be the
+// Schur complement F22 − F21 F11⁻¹ F12, computed here with gonum's dense
+// LU (mat.Dense.Solve), and P F11 = L11 U11 with the recorded swaps.
+func TestPartialLUSchur(t *testing.T) {
+	rng := rand.New(rand.NewPCG(13, 14))
+	for _, c := range []struct{ f, k int }{{4, 2}, {7, 3}, {40, 37}, {90, 70}, {5, 5}} {
+		F := make([]float64, c.f*c.f)
+		for i := range F {
+			F[i] = rng.NormFloat64()
+		}
+		orig := append([]float64(nil), F...)
+		top, bot := F[:c.k*c.f], append([]float64(nil), F[c.k*c.f:]...)
+		piv := make([]int, c.k)
+		var ws workspace
+		if _, ok := partialLU(top, bot, c.f, c.k, piv, 0, &ws); !ok {
+			t.Fatalf("%v: no factorisation", c)
+		}
+		k, r := c.k, c.f-c.k
+		a := mat.NewDense(c.f, c.f, orig)
+		f11 := mat.DenseCopyOf(a.Slice(0, k, 0, k))
+		var x mat.Dense
+		if r > 0 {
+			if err := x.Solve(f11, a.Slice(0, k, k, c.f)); err != nil {
+				t.Fatal(err)
+			}
+			var s mat.Dense
+			s.Mul(a.Slice(k, c.f, 0, k), &x)
+			s.Sub(a.Slice(k, c.f, k, c.f), &s)
+			for i := 0; i < r; i++ {
+				for j := 0; j < r; j++ {
+					if d := math.Abs(bot[i*c.f+k+j] - s.At(i, j)); d > 1e-10*(1+math.Abs(s.At(i, j))) {
+						t.Fatalf("%v: Schur complement (%d, %d) off by %g", c, i, j, d)
+					}
+				}
+			}
+		}
+		// P F11 = L11 U11.
+		p := mat.DenseCopyOf(f11)
+		for j := 0; j < k; j++ {
+			if piv[j] != j {
+				rj, rb := mat.Row(nil, j, p), mat.Row(nil, piv[j], p)
+				p.SetRow(j, rb)
+				p.SetRow(piv[j], rj)
+			}
+		}
+		for i := 0; i < k; i++ {
+			for j := 0; j < k; j++ {
+				var s float64
+				for q := 0; q <= min(i, j); q++ {
+					l := 1.0
+					if q < i {
+						l = top[i*c.f+q]
+					}
+					s += l * top[q*c.f+j]
+				}
+				if d := math.Abs(s - p.At(i, j)); d > 1e-10*(1+math.Abs(p.At(i, j))) {
+					t.Fatalf("%v: (L11 U11 − P F11)(%d, %d) = %g", c, i, j, d)
+				}
+			}
+		}
+	}
 }
