@@ -131,16 +131,18 @@ func newETDSparseStepper(ctx context.Context, L linop.Operator, N Nonlinear, tol
 	for _, v := range []*[]float64{&s.nu, &s.na, &s.nb, &s.nc, &s.a, &s.b, &s.cc, &s.t1, &s.w[0], &s.w[1], &s.w[2]} {
 		*v = make([]float64, n)
 	}
-	// Keep at most etdCacheBytes of factorisations (5 complex vectors of
-	// order n for a tridiagonal L, a guessed 64 for a sparse LU), but at
-	// least the three step lengths one step needs (h, h/2, h/4).
+	// Keep at most etdCacheBytes of factorisations (3 complex vectors of
+	// order n a node for a tridiagonal L, a guessed 64 for a sparse LU),
+	// but at least the three step lengths one step needs (h, h/2, h/4);
+	// the guard also counts the set being made (or kept for reuse) beside
+	// them.
 	per := 64 * memguard.ComplexBytes * n
 	if s.tri[1] != nil {
 		per = 3 * memguard.ComplexBytes * n // l, 1/d and q, split or packed
 	}
 	s.limit = min(max(etdCacheBytes/(per*len(s.z)+1), 3), 12)
 	s.work = make([]etdNodeWork, min(runtime.GOMAXPROCS(0), len(s.z)))
-	if err := memguard.Bytes(float64(s.limit*len(s.z)*per+len(s.work)*n*(2*memguard.ComplexBytes+13*memguard.RealBytes)), "ETDRK4 contour factorisations and work vectors"); err != nil {
+	if err := memguard.Bytes(float64((s.limit+1)*len(s.z)*per+len(s.work)*n*(2*memguard.ComplexBytes+13*memguard.RealBytes)), "ETDRK4 contour factorisations and work vectors"); err != nil {
 		return nil, err
 	}
 	for i := range s.work {
