@@ -4,12 +4,14 @@ import (
 	"errors"
 	"fmt"
 	"math"
+	"math/cmplx"
 
 	"semiflow/lang/eval"
 	"semiflow/lang/objects"
 	"semiflow/lang/value"
 	"semiflow/numerics/linop"
 	"semiflow/numerics/pencil"
+	"semiflow/numerics/roundoff"
 	"semiflow/numerics/spectra"
 )
 
@@ -41,7 +43,7 @@ var structureFamily = []*Builtin{
 		Doc: "The generator G = [0 I; −M⁻¹K −M⁻¹C] of the first-order form x' = Gx of M u″ + C u' + K u = 0, with the state x = [u; u'] of length 2n (stack(u0, v0) builds it, split(x, [n, n]) takes it apart). " +
 			"G is kept as the triple (M, C, K): G·x is a product with K and C and a solve with M, factored once by its structure (diagonal, band LU, sparse LU, dense LU), and shifted solves (zI − G)⁻¹ factor the quadratic pencil z²M + zC + K sparsely: for (zI − G)[x; y] = [a; b], (z²M + zC + K) x = M b + (zM + C) a and y = zx − a. M⁻¹K is never formed; a sparse form exists only for a diagonal (lumped) M. " +
 			"propagate chooses shift-and-invert Krylov for stiff structures (t‖G‖₁ > 1000) and dense scaling and squaring at order ≤ 400. " +
-			"spectrum solves the quadratic eigenproblem (λ²M + λC + K) x = 0: with M symmetric positive definite and K, C symmetric after the Cholesky scaling M = LLᵀ — without damping by the symmetric eigenvalues ω² of L⁻¹KL⁻ᵀ (λ = ±iω, each ω to n·u·‖L⁻¹KL⁻ᵀ‖_F/(2ω), a rigid-body mode ω = 0 flagged as a Jordan block), with damping by the QR algorithm on the companion form [0 I; −L⁻¹KL⁻ᵀ −L⁻¹CL⁻ᵀ]; with count = k the k eigenvalues nearest 0 (the lowest modes) unless near= says otherwise, above order 1500 by shift-and-invert Krylov–Schur with the pencil. " +
+			"spectrum solves the quadratic eigenproblem (λ²M + λC + K) x = 0: with M symmetric positive definite and K, C symmetric after the Cholesky scaling M = LLᵀ — without damping by the symmetric eigenvalues ω² of L⁻¹KL⁻ᵀ (λ = ±iω, each ω to n·u·‖L⁻¹KL⁻ᵀ‖_F/(2ω), a rigid-body mode ω = 0 flagged as a Jordan block), with damping by the QR algorithm on the companion form [0 I; −L⁻¹KL⁻ᵀ −L⁻¹CL⁻ᵀ]; with count = k the k eigenvalues nearest 0 (the lowest modes) unless near= says otherwise, above order 1500 by shift-and-invert Krylov–Schur with the pencil; r.modes lists the mode shapes (the displacement half of each eigenvector, unit length, largest entry positive; real for undamped and proportionally damped systems). " +
 			`weight = "energy" (growth, numrange, numabscissa, wellposed) measures in the energy inner product E(x) = ½(vᵀMv + uᵀKu), which needs M and K symmetric positive definite: with C positive semidefinite, G is dissipative in it (dE/dt = −vᵀCv), so wellposed reports ‖e^{tG}‖_E ≤ 1; energy(G, x) evaluates E. Rayleigh damping C = αM + βK gives mode k the damping ratio ζ_k = α/(2ω_k) + βω_k/2. A singular M is an error.`,
 		Examples: []Example{
 			{"G = secondorder(1, 0, {2, -1 | -1, 2}); im(spectrum(G).values)", "[1.732050808, 1, -1, -1.732050808]"},
@@ -298,10 +300,13 @@ func pencilSpectrum(c *eval.Call, op *objects.Operator, n, k int, near float64, 
 		if err := stabGuard(c, func() (e error) { s, e = dense(); return }); err != nil {
 			return nil, true, err
 		}
+		full := s
 		if k > 0 {
 			s = stabSelectEigen(s, k, true, near)
 		}
-		return objects.SpectrumReport(op.Label, n, s, what), true, nil
+		r := objects.SpectrumReport(op.Label, n, s, what)
+		addModes(r, op.Op, full, s.Values)
+		return r, true, nil
 	}
 	if k == 0 {
 		return nil, true, stabNeedDense(c, n, "give count = k for the k eigenvalues nearest 0 (or near=) by shift-and-invert Krylov–Schur with the pencil")
@@ -314,8 +319,76 @@ func pencilSpectrum(c *eval.Call, op *objects.Operator, n, k int, near float64, 
 	if err := stabGuard(c, func() (e error) { s, e = spectra.Rightmost(c.Ctx, op.Op, o); return }); err != nil {
 		return nil, true, err
 	}
+	full := &spectra.Spectrum{Values: append([]complex128(nil), s.Values...), Right: s.Right}
 	sortRightmost(s)
 	r := objects.SpectrumReport(op.Label, n, s, what)
+	addModes(r, op.Op, full, s.Values)
 	r.Notes = append(r.Notes, "shifted solves factor the pencil (zM − K, or z²M + zC + K) sparsely; M⁻¹K is never formed")
 	return r, true, nil
+}
+
+// addModes names the mode shapes of the eigenvalues shown as r.modes: for
+// each, the eigenvector of full (matched by value) or, for a second-order
+// system, its displacement half, scaled to unit length with its largest
+// entry real and positive; real vectors when every entry is real.
+func addModes(r *objects.Analysis, op linop.Operator, full *spectra.Spectrum, shown []complex128) {
+	if full.Right == nil {
+		return
+	}
+	rows, cols := full.Right.Dims()
+	n := rows
+	if _, ok := op.(*pencil.Second); ok {
+		n = rows / 2
+	}
+	used := make([]bool, cols)
+	modes := make(value.List, 0, len(shown))
+	for _, lam := range shown {
+		col := -1
+		for j := 0; j < cols && j < len(full.Values); j++ {
+			if !used[j] && full.Values[j] == lam {
+				col = j
+				break
+			}
+		}
+		if col < 0 {
+			return // not matched: leave the modes out rather than guess
+		}
+		used[col] = true
+		z := make([]complex128, n)
+		var s float64
+		var big complex128
+		for i := range z {
+			z[i] = full.Right.At(i, col)
+			s = math.Hypot(s, cmplx.Abs(z[i]))
+			if cmplx.Abs(z[i]) > cmplx.Abs(big) {
+				big = z[i]
+			}
+		}
+		if s > 0 {
+			f := complex(s, 0) * big / complex(cmplx.Abs(big), 0)
+			for i := range z {
+				z[i] /= f
+			}
+		}
+		// Real when every imaginary part is within rounding of the unit
+		// vector (8·n·u): a proportionally damped system's modes are real,
+		// its computed ones real up to such dust.
+		isReal := true
+		for _, v := range z {
+			if math.Abs(imag(v)) > 8*float64(n)*roundoff.Unit {
+				isReal = false
+				break
+			}
+		}
+		if isReal {
+			x := make([]float64, n)
+			for i, v := range z {
+				x[i] = real(v)
+			}
+			modes = append(modes, value.RealVec(x))
+		} else {
+			modes = append(modes, value.ComplexVec(z))
+		}
+	}
+	r.Named = append(r.Named, objects.Named{Name: "modes", X: modes})
 }

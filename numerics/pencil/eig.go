@@ -5,6 +5,7 @@ import (
 	"errors"
 	"fmt"
 	"math"
+	"math/cmplx"
 	"sort"
 
 	"gonum.org/v1/gonum/mat"
@@ -76,16 +77,34 @@ func isCondition(err error) bool {
 	return errors.As(err, &c)
 }
 
-// symEigen returns the eigenvalues of s in increasing order, abandonable.
-func symEigen(ctx context.Context, s *mat.SymDense) ([]float64, error) {
+// symEigen returns the eigenvalues of s in increasing order and the unit
+// eigenvectors in the columns of a matrix, abandonable.
+func symEigen(ctx context.Context, s *mat.SymDense) ([]float64, *mat.Dense, error) {
 	n := s.SymmetricDim()
-	return abandon.Run(ctx, abandon.DenseBytes(n, 3), fmt.Sprintf("symmetric eigenvalues of order %d", n), func() ([]float64, error) {
+	type pair struct {
+		vals []float64
+		vecs *mat.Dense
+	}
+	p, err := abandon.Run(ctx, abandon.DenseBytes(n, 4), fmt.Sprintf("symmetric eigenvalues of order %d", n), func() (pair, error) {
 		var e mat.EigenSym
-		if !e.Factorize(s, false) {
-			return nil, fmt.Errorf("pencil: symmetric QR algorithm did not converge at order %d", n)
+		if !e.Factorize(s, true) {
+			return pair{}, fmt.Errorf("pencil: symmetric QR algorithm did not converge at order %d", n)
 		}
-		return e.Values(nil), nil
+		var v mat.Dense
+		e.VectorsTo(&v)
+		return pair{e.Values(nil), &v}, nil
 	})
+	return p.vals, p.vecs, err
+}
+
+// backTransform returns L⁻ᵀ y for each column y of v (the eigenvectors of
+// the pencil from those of L⁻¹XL⁻ᵀ).
+func backTransform(l *mat.TriDense, v *mat.Dense) *mat.Dense {
+	var x mat.Dense
+	if err := x.Solve(l.T(), v); err != nil && !isCondition(err) {
+		return nil
+	}
+	return &x
 }
 
 // Spectrum returns every eigenvalue of A = M⁻¹K, those of the pencil
@@ -100,7 +119,7 @@ func (a *Mass) Spectrum(ctx context.Context) (*spectra.Spectrum, error) {
 		return nil, err
 	}
 	if r != nil {
-		mu, err := symEigen(ctx, r.mats[0])
+		mu, y, err := symEigen(ctx, r.mats[0])
 		if err != nil {
 			return nil, err
 		}
@@ -110,6 +129,17 @@ func (a *Mass) Spectrum(ctx context.Context) (*spectra.Spectrum, error) {
 			vals[len(mu)-1-i] = complex(v, 0)
 		}
 		sp := symSpectrum(vals, tau)
+		if x := backTransform(&r.l, y); x != nil {
+			n := a.n
+			sp.Right = mat.NewCDense(n, n, nil)
+			for k := 0; k < n; k++ {
+				col := mat.Col(nil, n-1-k, x)
+				unit(col)
+				for i, v := range col {
+					sp.Right.Set(i, k, complex(v, 0))
+				}
+			}
+		}
 		sp.Method = "symmetric definite pencil K x = λ M x: Cholesky M = LLᵀ, then the symmetric QR algorithm on L⁻¹KL⁻ᵀ"
 		sp.Accuracy = fmt.Sprintf("each λ within n·u·‖L⁻¹KL⁻ᵀ‖_F = %.1e of the reduced matrix's (real eigenvalues, condition 1 in the M inner product); the reduction adds about u·‖K‖·‖M⁻¹‖ = %.1e", tau, reductionError(a.K, &r.l))
 		return sp, nil
@@ -189,15 +219,22 @@ func (s *Second) Spectrum(ctx context.Context) (*spectra.Spectrum, error) {
 	}
 	n := s.n
 	if r != nil && s.C == nil {
-		mu, err := symEigen(ctx, r.mats[0])
+		mu, y, err := symEigen(ctx, r.mats[0])
 		if err != nil {
 			return nil, err
 		}
+		phi := backTransform(&r.l, y)
 		tau := roundoff.Threshold(n, mat.Norm(r.mats[0], 2))
 		var vals []complex128
 		var rigid []bool
+		var shapes [][]float64
 		for i := len(mu) - 1; i >= 0; i-- { // decreasing μ
 			v := mu[i]
+			var col []float64
+			if phi != nil {
+				col = mat.Col(nil, i, phi)
+			}
+			shapes = append(shapes, col, col)
 			switch roundoff.Sign(v, tau) {
 			case 1:
 				w := math.Sqrt(v)
@@ -213,6 +250,21 @@ func (s *Second) Spectrum(ctx context.Context) (*spectra.Spectrum, error) {
 			}
 		}
 		sp := symSpectrum(vals, tau)
+		if phi != nil {
+			// The state eigenvector of λ is [φ; λφ], scaled to unit length.
+			sp.Right = mat.NewCDense(2*n, 2*n, nil)
+			for k, lam := range vals {
+				z := make([]complex128, 2*n)
+				for i, v := range shapes[k] {
+					z[i] = complex(v, 0)
+					z[n+i] = lam * complex(v, 0)
+				}
+				cunit(z)
+				for i, v := range z {
+					sp.Right.Set(i, k, v)
+				}
+			}
+		}
 		sp.IllCond = rigid
 		for k, b := range rigid {
 			if b {
@@ -265,7 +317,71 @@ func (s *Second) Spectrum(ctx context.Context) (*spectra.Spectrum, error) {
 		return nil, err
 	}
 	sp.Method = route + ", by the " + sp.Method
+	if r != nil && sp.Right != nil {
+		// The state is blkdiag(L⁻ᵀ, L⁻ᵀ) times the scaled one.
+		sp.Left = nil // left vectors of the scaled form only; not carried over
+		var li mat.TriDense
+		if err := li.InverseTri(&r.l); err == nil || isCondition(err) {
+			for k := range sp.Values {
+				z := make([]complex128, 2*n)
+				for half := 0; half < 2; half++ {
+					for i := 0; i < n; i++ {
+						var acc complex128
+						for j := i; j < n; j++ { // (L⁻ᵀ)_ij = (L⁻¹)_ji, upper triangular
+							acc += complex(li.At(j, i), 0) * sp.Right.At(half*n+j, k)
+						}
+						z[half*n+i] = acc
+					}
+				}
+				cunit(z)
+				for i, v := range z {
+					sp.Right.Set(i, k, v)
+				}
+			}
+		} else {
+			sp.Right = nil
+		}
+	}
 	return sp, nil
+}
+
+// unit scales x to unit 2-norm with its largest entry positive.
+func unit(x []float64) {
+	var s, big float64
+	for _, v := range x {
+		s = math.Hypot(s, v)
+		if math.Abs(v) > math.Abs(big) {
+			big = v
+		}
+	}
+	if s == 0 {
+		return
+	}
+	if big < 0 {
+		s = -s
+	}
+	for i := range x {
+		x[i] /= s
+	}
+}
+
+// cunit scales z to unit 2-norm with its largest entry real and positive.
+func cunit(z []complex128) {
+	var s float64
+	var big complex128
+	for _, v := range z {
+		s = math.Hypot(s, cmplx.Abs(v))
+		if cmplx.Abs(v) > cmplx.Abs(big) {
+			big = v
+		}
+	}
+	if s == 0 {
+		return
+	}
+	f := complex(s, 0) * big / complex(cmplx.Abs(big), 0)
+	for i := range z {
+		z[i] /= f
+	}
 }
 
 // order sorts by decreasing real part, then decreasing imaginary part,
@@ -287,6 +403,16 @@ func order(sp *spectra.Spectrum) {
 		v[k], c[k], ill[k] = sp.Values[i], sp.Cond[i], sp.IllCond[i]
 	}
 	sp.Values, sp.Cond, sp.IllCond = v, c, ill
+	if sp.Right != nil {
+		r, _ := sp.Right.Dims()
+		right := mat.NewCDense(r, len(idx), nil)
+		for k, i := range idx {
+			for j := 0; j < r; j++ {
+				right.Set(j, k, sp.Right.At(j, i))
+			}
+		}
+		sp.Right = right
+	}
 }
 
 func countTrue(b []bool) int {

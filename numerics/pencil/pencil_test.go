@@ -582,3 +582,75 @@ func TestLargeStringStaysSparse(t *testing.T) {
 		t.Errorf("a dense matrix with a side of %d was asked for", s)
 	}
 }
+
+// TestModeShapes: every eigenvector the pencil routes return satisfies its
+// eigenproblem, (λ²M + λC + K)φ = 0 for the displacement part φ of a
+// second-order system's state [φ; λφ], (K − λM)x = 0 for M u' = K u, to a
+// residual of a few hundred units of roundoff relative to
+// (|λ|²‖M‖ + |λ|‖C‖ + ‖K‖)‖φ‖ (backward stability of the routes).
+func TestModeShapes(t *testing.T) {
+	n := 12
+	M, C, K, _ := rayleighString(n, 0.3, 2e-3)
+	undamped, _ := NewSecond(ctx, M, nil, K)
+	damped, _ := NewSecond(ctx, M, C, K)
+	nonsym, _ := NewSecond(ctx, linop.AddCSR(1, M, 0.01, tridiag(n, 0, 0, 1)), C, K)
+	mass, _ := NewMass(ctx, M, linop.ScaleCSR(-1, K))
+	dense := func(a linop.Operator) *mat.Dense { return denseOf(t, a) }
+	Md, Cd, Kd := dense(M), dense(C), dense(K)
+	for name, g := range map[string]*Second{"undamped": undamped, "damped": damped, "non-symmetric M": nonsym} {
+		sp, err := g.Spectrum(ctx)
+		if err != nil {
+			t.Fatal(err)
+		}
+		if sp.Right == nil {
+			t.Fatalf("%s: no eigenvectors", name)
+		}
+		m := Md
+		if name == "non-symmetric M" {
+			m = dense(g.M)
+		}
+		c := Cd
+		if name == "undamped" {
+			c = mat.NewDense(n, n, nil)
+		}
+		for k, lam := range sp.Values {
+			var res, scale float64
+			for i := 0; i < n; i++ {
+				var acc complex128
+				for j := 0; j < n; j++ {
+					q := lam*lam*complex(m.At(i, j), 0) + lam*complex(c.At(i, j), 0) + complex(Kd.At(i, j), 0)
+					acc += q * sp.Right.At(j, k)
+				}
+				res = math.Max(res, cmplx.Abs(acc))
+				// the velocity half is λ times the displacement half
+				scale = math.Max(scale, cmplx.Abs(sp.Right.At(n+i, k)-lam*sp.Right.At(i, k)))
+			}
+			var phi float64
+			for i := 0; i < n; i++ {
+				phi = math.Max(phi, cmplx.Abs(sp.Right.At(i, k)))
+			}
+			l := cmplx.Abs(lam)
+			bound := 500 * roundoff.Unit * (l*l*mat.Norm(m, 1) + l*mat.Norm(c, 1) + mat.Norm(Kd, 1)) * phi
+			if res > bound || scale > 500*roundoff.Unit*(1+l)*phi*float64(n) {
+				t.Errorf("%s, λ = %v: residual %.2g (bound %.2g), velocity half off by %.2g", name, lam, res, bound, scale)
+			}
+		}
+	}
+	sp, err := mass.Spectrum(ctx)
+	if err != nil {
+		t.Fatal(err)
+	}
+	for k, lam := range sp.Values {
+		var res float64
+		for i := 0; i < n; i++ {
+			var acc complex128
+			for j := 0; j < n; j++ {
+				acc += complex(-Kd.At(i, j), 0)*sp.Right.At(j, k) - lam*complex(Md.At(i, j), 0)*sp.Right.At(j, k)
+			}
+			res = math.Max(res, cmplx.Abs(acc))
+		}
+		if bound := 500 * roundoff.Unit * (mat.Norm(Kd, 1) + cmplx.Abs(lam)*mat.Norm(Md, 1)); res > bound {
+			t.Errorf("firstorder, λ = %v: residual %.2g > %.2g", lam, res, bound)
+		}
+	}
+}
