@@ -47,7 +47,7 @@ var plotFamily = []*Builtin{
 	{
 		Name: "argand",
 		Params: []value.Param{
-			req("z", "the points: a complex (or real) vector or list, or a list of such vectors, one series each"),
+			req("z", "the points: a complex (or real) vector or list, a list of such vectors (one series each), or a spectrum (its eigenvalues)"),
 			opt("names", value.None, "the legend entries, one string per series; none: no legend for one series, series 1, 2, … for several"),
 			opt("title", value.None, "the title above the figure"),
 			opt("re", value.None, "the range [a, b] of Re z; none: fitted to the points"),
@@ -588,6 +588,11 @@ func argandImpl(c *eval.Call) (value.Value, error) {
 	zv, err := c.Arg(0)
 	if err != nil {
 		return nil, err
+	}
+	if h, ok := zv.(value.HasFields); ok { // a spectrum: its eigenvalues
+		if v, has := h.Field("values"); has {
+			zv = v
+		}
 	}
 	var parts []value.Value
 	if l, ok := zv.(value.List); ok && len(l) > 0 && !isScalar(l[0]) {

@@ -221,3 +221,30 @@ func TestColumnsHTML(t *testing.T) {
 		t.Errorf("the record holds %d rows, want 25", len(rows))
 	}
 }
+
+// TestFormulaBundles checks which MIME form carries the formulas a
+// notebook typesets: a report's HTML (TeX between \( and \)), a quantity's
+// Markdown ($…$), while text/plain keeps the Unicode form.
+func TestFormulaBundles(t *testing.T) {
+	s := run.NewSession()
+	data, _, err := s.Execute(context.Background(), "abscissa({-1, 5 | 0, -2})", nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if md, _ := data["text/markdown"].(string); !strings.Contains(md, `$\alpha (A) = -1$`) {
+		t.Errorf("a quantity's Markdown lacks its formula: %q", md)
+	}
+	if plain, _ := data["text/plain"].(string); !strings.HasPrefix(plain, "α(A) = -1") {
+		t.Errorf("a quantity's text: %q", plain)
+	}
+	data, _, err = s.Execute(context.Background(), `growth({-1, 5 | 0, -2}, t=[0, 1], bounds="none")`, nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if h, _ := data["text/html"].(string); !strings.Contains(h, `\(\|e^{tA}\|_{2}\)`) {
+		t.Errorf("a report's HTML lacks ‖e^{tA}‖₂ as TeX")
+	}
+	if plain, _ := data["text/plain"].(string); !strings.Contains(plain, "‖e^{tA}‖₂") {
+		t.Errorf("a report's text lost its Unicode formula")
+	}
+}
