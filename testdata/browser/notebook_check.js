@@ -271,6 +271,31 @@ async function checkNotebook(context, opts, name, prefix, left) {
         (out.blankPngs.length ? `; ${out.blankPngs.join(' | ')}` : ''),
     );
     c('at least one HTML table', out.tables >= 1, `${out.tables} tables`);
+    // Formulas: the notebook's MathJax typesets the TeX our HTML writes
+    // between \( and \) and the $…$ of a quantity's Markdown; none is left
+    // as raw TeX in the page.
+    const mathState = () => {
+      const spans = document.querySelectorAll('.output_area .semiflow-math').length;
+      const md = document.querySelectorAll('.output_area .output_markdown').length;
+      const typeset = document.querySelectorAll('.output_area .MathJax, .output_area .MathJax_SVG, .output_area mjx-container').length;
+      const raw = [...document.querySelectorAll('.output_area')].filter((o) => /\\\(|\$\\/.test(o.innerText)).length;
+      return { spans, md, typeset, raw };
+    };
+    let math = await pollPage(
+      page,
+      (fn) => {
+        const m = eval(`(${fn})`)();
+        return m.spans + m.md === 0 || (m.typeset > 0 && m.raw === 0) ? m : null;
+      },
+      mathState.toString(),
+      Math.min(15000, left() - 8000),
+    );
+    math = math || (await ev(page, mathState));
+    c(
+      'formulas typeset by the notebook (no raw TeX left)',
+      math.spans + math.md === 0 || (math.typeset > 0 && math.raw === 0),
+      `${math.spans} formulas in HTML outputs, ${math.md} Markdown outputs, ${math.typeset} typeset, ${math.raw} outputs with raw TeX`,
+    );
     c(
       'SVG text inside its figure',
       out.clipped.length === 0,
