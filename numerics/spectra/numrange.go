@@ -69,7 +69,7 @@ func NumRangeContext(ctx context.Context, a linop.Operator, w Weight, nAngles in
 			// W real: R A R⁻¹ = R B R⁻¹ + i R C R⁻¹.
 			cw, ok := w.(linop.ComplexWeight)
 			if !ok {
-				return nil, fmt.Errorf("%w: a weight of the real form's order (use linop.ComplexWeight)", ErrComplex)
+				return nil, fmt.Errorf("%w: the weight must act on the complex operator's order, not on its real form's", ErrComplex)
 			}
 			bc, cc = weighted(bc, cw.W), weighted(cc, cw.W)
 		}
