@@ -23,7 +23,7 @@ var steadyFamily = []*Builtin{
 		Name: "steadystate",
 		Params: []value.Param{
 			req("A", "the linear part: a square operator or matrix"),
-			req("guess", "where Newton's method starts: a vector, a number (constant), or a function of x (x, y) sampled on A's grid"),
+			req("guess", "where Newton's method starts: a vector, a number (constant), a steady state (its state), or a function of x (x, y) sampled on A's grid"),
 			opt("nonlinear", value.None, "the term N(u) in u' = Au + N(u) + f: a function of the vector u returning a vector (none: the linear problem)"),
 			opt("forcing", value.None, "a constant source f: a vector or a number"),
 			opt("jacobian", value.None, "N'(u) if known: a function of u returning the diagonal of N'(u) (a vector or number), a matrix or an operator; none: found by differences"),
@@ -47,7 +47,7 @@ var steadyFamily = []*Builtin{
 		Name: "linearisation",
 		Params: []value.Param{
 			req("A", "a steady state from steadystate, or the linear part: a square operator or matrix"),
-			opt("state", value.None, "with an operator A: the state u at which to linearise (a vector, a number, or a function of x on A's grid)"),
+			opt("state", value.None, "with an operator A: the state u at which to linearise (a vector, a number, a steady state, or a function of x on A's grid)"),
 			opt("nonlinear", value.None, "with an operator A: the term N(u) (a function of the vector u)"),
 			opt("jacobian", value.None, "with an operator A: N'(u) if known (a function of u returning the diagonal, a matrix or an operator)"),
 		},
@@ -106,6 +106,8 @@ func stateArg(c *eval.Call, i int, a *objects.Operator, n int) ([]float64, error
 		u = append([]float64(nil), re...)
 	case value.Num:
 		u = constVec(n, float64(t))
+	case *objects.SteadyState:
+		u = append([]float64(nil), t.Res.U...)
 	case value.Callable:
 		if a.Grid == nil {
 			return nil, value.TypeErrorf("%s: %s is a function but the operator has no grid to sample it on; give a vector", c.Name, name)
@@ -114,7 +116,7 @@ func stateArg(c *eval.Call, i int, a *objects.Operator, n int) ([]float64, error
 			return nil, err
 		}
 	default:
-		return nil, value.TypeErrorf("%s: %s must be a vector, a number or a function on the operator's grid, not %s", c.Name, name, value.TypeName(v))
+		return nil, value.TypeErrorf("%s: %s must be a vector, a number, a steady state or a function on the operator's grid, not %s", c.Name, name, value.TypeName(v))
 	}
 	if len(u) != n {
 		return nil, value.ValueErrorf("%s: the operator is %d×%d but %s has %d entries", c.Name, n, n, name, len(u))
