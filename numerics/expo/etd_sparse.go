@@ -266,6 +266,9 @@ func (s *etdSparseStepper) solvers(tau float64) (*etdFactors, error) {
 // The nodes are shared among the workers, each with its own buffers; the
 // factorisations are only read.
 func (s *etdSparseStepper) combine(dst []float64, tau float64, v []float64, w [][]float64) error {
+	if len(w) > 3 {
+		panic("expo: a contour φ-combination takes at most three w_j")
+	}
 	f, err := s.solvers(tau)
 	if err != nil {
 		return err
