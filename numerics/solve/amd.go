@@ -1,6 +1,7 @@
 package solve
 
 import (
+	"context"
 	"math"
 
 	"semiflow/numerics/linop"
@@ -96,14 +97,17 @@ func AMD(a *linop.CSR) []int {
 	if a.Rows != a.Cols {
 		panic(ErrShape)
 	}
-	return amdGraph(symGraph(a))
+	q, _ := amdGraph(context.Background(), symGraph(a))
+	return q
 }
 
-func amdGraph(g *graph) []int {
+// amdGraph is AMD on a graph; it returns ctx's error when cancelled
+// (checked every 256 pivots).
+func amdGraph(ctx context.Context, g *graph) ([]int, error) {
 	n := g.n
 	order := make([]int, 0, n)
 	if n == 0 {
-		return order
+		return order, nil
 	}
 	state := make([]int8, n)
 	nv := make([]int, n)     // supervariable weight; negative while in the new element
@@ -181,7 +185,12 @@ func amdGraph(g *graph) []int {
 	seen := make([]int, n) // stamps for supervariable comparison
 	stamp := 0
 	var lp []int
-	for nel < n {
+	for step := 0; nel < n; step++ {
+		if step&255 == 255 {
+			if err := ctx.Err(); err != nil {
+				return nil, err
+			}
+		}
 		// Pick the pivot of least approximate degree.
 		for mindeg < n && head[mindeg] < 0 {
 			mindeg++
@@ -371,5 +380,5 @@ func amdGraph(g *graph) []int {
 		}
 	}
 	order = append(order, denseRows...)
-	return order
+	return order, nil
 }

@@ -1,6 +1,7 @@
 package solve
 
 import (
+	"context"
 	"math"
 	"math/cmplx"
 	"unsafe"
@@ -105,7 +106,8 @@ func floatView(z []complex128) []float64 {
 
 // workspace holds scratch arrays reused across fronts by one goroutine.
 type workspace struct {
-	f [3][]float64
+	f   [3][]float64
+	ctx context.Context // checked by long kernels when not nil
 }
 
 func (w *workspace) reals(i, n int) []float64 {
@@ -184,10 +186,16 @@ const panelBlock = 32
 // says that the pivot of column j was below weakTol times an entry of its
 // column in the front: such columns count in weak. A pivot of at most
 // tinyAbs, or a multiplier above 1/tinyRel, stops the factorisation with
-// ok false.
-func partialLU[T scalar](top, bot []T, f, k int, piv []int, tinyAbs float64, ws *workspace) (weak int, ok bool) {
+// errFallback; the workspace's context, if any, is checked between column
+// blocks (a large front takes a while).
+func partialLU[T scalar](top, bot []T, f, k int, piv []int, tinyAbs float64, ws *workspace) (weak int, err error) {
 	F := top
 	for j0 := 0; j0 < k; j0 += panelBlock {
+		if ws.ctx != nil && j0 > 0 {
+			if err := ws.ctx.Err(); err != nil {
+				return weak, err
+			}
+		}
 		j1 := min(j0+panelBlock, k)
 		for j := j0; j < j1; j++ {
 			best, bv := j, -1.0
@@ -197,7 +205,7 @@ func partialLU[T scalar](top, bot []T, f, k int, piv []int, tinyAbs float64, ws 
 				}
 			}
 			if bv <= tinyAbs {
-				return weak, false
+				return weak, errFallback
 			}
 			piv[j] = best
 			if best != j {
@@ -226,7 +234,7 @@ func partialLU[T scalar](top, bot []T, f, k int, piv []int, tinyAbs float64, ws 
 		}
 	}
 	if k == f {
-		return 0, true
+		return 0, nil
 	}
 	r := f - k
 	trsmRightUpper(r, k, top, f, bot, f, ws)
@@ -243,7 +251,7 @@ func partialLU[T scalar](top, bot []T, f, k int, piv []int, tinyAbs float64, ws 
 		}
 		for _, m := range big {
 			if m > 1/tinyRel || m != m {
-				return weak, false
+				return weak, errFallback
 			}
 			if m > 1/weakTol {
 				weak++
@@ -252,7 +260,7 @@ func partialLU[T scalar](top, bot []T, f, k int, piv []int, tinyAbs float64, ws 
 	}
 	trsmLowerUnit(k, r, top, f, top[k:], f, ws)
 	gemmSub(r, r, k, bot, f, top[k:], f, bot[k:], f, ws)
-	return weak, true
+	return weak, nil
 }
 
 // trsmRightUpper sets X ← X U⁻¹ for the m×k row-major x (stride ldx) and

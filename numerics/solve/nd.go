@@ -1,6 +1,10 @@
 package solve
 
-import "semiflow/numerics/linop"
+import (
+	"context"
+
+	"semiflow/numerics/linop"
+)
 
 // NestedDissection returns a nested-dissection order of the graph of
 // A + Aᵀ for any pattern (George & Liu, Computer Solution of Large Sparse
@@ -17,13 +21,16 @@ func NestedDissection(a *linop.CSR) []int {
 	if a.Rows != a.Cols {
 		panic(ErrShape)
 	}
-	return ndGraph(symGraph(a))
+	q, _ := ndGraph(context.Background(), symGraph(a))
+	return q
 }
 
 // ndLeaf is the part size below which nested dissection stops splitting.
 const ndLeaf = 64
 
-func ndGraph(g *graph) []int {
+// ndGraph is NestedDissection on a graph; it returns ctx's error when
+// cancelled (checked for every part).
+func ndGraph(ctx context.Context, g *graph) ([]int, error) {
 	n := g.n
 	order := make([]int, 0, n)
 	part := make([]int, n) // part id of every vertex still to order
@@ -70,6 +77,9 @@ func ndGraph(g *graph) []int {
 	}
 	stack := []item{{t: task{verts: all, id: 0}}}
 	for len(stack) > 0 {
+		if err := ctx.Err(); err != nil {
+			return nil, err
+		}
 		it := stack[len(stack)-1]
 		stack = stack[:len(stack)-1]
 		vs, p := it.t.verts, it.t.id
@@ -78,7 +88,7 @@ func ndGraph(g *graph) []int {
 			continue
 		}
 		if len(vs) <= ndLeaf {
-			order = append(order, ndLeafOrder(g, vs, part, p, loc)...)
+			order = append(order, ndLeafOrder(ctx, g, vs, part, p, loc)...)
 			for _, v := range vs {
 				part[v] = -1
 			}
@@ -127,7 +137,7 @@ func ndGraph(g *graph) []int {
 		}
 		h := level[lv[len(lv)-1]]
 		if h < 2 {
-			order = append(order, ndLeafOrder(g, vs, part, p, loc)...)
+			order = append(order, ndLeafOrder(ctx, g, vs, part, p, loc)...)
 			for _, v := range vs {
 				part[v] = -1
 			}
@@ -181,12 +191,12 @@ func ndGraph(g *graph) []int {
 		}
 		stack = append(stack, item{t: task{sep, ps}, emit: true}, item{t: task{hi, ph}}, item{t: task{lo, pl}})
 	}
-	return order
+	return order, nil
 }
 
 // ndLeafOrder orders the vertices vs of part p by approximate minimum
 // degree on the subgraph they induce; loc is scratch of length n.
-func ndLeafOrder(g *graph, vs []int, part []int, p int, loc []int) []int {
+func ndLeafOrder(ctx context.Context, g *graph, vs []int, part []int, p int, loc []int) []int {
 	for k, v := range vs {
 		loc[v] = k
 	}
@@ -199,7 +209,10 @@ func ndLeafOrder(g *graph, vs []int, part []int, p int, loc []int) []int {
 		}
 		sub.ptr[k+1] = len(sub.adj)
 	}
-	o := amdGraph(sub)
+	o, err := amdGraph(ctx, sub)
+	if err != nil {
+		return vs // cancelled: the caller stops at its next check
+	}
 	out := make([]int, len(o))
 	for k, l := range o {
 		out[k] = vs[l]

@@ -160,13 +160,19 @@ func analyseSparse(ctx context.Context, op linop.Operator, a *linop.CSR, grid [2
 		q := gridCandidate(op, a, grid)
 		names[0] = "nested dissection on the grid"
 		if q == nil {
-			q, names[0] = ndGraph(g), "nested dissection"
+			names[0] = "nested dissection"
+			if q, errs[0] = ndGraph(ctx, g); errs[0] != nil {
+				return
+			}
 		}
 		trees[0], errs[0] = treeOf(ctx, g, q)
 	}()
 	go func() {
 		defer wg.Done()
-		trees[1], errs[1] = treeOf(ctx, g, amdGraph(g))
+		var q []int
+		if q, errs[1] = amdGraph(ctx, g); errs[1] == nil {
+			trees[1], errs[1] = treeOf(ctx, g, q)
+		}
 	}()
 	wg.Wait()
 	best, bestFill := -1, math.Inf(1)
@@ -418,6 +424,7 @@ func factorSupernodal[T scalar](ctx context.Context, sn *snodes, a *linop.CSR, z
 		go func() {
 			defer wg.Done()
 			st := newNodeState[T](n)
+			st.ws.ctx = ctx
 			ids := func(yield func(int) bool) {
 				for _, r := range assign[w] {
 					for s := firstDesc[r]; s <= r; s++ {
@@ -440,6 +447,7 @@ func factorSupernodal[T scalar](ctx context.Context, sn *snodes, a *linop.CSR, z
 		}
 	}
 	st := newNodeState[T](n)
+	st.ws.ctx = ctx
 	err := run(func(yield func(int) bool) {
 		for s := 0; s < ns; s++ {
 			if inTop[s] && !yield(s) {
@@ -504,10 +512,10 @@ func (st *nodeState[T]) node(s int, f *snFactor[T], a, at *linop.CSR, pinv []int
 		pool.put(fronts[c])
 		fronts[c] = nil
 	}
-	weak, ok := partialLU(top, bot, fz, k, f.piv[c0:c1], tiny, &st.ws)
-	if !ok {
+	weak, err := partialLU(top, bot, fz, k, f.piv[c0:c1], tiny, &st.ws)
+	if err != nil {
 		pool.put(bot)
-		return 0, errFallback
+		return 0, err
 	}
 	l := f.data[o+k*fz : o+k*fz+r*k]
 	for i := 0; i < r; i++ {

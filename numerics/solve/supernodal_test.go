@@ -11,6 +11,7 @@ import (
 	"os"
 	"strings"
 	"testing"
+	"time"
 
 	"gonum.org/v1/gonum/mat"
 
@@ -352,8 +353,8 @@ func TestPartialLUSchur(t *testing.T) {
 		top, bot := F[:c.k*c.f], append([]float64(nil), F[c.k*c.f:]...)
 		piv := make([]int, c.k)
 		var ws workspace
-		if _, ok := partialLU(top, bot, c.f, c.k, piv, 0, &ws); !ok {
-			t.Fatalf("%v: no factorisation", c)
+		if _, err := partialLU(top, bot, c.f, c.k, piv, 0, &ws); err != nil {
+			t.Fatalf("%v: %v", c, err)
 		}
 		k, r := c.k, c.f-c.k
 		a := mat.NewDense(c.f, c.f, orig)
@@ -398,5 +399,24 @@ func TestPartialLUSchur(t *testing.T) {
 				}
 			}
 		}
+	}
+}
+
+// An interrupt stops a factorisation within 0.5 s: the context is checked
+// between supernodes and between column blocks of a large front.
+func TestSupernodalCancelLatency(t *testing.T) {
+	a := advDiff2D(300)
+	ctx, cancel := context.WithCancel(context.Background())
+	time.AfterFunc(150*time.Millisecond, cancel)
+	start := time.Now()
+	_, err := NewSupernodal(ctx, a, 1+1i, Options{})
+	if err == nil {
+		t.Skip("finished before the cancellation")
+	}
+	if !errors.Is(err, context.Canceled) {
+		t.Fatalf("error %v, want context.Canceled", err)
+	}
+	if d := time.Since(start) - 150*time.Millisecond; d > 500*time.Millisecond {
+		t.Errorf("stopped %v after the cancellation", d)
 	}
 }
