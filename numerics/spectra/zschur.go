@@ -65,9 +65,13 @@ func complexSchur(ctx context.Context, h []complex128, n int) (*Schur, error) {
 		z[i*n+i] = 1
 	}
 	hessenberg(h, z, n)
-	if err := hessenbergQR(ctx, h, z, n); err != nil {
+	// The QR sweeps rotate pairs of columns of Z: kept transposed meanwhile,
+	// so that each rotation runs along two contiguous rows.
+	zt := transposeSquare(z, n)
+	if err := hessenbergQR(ctx, h, zt, n); err != nil {
 		return nil, err
 	}
+	z = transposeSquare(zt, n)
 	for i := 1; i < n; i++ {
 		for j := 0; j < i; j++ {
 			h[i*n+j] = 0
@@ -135,6 +139,17 @@ func hessenberg(h, z []complex128, n int) {
 	}
 }
 
+// transposeSquare returns the transpose of the n×n row-major m.
+func transposeSquare(m []complex128, n int) []complex128 {
+	out := make([]complex128, n*n)
+	for i := 0; i < n; i++ {
+		for j := 0; j < n; j++ {
+			out[j*n+i] = m[i*n+j]
+		}
+	}
+	return out
+}
+
 // givens returns c (real) and s with [c s; −s̄ c] [x; y] = [r; 0].
 func givens(x, y complex128) (c float64, s complex128) {
 	ax, ay := cmplx.Abs(x), cmplx.Abs(y)
@@ -152,11 +167,11 @@ func givens(x, y complex128) (c float64, s complex128) {
 // the explicitly shifted QR algorithm on the active window [lo, hi]:
 // h − σI = QR, h ← RQ + σI, applied to the whole matrix (columns right of
 // the window and rows above it too, so that h stays Zᴴ A Z) and
-// accumulated in z. A subdiagonal entry below u·(|h_{k−1,k−1}| + |h_kk|)
+// accumulated in Z, given transposed as zt. A subdiagonal entry below u·(|h_{k−1,k−1}| + |h_kk|)
 // is set to zero (deflation). The shift is Wilkinson's (the eigenvalue of
 // the trailing 2×2 block nearer its last diagonal entry), replaced every
 // tenth sweep without deflation by an exceptional shift.
-func hessenbergQR(ctx context.Context, h, z []complex128, n int) error {
+func hessenbergQR(ctx context.Context, h, zt []complex128, n int) error {
 	const eps = 0x1p-53
 	norm := 0.0
 	for _, x := range h {
@@ -226,10 +241,11 @@ func hessenbergQR(ctx context.Context, h, z []complex128, n int) error {
 				h[i*n+k] = t1*cc + t2*cmplx.Conj(s)
 				h[i*n+k+1] = -t1*s + t2*cc
 			}
-			for i := 0; i < n; i++ {
-				t1, t2 := z[i*n+k], z[i*n+k+1]
-				z[i*n+k] = t1*cc + t2*cmplx.Conj(s)
-				z[i*n+k+1] = -t1*s + t2*cc
+			zk, zk1 := zt[k*n:(k+1)*n], zt[(k+1)*n:(k+2)*n]
+			for i := range zk {
+				t1, t2 := zk[i], zk1[i]
+				zk[i] = t1*cc + t2*cmplx.Conj(s)
+				zk1[i] = -t1*s + t2*cc
 			}
 		}
 		for k := l; k <= hi; k++ {
