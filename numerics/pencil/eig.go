@@ -72,6 +72,22 @@ func reduce(m linop.Operator, xs ...linop.Operator) (*reduced, string, error) {
 	return r, "", nil
 }
 
+// reduceContext is reduce run so that an interrupt returns at once (the
+// dense Cholesky factorisation and triangular solves cannot be
+// interrupted; they finish in the background, their memory counted).
+func reduceContext(ctx context.Context, m linop.Operator, xs ...linop.Operator) (*reduced, string, error) {
+	n := square(m)
+	type out struct {
+		r   *reduced
+		why string
+	}
+	o, err := abandon.Run(ctx, abandon.DenseBytes(n, 2+2*len(xs)), fmt.Sprintf("Cholesky reduction of order %d", n), func() (out, error) {
+		r, why, err := reduce(m, xs...)
+		return out{r, why}, err
+	})
+	return o.r, o.why, err
+}
+
 func isCondition(err error) bool {
 	var c mat.Condition
 	return errors.As(err, &c)
@@ -114,7 +130,7 @@ func backTransform(l *mat.TriDense, v *mat.Dense) *mat.Dense {
 // (the reduction adds about u·‖K‖‖M⁻¹‖). Otherwise by the QR algorithm on
 // M⁻¹K formed densely by solves with M (the method line says why).
 func (a *Mass) Spectrum(ctx context.Context) (*spectra.Spectrum, error) {
-	r, why, err := reduce(a.M, a.K)
+	r, why, err := reduceContext(ctx, a.M, a.K)
 	if err != nil {
 		return nil, err
 	}
@@ -213,7 +229,7 @@ func solveColumns(mf *massFactor, x linop.Operator) (*mat.Dense, error) {
 // companion form [0 I; −L⁻¹KL⁻ᵀ −L⁻¹CL⁻ᵀ]. Otherwise by the QR algorithm on
 // [0 I; −M⁻¹K −M⁻¹C] formed by solves with M.
 func (s *Second) Spectrum(ctx context.Context) (*spectra.Spectrum, error) {
-	r, why, err := reduce(s.M, s.K, s.C)
+	r, why, err := reduceContext(ctx, s.M, s.K, s.C)
 	if err != nil {
 		return nil, err
 	}

@@ -10,6 +10,7 @@ import (
 	"os"
 	"sort"
 	"testing"
+	"time"
 
 	"gonum.org/v1/gonum/mat"
 
@@ -652,5 +653,28 @@ func TestModeShapes(t *testing.T) {
 		if bound := 500 * roundoff.Unit * (mat.Norm(Kd, 1) + cmplx.Abs(lam)*mat.Norm(Md, 1)); res > bound {
 			t.Errorf("firstorder, λ = %v: residual %.2g > %.2g", lam, res, bound)
 		}
+	}
+}
+
+// TestSpectrumInterrupt: a dense pencil spectrum of order 1400 (several
+// seconds of work) returns within half a second of an interrupt.
+func TestSpectrumInterrupt(t *testing.T) {
+	if testing.Short() {
+		t.Skip("long")
+	}
+	M, C, K, _ := rayleighString(700, 0.3, 1e-4)
+	g, err := NewSecond(ctx, M, C, K)
+	if err != nil {
+		t.Fatal(err)
+	}
+	c, cancel := context.WithCancel(ctx)
+	time.AfterFunc(100*time.Millisecond, cancel)
+	start := time.Now()
+	_, err = g.Spectrum(c)
+	if !errors.Is(err, context.Canceled) {
+		t.Fatalf("err = %v, want the cancellation", err)
+	}
+	if d := time.Since(start); d > 600*time.Millisecond {
+		t.Errorf("returned %v after the start, 100 ms of it before the interrupt", d)
 	}
 }
