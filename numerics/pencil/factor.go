@@ -67,7 +67,11 @@ func factorMass(ctx context.Context, m linop.Operator) (*massFactor, error) {
 			if err != nil {
 				return nil, singularMass(err)
 			}
-			f.sparse, f.method = s.(solve.AdjointSolver), "sparse LU with a fill-reducing order"
+			as, ok := s.(solve.AdjointSolver)
+			if !ok {
+				return nil, fmt.Errorf("pencil: the sparse factorisation of M offers no transposed solve")
+			}
+			f.sparse, f.method = as, "sparse LU with a fill-reducing order"
 			return f, nil
 		}
 	}
@@ -223,7 +227,11 @@ func factorCombination(ctx context.Context, n int, terms []term, progress func(d
 			if err != nil {
 				return nil, err
 			}
-			return &combined{AdjointSolver: s.(solve.AdjointSolver), method: solve.Choose(p).String() + " LU (real coefficients)"}, nil
+			as, ok := s.(solve.AdjointSolver)
+			if !ok {
+				return nil, fmt.Errorf("pencil: the sparse factorisation of the pencil offers no adjoint solve")
+			}
+			return &combined{AdjointSolver: as, method: solve.Choose(p).String() + " LU (real coefficients)"}, nil
 		}
 		pat := &linop.CSR{Rows: n, Cols: n, RowPtr: rows, ColIdx: cols, Val: make([]float64, len(vals))}
 		for i := range pat.Val {
