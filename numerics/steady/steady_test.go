@@ -393,3 +393,68 @@ func TestFailures(t *testing.T) {
 		t.Errorf("cancelled: got %v", err)
 	}
 }
+
+// Colouring on a 2-D five-point pattern: N_k = u_k u_{k+ny} (the neighbour
+// in x; the last column squared) couples only unknowns that the Kronecker
+// sum couples, so the Jacobian is found on A's pattern, with few colours,
+// and equals the closed-form derivative entry by entry.
+func TestColouringTensorPattern(t *testing.T) {
+	nx, ny := 9, 7
+	lx, _ := laplacian(t, nx)
+	ly, _ := laplacian(t, ny)
+	a := linop.NewKronSum(lx, ly)
+	n := nx * ny
+	eval := func(u []complex128, dst []complex128) {
+		for k := range u {
+			if k+ny < n {
+				dst[k] = u[k] * u[k+ny]
+			} else {
+				dst[k] = u[k] * u[k]
+			}
+		}
+	}
+	term := Term{
+		Eval: func(u, dst []float64) error {
+			z, w := make([]complex128, n), make([]complex128, n)
+			for i, x := range u {
+				z[i] = complex(x, 0)
+			}
+			eval(z, w)
+			for i := range w {
+				dst[i] = real(w[i])
+			}
+			return nil
+		},
+		EvalComplex: func(z, dst []complex128) (bool, error) { eval(z, dst); return true, nil },
+	}
+	u := probe(n)
+	d := newDiffer(context.Background(), a, term)
+	j, err := d.Decide(u)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if j.Structure != Pattern || len(d.colours) > 13 {
+		t.Fatalf("%s with %d colours; want A's pattern with at most 13 (a distance-2 colouring of the five-point star)", j.Describe(), len(d.colours))
+	}
+	got, err := linop.ToDense(j.Op)
+	if err != nil {
+		t.Fatal(err)
+	}
+	for r := 0; r < n; r++ {
+		for c := 0; c < n; c++ {
+			want := 0.0
+			switch {
+			case r+ny < n && c == r:
+				want = u[r+ny]
+			case r+ny < n && c == r+ny:
+				want = u[r]
+			case r+ny >= n && c == r:
+				want = 2 * u[r]
+			}
+			if math.Abs(got.At(r, c)-want) > 1e-15 {
+				t.Fatalf("J[%d, %d] = %g, want %g", r, c, got.At(r, c), want)
+			}
+		}
+	}
+	t.Logf("%d unknowns, %d colours", n, len(d.colours))
+}
