@@ -773,6 +773,9 @@ func writecsvImpl(c *eval.Call) (value.Value, error) {
 		return nil, err
 	}
 	var lines func(w *bufio.Writer)
+	if s, ok := v.(*objects.SteadyState); ok { // its table: the Newton history
+		v = s.Analysis
+	}
 	switch t := v.(type) {
 	case *objects.Solution:
 		if t.Complex {
@@ -888,6 +891,11 @@ func jsonNums(x []float64) []jsonNum {
 func toJSON(v value.Value, depth int) (any, error) {
 	if depth > 64 {
 		return nil, value.ValueErrorf("writejson: lists nested more than 64 deep")
+	}
+	if s, ok := v.(*objects.SteadyState); ok { // its record, with the state
+		r := s.Record()
+		r["state"] = jsonNums(s.Res.U)
+		return r, nil
 	}
 	switch t := v.(type) {
 	case value.Num:

@@ -177,6 +177,7 @@ func Solve(ctx context.Context, a linop.Operator, f []float64, term Term, u0 []f
 	p.normA, p.rowLen = operatorSize(a)
 
 	u := append([]float64(nil), u0...)
+	guessNorm := normInf(u0)
 	fu := make([]float64, n)
 	res := &Result{Tol: opt.Tol}
 	r, rho, err := p.residual(u, fu)
@@ -262,7 +263,10 @@ func Solve(ctx context.Context, a linop.Operator, f []float64, term Term, u0 []f
 		copy(fu, ft)
 		prevR := r
 		r, rho = rt, rhot
-		if lambda == 1 && (upd <= opt.Tol*normInf(u) || prevR <= rho || slow >= 2) {
+		// Converged: a full step below tol relative to the state, or below
+		// rounding relative to the guess (a state at or near 0), or F at
+		// its rounding level.
+		if lambda == 1 && (upd <= opt.Tol*normInf(u) || upd <= roundoff.Unit*guessNorm || prevR <= rho || slow >= 2) {
 			break
 		}
 	}
