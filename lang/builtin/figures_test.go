@@ -187,7 +187,7 @@ func TestFigureWords(t *testing.T) {
 	s := run.NewSession()
 	for _, c := range []struct{ code, want string }{
 		{`spectrum({-1, 5 | 0, -2})`, "<title>Eigenvalues of the 2 × 2 matrix</title>"},
-		{`growth({-1, 5 | 0, -2}, weight=[1, 4], bounds="none")`, "‖exp(tA)‖_W (weighted norm)"},
+		{`growth({-1, 5 | 0, -2}, weight=[1, 4], bounds="none")`, `‖exp(tA)‖<tspan dy="0.3em" font-size="70%">W</tspan><tspan dy="-0.21em">` + "\u00a0" + `(weighted norm)</tspan>`},
 		// Levels 1e−1, 1e−2, 1e−3 given for a 2 × 2 matrix: the two
 		// smaller ones ring each eigenvalue in a few px (radius about ε·κ),
 		// hidden under its marker, so the legend lists 1e−1 only and the

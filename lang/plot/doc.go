@@ -50,4 +50,9 @@
 //     (U+2212 minus, no leading zeros, no plus sign); the levels of one
 //     contour set share one style (FormatLevels).
 //   - Negative numbers use U+2212 minus; −0 is written 0.
+//
+// Text (titles, axis labels, legend entries, annotations) writes "_x",
+// "_min" or "_{…}" after a symbol as a subscript, 70% high and lowered
+// 0.21 of the size, in both back ends: σ_min, u_i(t), ‖·‖_W (textLabel).
+// An underscore inside a longer word stays (decay_rate).
 package plot

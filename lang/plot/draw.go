@@ -348,7 +348,7 @@ func (r *renderer) drawText(c canvas, t *Text) {
 	if sz <= 0 {
 		sz = 11
 	}
-	c.text(x, y, label{mant: t.S}, textStyle{size: sz, color: col, anchor: t.Anchor})
+	c.text(x, y, textLabel(t.S), textStyle{size: sz, color: col, anchor: t.Anchor})
 }
 
 // drawHeat draws h as rectangles (merging runs of equal colour along y) or,
@@ -480,7 +480,7 @@ func (r *renderer) drawColourBar(c canvas) {
 		x := x0 + w + tickLen + 3 + maxWidth(r.cbt.labels, tickSize) + 8 + labelSize*0.8
 		yc := (p.y0 + p.y1) / 2
 		t := shorten(r.heat.Label, p.y1-p.y0, labelSize)
-		c.text(x, yc, label{mant: t}, textStyle{size: labelSize, color: inkColor, anchor: AnchorMiddle, vertical: true})
+		c.text(x, yc, textLabel(t), textStyle{size: labelSize, color: inkColor, anchor: AnchorMiddle, vertical: true})
 	}
 }
 
@@ -488,17 +488,17 @@ func (r *renderer) drawLabels(c canvas) {
 	p := r.plot
 	f := r.f
 	for k, line := range r.title {
-		c.text(r.W/2, 12+titleSize+float64(k)*(titleSize+4), label{mant: line}, textStyle{size: titleSize, color: inkColor, anchor: AnchorMiddle})
+		c.text(r.W/2, 12+titleSize+float64(k)*(titleSize+4), textLabel(line), textStyle{size: titleSize, color: inkColor, anchor: AnchorMiddle})
 	}
 	ybase := p.y1 + tickLen + 3 + tickSize
 	if f.X.Label != "" {
 		ybase += 6 + labelSize
 		t := shorten(f.X.Label, p.x1-p.x0, labelSize)
-		c.text((p.x0+p.x1)/2, ybase, label{mant: t}, textStyle{size: labelSize, color: inkColor, anchor: AnchorMiddle})
+		c.text((p.x0+p.x1)/2, ybase, textLabel(t), textStyle{size: labelSize, color: inkColor, anchor: AnchorMiddle})
 	}
 	if f.Y.Label != "" {
 		t := shorten(f.Y.Label, p.y1-p.y0, labelSize)
-		c.text(8+labelSize*0.8, (p.y0+p.y1)/2, label{mant: t}, textStyle{size: labelSize, color: inkColor, anchor: AnchorMiddle, vertical: true})
+		c.text(8+labelSize*0.8, (p.y0+p.y1)/2, textLabel(t), textStyle{size: labelSize, color: inkColor, anchor: AnchorMiddle, vertical: true})
 	}
 	if t := r.noteText(); t != "" {
 		t = shorten(t, r.W-16, noteSize)
@@ -612,7 +612,7 @@ func (r *renderer) drawLegend(c canvas, es []legendEntry) {
 			}
 			c.stroke([][]point{{{x0, yc}, {x0 + keySw, yc}}}, false, strokeStyle{color: e.color, width: math.Min(e.width, 4), dash: e.dash})
 		}
-		c.text(x0+keySw+keyPad, yc+0.36*legendSize, label{mant: e.label}, textStyle{size: legendSize, color: inkColor})
+		c.text(x0+keySw+keyPad, yc+0.36*legendSize, textLabel(e.label), textStyle{size: legendSize, color: inkColor})
 	}
 	if more != "" {
 		yc := bx.y0 + keyPad + (float64(len(shown))+0.5)*keyRow

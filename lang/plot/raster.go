@@ -389,6 +389,17 @@ type textRun struct {
 }
 
 func runsOf(l label, size float64) []textRun {
+	if l.parts != nil {
+		var rs []textRun
+		for _, p := range l.parts {
+			if p.sub {
+				rs = append(rs, textRun{glyphSubstitutes.Replace(p.s), 0.7 * size, -subDrop * size})
+			} else {
+				rs = append(rs, textRun{glyphSubstitutes.Replace(p.s), size, 0})
+			}
+		}
+		return rs
+	}
 	rs := []textRun{{glyphSubstitutes.Replace(l.mant), size, 0}}
 	if l.exp != "" {
 		rs = append(rs, textRun{glyphSubstitutes.Replace(l.exp), 0.7 * size, 0.45 * size})

@@ -4,6 +4,7 @@ import (
 	"math"
 	"strconv"
 	"strings"
+	"unicode"
 	"unicode/utf8"
 )
 
@@ -132,12 +133,96 @@ func shorten(s string, width, size float64) string {
 }
 
 // label is a formatted number: a mantissa, and an optional exponent drawn
-// raised after it.
+// raised after it; or a text with subscripts (parts, from textLabel).
 type label struct {
 	mant, exp string
+	parts     []textPart
+}
+
+// textPart is a piece of a text, lowered and smaller when sub is set.
+type textPart struct {
+	s   string
+	sub bool
+}
+
+// subDrop is how far a subscript's baseline drops, in units of the text's
+// size; subscripts are drawn at 70% of it.
+const subDrop = 0.21
+
+// textLabel is the label of a text in which "_x", "_min" or "_{…}" after a
+// symbol (a letter starting a word of at most two letters, or any other
+// non-space character such as ‖ or a bracket) is a subscript: σ_min, u_i(t),
+// ‖·‖_W. A longer word before "_" keeps it (a name like decay_rate).
+func textLabel(s string) label {
+	if !strings.Contains(s, "_") {
+		return label{mant: s}
+	}
+	rs := []rune(s)
+	var parts []textPart
+	var cur []rune
+	flush := func(sub bool) {
+		if len(cur) > 0 {
+			parts = append(parts, textPart{string(cur), sub})
+			cur = nil
+		}
+	}
+	for i := 0; i < len(rs); i++ {
+		if rs[i] != '_' || i == 0 || i+1 >= len(rs) || rs[i-1] == ' ' || !symbolBefore(rs, i) {
+			cur = append(cur, rs[i])
+			continue
+		}
+		j, k := i+1, i+1
+		if rs[j] == '{' {
+			for k = j + 1; k < len(rs) && rs[k] != '}'; k++ {
+			}
+			if k == len(rs) {
+				cur = append(cur, rs[i])
+				continue
+			}
+			j++ // body rs[j:k], then skip the brace
+		} else {
+			for k < len(rs) && (unicode.IsLetter(rs[k]) || unicode.IsDigit(rs[k])) {
+				k++
+			}
+			if k == j {
+				cur = append(cur, rs[i])
+				continue
+			}
+		}
+		flush(false)
+		cur = rs[j:k]
+		flush(true)
+		if k < len(rs) && rs[k] == '}' {
+			k++
+		}
+		i = k - 1
+	}
+	flush(false)
+	return label{mant: s, parts: parts}
+}
+
+// symbolBefore reports whether the "_" at rs[i] follows a symbol: a
+// non-letter, or a letter whose word so far has at most two letters.
+func symbolBefore(rs []rune, i int) bool {
+	n := 0
+	for k := i - 1; k >= 0 && unicode.IsLetter(rs[k]); k-- {
+		n++
+	}
+	return n <= 2
 }
 
 func (l label) width(size float64) float64 {
+	if l.parts != nil {
+		w := 0.0
+		for _, p := range l.parts {
+			if p.sub {
+				w += TextWidth(p.s, 0.7*size)
+			} else {
+				w += TextWidth(p.s, size)
+			}
+		}
+		return w
+	}
 	return TextWidth(l.mant, size) + TextWidth(l.exp, 0.7*size)
 }
 
@@ -150,6 +235,27 @@ func (l label) String() string {
 
 // svg returns the label as escaped SVG text content.
 func (l label) svg() string {
+	if l.parts != nil {
+		var b strings.Builder
+		low := false
+		for _, p := range l.parts {
+			switch {
+			case p.sub:
+				b.WriteString(`<tspan dy="0.3em" font-size="70%">` + escape(p.s) + `</tspan>`)
+			case low: // back up from a subscript: 0.3 × 70% of the size; a
+				// leading space kept as a no-break space (a renderer may drop it)
+				t := p.s
+				if strings.HasPrefix(t, " ") {
+					t = "\u00a0" + t[1:]
+				}
+				b.WriteString(`<tspan dy="-0.21em">` + escape(t) + `</tspan>`)
+			default:
+				b.WriteString(escape(p.s))
+			}
+			low = p.sub
+		}
+		return b.String()
+	}
 	if l.exp == "" {
 		return escape(l.mant)
 	}
