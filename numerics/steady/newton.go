@@ -135,7 +135,11 @@ func factor(ctx context.Context, j linop.Operator) (solve.AdjointSolver, string,
 	if err != nil {
 		return nil, "", err
 	}
-	return s.(solve.AdjointSolver), solve.Choose(j).String() + " LU", nil
+	as, ok := s.(solve.AdjointSolver)
+	if !ok {
+		return nil, "", fmt.Errorf("the %s factorisation offers no solves with the transpose, which ‖J⁻¹‖∞ needs", solve.Choose(j))
+	}
+	return as, solve.Choose(j).String() + " LU", nil
 }
 
 // step returns δ = −J⁻¹ b through the solver of −J: (−J)δ = b.
