@@ -21,6 +21,7 @@ package steady
 
 import (
 	"context"
+	"errors"
 	"fmt"
 	"math"
 
@@ -142,6 +143,19 @@ func factor(ctx context.Context, j linop.Operator) (solve.AdjointSolver, string,
 	return as, solve.Choose(j).String() + " LU", nil
 }
 
+// factorError: an interrupt as the context's error, a singular pivot as a
+// SingularError at Newton step k, anything else (a refusal of the memory
+// guard) unchanged.
+func factorError(ctx context.Context, err error, k int, r float64) error {
+	switch {
+	case ctx.Err() != nil:
+		return ctx.Err()
+	case errors.Is(err, solve.ErrSingular):
+		return &SingularError{Step: k, Residual: r, Cause: err}
+	}
+	return err
+}
+
 // step returns δ = −J⁻¹ b through the solver of −J: (−J)δ = b.
 func solveReal(s solve.ShiftedSolver, b []float64) ([]float64, error) {
 	z := make([]complex128, len(b))
@@ -214,10 +228,7 @@ func Solve(ctx context.Context, a linop.Operator, f []float64, term Term, u0 []f
 		}
 		s, _, err := factor(ctx, Linearisation(a, jn.Op))
 		if err != nil {
-			if ctx.Err() != nil {
-				return nil, ctx.Err()
-			}
-			return nil, &SingularError{Step: k, Residual: r, Cause: err}
+			return nil, factorError(ctx, err, k, r)
 		}
 		delta, err := solveReal(s, fu)
 		if err != nil {
@@ -283,10 +294,7 @@ func Solve(ctx context.Context, a linop.Operator, f []float64, term Term, u0 []f
 	j := Linearisation(a, jn.Op)
 	s, how, err := factor(ctx, j)
 	if err != nil {
-		if ctx.Err() != nil {
-			return nil, ctx.Err()
-		}
-		return nil, &SingularError{Step: len(res.Steps) + 1, Residual: r, Cause: err}
+		return nil, factorError(ctx, err, len(res.Steps)+1, r)
 	}
 	next, err := solveReal(s, fu)
 	if err != nil {
