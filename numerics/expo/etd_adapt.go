@@ -24,6 +24,49 @@ type oneStepper interface {
 // steps): extraErr is their sum so far, added to the estimates.
 type extraErrer interface{ extraErr() float64 }
 
+// growthStepper is a oneStepper for a linear problem that can bound how
+// much a step amplifies an error already in u. After each step, lastStep
+// reports bounds on ‖Φ‖∞ and ‖Φ‖₂ for Φ the step's linear map (with exact
+// inner exponentials) and the error its inner approximations committed,
+// carried to the step's end. integrate then carries its estimate forward
+// as E_{k+1} = G_k·E_k + local_k (local_k the step's truncation estimate
+// plus the inner error) instead of summing local estimates, because
+// e_{k+1} = Φ_k e_k + (local error of step k) for a linear Φ_k: once in
+// the ∞-norm, once in the 2-norm (‖x‖∞ ≤ ‖x‖₂ ≤ twoNormFactor·‖x‖∞),
+// and reports the smaller, since either bound can be far from the truth
+// (μ∞ sees no decay of a diffusion and growth in a rotation; the 2-norm
+// pays √n on every local error).
+type growthStepper interface {
+	lastStep() stepGrowth
+	twoNormFactor() float64
+}
+
+// stepGrowth is what a growthStepper reports of its last step.
+type stepGrowth struct {
+	logInf, log2 float64 // logarithms of bounds on ‖Φ‖∞ and ‖Φ‖₂
+	inner        float64 // the inner approximations' error at the step's end (∞-norm)
+	bounded      bool    // false: the growth bounds are estimates
+}
+
+// errBound is a bound on an error e carried in two norms: inf ≥ ‖e‖∞ and
+// two ≥ ‖e‖₂ ≥ ‖e‖∞.
+type errBound struct{ inf, two float64 }
+
+func (b errBound) value() float64 { return math.Min(b.inf, b.two) }
+
+// grow is the bound after a step with growth g.
+func (b errBound) grow(g stepGrowth) errBound {
+	return errBound{grown(b.inf, g.logInf), grown(b.two, g.log2)}
+}
+
+// add adds an error of ∞-norm at most x; c bounds ‖·‖₂/‖·‖∞.
+func (b errBound) add(x, c float64) errBound { return errBound{b.inf + x, b.two + c*x} }
+
+// atLeast is the bound on the larger of two errors.
+func (b errBound) atLeast(x, c float64) errBound {
+	return errBound{math.Max(b.inf, x), math.Max(b.two, c*x)}
+}
+
 // diffPropagator is a oneStepper that can carry the difference of two
 // nearby solutions across a step more cheaply than a step: diffStep sets
 // dst ≈ Φ_h(c0) − Φ_h(f0) from Δ = c0 − f0 and the values c1, f1 the two
@@ -74,6 +117,12 @@ type StepStats struct {
 	Accepted, Rejected int
 	HMin, HMax         float64 // shortest and longest accepted step
 	Scale              float64 // the largest ‖u‖∞ met (u0 included): the tolerance is relative to it
+	// Growth, for a growthStepper, bounds by how much an error committed
+	// at the start may have grown in ‖·‖∞ by the end: the product of the
+	// steps' bounds on ‖Φ‖∞, or √n times that on ‖Φ‖₂ if smaller.
+	// GrowthBounded is false when some step's bound was only estimated.
+	Growth        float64
+	GrowthBounded bool
 	// Rough lists the times where the data looked non-smooth (a step of
 	// at most 1e-6·T still missed its error target: a jump or kink of N or
 	// the forcing); steps there were accepted once their share of the
@@ -115,7 +164,8 @@ const stepGrid = 8
 // propagation included, which is 2^p − 1 times the fine solution's in
 // the asymptotic regime of a method of order p; the margin covers stiff
 // steps. The reported estimate is that difference (or, if larger, the sum
-// of the local estimates).
+// of the local estimates; for a growthStepper, the local estimates carried
+// forward with each step's bound on its growth).
 //
 // Adaptive steps: D = ‖two halves − one full‖∞ from the same start
 // estimates the step's local error times 2^p − 1. Where the method can
@@ -170,10 +220,34 @@ func integrate(ctx context.Context, st oneStepper, u0 []float64, times []float64
 		}
 		return 0
 	}
+	// A growthStepper's estimate is carried forward step by step
+	// (truncation, inner and rough errors, each step's bound on its growth
+	// applied to what came before), and so is the size its rounding errors
+	// are relative to: max over earlier k of ‖u_k‖ times the growth since.
+	gs, grows := st.(growthStepper)
+	var carried, roundScale, growth errBound
+	c2 := 1.0
+	if grows {
+		c2 = gs.twoNormFactor()
+		roundScale = roundScale.add(stats.Scale, c2)
+		growth = growth.add(1, c2)
+		stats.Growth, stats.GrowthBounded = 1, true
+	}
+	estimate := func() float64 {
+		if grows {
+			return math.Max(maxAbsDiff(coarse, fine), carried.value())
+		}
+		return math.Max(maxAbsDiff(coarse, fine), sumLocal) + sumRough + extra()
+	}
+	rounding := map[float64]float64{}
+	roundingNow := func() float64 {
+		return unitRoundoff * roundScale.value() * (10 + math.Sqrt(float64(stats.Accepted)))
+	}
 	for _, stop := range stops {
 		if stop <= t {
 			if _, ok := at[stop]; !ok {
-				at[stop], est[stop] = append([]float64(nil), fine...), math.Max(maxAbsDiff(coarse, fine), sumLocal)+sumRough+extra()
+				at[stop], est[stop] = append([]float64(nil), fine...), estimate()
+				rounding[stop] = roundingNow()
 			}
 			continue
 		}
@@ -211,9 +285,15 @@ func integrate(ctx context.Context, st oneStepper, u0 []float64, times []float64
 			copy(tryC, coarse)
 			copy(tryL, fine)
 			var err error
+			var g1, g2 stepGrowth
 			if err = st.step(t, h, tryC, seg); err == nil {
 				if err = st.step(t, h/2, tryF, seg); err == nil {
-					err = st.step(t+h/2, h/2, tryF, seg)
+					if grows {
+						g1 = gs.lastStep()
+					}
+					if err = st.step(t+h/2, h/2, tryF, seg); err == nil && grows {
+						g2 = gs.lastStep()
+					}
 				}
 			}
 			if err != nil {
@@ -251,7 +331,11 @@ func integrate(ctx context.Context, st oneStepper, u0 []float64, times []float64
 			// The budget left (0.8·tol·scale less the global estimate so
 			// far) spread over the time left; a decaying error frees
 			// budget, a growing one tightens the steps.
-			left := math.Max(0.8*tol*ctlScale-maxAbsDiff(coarse, fine), 0.05*tol*ctlScale)
+			soFar := maxAbsDiff(coarse, fine)
+			if grows {
+				soFar = math.Max(soFar, carried.value())
+			}
+			left := math.Max(0.8*tol*ctlScale-soFar, 0.05*tol*ctlScale)
 			// A D at the rounding level of u says nothing about h.
 			target := math.Max(left*math.Min(h/(tmax-t), 1), 16*unitRoundoff*ctlScale)
 			if fix && !finite {
@@ -267,6 +351,17 @@ func integrate(ctx context.Context, st oneStepper, u0 []float64, times []float64
 				if rough {
 					stats.Rough = append(stats.Rough, t+h/2)
 					sumRough += D
+				}
+				if grows {
+					local := D / denom
+					if rough {
+						local = D
+					}
+					carried = carried.grow(g1).add(g1.inner, c2).grow(g2).add(g2.inner+local, c2)
+					roundScale = roundScale.grow(g1).grow(g2).atLeast(nF, c2)
+					growth = growth.grow(g1).grow(g2)
+					stats.Growth = growth.value()
+					stats.GrowthBounded = stats.GrowthBounded && g1.bounded && g2.bounded
 				}
 				copy(fine, tryF)
 				copy(coarse, tryC)
@@ -308,13 +403,18 @@ func integrate(ctx context.Context, st oneStepper, u0 []float64, times []float64
 				progress(int(1000*t/tmax), 1000)
 			}
 		}
-		at[stop], est[stop] = append([]float64(nil), fine...), math.Max(maxAbsDiff(coarse, fine), sumLocal)+sumRough+extra()
+		at[stop], est[stop] = append([]float64(nil), fine...), estimate()
+		rounding[stop] = roundingNow()
 	}
 	// Rounding: each step commits errors of a few units in the last place
 	// of ‖u‖; they add up like a random walk.
+	// A growthStepper's rounding term is the same walk, relative to the
+	// size reached by each stopping time, grown by the steps' bounds.
 	round := unitRoundoff * stats.Scale * (10 + math.Sqrt(float64(stats.Accepted)))
 	for tt := range est {
-		if tt > 0 {
+		if tt > 0 && grows {
+			est[tt] += rounding[tt]
+		} else if tt > 0 {
 			est[tt] += round
 		}
 	}
@@ -379,4 +479,13 @@ func stoppingTimes(times, breaks []float64) (tmax float64, stops []float64, isBr
 	}
 	sort.Float64s(stops)
 	return tmax, stops, isBreak, nil
+}
+
+// grown returns x·e^g, 0 for x = 0 however large g (an error that is not
+// there does not grow).
+func grown(x, g float64) float64 {
+	if x == 0 {
+		return 0
+	}
+	return x * math.Exp(g)
 }

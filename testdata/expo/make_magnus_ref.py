@@ -17,6 +17,15 @@ u0 = sin(πx) + 0.5 x. Integrated by scipy.integrate.solve_ivp with DOP853
 and with Radau (analytic Jacobian A(t)), both at rtol 1e-12, atol 1e-14;
 the values are DOP853's and "spread" is the largest difference between the
 two, a measure of the reference's own error.
+
+"nonnormal_growth": a 2×2 generator with a large, varying coupling,
+
+    A(t) = [0.1          3 + 2 sin 3t    ]
+           [−0.02 − 0.01t  −1 + 0.5 cos 2t],
+
+non-normal (‖e^{sA}‖ rises well above e^{s·max Re λ} before it settles) with
+a slowly growing solution; u0 = (0, 1). The same two integrators and
+tolerances.
 """
 import json
 import os
@@ -27,6 +36,24 @@ from scipy.integrate import solve_ivp
 
 N, NU = 12, 0.05
 TIMES = [0.5, 1.0, 2.0, 3.0]
+NN_TIMES = [0.5, 1.0, 2.0, 4.0, 6.0]
+
+
+def nonnormal(t):
+    return np.array([[0.1, 3 + 2 * np.sin(3 * t)],
+                     [-0.02 - 0.01 * t, -1 + 0.5 * np.cos(2 * t)]])
+
+
+def reference(A, u0, times):
+    """DOP853's values and their largest difference from Radau's."""
+    runs = {}
+    for method in ("DOP853", "Radau"):
+        kw = {"jac": lambda t, u: A(t)} if method == "Radau" else {}
+        r = solve_ivp(lambda t, u: A(t) @ u, (0, max(times)), u0, method=method,
+                      t_eval=times, rtol=1e-12, atol=1e-14, **kw)
+        assert r.success, r.message
+        runs[method] = r.y.T
+    return runs["DOP853"], float(np.max(np.abs(runs["DOP853"] - runs["Radau"])))
 
 
 def operators(n):
@@ -44,27 +71,26 @@ def main():
         return NU * L + np.cos(2 * t) * G - (0.5 + 0.5 * np.sin(t)) * np.diag(x)
 
     u0 = np.sin(np.pi * x) + 0.5 * x
-    runs = {}
-    for method in ("DOP853", "Radau"):
-        kw = {"jac": lambda t, u: A(t)} if method == "Radau" else {}
-        r = solve_ivp(lambda t, u: A(t) @ u, (0, max(TIMES)), u0, method=method,
-                      t_eval=TIMES, rtol=1e-12, atol=1e-14, **kw)
-        assert r.success, r.message
-        runs[method] = r.y.T
-    spread = float(np.max(np.abs(runs["DOP853"] - runs["Radau"])))
+    values, spread = reference(A, u0, TIMES)
+    nn0 = np.array([0.0, 1.0])
+    nn_values, nn_spread = reference(nonnormal, nn0, NN_TIMES)
     out = {
         "source": "scipy %s solve_ivp DOP853 (values) and Radau (spread), rtol 1e-12, atol 1e-14" % scipy.__version__,
         "cases": {
             "drift_diffusion": {
                 "n": N, "nu": NU, "u0": u0.tolist(), "times": TIMES,
-                "values": runs["DOP853"].tolist(), "spread": spread,
-            }
+                "values": values.tolist(), "spread": spread,
+            },
+            "nonnormal_growth": {
+                "n": 2, "u0": nn0.tolist(), "times": NN_TIMES,
+                "values": nn_values.tolist(), "spread": nn_spread,
+            },
         },
     }
     path = os.path.join(os.path.dirname(os.path.abspath(__file__)), "magnus_ref.json")
     with open(path, "w") as f:
         json.dump(out, f, indent=1)
-    print("wrote", path, "spread", spread)
+    print("wrote", path, "spreads", spread, nn_spread)
 
 
 if __name__ == "__main__":
