@@ -370,3 +370,47 @@ func BenchmarkComplexDenseSpectrum(b *testing.B) {
 		})
 	}
 }
+
+// TestComplexNumRangeLanczos: above order 64 the support of W(A) comes
+// from Lanczos; it must match λmax of the Hermitian part
+// H_θ = (e^{−iθ}A + e^{iθ}A*)/2 formed explicitly (as the real symmetric
+// [Re H, −Im H; Im H, Re H]) and solved by gonum's EigenSym.
+func TestComplexNumRangeLanczos(t *testing.T) {
+	const n = 80
+	rng := rand.New(rand.NewPCG(80, 1))
+	b, c := mat.NewDense(n, n, nil), mat.NewDense(n, n, nil)
+	for i := 0; i < n; i++ {
+		for j := 0; j < n; j++ {
+			b.Set(i, j, rng.NormFloat64())
+			c.Set(i, j, rng.NormFloat64())
+		}
+	}
+	h := newHermPartsComplex(b, c)
+	for _, th := range []float64{0, 1, 2.5, 4} {
+		got, _, err := h.top(th, false)
+		if err != nil {
+			t.Fatal(err)
+		}
+		e := cmplx.Exp(complex(0, -th))
+		emb := mat.NewSymDense(2*n, nil)
+		for i := 0; i < n; i++ {
+			for j := 0; j < n; j++ {
+				aij, aji := complex(b.At(i, j), c.At(i, j)), complex(b.At(j, i), c.At(j, i))
+				hij := (e*aij + cmplx.Conj(e*aji)) / 2 // (e^{−iθ}A + e^{iθ}A*)_ij / 2
+				if j >= i {
+					emb.SetSym(i, j, real(hij))
+					emb.SetSym(n+i, n+j, real(hij))
+				}
+				emb.SetSym(j, n+i, imag(hij)) // lower-left block Im H at (n+i, j)
+			}
+		}
+		var es mat.EigenSym
+		if !es.Factorize(emb, false) {
+			t.Fatal("EigenSym failed")
+		}
+		want := es.Values(nil)[2*n-1]
+		if math.Abs(got-want) > 1e-9*math.Abs(want) {
+			t.Errorf("θ = %g: Lanczos support %.15g, dense %.15g", th, got, want)
+		}
+	}
+}
