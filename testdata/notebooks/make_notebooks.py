@@ -853,10 +853,11 @@ J
 spectrum(J, count=4)
 """),
     md("""
-The computed eigenvalues lie well in the left half-plane (α ≈ −11.5 per hour), but their condition
-numbers are near 10¹³ (the report flags them): J is far from normal, because the flow carries everything
-one way, and its eigenvalues are both uncertain and silent about what happens *before* any decay sets
-in. The growth curve below settles the stability question without them.
+The computed eigenvalues lie well in the left half-plane (α ≈ −11 per hour), but their condition
+numbers are near 10¹³ (the report flags them): rounding errors alone move them by tenths, and two
+runs of this notebook can differ there. J is far from normal, because the flow carries everything one way, and its eigenvalues are both
+uncertain and silent about what happens *before* any decay sets in. The growth curve below settles the
+stability question without them.
 
 **A check of the linearisation against the nonlinear model.** Put a small bump d·w(x) on the steady
 state, integrate the full nonlinear equation for one hour, and compare the change with e^{J}(d·w). The
