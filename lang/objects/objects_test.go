@@ -347,7 +347,7 @@ func TestSolutionDisplay(t *testing.T) {
 	// No grid, few components: components against t.
 	q := mat.NewDense(2, 2, []float64{-3, 3, 1, -1})
 	s3 := &Solution{S: solve(t, linop.NewDense(q), []float64{1, 0}, []float64{0, 0.5, 1}), Problem: "u' = A u", Label: "Q"}
-	if svg, _ := s3.MIME()["image/svg+xml"].(string); !strings.Contains(svg, "u_1") {
+	if svg, _ := s3.MIME()["image/svg+xml"].(string); !strings.Contains(svg, `u<tspan dy="0.3em" font-size="70%">1</tspan>`) { // u_1, subscript drawn
 		t.Error("figure of a small system lacks the component legend")
 	}
 }
