@@ -131,7 +131,8 @@ func (d *differ) eval(u, dst []float64) error {
 	return nil
 }
 
-// evalComplex returns Im N(u + i v)/1 (v holds the steps) or ok = false.
+// imag sets dst = Im N(u + i v) (v holds the steps, each tiny) and reports
+// false when N has no complex form or its value is not finite.
 func (d *differ) imag(u, v, dst []float64) (bool, error) {
 	if d.term.EvalComplex == nil {
 		return false, nil
