@@ -607,3 +607,67 @@ func TestMagnusGrowth(t *testing.T) {
 		}
 	})
 }
+
+func TestMagnusLogNormBounds(t *testing.T) {
+	// Each structured form gives what its dense form gives, and the bounds
+	// hold: ‖e^{hB}‖∞ ≤ e^{hμ∞} and ‖e^{hB}‖₂ ≤ e^{hμ₂}, with e^{hB} by
+	// gonum's mat.Exp and the 2-norm by gonum's SVD (outside this package).
+	x := dense2(-1, 3, -0.5, 0.2)
+	y := linop.NewDense(mat.NewDense(3, 3, []float64{-2, 1, 0, 4, -1, 0.5, 0, -3, 0.1}))
+	k := linop.NewKronSum(x, y)
+	forms := map[string]linop.Operator{
+		"dense":           x,
+		"kronecker sum":   k,
+		"scaled":          &linop.Scaled{Alpha: 0.7, A: k},
+		"negative scaled": &linop.Scaled{Alpha: -0.7, A: k},
+		"sum":             &linop.Sum{Terms: []linop.Operator{k, &linop.Diag{D: []float64{1, -2, 0, 3, 1, -1}}}},
+		"skew":            dense2(0, 5, -5, 0),
+	}
+	for name, B := range forms {
+		t.Run(name, func(t *testing.T) {
+			n, _ := B.Dims()
+			d, err := toDense(B)
+			if err != nil {
+				t.Fatal(err)
+			}
+			muInf, mu2, ok := logNormBounds(B, n)
+			if !ok {
+				t.Fatal("no bound for an explicit form")
+			}
+			if want := logNormInf(d); math.Abs(muInf-want) > 1e-12*math.Max(1, math.Abs(want)) {
+				t.Errorf("μ∞ %.15g, the dense form's %.15g", muInf, want)
+			}
+			for _, h := range []float64{0.01, 0.1, 1} {
+				var hb, e mat.Dense
+				hb.Scale(h, d)
+				e.Exp(&hb)
+				var svd mat.SVD
+				if !svd.Factorize(&e, mat.SVDNone) {
+					t.Fatal("SVD failed")
+				}
+				n2 := svd.Values(nil)[0]
+				nInf := mat.Norm(&e, math.Inf(1))
+				if nInf > math.Exp(h*muInf)*(1+1e-12) || n2 > math.Exp(h*mu2)*(1+1e-12) {
+					t.Errorf("h = %g: ‖e^{hB}‖∞ = %.6g > e^{hμ∞} = %.6g or ‖e^{hB}‖₂ = %.6g > e^{hμ₂} = %.6g", h, nInf, math.Exp(h*muInf), n2, math.Exp(h*mu2))
+				}
+			}
+			if name == "skew" && math.Abs(mu2) > 1e-12 {
+				t.Errorf("μ₂ of a skew matrix %.3g, want 0 (closed form)", mu2)
+			}
+		})
+	}
+	t.Run("leading block", func(t *testing.T) {
+		// [A f; 0 0] with A = {−1, 2 | 0.5, −3}: μ∞(A) = max(−1 + 2, −3 + 0.5) = 1,
+		// μ₂(A) = λmax{−1, 1.25 | 1.25, −3} = −2 + √(1 + 1.5625) (closed forms);
+		// the column f does not count.
+		B := linop.NewBlock([][]linop.Operator{{dense2(-1, 2, 0.5, -3), linop.NewDense(mat.NewDense(2, 1, []float64{100, -50}))}, {nil, nil}}, []int{2, 1}, []int{2, 1})
+		muInf, mu2, _ := logNormBounds(B, 2)
+		if math.Abs(muInf-1) > 1e-14 {
+			t.Errorf("μ∞ %.15g, want 1", muInf)
+		}
+		// Gershgorin on the symmetric part: max(−1 + 1.25, −3 + 1.25) = 0.25 ≥ μ₂.
+		if want := -2 + math.Sqrt(1+1.5625); mu2 < want-1e-14 || mu2 > 0.25+1e-14 {
+			t.Errorf("μ₂ bound %.15g, want in [%.15g, 0.25]", mu2, want)
+		}
+	})
+}
