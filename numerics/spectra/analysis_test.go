@@ -530,3 +530,22 @@ func TestRoundingThresholds(t *testing.T) {
 		t.Errorf("symmetric: α allowance %g, want τ = %g", tol, 2*0x1p-53*math.Sqrt(5))
 	}
 }
+
+// A peak between the first two samples: with the Jordan block's closed form
+// (see TestGrowthJordan2; peak ≈ 3.7 near t = 0.9 for a = 10) sampled only at
+// t = 0, 5, 10, the largest sample is ‖e^{0A}‖ = 1; ω(A) = 4 > 0 says the
+// curve rises first, and the refinement between t = 0 and 5 must find the
+// closed form's peak.
+func TestGrowthPeakBeforeFirstSample(t *testing.T) {
+	a := 10.0
+	A := op([][]float64{{-1, a}, {0, -1}})
+	g, err := GrowthCurve(bg, A, []float64{0, 5, 10}, &GrowthOptions{NoKreiss: true})
+	if err != nil {
+		t.Fatal(err)
+	}
+	exact := func(t float64) float64 { return math.Exp(-t) * (a*t + math.Sqrt(a*a*t*t+4)) / 2 }
+	tp, peak := goldenMax(exact, 0, 5, 1e-12, 200)
+	if relDiff(g.Peak, peak) > 1e-8 || math.Abs(g.PeakTime-tp) > 1e-3 {
+		t.Errorf("peak %.12g at t = %.6g, closed form %.12g at t = %.6g", g.Peak, g.PeakTime, peak, tp)
+	}
+}

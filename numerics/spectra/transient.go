@@ -1068,8 +1068,12 @@ func GrowthCurve(ctx context.Context, a linop.Operator, times []float64, opt *Gr
 		}
 	}
 	g.Peak, g.PeakTime = g.Norm[best], g.T[best]
-	if best > 0 && best+1 < len(g.T) {
-		lo, hi := g.T[best-1], g.T[best+1]
+	// The peak is refined between the neighbouring samples, and also when
+	// the largest sample is the first or the last: a curve sampled coarsely
+	// (a budget's stride) can rise and fall between t₀ and t₁ — ω(A) > 0
+	// means ‖e^{tA}‖ > 1 just after t = 0 — and the samples alone would
+	// report ‖e^{t₀A}‖ = 1 as the peak.
+	if lo, hi := g.T[max(best-1, 0)], g.T[min(best+1, len(g.T)-1)]; hi > lo {
 		// Golden-section steps: all 60 without a budget (the bracket
 		// reaches 1e-8 relative in about 40), else what the budget leaves
 		// after the peak vector (two evaluations).
