@@ -6,6 +6,7 @@ import (
 	"strings"
 	"unicode/utf8"
 
+	"semiflow/lang/objects"
 	"semiflow/lang/value"
 )
 
@@ -131,15 +132,16 @@ func cutLine(s string, width int) string {
 }
 
 // MIME is an HTML table: a heading row per family, then a row per builtin
-// with its call form and the first sentence of its documentation.
+// with its call form and the first sentence of its documentation, its
+// formulas as TeX for the notebook (objects.MathHTML).
 func (l *Listing) MIME() map[string]any {
 	var sb strings.Builder
 	sb.WriteString(`<table class="semiflow-help"><caption>Builtins by family; help(name) shows one in full</caption><tbody>`)
 	for _, g := range l.Groups {
-		sb.WriteString(`<tr><th colspan="2" style="text-align:left">` + html.EscapeString(g.Title) + `</th></tr>`)
+		sb.WriteString(`<tr><th colspan="2" style="text-align:left">` + objects.MathHTML(g.Title) + `</th></tr>`)
 		for _, b := range g.Builtins {
 			sb.WriteString(`<tr><td style="text-align:left"><code>` + html.EscapeString(b.Signature()) + `</code></td><td style="text-align:left">` +
-				html.EscapeString(b.Summary()) + `</td></tr>`)
+				objects.MathHTML(b.Summary()) + `</td></tr>`)
 		}
 	}
 	sb.WriteString(`</tbody></table>`)

@@ -32,6 +32,7 @@ type mathTok struct {
 var texNames = map[string]string{
 	"Re": `\operatorname{Re}`, "Im": `\operatorname{Im}`, "sup": `\sup`, "inf": `\inf`,
 	"max": `\max`, "min": `\min`, "exp": `\exp`, "log": `\log`, "det": `\det`, "diag": `\operatorname{diag}`,
+	"ln": `\ln`, "sin": `\sin`, "cos": `\cos`, "tan": `\tan`, "arg": `\arg`,
 	"λmax": `\lambda_{\max}`, "λmin": `\lambda_{\min}`,
 }
 
@@ -39,21 +40,21 @@ var texGreek = map[rune]string{
 	'α': `\alpha`, 'β': `\beta`, 'γ': `\gamma`, 'δ': `\delta`, 'ε': `\varepsilon`, 'ζ': `\zeta`,
 	'η': `\eta`, 'θ': `\theta`, 'κ': `\kappa`, 'λ': `\lambda`, 'μ': `\mu`, 'ν': `\nu`, 'ξ': `\xi`,
 	'π': `\pi`, 'ρ': `\rho`, 'σ': `\sigma`, 'τ': `\tau`, 'φ': `\varphi`, 'χ': `\chi`, 'ψ': `\psi`,
-	'ω': `\omega`, 'Γ': `\Gamma`, 'Δ': `\Delta`, 'Θ': `\Theta`, 'Λ': `\Lambda`, 'Π': `\Pi`,
-	'Φ': `\Phi`, 'Ψ': `\Psi`, 'Ω': `\Omega`,
+	'ω': `\omega`, 'Γ': `\Gamma`, 'Δ': `\Delta`, 'Θ': `\Theta`, 'Λ': `\Lambda`,
+	'Φ': `\Phi`, 'Ψ': `\Psi`, 'Ω': `\Omega`, 'Σ': `\sum`, 'Π': `\prod`,
 }
 
 // texStrong are symbols that make a run a formula; texWeak may stand in one.
 var texStrong = map[rune]string{
 	'‖': `\|`, '≤': `\le `, '≥': `\ge `, '∈': `\in `, '∉': `\notin `, '⊆': `\subseteq `, '⊂': `\subset `,
-	'⊕': `\oplus `, '⊗': `\otimes `, '∞': `\infty `, '√': `\sqrt`, '∫': `\int `, '→': `\to `,
+	'⊕': `\oplus `, '⊗': `\otimes `, '∞': `\infty `, '√': `\surd `, '∫': `\int `, '→': `\to `,
 	'≈': `\approx `, '≲': `\lesssim `, '≠': `\ne `, '∑': `\sum `, '∂': `\partial `, '⊙': `\odot `,
 }
 
 var texWeak = map[rune]string{
 	'+': "+", '−': "-", '=': "=", '<': "<", '>': ">", '(': "(", ')': ")", '[': "[", ']': "]",
 	'{': `\{`, '}': `\}`, '|': `|`, ':': ":", '/': "/", '·': `\cdot `, '×': `\times `, '\'': "'", '!': "!",
-	'*': "^{*}",
+	'*': "^{*}", '⟨': `\langle `, '⟩': `\rangle `,
 }
 
 var superscripts = map[rune]string{'⁰': "0", '¹': "1", '²': "2", '³': "3", '⁴': "4", '⁵': "5", '⁶': "6", '⁷': "7", '⁸': "8", '⁹': "9", '⁻': "-", 'ᵀ': "T", 'ᴴ': "H", '⁺': "+"}
@@ -121,8 +122,8 @@ func mathTokens(s string) []mathTok {
 				switch {
 				case texNames[w] != "":
 					body = "{" + texNames[w] + "}"
-				case utf8.RuneCountInString(w) > 1 && isWord(w):
-					body = `{\mathrm{` + w + `}}`
+				case utf8.RuneCountInString(w) > 1 && isWord(w) && (len(w) > 2 || strings.ToLower(w) != w):
+					body = `{\mathrm{` + w + `}}` // a word (mix, TV); ij, nx stay indices
 				default:
 					body = "{" + texOf(w) + "}"
 				}
@@ -278,9 +279,9 @@ func mathSpans(s string) []mathPiece {
 			}
 			if k == 's' || k == 'm' || k == 'M' || k == ',' && depth > 0 {
 				switch toks[j].src {
-				case "(", "[", "{":
+				case "(", "[", "{", "⟨":
 					depth++
-				case ")", "]", "}":
+				case ")", "]", "}", "⟩":
 					depth--
 				}
 				if k != 's' && k != ',' {
@@ -336,8 +337,8 @@ func mathSpans(s string) []mathPiece {
 
 // trimRun drops unmatched outer brackets and a trailing ":" or "=".
 func trimRun(run []mathTok) []mathTok {
-	opening := func(s string) bool { return s == "(" || s == "[" || s == "{" }
-	closing := func(s string) bool { return s == ")" || s == "]" || s == "}" }
+	opening := func(s string) bool { return s == "(" || s == "[" || s == "{" || s == "⟨" }
+	closing := func(s string) bool { return s == ")" || s == "]" || s == "}" || s == "⟩" }
 	for len(run) > 0 {
 		first, last := run[0].src, run[len(run)-1].src
 		switch {
@@ -360,12 +361,12 @@ func trimRun(run []mathTok) []mathTok {
 
 func balanced(run []mathTok) bool {
 	var stack []string
-	pair := map[string]string{")": "(", "]": "[", "}": "{"}
+	pair := map[string]string{")": "(", "]": "[", "}": "{", "⟩": "⟨"}
 	for _, t := range run {
 		switch t.src {
-		case "(", "[", "{":
+		case "(", "[", "{", "⟨":
 			stack = append(stack, t.src)
-		case ")", "]", "}":
+		case ")", "]", "}", "⟩":
 			if len(stack) == 0 || stack[len(stack)-1] != pair[t.src] {
 				return false
 			}

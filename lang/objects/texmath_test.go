@@ -28,6 +28,12 @@ func TestMathHTML(t *testing.T) {
 			f(`\sigma _{\min}`) + " relative error " + f(`\lesssim  \text{5.0e-07}`) + " where converged"},
 		{"‖u(t)‖∞", f(`\|u(t)\|_{\infty}`)},
 		{"ω(A) = λmax((A + A*)/2)", f(`\omega (A) = \lambda_{\max}((A + A^{*})/2)`)},
+		// √ as a symbol (never an undefined macro), Σ as a sum, angle
+		// brackets, indices ij italic, a word subscript upright.
+		{"the non-negative √x", "the non-negative " + f(`\surd x`)},
+		{"Q_ii = −Σ_{j≠i} Q_ij", f(`Q_{ii} = -\sum _{j\ne i} Q_{ij}`)},
+		{"⟨A x, y⟩_W = ⟨x, A* y⟩_W", f(`\langle A x, y\rangle _{W} = \langle x, A^{*} y\rangle _{W}`)},
+		{"ln(4/π_min)", f(`\ln (4/\pi _{\min})`)},
 		// Prose, numbers and user text without mathematics stay text.
 		{"spectrum of matrix (2×2): all 2 eigenvalues", "spectrum of matrix (2×2): all 2 eigenvalues"},
 		{"table of 30 rows", "table of 30 rows"},
