@@ -1309,6 +1309,9 @@ func growthImpl(c *eval.Call) (value.Value, error) {
 	if w != nil && n > DenseLimit {
 		return nil, value.ValueErrorf("growth: a weight needs the dense methods (order ≤ %d); A has order %d", DenseLimit, n)
 	}
+	if err := stabComplexDense(c, op, n); err != nil {
+		return nil, err
+	}
 	bv, _ := c.Arg(3)
 	bounds, ok := bv.(value.Str)
 	if !ok {
@@ -1555,6 +1558,9 @@ func generatorImpl(c *eval.Call) (value.Value, error) {
 	}
 	if n > DenseLimit && w != nil {
 		return nil, value.ValueErrorf("wellposed: a weight needs the dense methods (order ≤ %d); A has order %d", DenseLimit, n)
+	}
+	if err := stabComplexDense(c, op, n); err != nil {
+		return nil, err
 	}
 	if n > DenseLimit {
 		if _, ok := op.Op.(linop.Sparser); !ok {
