@@ -266,7 +266,7 @@ func (r *Analysis) MIME() map[string]any {
 		var tb strings.Builder
 		tb.WriteString(`<table><thead><tr>`)
 		for _, c := range r.Columns {
-			tb.WriteString(`<th>` + e(c) + `</th>`)
+			tb.WriteString(`<th>` + HeadingHTML(c) + `</th>`)
 		}
 		tb.WriteString(`</tr></thead><tbody>`)
 		for i, row := range r.Rows {

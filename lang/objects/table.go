@@ -70,7 +70,7 @@ func (t *textTable) html() string {
 	if len(t.head) > 0 {
 		sb.WriteString("<thead><tr>")
 		for _, c := range t.head {
-			sb.WriteString("<th>" + MathHTML(c) + "</th>")
+			sb.WriteString("<th>" + HeadingHTML(c) + "</th>")
 		}
 		sb.WriteString("</tr></thead>")
 	}

@@ -410,3 +410,23 @@ func MathMarkdown(s string) string {
 	}
 	return b.String()
 }
+
+// headScript matches a sub- or superscript in a table heading: _x, ^x,
+// _{…} or ^{…}.
+var headScript = regexp.MustCompile(`([_^])(\{[^{}]*\}|[\p{L}\p{N}]+)`)
+
+// HeadingHTML returns a table heading as HTML text: escaped, its sub- and
+// superscripts as <sub> and <sup>, never typeset math. A typeset formula is
+// a row of boxes laid out after the table, so in a notebook's fixed table
+// layout a heading's column is sized without it and the formula is stacked
+// box by box down a narrow column; plain text wraps at its spaces.
+func HeadingHTML(s string) string {
+	t := html.EscapeString(s)
+	return headScript.ReplaceAllStringFunc(t, func(m string) string {
+		body := strings.TrimSuffix(strings.TrimPrefix(m[1:], "{"), "}")
+		if m[0] == '_' {
+			return "<sub>" + body + "</sub>"
+		}
+		return "<sup>" + body + "</sup>"
+	})
+}

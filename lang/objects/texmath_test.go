@@ -87,7 +87,22 @@ func TestQuantityMarkdown(t *testing.T) {
 	}
 	r := &Analysis{Kind: "growth", Title: "transient growth ‖e^{tA}‖₂", Columns: []string{"t", "‖e^{tA}‖₂"}, Rows: [][]value.Value{{value.Num(0), value.Num(1)}}}
 	h, _ := r.MIME()["text/html"].(string)
-	if strings.Count(h, `\(\|e^{tA}\|_{2}\)`) != 2 {
-		t.Errorf("the report's title and heading do not carry ‖e^{tA}‖₂ as TeX:\n%s", h)
+	if strings.Count(h, `\(\|e^{tA}\|_{2}\)`) != 1 || !strings.Contains(h, "<th>‖e<sup>tA</sup>‖₂</th>") {
+		t.Errorf("the report's title does not carry ‖e^{tA}‖₂ as TeX, or its column heading not as text with a superscript (a typeset heading is stacked in a notebook's fixed table layout):\n%s", h)
+	}
+}
+
+// TestHeadingHTML: table headings as escaped text with <sub>/<sup>, never
+// typeset (common practice, no source: HTML's own sub- and superscripts).
+func TestHeadingHTML(t *testing.T) {
+	for _, c := range []struct{ in, want string }{
+		{"M_n = sup (λ − ω)^n ‖R(λ)^n‖", "M<sub>n</sub> = sup (λ − ω)<sup>n</sup> ‖R(λ)<sup>n</sup>‖"},
+		{"‖e^{tA}‖_W", "‖e<sup>tA</sup>‖<sub>W</sub>"},
+		{"a < b & c", "a &lt; b &amp; c"},
+		{"error estimate", "error estimate"},
+	} {
+		if got := HeadingHTML(c.in); got != c.want {
+			t.Errorf("HeadingHTML(%q) = %q, want %q", c.in, got, c.want)
+		}
 	}
 }
