@@ -5,6 +5,7 @@
     for f in notebooks/*.ipynb; do semiflow run "$f"; done
 """
 import os
+import re
 import sys
 
 import nbformat
@@ -38,8 +39,41 @@ def notebook(cells):
     return nb
 
 
+# A word of prose holding a formula with braces (e^{tA}, ‖e^{tA}‖₂, c^{k−c})
+# and no code: the notebook typesets it when it stands between $ signs.
+FORMULA_WORD = re.compile(r"[^\s`$]*[\^_]\{[^\s`$]*")
+
+
+def _balanced_core(word):
+    """The word without trailing punctuation and unmatched outer brackets."""
+    lead, trail = "", ""
+    while word and word[-1] in ".,;:":
+        trail = word[-1] + trail
+        word = word[:-1]
+    for o, c in ("()", "[]"):
+        while word.endswith(c) and word.count(c) > word.count(o):
+            trail = c + trail
+            word = word[:-1]
+        while word.startswith(o) and word.count(o) > word.count(c):
+            lead += o
+            word = word[1:]
+    return lead, word, trail
+
+
+def mathify(text):
+    """Puts each formula word of the prose (outside `code`) between $ signs,
+    so that the notebook renders e^{tA} as a formula, not as raw text."""
+    parts = text.split("`")
+    for k in range(0, len(parts), 2):  # even parts are outside backticks
+        def wrap(m):
+            lead, core, trail = _balanced_core(m.group(0))
+            return lead + "$" + core + "$" + trail if core else m.group(0)
+        parts[k] = FORMULA_WORD.sub(wrap, parts[k])
+    return "`".join(parts)
+
+
 def md(text):
-    return ("md", text)
+    return ("md", mathify(text))
 
 
 def code(text):
