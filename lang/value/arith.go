@@ -299,9 +299,7 @@ func complexSeq(v Value) func(int) complex128 {
 
 func (m *Matrix) scale(c float64) *Matrix {
 	out := NewMatrix(m.Rows, m.Cols)
-	for i, x := range m.Data {
-		out.Data[i] = c * x
-	}
+	scaleInto(out.Data, m.Data, c)
 	return out
 }
 
@@ -311,19 +309,7 @@ func MatMul(m, n *Matrix) *Matrix {
 		panic("value: MatMul shape mismatch")
 	}
 	out := NewMatrix(m.Rows, n.Cols)
-	for i := 0; i < m.Rows; i++ {
-		row := out.Data[i*n.Cols : (i+1)*n.Cols]
-		for k := 0; k < m.Cols; k++ {
-			a := m.Data[i*m.Cols+k]
-			if a == 0 {
-				continue
-			}
-			nk := n.Data[k*n.Cols : (k+1)*n.Cols]
-			for j := range row {
-				row[j] += a * nk[j]
-			}
-		}
-	}
+	mulInto(out.Data, m.Data, n.Data, m.Rows, m.Cols, n.Cols)
 	return out
 }
 
@@ -333,14 +319,36 @@ func MatVec(m *Matrix, x []float64) []float64 {
 		panic("value: MatVec shape mismatch")
 	}
 	out := make([]float64, m.Rows)
-	for i := range out {
-		s := 0.0
-		for j, a := range m.Data[i*m.Cols : (i+1)*m.Cols] {
-			s += a * x[j]
-		}
-		out[i] = s
-	}
+	mulInto(out, m.Data, x, m.Rows, m.Cols, 1)
 	return out
+}
+
+// entry is a real or complex matrix entry.
+type entry interface{ ~float64 | ~complex128 }
+
+// scaleInto sets out = c·x.
+func scaleInto[T entry](out, x []T, c T) {
+	for i, v := range x {
+		out[i] = c * v
+	}
+}
+
+// mulInto adds a·b to out, for row-major a (r×k), b (k×c) and out (r×c),
+// skipping the zero entries of a (a sparse or triangular a costs less).
+func mulInto[T entry](out, a, b []T, r, k, c int) {
+	for i := 0; i < r; i++ {
+		row := out[i*c : (i+1)*c]
+		for p := 0; p < k; p++ {
+			x := a[i*k+p]
+			if x == 0 {
+				continue
+			}
+			bp := b[p*c : (p+1)*c]
+			for j := range row {
+				row[j] += x * bp[j]
+			}
+		}
+	}
 }
 
 // matrixOp handles op with a matrix left operand; ok is false when the

@@ -104,19 +104,7 @@ func CMatMul(m, n *CMatrix) *CMatrix {
 		panic("value: CMatMul shape mismatch")
 	}
 	out := NewCMatrix(m.Rows, n.Cols)
-	for i := 0; i < m.Rows; i++ {
-		row := out.Data[i*n.Cols : (i+1)*n.Cols]
-		for k := 0; k < m.Cols; k++ {
-			a := m.Data[i*m.Cols+k]
-			if a == 0 {
-				continue
-			}
-			nk := n.Data[k*n.Cols : (k+1)*n.Cols]
-			for j := range row {
-				row[j] += a * nk[j]
-			}
-		}
-	}
+	mulInto(out.Data, m.Data, n.Data, m.Rows, m.Cols, n.Cols)
 	return out
 }
 
@@ -126,21 +114,13 @@ func CMatVec(m *CMatrix, x []complex128) []complex128 {
 		panic("value: CMatVec shape mismatch")
 	}
 	out := make([]complex128, m.Rows)
-	for i := range out {
-		var s complex128
-		for j, a := range m.Data[i*m.Cols : (i+1)*m.Cols] {
-			s += a * x[j]
-		}
-		out[i] = s
-	}
+	mulInto(out, m.Data, x, m.Rows, m.Cols, 1)
 	return out
 }
 
 func (m *CMatrix) scale(c complex128) *CMatrix {
 	out := NewCMatrix(m.Rows, m.Cols)
-	for i, x := range m.Data {
-		out.Data[i] = c * x
-	}
+	scaleInto(out.Data, m.Data, c)
 	return out
 }
 
