@@ -328,21 +328,7 @@ async function checkNotebook(context, opts, name, prefix, left) {
       `status ${saved.status}, all counted ${saved.counted}, MIME types ${(saved.kinds || []).join(' ')}`,
     );
 
-    // The classic notebook scrolls long outputs in a box and the page inside
-    // #site; unscroll both so the screenshot shows every output in full.
-    await ev(page, () =>
-      Jupyter.notebook.get_cells().forEach((x) => x.output_area && x.output_area.unscroll_area()),
-    );
-    await page.addStyleTag({
-      content:
-        'html, body { height: auto !important; overflow: visible !important; position: static !important; }' +
-        ' #site { height: auto !important; overflow: visible !important; display: block !important; }' +
-        ' #header { position: static !important; }',
-    });
-    await page.waitForTimeout(300);
-    const shot = path.join(opts.artifacts, name.replace(/\.ipynb$/, '') + '.png');
-    fs.mkdirSync(opts.artifacts, { recursive: true });
-    await page.screenshot({ path: shot, fullPage: true, timeout: Math.min(30000, left()) });
+    const shot = await fullPageShot(page, opts, name.replace(/\.ipynb$/, '') + '.png', left);
     const size = fs.statSync(shot).size;
     c('full-page screenshot', size > 10000, `${shot} (${Math.round(size / 1024)} kB)`);
   } finally {
@@ -351,6 +337,25 @@ async function checkNotebook(context, opts, name, prefix, left) {
     await ev(page, () => Jupyter.notebook.session && Jupyter.notebook.session.delete()).catch(() => {});
     await bounded(page.close(), 10000, 'closing the page').catch(() => {});
   }
+}
+
+// fullPageShot saves a screenshot of the whole notebook as opts.artifacts/file
+// and returns its path. The classic notebook scrolls long outputs in a box
+// and the page inside #site; both are unscrolled so every output shows in
+// full.
+async function fullPageShot(page, opts, file, left) {
+  await ev(page, () => Jupyter.notebook.get_cells().forEach((x) => x.output_area && x.output_area.unscroll_area()));
+  await page.addStyleTag({
+    content:
+      'html, body { height: auto !important; overflow: visible !important; position: static !important; }' +
+      ' #site { height: auto !important; overflow: visible !important; display: block !important; }' +
+      ' #header { position: static !important; }',
+  });
+  await page.waitForTimeout(300);
+  fs.mkdirSync(opts.artifacts, { recursive: true });
+  const shot = path.join(opts.artifacts, file);
+  await page.screenshot({ path: shot, fullPage: true, timeout: Math.min(30000, left()) });
+  return shot;
 }
 
 // What a committed notebook shows before anything runs, per code cell:
@@ -493,17 +498,7 @@ async function checkCommitted(context, opts, name, prefix, left) {
       const diffs = compareLayout(out.cells, JSON.parse(fs.readFileSync(ref, 'utf8')));
       c('layout matches its reference', diffs.length === 0, diffs.length ? diffs.slice(0, 8).join(' | ') + ' (if intended: UPDATE_LAYOUT=1)' : ref);
     }
-    await ev(page, () => Jupyter.notebook.get_cells().forEach((x) => x.output_area && x.output_area.unscroll_area()));
-    await page.addStyleTag({
-      content:
-        'html, body { height: auto !important; overflow: visible !important; position: static !important; }' +
-        ' #site { height: auto !important; overflow: visible !important; display: block !important; }' +
-        ' #header { position: static !important; }',
-    });
-    await page.waitForTimeout(300);
-    fs.mkdirSync(opts.artifacts, { recursive: true });
-    const shot = path.join(opts.artifacts, base + '.committed.png');
-    await page.screenshot({ path: shot, fullPage: true, timeout: Math.min(30000, left()) });
+    const shot = await fullPageShot(page, opts, base + '.committed.png', left);
     c('full-page screenshot of the committed view', fs.statSync(shot).size > 10000, shot);
   } finally {
     if (pageErrors.length) console.log(`note: ${prefix}page script errors: ${pageErrors.slice(0, 5).join(' | ')}`);
