@@ -118,6 +118,28 @@ FACTOR_CASES = {  # name: (dim, m, z)
     "factor_advdiff2d_N1e6_real": (2, 1000, 1000.0),
     "factor_varcoef3d_N1e5_real": (3, 46, 1000.0), "factor_varcoef3d_N1e5_complex": (3, 46, 1000 + 1000j),
 }
+# An unstructured operator from a file: see unstructured().
+UNSTRUCTURED_CASES = {"factor_unstructured_N1e5_real": 1000.0, "factor_unstructured_N1e5_complex": 1000 + 1000j}
+UNSTRUCTURED_N = 100000
+
+
+def unstructured(n=UNSTRUCTURED_N):
+    """A non-symmetric operator on an unstructured mesh: the Delaunay
+    triangulation of n points drawn uniformly in the unit square (seeded), in
+    the drawing order (no band, no grid), edge weights 1/|e|² · (1 + 0.3
+    cos(angle of e)) — a drift along x — and A_ii = −Σ_j a_ij − 1."""
+    from scipy.spatial import Delaunay
+    pts = np.random.default_rng(20261203).random((n, 2))
+    tri = Delaunay(pts).simplices
+    e = np.concatenate([tri[:, [0, 1]], tri[:, [1, 2]], tri[:, [2, 0]]])
+    e = np.unique(np.sort(e, axis=1), axis=0)
+    i, j = np.concatenate([e[:, 0], e[:, 1]]), np.concatenate([e[:, 1], e[:, 0]])
+    d = pts[j] - pts[i]
+    h2 = (d ** 2).sum(axis=1)
+    w = (1 + 0.3 * d[:, 0] / np.sqrt(h2)) / h2 * (1.0 / n)
+    A = sp.csr_matrix((w, (i, j)), shape=(n, n))
+    A = A - sp.diags(np.asarray(A.sum(axis=1)).ravel() + 1.0)
+    return A.tocsr()
 PROPAGATE_CASES = {  # name: (m, t); tolerance 1e-8 on the Go side
     "propagate_advdiff2d_N1e5_t0.1": (316, 0.1), "propagate_advdiff2d_N1e5_t1": (316, 1.0),
     "propagate_advdiff2d_N1e6_t0.01": (1000, 0.01),
@@ -148,7 +170,7 @@ def problem_names():
             for n in EXPV_N:
                 for t in EXPV_T:
                     names.append("expv_%s%dd_N%s_t%s" % (op, dim, label(n), ("%g" % t)))
-    names += list(FACTOR_CASES) + list(PROPAGATE_CASES)
+    names += list(FACTOR_CASES) + list(UNSTRUCTURED_CASES) + list(PROPAGATE_CASES)
     names += ["shifted_heat2d_N1e4", "shifted_heat2d_N1e5", "shifted_heat1d_N1e6",
               "pseudo_grcar_n100_g50", "pseudo_grcar_n400_g100",
               "spectrum_dense_n500", "eigs_cd2d_N1e5"]
@@ -268,6 +290,18 @@ def scipy_case(name, budget, vec_out):
         if dim == 3 and os.environ.get("SEMIFLOW_COMPARE_MTX3D"):
             A = scipy.io.mmread(os.environ["SEMIFLOW_COMPARE_MTX3D"]).tocsr()
         M = (z * sp.identity(A.shape[0], format="csc") - A).tocsc()
+        b = u0.astype(complex) if isinstance(z, complex) else u0
+        def f():
+            lu = spl.splu(M)
+            return lu, lu.solve(b)
+        sec, (lu, x) = best_of(f)
+        res.update(seconds=sec, check=float(np.linalg.norm(x)),
+                   how="sparse.linalg.splu (factor + solve; nnz(L+U) = %.3g)" % (lu.L.nnz + lu.U.nnz))
+    if name in UNSTRUCTURED_CASES:
+        z = UNSTRUCTURED_CASES[name]
+        A = scipy.io.mmread(os.environ["SEMIFLOW_COMPARE_MTXU"]).tocsr()
+        M = (z * sp.identity(A.shape[0], format="csc") - A).tocsc()
+        u0 = np.sin(np.arange(A.shape[0], dtype=float))
         b = u0.astype(complex) if isinstance(z, complex) else u0
         def f():
             lu = spl.splu(M)
@@ -409,12 +443,19 @@ def main():
     ap.add_argument("--child", default="")
     ap.add_argument("--vec", default="")
     ap.add_argument("--write3d", default="")
+    ap.add_argument("--writeunstructured", default="")
     args = ap.parse_args()
     if args.write3d:
         A3, _ = advdiff(46, 3)
         scipy.io.mmwrite(args.write3d, A3, precision=17,
                          comment="3-D variable-coefficient 7-point operator (numerics/compare AdvDiff)")
         print("3-D operator written to %s (%d×%d, %d entries)" % (args.write3d, A3.shape[0], A3.shape[1], A3.nnz), flush=True)
+        return
+    if args.writeunstructured:
+        AU = unstructured()
+        scipy.io.mmwrite(args.writeunstructured, AU, precision=17,
+                         comment="non-symmetric operator on the Delaunay mesh of %d seeded random points (compare_scipy.py unstructured())" % AU.shape[0])
+        print("unstructured operator written to %s (%d×%d, %d entries)" % (args.writeunstructured, AU.shape[0], AU.shape[1], AU.nnz), flush=True)
         return
     if args.child:
         print("RESULT " + json.dumps(scipy_case(args.child, args.budget, args.vec)))
@@ -457,6 +498,10 @@ def main():
         path = os.path.join(tmp, "varcoef3d_N1e5.mtx")
         subprocess.run(["/usr/bin/python3", os.path.abspath(__file__), "--write3d", path], check=True, env=env)
         env["SEMIFLOW_COMPARE_MTX3D"] = path
+    if any(nm in UNSTRUCTURED_CASES for nm in names):
+        path = os.path.join(tmp, "unstructured_N1e5.mtx")
+        subprocess.run(["/usr/bin/python3", os.path.abspath(__file__), "--writeunstructured", path], check=True, env=env)
+        env["SEMIFLOW_COMPARE_MTXU"] = path
     for name in names:
         sc_vecf = os.path.join(tmp, "scipy.vec")
         if os.path.exists(sc_vecf):
