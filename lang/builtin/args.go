@@ -45,6 +45,25 @@ func argCount(c *eval.Call, i int) (int, error) {
 	return int(f), nil
 }
 
+// finiteReals returns the entries of v (as numbers reads them), refusing
+// complex data ("NAME: what must be real" and realWhy) and a non-finite
+// entry ("NAME: what[k] = x is not finite").
+func finiteReals(c *eval.Call, what, realWhy string, v value.Value) ([]float64, error) {
+	re, cx, err := numbers(c, what, v)
+	if err != nil {
+		return nil, err
+	}
+	if cx != nil {
+		return nil, value.TypeErrorf("%s: %s must be real%s", c.Name, what, realWhy)
+	}
+	for k, x := range re {
+		if math.IsNaN(x) || math.IsInf(x, 0) {
+			return nil, value.ValueErrorf("%s: %s[%d] = %s is not finite", c.Name, what, k, value.FormatNum(x))
+		}
+	}
+	return re, nil
+}
+
 // numbers returns the entries of a vector, range, list of numbers or a
 // single number; re is set for real data and cx for complex data.
 func numbers(c *eval.Call, name string, v value.Value) (re []float64, cx []complex128, err error) {

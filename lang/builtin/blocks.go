@@ -60,20 +60,12 @@ var blockFamily = []*Builtin{
 			if err != nil {
 				return nil, err
 			}
-			re, cx, err := numbers(c, "d", v)
+			re, err := finiteReals(c, "d", "; operators are real", v)
 			if err != nil {
 				return nil, err
 			}
-			if cx != nil {
-				return nil, value.TypeErrorf("diagonal: d must be real; operators are real")
-			}
 			if len(re) == 0 {
 				return nil, value.ValueErrorf("diagonal: d is empty; an operator needs at least one row")
-			}
-			for i, x := range re {
-				if math.IsNaN(x) || math.IsInf(x, 0) {
-					return nil, value.ValueErrorf("diagonal: d[%d] = %s is not finite", i, value.FormatNum(x))
-				}
 			}
 			return &objects.Operator{Op: &linop.Diag{D: append([]float64(nil), re...)}, Label: "diag(d)"}, nil
 		},

@@ -396,22 +396,16 @@ func continuationImpl(c *eval.Call) (value.Value, error) {
 	if err != nil {
 		return nil, err
 	}
-	ps, pc, err := numbers(c, "values", v)
+	ps, err := finiteReals(c, "values", "", v)
 	if err != nil {
 		return nil, err
-	}
-	if pc != nil {
-		return nil, value.TypeErrorf("continuation: values must be real")
 	}
 	if len(ps) == 0 {
 		return nil, value.ValueErrorf("continuation: values is empty")
 	}
-	for k, p := range ps {
-		if math.IsNaN(p) || math.IsInf(p, 0) {
-			return nil, value.ValueErrorf("continuation: values[%d] = %s is not finite", k, value.FormatNum(p))
-		}
-		if k > 0 && p == ps[k-1] {
-			return nil, value.ValueErrorf("continuation: values[%d] repeats values[%d] = %s; a branch needs distinct values", k, k-1, value.FormatNum(p))
+	for k := 1; k < len(ps); k++ {
+		if ps[k] == ps[k-1] {
+			return nil, value.ValueErrorf("continuation: values[%d] repeats values[%d] = %s; a branch needs distinct values", k, k-1, value.FormatNum(ps[k]))
 		}
 	}
 	fv, err := c.Arg(1)

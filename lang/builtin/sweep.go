@@ -100,17 +100,9 @@ func sweepImpl(c *eval.Call) (value.Value, error) {
 	if r, ok := v.(*value.Range); ok {
 		at, np = r.At, r.Len()
 	} else {
-		re, pc, err := numbers(c, "values", v)
+		re, err := finiteReals(c, "values", "", v)
 		if err != nil {
 			return nil, err
-		}
-		if pc != nil {
-			return nil, value.TypeErrorf("sweep: values must be real")
-		}
-		for k, p := range re {
-			if math.IsNaN(p) || math.IsInf(p, 0) {
-				return nil, value.ValueErrorf("sweep: values[%d] = %s is not finite", k, value.FormatNum(p))
-			}
 		}
 		at, np = func(k int) float64 { return re[k] }, len(re)
 	}
